@@ -1,0 +1,346 @@
+"""Findings: the contract between the statistics engine and everything after it.
+
+A :class:`Findings` holds every number and judgement the engine made about one
+numeric variable, as frozen dataclasses with reason codes and no prose. It
+round-trips through JSON (:meth:`Findings.to_dict` / :meth:`Findings.from_dict`,
+:func:`dumps` / :func:`loads`) so a report can be regenerated and compared later.
+
+==========================  ====================================================
+Class                       What it holds
+==========================  ====================================================
+:class:`Variable`           name, unit, bounds and valid range as declared
+:class:`Center`             mean, median, trimmed means, the lead measure
+:class:`Spread`             SD, quartiles (with their definition), MAD, range
+:class:`Shape`              label, strength, and every piece of evidence
+:class:`BinSensitivity`     visible peaks across bin widths and offsets
+:class:`Outliers`           rule, constants, fences, flagged values and rows
+:class:`WithoutOutliers`    center and spread recomputed without the flagged set
+:class:`Interval`           one confidence interval and how it was made
+:class:`Intervals`          the mean's and the median's intervals
+:class:`HistogramPlan`      bin rule, nice width, aligned edges and counts
+:class:`Density`            kernel density estimate on a grid
+:class:`QualityFlag`        one data-quality observation (a code, counts, rows)
+:class:`Quality`            rows read, missing, excluded, and all flags
+:class:`Findings`           all of the above plus options and provenance
+==========================  ====================================================
+
+Field names are part of the public interface: users' scripts read the JSON
+(``center.median``, ``outliers.upper_fence``...). Add fields; do not rename.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+import types
+import typing
+from dataclasses import dataclass, field
+from typing import Any
+
+from narrator.errors import NarratorError
+
+SCHEMA_VERSION = 1
+
+# Fixed vocabularies. The phrase builder keys its words on these codes.
+SHAPE_LABELS = (
+    "symmetric",
+    "right-skewed",
+    "left-skewed",
+    "bimodal",
+    "multimodal",
+    "undetermined",  # too few values, or a constant column
+)
+SHAPE_STRENGTHS = ("slight", "moderate", "strong")
+EVIDENCE_LEVELS = ("none", "weak", "moderate", "strong")
+OUTLIER_RULES = ("tukey", "adjusted", "modified-z", "esd")
+LEAD_MEASURES = ("mean", "median")
+
+
+@dataclass(frozen=True, slots=True)
+class Variable:
+    """The variable as the user declared it."""
+
+    name: str
+    unit: str | None = None
+    valid_min: float | None = None
+    valid_max: float | None = None
+    lower_bound: float | None = None  # a bound the quantity cannot cross (0 for waits)
+    upper_bound: float | None = None
+    population: bool = False  # the rows are the whole population of interest
+    decimals: int = 0  # decimals the data are recorded with (largest seen, capped)
+    integer_valued: bool = False
+
+
+@dataclass(frozen=True, slots=True)
+class Center:
+    mean: float
+    median: float
+    trimmed_mean_10: float
+    trimmed_mean_20: float
+    lead: str  # one of LEAD_MEASURES
+    lead_reasons: tuple[str, ...]  # reason codes, e.g. ("skewed",), ("outliers_move_mean",)
+    mean_minus_median: float
+    mean_median_gap_material: bool  # the gap is large relative to the spread
+    mean_pull: str  # "higher", "lower" or "none": where the mean sits relative to the median
+
+
+@dataclass(frozen=True, slots=True)
+class Spread:
+    sd: float
+    variance: float
+    q1: float
+    q3: float
+    iqr: float
+    quantile_method: str  # "hyndman-fan-7" (numpy "linear")
+    mad: float  # raw median absolute deviation
+    mad_scaled: float  # 1.4826 * MAD, estimates the SD under normality
+    min: float
+    max: float
+    range: float
+    p5: float
+    p10: float
+    p90: float
+    p95: float
+    cv: float | None  # coefficient of variation; None when not meaningful
+    cv_reason: str  # "computed", "not_positive", "zero_mean"
+
+
+@dataclass(frozen=True, slots=True)
+class BinSensitivity:
+    base_width: float
+    widths: tuple[float, ...]
+    offsets: tuple[float, ...]  # as fractions of a bin
+    peak_counts: tuple[tuple[int, ...], ...]  # [width index][offset index]
+    sensitive: bool  # the number of visible peaks changes across the grid
+    min_peaks: int
+    max_peaks: int
+
+
+@dataclass(frozen=True, slots=True)
+class Shape:
+    label: str  # one of SHAPE_LABELS
+    strength: str | None  # one of SHAPE_STRENGTHS, None for symmetric/undetermined
+    evidence: str  # one of EVIDENCE_LEVELS: how firmly the data support the label
+    reasons: tuple[str, ...]  # reason codes
+    skewness: float | None  # G1, adjusted Fisher-Pearson
+    skewness_se: float | None
+    skewness_test_z: float | None  # D'Agostino, n >= 8
+    skewness_test_p: float | None
+    bowley: float | None
+    medcouple: float | None
+    medcouple_method: str  # "exact" or "subsample:<size>:<seed>"
+    excess_kurtosis: float | None  # G2
+    heavy_tails: bool
+    density_peaks: int | None
+    bimodality_coefficient: float | None
+    bin_sensitivity: BinSensitivity | None
+
+
+@dataclass(frozen=True, slots=True)
+class Outliers:
+    rule: str  # one of OUTLIER_RULES
+    chosen_by: str  # "user" or "auto"
+    auto_reason: str | None  # "skewed" or "not_skewed" when chosen_by == "auto"
+    constants: dict[str, float]
+    lower_fence: float | None
+    upper_fence: float | None
+    far_lower_fence: float | None
+    far_upper_fence: float | None
+    count: int
+    count_low: int
+    count_high: int
+    values: tuple[float, ...]  # flagged values, ascending
+    rows: tuple[int, ...]  # source row numbers of the flagged values, same order
+    far_out_values: tuple[float, ...]
+    far_out_rows: tuple[int, ...]
+    note: str | None = None  # reason code, e.g. "mad_zero_fallback", "not_run_too_few"
+
+
+@dataclass(frozen=True, slots=True)
+class WithoutOutliers:
+    n: int
+    mean: float | None
+    median: float | None
+    sd: float | None
+    iqr: float | None
+    mean_change: float | None  # without - with
+    mean_change_relative: float | None  # (without - with) / |with|
+    median_change: float | None
+    median_change_relative: float | None
+    sd_change: float | None
+    iqr_change: float | None
+    lead_without: str | None
+    lead_would_change: bool
+    most_influential_value: float | None  # the value whose removal moves the mean most
+    most_influential_row: int | None
+    most_influential_mean_shift: float | None  # mean without it - mean with it
+
+
+@dataclass(frozen=True, slots=True)
+class Interval:
+    low: float
+    high: float
+    level: float  # nominal, e.g. 0.95
+    method: str  # "t", "bca-bootstrap", "order-statistic"
+    coverage: float | None = None  # achieved coverage (order-statistic interval)
+    ranks: tuple[int, int] | None = None  # 1-based order statistics used
+    seed: int | None = None
+    resamples: int | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Intervals:
+    mean: Interval | None
+    median: Interval | None
+    reason: str  # "computed", "population", "too_few"
+    mean_method_reason: str | None = None  # "default_t", "small_skewed_bootstrap"
+
+
+@dataclass(frozen=True, slots=True)
+class HistogramPlan:
+    rule: str  # "freedman-diaconis", "scott", "sturges", "doane"
+    raw_width: float
+    width: float  # rounded to 1, 2, 2.5 or 5 times a power of ten
+    edges: tuple[float, ...]
+    counts: tuple[int, ...]
+    integer_aligned: bool
+
+
+@dataclass(frozen=True, slots=True)
+class Density:
+    kernel: str  # "gaussian"
+    bandwidth_rule: str  # "silverman", "scott", "sheather-jones"
+    bandwidth: float
+    method: str  # "binned-fft" or "exact"
+    grid: tuple[float, ...]
+    values: tuple[float, ...]
+    lower_bound: float | None
+    upper_bound: float | None
+    reflected: bool
+    peaks: tuple[float, ...]  # grid locations of the prominent peaks
+
+
+@dataclass(frozen=True, slots=True)
+class QualityFlag:
+    code: str  # e.g. "missing", "non_numeric", "impossible", "missing_code", "heaping"
+    count: int
+    share: float | None = None
+    rows: tuple[int, ...] = ()  # first few source rows involved
+    values: tuple[float, ...] = ()  # values involved (e.g. the suspected code)
+    detail: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass(frozen=True, slots=True)
+class Quality:
+    n_rows: int
+    n_missing: int
+    missing_share: float
+    n_non_numeric: int
+    n_impossible: int
+    n_used: int
+    flags: tuple[QualityFlag, ...]
+
+    def has(self, code: str) -> bool:
+        return any(flag.code == code for flag in self.flags)
+
+    def get(self, code: str) -> QualityFlag | None:
+        return next((flag for flag in self.flags if flag.code == code), None)
+
+
+@dataclass(frozen=True, slots=True)
+class Findings:
+    schema_version: int
+    variable: Variable
+    n: int
+    n_missing: int
+    center: Center | None  # None only when no value is usable
+    spread: Spread | None
+    shape: Shape
+    outliers: Outliers | None
+    without_outliers: WithoutOutliers | None
+    intervals: Intervals
+    histogram: HistogramPlan | None
+    density: Density | None
+    quality: Quality
+    options: dict[str, Any]
+    provenance: dict[str, Any]
+
+    def to_dict(self) -> dict[str, Any]:
+        """A JSON-ready dict; non-finite floats become None."""
+        return _encode(self)
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Findings:
+        version = data.get("schema_version")
+        if version != SCHEMA_VERSION:
+            raise NarratorError(
+                f"findings schema version {version!r} is not supported (expected {SCHEMA_VERSION})"
+            )
+        return _decode(cls, data, "findings")
+
+
+def dumps(findings: Findings) -> str:
+    """Findings as JSON text, stable key order, full float precision."""
+    return json.dumps(findings.to_dict(), indent=2, ensure_ascii=False, allow_nan=False)
+
+
+def loads(text: str) -> Findings:
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise NarratorError(f"findings are not valid JSON: {exc}") from None
+    if not isinstance(data, dict):
+        raise NarratorError("findings JSON must be an object")
+    return Findings.from_dict(data)
+
+
+def _encode(value: Any) -> Any:
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: _encode(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, tuple | list):
+        return [_encode(item) for item in value]
+    if isinstance(value, dict):
+        return {str(key): _encode(item) for key, item in value.items()}
+    if hasattr(value, "item") and callable(value.item):  # a numpy scalar slipped through
+        return _encode(value.item())
+    return value
+
+
+def _decode(tp: Any, data: Any, where: str) -> Any:
+    origin = typing.get_origin(tp)
+    if origin in (typing.Union, types.UnionType):
+        if data is None:
+            return None
+        options = [arg for arg in typing.get_args(tp) if arg is not type(None)]
+        return _decode(options[0], data, where)
+    if dataclasses.is_dataclass(tp):
+        if not isinstance(data, dict):
+            raise NarratorError(f"findings: {where} must be an object")
+        hints = typing.get_type_hints(tp)
+        kwargs = {}
+        for f in dataclasses.fields(tp):
+            if f.name in data:
+                kwargs[f.name] = _decode(hints[f.name], data[f.name], f"{where}.{f.name}")
+        try:
+            return tp(**kwargs)
+        except TypeError as exc:
+            raise NarratorError(f"findings: {where}: {exc}") from None
+    if origin is tuple:
+        args = typing.get_args(tp)
+        if not isinstance(data, list):
+            raise NarratorError(f"findings: {where} must be a list")
+        if len(args) == 2 and args[1] is Ellipsis:
+            return tuple(_decode(args[0], item, where) for item in data)
+        return tuple(_decode(arg, item, where) for arg, item in zip(args, data, strict=True))
+    if origin is dict:
+        if not isinstance(data, dict):
+            raise NarratorError(f"findings: {where} must be an object")
+        return dict(data)
+    if tp is float:
+        return float("nan") if data is None else float(data)
+    if tp is int:
+        return int(data)
+    return data

@@ -1,0 +1,84 @@
+"""Narrative: what the phrase builder hands the writer and the plain-text printer.
+
+Sections hold paragraphs of sentences; every sentence records the findings
+keys it states (dotted paths such as ``center.median``), so a test can check
+text against numbers and a regenerated report can say which statements
+changed. Tables and figure texts are already worded and formatted: the writer
+only lays them out.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True, slots=True)
+class Sentence:
+    text: str
+    keys: tuple[str, ...] = ()  # findings keys this sentence states
+
+
+@dataclass(frozen=True, slots=True)
+class Paragraph:
+    sentences: tuple[Sentence, ...]
+    style: str = "body"  # "body", "bullet", "reference"
+
+    @property
+    def text(self) -> str:
+        return " ".join(s.text for s in self.sentences)
+
+
+@dataclass(frozen=True, slots=True)
+class Table:
+    key: str  # "statistics", "outliers", "with_without", ...
+    caption: str
+    header: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]  # cells already formatted for the locale
+    keys: tuple[str, ...] = ()  # findings keys the table shows
+    align: tuple[str, ...] = ()  # per column: "left" or "right"
+
+
+@dataclass(frozen=True, slots=True)
+class FigureText:
+    key: str  # "histogram", "dotplot", "with_without", "bin_sensitivity"
+    caption: str
+    alt_text: str
+    labels: dict[str, str] = field(default_factory=dict)  # axis labels and legend words
+
+
+@dataclass(frozen=True, slots=True)
+class Section:
+    key: str  # plan key, e.g. "summary", "methods", "cautions"
+    title: str
+    paragraphs: tuple[Paragraph, ...] = ()
+    tables: tuple[Table, ...] = ()
+    figures: tuple[str, ...] = ()  # FigureText keys shown in this section, in order
+
+
+@dataclass(frozen=True, slots=True)
+class Narrative:
+    audience: str
+    locale: str
+    language: str
+    title: str
+    sections: tuple[Section, ...]
+    figures: tuple[FigureText, ...] = ()
+
+    def section(self, key: str) -> Section | None:
+        return next((s for s in self.sections if s.key == key), None)
+
+    def sentences(self):
+        for section in self.sections:
+            for paragraph in section.paragraphs:
+                yield from paragraph.sentences
+
+    def plain_text(self) -> str:
+        """The narrative as plain text, for pasting into an email."""
+        blocks = []
+        for section in self.sections:
+            lines = [section.title, "=" * len(section.title)] if section.title else []
+            for paragraph in section.paragraphs:
+                prefix = "- " if paragraph.style == "bullet" else ""
+                lines.append(prefix + paragraph.text)
+            blocks.append("\n\n".join(lines) if not section.title else "\n".join(lines[:2]) + "\n\n" + "\n\n".join(lines[2:]))
+        return "\n\n\n".join(b.rstrip() for b in blocks).rstrip() + "\n"

@@ -1,0 +1,1 @@
+"""Words, plans and styles as data. Installed as the package ``narrator.templates``."""
