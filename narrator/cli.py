@@ -1,0 +1,230 @@
+"""The ``narrator`` command.
+
+=============  ==============================================================
+Command        What it does
+=============  ==============================================================
+``facts``      read one column and print the findings (a table, or ``--json``)
+=============  ==============================================================
+
+Every command reports bad input as one line, ``narrator: <message>``, and
+exits with status 2; no traceback reaches the user (set ``NARRATOR_DEBUG=1``
+to see one for an internal error).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from collections.abc import Callable, Sequence
+
+from narrator import findings as findings_module
+from narrator.errors import NarratorError
+
+EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 1
+
+
+def add_reading_options(parser: argparse.ArgumentParser) -> None:
+    """Options that say how to read the column and what it means; shared by every command that reads data."""
+    parser.add_argument("file", help="CSV, TSV, Excel (.xlsx) or Parquet file")
+    parser.add_argument("--column", required=True, help="column name (or its 1-based position)")
+    parser.add_argument("--sheet", help="Excel sheet name (default: the first sheet)")
+    parser.add_argument("--unit", help="unit of the values, e.g. days, litres, USD")
+    parser.add_argument("--label", help="how the report names the variable (default: the column name)")
+    parser.add_argument("--valid-min", type=float, help="smallest possible value; smaller ones are impossible")
+    parser.add_argument("--valid-max", type=float, help="largest possible value; larger ones are impossible")
+    parser.add_argument(
+        "--lower-bound", type=float, help="a bound the quantity cannot cross, such as 0 for a wait"
+    )
+    parser.add_argument("--upper-bound", type=float, help="an upper bound the quantity cannot cross")
+    parser.add_argument(
+        "--outlier-rule",
+        choices=findings_module.OUTLIER_RULES,
+        help="rule for flagging outliers (default: adjusted when clearly skewed, else tukey)",
+    )
+    parser.add_argument(
+        "--population", action="store_true", help="the rows are the whole population: no intervals"
+    )
+    parser.add_argument(
+        "--decimal-comma", action="store_true", help="numbers are written with a decimal comma (1.234,5)"
+    )
+    parser.add_argument(
+        "--missing", action="append", default=[], metavar="TOKEN",
+        help="an extra cell text that means missing (repeatable), e.g. --missing -99",
+    )
+
+
+def read_and_describe(args: argparse.Namespace):
+    """Read the column the options name and describe it: (sample, findings)."""
+    from narrator.data import read_column
+    from narrator.engine.describe import describe
+
+    options = dict(
+        sheet=args.sheet,
+        unit=args.unit,
+        decimal_comma=args.decimal_comma,
+        missing=tuple(args.missing),
+        valid_min=args.valid_min,
+        valid_max=args.valid_max,
+    )
+    try:
+        sample = read_column(args.file, args.column, **options)
+    except NarratorError:
+        # A column literally named "3" wins; otherwise digits mean a 1-based position.
+        if not args.column.isdigit():
+            raise
+        sample = read_column(args.file, int(args.column), **options)
+    findings = describe(
+        sample,
+        name=args.label,
+        valid_min=args.valid_min,
+        valid_max=args.valid_max,
+        lower_bound=args.lower_bound,
+        upper_bound=args.upper_bound,
+        population=args.population,
+        outlier_rule=args.outlier_rule,
+    )
+    return sample, findings
+
+
+def _number(value) -> str:
+    if value is None:
+        return "-"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        return f"{value:.6g}"
+    return str(value)
+
+
+def facts_table(f) -> str:
+    """A plain, aligned table of the main findings for a terminal."""
+    rows: list[tuple[str, str]] = [
+        ("variable", f.variable.name + (f" ({f.variable.unit})" if f.variable.unit else "")),
+        ("rows read", _number(f.quality.n_rows)),
+        ("values used (n)", _number(f.n)),
+        ("missing", _number(f.n_missing)),
+        ("not numbers", _number(f.quality.n_non_numeric)),
+        ("impossible", _number(f.quality.n_impossible)),
+    ]
+    if f.center is not None:
+        c, s = f.center, f.spread
+        rows += [
+            ("mean", _number(c.mean)),
+            ("median", _number(c.median)),
+            ("10% trimmed mean", _number(c.trimmed_mean_10)),
+            ("lead measure", f"{c.lead} ({', '.join(c.lead_reasons)})"),
+            ("SD", _number(s.sd)),
+            ("Q1 / Q3", f"{_number(s.q1)} / {_number(s.q3)}"),
+            ("IQR", _number(s.iqr)),
+            ("MAD (scaled)", _number(s.mad_scaled)),
+            ("min / max", f"{_number(s.min)} / {_number(s.max)}"),
+            ("P5 / P95", f"{_number(s.p5)} / {_number(s.p95)}"),
+            ("CV", _number(s.cv)),
+        ]
+    sh = f.shape
+    strength = f", {sh.strength}" if sh.strength else ""
+    rows += [
+        ("shape", f"{sh.label}{strength} (evidence {sh.evidence}; {', '.join(sh.reasons)})"),
+        ("skewness G1 (SE)", f"{_number(sh.skewness)} ({_number(sh.skewness_se)})"),
+        ("skewness test p", _number(sh.skewness_test_p)),
+        ("Bowley / medcouple", f"{_number(sh.bowley)} / {_number(sh.medcouple)}"),
+        ("excess kurtosis", _number(sh.excess_kurtosis)),
+        ("density peaks", _number(sh.density_peaks)),
+        ("bimodality coef.", _number(sh.bimodality_coefficient)),
+    ]
+    if sh.bin_sensitivity is not None:
+        rows.append(("picture depends on bins", _number(sh.bin_sensitivity.sensitive)))
+    if f.outliers is not None:
+        o = f.outliers
+        rows += [
+            ("outlier rule", f"{o.rule} ({o.chosen_by})"),
+            ("fences", f"{_number(o.lower_fence)} / {_number(o.upper_fence)}"),
+            ("outliers", _number(o.count)),
+        ]
+        if o.values:
+            shown = ", ".join(f"{_number(v)} (row {r})" for v, r in zip(o.values[:8], o.rows[:8], strict=False))
+            more = f" and {o.count - 8} more" if o.count > 8 else ""
+            rows.append(("flagged", shown + more))
+    w = f.without_outliers
+    if w is not None and f.outliers is not None and f.outliers.count:
+        rows += [
+            ("mean without outliers", _number(w.mean)),
+            ("median without outliers", _number(w.median)),
+            ("lead would change", _number(w.lead_would_change)),
+        ]
+    for label, interval in (("mean interval", f.intervals.mean), ("median interval", f.intervals.median)):
+        if interval is not None:
+            coverage = f", coverage {interval.coverage:.4f}" if interval.coverage is not None else ""
+            rows.append((label, f"{_number(interval.low)} to {_number(interval.high)} ({interval.method}{coverage})"))
+    if f.intervals.reason != "computed":
+        rows.append(("intervals", f"not computed ({f.intervals.reason})"))
+    for flag in f.quality.flags:
+        rows.append((f"quality: {flag.code}", _number(flag.count)))
+    width = max(len(label) for label, _ in rows)
+    return "\n".join(f"{label.ljust(width)}  {value}" for label, value in rows) + "\n"
+
+
+def command_facts(args: argparse.Namespace) -> int:
+    _, found = read_and_describe(args)
+    if args.json:
+        sys.stdout.write(findings_module.dumps(found) + "\n")
+    else:
+        sys.stdout.write(facts_table(found))
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="narrator", description="Describe a column of numbers in careful, plain words."
+    )
+    parser.add_argument("--version", action="version", version=_version())
+    commands = parser.add_subparsers(dest="command", metavar="COMMAND")
+    commands.required = True
+
+    facts = commands.add_parser("facts", help="print the findings for one column")
+    add_reading_options(facts)
+    facts.add_argument("--json", action="store_true", help="print the findings as JSON")
+    facts.set_defaults(handler=command_facts)
+    return parser
+
+
+def _version() -> str:
+    from narrator import __version__
+
+    return f"narrator {__version__}"
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    handler: Callable[[argparse.Namespace], int] = args.handler
+    try:
+        return handler(args)
+    except NarratorError as exc:
+        sys.stderr.write(f"narrator: {exc}\n")
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        sys.stderr.write("narrator: interrupted\n")
+        return 130
+    except BrokenPipeError:
+        return 0
+    except OSError as exc:
+        where = f" {os.path.basename(exc.filename)}:" if getattr(exc, "filename", None) else ""
+        sys.stderr.write(f"narrator:{where} {exc.strerror or exc}\n")
+        return EXIT_BAD_INPUT
+    except Exception as exc:  # an internal error: one line, not a traceback
+        if os.environ.get("NARRATOR_DEBUG"):
+            raise
+        sys.stderr.write(
+            f"narrator: internal error ({type(exc).__name__}: {exc}); "
+            "please report it; set NARRATOR_DEBUG=1 to see details\n"
+        )
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,532 @@
+"""describe(): one numeric column in, complete Findings out. A pure function.
+
+The steps, in order, each in its own module:
+
+1. exclude values outside a declared valid range (impossible values);
+2. sort once; moments two-pass (:mod:`.moments`); type 7 quantiles;
+3. histogram plan and bin sensitivity (:mod:`.bins`); kernel density (:mod:`.density`);
+4. medcouple and Bowley skewness (:mod:`.robust`); the shape judgement (:mod:`.shape`);
+5. outliers by the chosen or automatic rule (:mod:`.outliers`);
+6. with and without the flagged values; the lead measure (:mod:`.center`);
+7. intervals (:mod:`.intervals`), unless the rows are the whole population;
+8. data-quality flags (:mod:`.quality`).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+from importlib import metadata
+
+import numpy as np
+
+from narrator.engine import bins, density, intervals, outliers, robust
+from narrator.engine.center import choose_lead, mean_pull
+from narrator.engine.moments import (
+    QUANTILE_METHOD,
+    central_moments,
+    excess_kurtosis,
+    median_sorted,
+    quantiles_sorted,
+    scaled,
+    skewness_g1,
+    skewness_test,
+    trimmed_mean,
+)
+from narrator.engine.quality import MIN_FOR_SHAPE, assess_quality
+from narrator.engine.shape import ShapeSignals, classify_shape, is_clearly_skewed
+from narrator.errors import NarratorError
+from narrator.findings import (
+    OUTLIER_RULES,
+    SCHEMA_VERSION,
+    Center,
+    Findings,
+    Intervals,
+    Shape,
+    Spread,
+    Variable,
+    WithoutOutliers,
+)
+from narrator.sample import Exclusion, Sample
+
+DEFAULT_SEED = 20261201
+MAD_NORMAL_SCALE = 1.482602218505602  # 1 / Phi^-1(3/4), as scipy.stats.median_abs_deviation(scale="normal")
+PERCENTILES = (0.05, 0.10, 0.25, 0.50, 0.75, 0.90, 0.95)
+LIBRARIES = ("numpy", "scipy", "pandas", "matplotlib", "python-docx", "babel")
+BIN_RULES = ("freedman-diaconis", "scott", "sturges", "doane")
+BANDWIDTH_RULES = ("silverman", "scott", "sheather-jones")
+
+
+def library_versions() -> dict[str, str]:
+    versions = {}
+    for name in ("narrator", *LIBRARIES):
+        try:
+            versions[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            continue
+    return versions
+
+
+def _as_sample(values_or_sample, name: str | None, unit: str | None) -> Sample:
+    if isinstance(values_or_sample, Sample):
+        sample = values_or_sample
+        if unit is not None and sample.unit != unit:
+            sample = Sample(
+                values=sample.values,
+                rows=sample.rows,
+                name=name or sample.name,
+                unit=unit,
+                n_rows=sample.n_rows,
+                exclusions=sample.exclusions,
+                decimals=sample.decimals,
+                source=sample.source,
+            )
+        return sample
+    try:
+        return Sample.from_values(values_or_sample, name=name or "value", unit=unit)
+    except (TypeError, ValueError) as exc:
+        raise NarratorError(f"the values could not be read as numbers: {exc}") from None
+
+
+def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float | None) -> Sample:
+    if valid_min is None and valid_max is None:
+        return sample
+    if valid_min is not None and valid_max is not None and valid_min > valid_max:
+        raise NarratorError(f"the valid range is empty: minimum {valid_min} is above maximum {valid_max}")
+    outside = np.zeros(sample.values.size, dtype=bool)
+    if valid_min is not None:
+        outside |= sample.values < valid_min
+    if valid_max is not None:
+        outside |= sample.values > valid_max
+    if not outside.any():
+        return sample
+    count = int(outside.sum())
+    new_rows = tuple(int(r) for r in sample.rows[outside][:10])
+    new_examples = tuple(repr(float(v)) for v in sample.values[outside][:5])
+    exclusions = []
+    merged = False
+    for exclusion in sample.exclusions:
+        if exclusion.reason == "impossible":
+            exclusion = Exclusion(
+                "impossible",
+                exclusion.count + count,
+                (exclusion.rows + new_rows)[:10],
+                (exclusion.examples + new_examples)[:5],
+            )
+            merged = True
+        exclusions.append(exclusion)
+    if not merged:
+        exclusions.append(Exclusion("impossible", count, new_rows, new_examples))
+    keep = ~outside
+    return Sample(
+        values=sample.values[keep],
+        rows=sample.rows[keep],
+        name=sample.name,
+        unit=sample.unit,
+        n_rows=sample.n_rows,
+        exclusions=tuple(exclusions),
+        decimals=sample.decimals,
+        source=sample.source,
+    )
+
+
+def _check_options(outlier_rule, level, bin_rule, bandwidth_rule, lower_bound, upper_bound) -> None:
+    if outlier_rule is not None and outlier_rule not in OUTLIER_RULES:
+        raise NarratorError(f"unknown outlier rule {outlier_rule!r}; choose one of {', '.join(OUTLIER_RULES)}")
+    if not 0.5 <= level < 1:
+        raise NarratorError(f"interval level must be at least 0.5 and below 1, not {level}")
+    if bin_rule not in BIN_RULES:
+        raise NarratorError(f"unknown bin rule {bin_rule!r}; choose one of {', '.join(BIN_RULES)}")
+    if bandwidth_rule not in BANDWIDTH_RULES:
+        raise NarratorError(
+            f"unknown bandwidth rule {bandwidth_rule!r}; choose one of {', '.join(BANDWIDTH_RULES)}"
+        )
+    if lower_bound is not None and upper_bound is not None and lower_bound >= upper_bound:
+        raise NarratorError(f"lower bound {lower_bound} must be below upper bound {upper_bound}")
+
+
+def describe(
+    values_or_sample,
+    *,
+    name: str | None = None,
+    unit: str | None = None,
+    valid_min: float | None = None,
+    valid_max: float | None = None,
+    lower_bound: float | None = None,
+    upper_bound: float | None = None,
+    population: bool = False,
+    outlier_rule: str | None = None,
+    level: float = 0.95,
+    bin_rule: str = "freedman-diaconis",
+    bandwidth_rule: str = "silverman",
+    seed: int = DEFAULT_SEED,
+) -> Findings:
+    """Compute every finding about one numeric variable.
+
+    ``values_or_sample`` is a :class:`~narrator.sample.Sample` (from
+    :func:`narrator.data.read_column`) or anything numpy turns into a 1-D float
+    array. Non-finite values are left out and counted. ``lower_bound`` and
+    ``upper_bound`` are bounds the quantity cannot cross (0 for a wait); the
+    density is reflected there. ``valid_min``/``valid_max`` declare the valid
+    range: values outside are impossible and are excluded, never called outliers.
+    ``population=True`` says the rows are the whole population: no intervals.
+
+    >>> f = describe([2, 4, 4, 4, 5, 5, 7, 9])
+    >>> f.center.mean, f.center.median, f.spread.sd == np.std([2, 4, 4, 4, 5, 5, 7, 9], ddof=1)
+    (5.0, 4.5, True)
+    """
+    _check_options(outlier_rule, level, bin_rule, bandwidth_rule, lower_bound, upper_bound)
+    # A bound the quantity cannot cross is also a limit of the valid range: a wait of -3 days is impossible.
+    effective_min = valid_min if lower_bound is None else max(lower_bound, valid_min or lower_bound)
+    effective_max = valid_max if upper_bound is None else min(upper_bound, valid_max or upper_bound)
+    sample = _apply_valid_range(_as_sample(values_or_sample, name, unit), effective_min, effective_max)
+    values = sample.values
+    n = int(values.size)
+    sorted_values = np.sort(values)
+    integer_valued = bool(n) and bool(np.all(np.mod(sorted_values, 1.0) == 0))
+    variable = Variable(
+        name=sample.name,
+        unit=sample.unit,
+        valid_min=valid_min,
+        valid_max=valid_max,
+        lower_bound=lower_bound,
+        upper_bound=upper_bound,
+        population=population,
+        decimals=sample.decimals,
+        integer_valued=integer_valued,
+    )
+    options = {
+        "outlier_rule": outlier_rule or "auto",
+        "quantile_method": QUANTILE_METHOD,
+        "level": level,
+        "trim_proportions": [0.1, 0.2],
+        "bin_rule": bin_rule,
+        "bandwidth_rule": bandwidth_rule,
+        "seed": seed,
+        "population": population,
+        "valid_min": valid_min,
+        "valid_max": valid_max,
+        "lower_bound": lower_bound,
+        "upper_bound": upper_bound,
+    }
+    provenance = {**sample.source, "libraries": library_versions()}
+
+    if n == 0:
+        quality, _ = assess_quality(sample, sorted_values, iqr=None)
+        return Findings(
+            schema_version=SCHEMA_VERSION,
+            variable=variable,
+            n=0,
+            n_missing=sample.n_missing,
+            center=None,
+            spread=None,
+            shape=classify_shape(_empty_signals()),
+            outliers=None,
+            without_outliers=None,
+            intervals=Intervals(mean=None, median=None, reason="too_few"),
+            histogram=None,
+            density=None,
+            quality=quality,
+            options=options,
+            provenance=provenance,
+        )
+
+    # Work in power-of-two scaled units so values near 1e308 cannot overflow; scale back at the end.
+    unit_values, factor = scaled(sorted_values)
+    moments = central_moments(unit_values)
+    quantile_values = quantiles_sorted(unit_values, PERCENTILES)
+    p5, p10, q1, median, q3, p90, p95 = (float(v) for v in quantile_values)
+    median = median_sorted(unit_values)
+    iqr = q3 - q1
+    mad = float(np.median(np.abs(unit_values - median)))
+    sd = moments.sd
+    mean = moments.mean
+    has_spread = bool(unit_values[-1] > unit_values[0])
+
+    g1, g1_se = skewness_g1(moments)
+    g2 = excess_kurtosis(moments)
+    z, p = skewness_test(moments)
+    bowley = robust.bowley_skewness(q1, median, q3)
+    medcouple_value = robust.medcouple(unit_values) if n >= 3 else None
+
+    histogram_plan = None
+    sensitivity = None
+    density_estimate = None
+    if has_spread:
+        histogram_plan = bins.histogram_plan(
+            sorted_values, rule=bin_rule, integer_valued=integer_valued, sd=sd * factor, iqr=iqr * factor
+        )
+        if n >= MIN_FOR_SHAPE:
+            sensitivity = bins.bin_sensitivity(
+                sorted_values, histogram_plan.width, integer_valued=integer_valued
+            )
+        density_estimate = density.estimate_density(
+            sorted_values,
+            rule=bandwidth_rule,
+            lower_bound=lower_bound,
+            upper_bound=upper_bound,
+            sd=sd * factor,
+            iqr=iqr * factor,
+        )
+
+    shape = classify_shape(
+        ShapeSignals(
+            n=n,
+            skewness=g1,
+            skewness_se=g1_se,
+            skewness_test_z=z,
+            skewness_test_p=p,
+            bowley=bowley,
+            medcouple=medcouple_value,
+            medcouple_method="exact",
+            excess_kurtosis=g2,
+            density_peaks=len(density_estimate.peaks) if density_estimate else None,
+            bin_sensitivity=sensitivity,
+            has_spread=has_spread,
+        )
+    )
+    clearly_skewed = is_clearly_skewed(shape)
+
+    flagged = outliers.detect_outliers(
+        sample.values / factor,
+        sample.rows,
+        rule=outlier_rule,
+        q1=q1,
+        median=median,
+        q3=q3,
+        medcouple=medcouple_value if medcouple_value is not None else 0.0,
+        skew_clear=clearly_skewed,
+        mad=mad,
+        mean=mean,
+        sd=sd,
+    )
+    if factor != 1.0:
+        flagged = _rescale_outliers(flagged, factor)
+
+    without = _without_outliers(unit_values, flagged.values, factor, mean, median, sd, iqr)
+    lead, lead_reasons = choose_lead(
+        clearly_skewed=clearly_skewed,
+        several_peaks=shape.label in ("bimodal", "multimodal"),
+        mean_shift=without.mean_change,
+        sd_without=without.sd,
+    )
+    lead_without = _lead_without(unit_values, flagged.values, factor)
+    without = _replace_lead(without, lead_without, lead)
+    without = _with_influence(without, sample, mean * factor, n)
+
+    pull, material = mean_pull(mean, median, sd)
+    center = Center(
+        mean=mean * factor,
+        median=median * factor,
+        trimmed_mean_10=trimmed_mean(unit_values, 0.10) * factor,
+        trimmed_mean_20=trimmed_mean(unit_values, 0.20) * factor,
+        lead=lead,
+        lead_reasons=lead_reasons,
+        mean_minus_median=(mean - median) * factor,
+        mean_median_gap_material=material,
+        mean_pull=pull,
+    )
+    minimum = float(sorted_values[0])
+    maximum = float(sorted_values[-1])
+    positive = minimum > 0
+    cv = None
+    cv_reason = "not_positive"
+    if positive and n > 1:
+        cv, cv_reason = (sd / mean, "computed") if mean != 0 else (None, "zero_mean")
+    spread = Spread(
+        sd=sd * factor,
+        variance=moments.variance * factor * factor if factor < 1e150 else math.inf,
+        q1=q1 * factor,
+        q3=q3 * factor,
+        iqr=iqr * factor,
+        quantile_method=QUANTILE_METHOD,
+        mad=mad * factor,
+        mad_scaled=mad * MAD_NORMAL_SCALE * factor,
+        min=minimum,
+        max=maximum,
+        range=(unit_values[-1] - unit_values[0]) * factor,
+        p5=p5 * factor,
+        p10=p10 * factor,
+        p90=p90 * factor,
+        p95=p95 * factor,
+        cv=cv,
+        cv_reason=cv_reason,
+    )
+
+    interval_findings = _intervals(
+        sorted_values, population=population, level=level, seed=seed, skewness=g1, clearly_skewed=clearly_skewed
+    )
+    quality, _ = assess_quality(sample, sorted_values, iqr=iqr * factor)
+    return Findings(
+        schema_version=SCHEMA_VERSION,
+        variable=variable,
+        n=n,
+        n_missing=sample.n_missing,
+        center=center,
+        spread=spread,
+        shape=shape,
+        outliers=flagged,
+        without_outliers=without,
+        intervals=interval_findings,
+        histogram=histogram_plan,
+        density=density_estimate,
+        quality=quality,
+        options=options,
+        provenance=provenance,
+    )
+
+
+def _rescale_outliers(flagged, factor: float):
+    """Outliers found in power-of-two scaled units, expressed back in the data's units."""
+    def back(value):
+        return None if value is None else value * factor
+
+    return replace(
+        flagged,
+        lower_fence=back(flagged.lower_fence),
+        upper_fence=back(flagged.upper_fence),
+        far_lower_fence=back(flagged.far_lower_fence),
+        far_upper_fence=back(flagged.far_upper_fence),
+        values=tuple(v * factor for v in flagged.values),
+        far_out_values=tuple(v * factor for v in flagged.far_out_values),
+    )
+
+
+def _empty_signals() -> ShapeSignals:
+    return ShapeSignals(
+        n=0,
+        skewness=None,
+        skewness_se=None,
+        skewness_test_z=None,
+        skewness_test_p=None,
+        bowley=None,
+        medcouple=None,
+        medcouple_method="exact",
+        excess_kurtosis=None,
+        density_peaks=None,
+        bin_sensitivity=None,
+        has_spread=False,
+    )
+
+
+def _remove_flagged(unit_values: np.ndarray, flagged_values: tuple[float, ...], factor: float) -> np.ndarray:
+    """Sorted values with the flagged ones taken out (each flagged occurrence once)."""
+    if not flagged_values:
+        return unit_values
+    targets = np.asarray(flagged_values, dtype=float) / factor
+    keep = np.ones(unit_values.size, dtype=bool)
+    # Remove one occurrence per flag; equal flagged values sit side by side in sorted data.
+    for value in np.unique(targets):
+        start = int(np.searchsorted(unit_values, value, side="left"))
+        count = int(np.count_nonzero(targets == value))
+        keep[start : start + count] = False
+    return unit_values[keep]
+
+
+def _without_outliers(unit_values, flagged_values, factor, mean, median, sd, iqr) -> WithoutOutliers:
+    remaining = _remove_flagged(unit_values, flagged_values, factor)
+    m = int(remaining.size)
+    if m == 0:
+        return WithoutOutliers(
+            n=0, mean=None, median=None, sd=None, iqr=None, mean_change=None, mean_change_relative=None,
+            median_change=None, median_change_relative=None, sd_change=None, iqr_change=None,
+            lead_without=None, lead_would_change=False, most_influential_value=None,
+            most_influential_row=None, most_influential_mean_shift=None,
+        )
+    moments = central_moments(remaining)
+    q1_w, q3_w = quantiles_sorted(remaining, [0.25, 0.75])
+    median_w = median_sorted(remaining)
+    sd_w = moments.sd
+
+    def relative(new: float, old: float) -> float | None:
+        return (new - old) / abs(old) if old != 0 else None
+
+    return WithoutOutliers(
+        n=m,
+        mean=moments.mean * factor,
+        median=median_w * factor,
+        sd=sd_w * factor if m > 1 else None,
+        iqr=float(q3_w - q1_w) * factor,
+        mean_change=(moments.mean - mean) * factor,
+        mean_change_relative=relative(moments.mean, mean),
+        median_change=(median_w - median) * factor,
+        median_change_relative=relative(median_w, median),
+        sd_change=(sd_w - sd) * factor if m > 1 and math.isfinite(sd) else None,
+        iqr_change=(float(q3_w - q1_w) - iqr) * factor,
+        lead_without=None,
+        lead_would_change=False,
+        most_influential_value=None,
+        most_influential_row=None,
+        most_influential_mean_shift=None,
+    )
+
+
+def _lead_without(unit_values, flagged_values, factor) -> str | None:
+    """The lead measure the same rule would choose on the values without the flagged ones."""
+    if not flagged_values:
+        return None
+    remaining = _remove_flagged(unit_values, flagged_values, factor)
+    if remaining.size < MIN_FOR_SHAPE or remaining[-1] == remaining[0]:
+        return "mean" if remaining.size else None
+    moments = central_moments(remaining)
+    g1, g1_se = skewness_g1(moments)
+    z, p = skewness_test(moments)
+    q1, median, q3 = quantiles_sorted(remaining, [0.25, 0.5, 0.75])
+    signals = ShapeSignals(
+        n=int(remaining.size),
+        skewness=g1,
+        skewness_se=g1_se,
+        skewness_test_z=z,
+        skewness_test_p=p,
+        bowley=robust.bowley_skewness(float(q1), float(median), float(q3)),
+        medcouple=robust.medcouple(remaining),
+        medcouple_method="exact",
+        excess_kurtosis=excess_kurtosis(moments),
+        density_peaks=None,
+        bin_sensitivity=None,
+        has_spread=True,
+    )
+    shape: Shape = classify_shape(signals)
+    lead, _ = choose_lead(
+        clearly_skewed=is_clearly_skewed(shape), several_peaks=False, mean_shift=None, sd_without=None
+    )
+    return lead
+
+
+def _replace_lead(without: WithoutOutliers, lead_without: str | None, lead: str) -> WithoutOutliers:
+    if lead_without is None:
+        return replace(without, lead_without=lead, lead_would_change=False)
+    return replace(without, lead_without=lead_without, lead_would_change=lead_without != lead)
+
+
+def _with_influence(without: WithoutOutliers, sample: Sample, mean: float, n: int) -> WithoutOutliers:
+    """The single value whose removal moves the mean most: the one farthest from the mean.
+
+    Removing x_i changes the mean by (mean - x_i) / (n - 1).
+    """
+    if n < 2:
+        return without
+    distances = np.abs(sample.values - mean)
+    index = int(np.argmax(distances))
+    value = float(sample.values[index])
+    shift = (mean - value) / (n - 1)
+    return replace(
+        without,
+        most_influential_value=value,
+        most_influential_row=int(sample.rows[index]),
+        most_influential_mean_shift=shift,
+    )
+
+
+def _intervals(sorted_values, *, population, level, seed, skewness, clearly_skewed) -> Intervals:
+    n = sorted_values.size
+    if population:
+        return Intervals(mean=None, median=None, reason="population")
+    if n < 2 or sorted_values[-1] == sorted_values[0]:
+        return Intervals(mean=None, median=None, reason="too_few")
+    method, method_reason = intervals.choose_mean_method(n, skewness, clearly_skewed)
+    mean_interval = intervals.mean_interval(sorted_values, level=level, method=method, seed=seed)
+    median_interval = intervals.median_interval(sorted_values, level=level)
+    return Intervals(
+        mean=mean_interval, median=median_interval, reason="computed", mean_method_reason=method_reason
+    )

@@ -1,0 +1,189 @@
+"""Data-quality observations worth reporting about one column.
+
+===========================  ==================================================
+Flag code                    When it is raised
+===========================  ==================================================
+``no_values``                no usable value at all
+``missing``                  blank cells or missing tokens were left out
+``non_numeric``              cells that are not numbers were left out
+``impossible``               values outside the declared valid range were left out
+``non_finite``               infinities or overflowing numbers were left out
+``missing_code``             values such as -99 or 9999 sit far from the rest (kept, flagged)
+``heaping``                  far more values at round numbers than chance gives
+``few_distinct``             ten or fewer distinct values
+``many_ties``                one value holds at least 20 % of the data
+``ceiling`` / ``floor``      a pile-up exactly at the largest / smallest value
+``constant``                 every value is the same
+``too_few_for_shape``        fewer than 8 values: no shape statement, no formal test
+``small_sample``             fewer than 20 values: statements must hedge
+===========================  ==================================================
+
+Thresholds here are our own documented choices (common practice), not from a
+published standard; each is a module constant so the methods text can state it.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+
+from narrator.findings import Quality, QualityFlag
+from narrator.sample import Sample
+
+MIN_FOR_SHAPE = 8  # below this no shape claim (D'Agostino's test needs n >= 8)
+MIN_FOR_CONFIDENT = 20  # below this the text hedges
+FEW_DISTINCT = 10
+TIE_SHARE = 0.20
+PILE_UP_SHARE = 0.05
+PILE_UP_MIN_COUNT = 3
+HEAPING_RATIO = 2.0  # observed share at round values at least this many times the chance share
+HEAPING_P = 0.001  # and a one-sided binomial test below this
+SUSPECT_CODES = (-9.0, -99.0, -999.0, -9999.0, -99999.0, 99.0, 999.0, 9999.0, 99999.0, 999999.0, -1.0, -8.0)
+CODE_DISTANCE_IQR = 3.0  # a code must sit beyond the far-out fences of the other values
+ROWS_SHOWN = 10
+
+
+def _exclusion_flags(sample: Sample) -> list[QualityFlag]:
+    flags = []
+    total = max(sample.n_rows, 1)
+    for exclusion in sample.exclusions:
+        if exclusion.count:
+            flags.append(
+                QualityFlag(
+                    code=exclusion.reason,
+                    count=exclusion.count,
+                    share=exclusion.count / total,
+                    rows=tuple(int(r) for r in exclusion.rows[:ROWS_SHOWN]),
+                )
+            )
+    return flags
+
+
+def _missing_codes(sorted_values: np.ndarray, values: np.ndarray, rows: np.ndarray) -> list[QualityFlag]:
+    """Values that look like missing-value codes: repeated (or long all-nines) and far from the rest."""
+    flags = []
+    for code in SUSPECT_CODES:
+        left = np.searchsorted(sorted_values, code, side="left")
+        right = np.searchsorted(sorted_values, code, side="right")
+        count = int(right - left)
+        all_nines = abs(code) >= 99 and set(str(int(abs(code)))) == {"9"}
+        if count == 0 or (count < 2 and not all_nines):
+            continue
+        others = np.concatenate([sorted_values[:left], sorted_values[right:]])
+        if others.size < 4:
+            continue
+        q1, q3 = np.quantile(others, [0.25, 0.75])
+        spread = q3 - q1
+        if spread <= 0:
+            spread = float(np.std(others)) or 1.0
+        far = code < q1 - CODE_DISTANCE_IQR * spread or code > q3 + CODE_DISTANCE_IQR * spread
+        if far:
+            where = np.flatnonzero(values == code)[:ROWS_SHOWN]
+            flags.append(
+                QualityFlag(
+                    code="missing_code",
+                    count=count,
+                    share=count / sorted_values.size,
+                    rows=tuple(int(r) for r in rows[where]),
+                    values=(code,),
+                )
+            )
+    return flags
+
+
+def _heaping(values: np.ndarray, decimals: int, iqr: float) -> list[QualityFlag]:
+    """Excess of values at round numbers: multiples of 5 and 10 for whole numbers
+    (when the spread is wide enough for that to mean anything), whole numbers
+    for data recorded with decimals."""
+    n = values.size
+    if n < 30:
+        return []
+    checks: list[tuple[float, float]] = []  # (base, chance share)
+    if decimals == 0:
+        if iqr >= 10:
+            checks = [(10.0, 0.1), (5.0, 0.2)]
+    elif decimals <= 3:
+        checks = [(1.0, 10.0**-decimals)]
+    for base, chance in checks:
+        ratio = values / base
+        hits = int(np.count_nonzero(np.abs(ratio - np.round(ratio)) < 1e-9 * np.maximum(1.0, np.abs(ratio))))
+        observed = hits / n
+        if observed >= HEAPING_RATIO * chance:
+            p = float(stats.binomtest(hits, n, chance, alternative="greater").pvalue)
+            if p < HEAPING_P:
+                return [
+                    QualityFlag(
+                        code="heaping",
+                        count=hits,
+                        share=observed,
+                        values=(base,),
+                        detail={"base": base, "expected_share": chance, "p_value": p},
+                    )
+                ]
+    return []
+
+
+def _ties(sorted_values: np.ndarray) -> tuple[list[QualityFlag], int]:
+    n = sorted_values.size
+    starts = np.flatnonzero(np.concatenate([[True], sorted_values[1:] != sorted_values[:-1]]))
+    distinct = int(starts.size)
+    run_lengths = np.diff(np.append(starts, n))
+    flags = []
+    if distinct == 1:
+        flags.append(QualityFlag(code="constant", count=n, share=1.0, values=(float(sorted_values[0]),)))
+        return flags, distinct
+    if distinct <= FEW_DISTINCT and n > 2 * FEW_DISTINCT:
+        flags.append(QualityFlag(code="few_distinct", count=distinct, detail={"distinct": float(distinct)}))
+    top = int(np.argmax(run_lengths))
+    top_share = run_lengths[top] / n
+    if top_share >= TIE_SHARE and n >= MIN_FOR_CONFIDENT:
+        flags.append(
+            QualityFlag(
+                code="many_ties",
+                count=int(run_lengths[top]),
+                share=float(top_share),
+                values=(float(sorted_values[starts[top]]),),
+            )
+        )
+    if distinct > 3 and n >= MIN_FOR_CONFIDENT:
+        for code, run, value in (
+            ("floor", run_lengths[0], sorted_values[0]),
+            ("ceiling", run_lengths[-1], sorted_values[-1]),
+        ):
+            if run >= PILE_UP_MIN_COUNT and run / n >= PILE_UP_SHARE:
+                flags.append(QualityFlag(code=code, count=int(run), share=float(run / n), values=(float(value),)))
+    return flags, distinct
+
+
+def assess_quality(
+    sample: Sample, sorted_values: np.ndarray, *, iqr: float | None
+) -> tuple[Quality, int]:
+    """All data-quality flags for a sample; returns (Quality, number of distinct values)."""
+    flags = _exclusion_flags(sample)
+    n = int(sorted_values.size)
+    distinct = 0
+    if n == 0:
+        flags.append(QualityFlag(code="no_values", count=0))
+    else:
+        flags.extend(_missing_codes(sorted_values, sample.values, sample.rows))
+        if iqr is not None:
+            flags.extend(_heaping(sample.values, sample.decimals, iqr))
+        tie_flags, distinct = _ties(sorted_values)
+        flags.extend(tie_flags)
+    if n < MIN_FOR_SHAPE:
+        flags.append(QualityFlag(code="too_few_for_shape", count=n))
+    elif n < MIN_FOR_CONFIDENT:
+        flags.append(QualityFlag(code="small_sample", count=n))
+    n_missing = sample.n_missing
+    impossible = sample.excluded("impossible")
+    non_numeric = sample.excluded("non_numeric")
+    quality = Quality(
+        n_rows=sample.n_rows,
+        n_missing=n_missing,
+        missing_share=n_missing / sample.n_rows if sample.n_rows else 0.0,
+        n_non_numeric=non_numeric.count if non_numeric else 0,
+        n_impossible=impossible.count if impossible else 0,
+        n_used=n,
+        flags=tuple(flags),
+    )
+    return quality, distinct

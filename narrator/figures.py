@@ -1,0 +1,609 @@
+"""Figures: the pictures a report carries, as PNG bytes with caption and alt text.
+
+==================================  ===============================================
+Name                                What it draws
+==================================  ===============================================
+:class:`RenderedFigure`             one finished picture (PNG bytes, size, texts)
+:func:`render_figures`              every figure the narrative asks for, in order
+:func:`histogram`                   the engine's bin plan, density curve, mean and median
+:func:`dot_plot`                    one dot per value, stacked in the plan's bins
+:func:`with_and_without`            where flagged values sit; how mean and median move
+:func:`bin_sensitivity_panel`       small multiples over the bin widths and offsets tried
+:data:`PALETTE`                     the colours used, from Okabe & Ito (2008)
+==================================  ===============================================
+
+Words on a figure (axis titles, the words "mean" and "median", row names) come
+from :attr:`FigureText.labels`, which the phrase builder fills from the phrase
+bank; numbers on the axes go through :class:`narrator.phrasing.numbers.
+NumberFormatter`, so a German report shows ``1.000`` where an English one shows
+``1,000``. The label keys each figure reads are listed in :data:`LABEL_KEYS`.
+
+Design choices, and why:
+
+* Mean and median differ by line style (solid vs dashed), by marker shape and
+  by a direct text label, never by colour alone, so the figure survives
+  grey-scale printing and colour-blind readers.
+* Colours come from the palette of Okabe & Ito (2008, "Color universal design",
+  J*Fly), chosen to stay distinct under the common colour-vision deficiencies.
+* The object-oriented matplotlib API (``Figure`` + ``FigureCanvasAgg``) is used
+  without pyplot: no global figure state, safe from several threads, no display.
+* Every style property is set explicitly rather than read from rcParams, so a
+  user's matplotlibrc cannot change a report, and the PNG bytes are stable
+  (no "Software" or date chunk is written).
+* Beyond :data:`MARKER_LIMIT` values no figure draws one marker per value; the
+  with-and-without view then shows a density band and at most
+  :data:`FLAGGED_DRAW_LIMIT` flagged values.
+
+The stacked dot plot follows Wilkinson (1999, "Dot plots", The American
+Statistician 53), with stacks at the histogram plan's bins (the "histodot"
+variant) so the dot plot and the histogram agree on where values fall.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from matplotlib import ticker
+from matplotlib.axes import Axes
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+from matplotlib.font_manager import FontProperties
+from matplotlib.lines import Line2D
+from matplotlib.transforms import blended_transform_factory
+
+from narrator.errors import NarratorError
+from narrator.findings import Findings
+from narrator.phrasing.narrative import FigureText, Narrative
+from narrator.phrasing.numbers import NumberFormatter
+from narrator.sample import Sample
+
+# Okabe & Ito (2008) palette, by their names. Only some are used; the rest are
+# kept so a reader of this module sees the whole set the choice was made from.
+PALETTE = {
+    "black": "#000000",
+    "orange": "#E69F00",
+    "sky_blue": "#56B4E9",
+    "bluish_green": "#009E73",
+    "yellow": "#F0E442",
+    "blue": "#0072B2",
+    "vermillion": "#D55E00",
+    "reddish_purple": "#CC79A7",
+}
+BAR_FILL = "#CFE3EE"  # sky blue mixed with white, so lines drawn over the bars stay readable
+BAR_EDGE = "#FFFFFF"
+CURVE = PALETTE["blue"]
+MEAN_COLOUR = PALETTE["vermillion"]
+MEDIAN_COLOUR = PALETTE["black"]
+FLAGGED_COLOUR = PALETTE["vermillion"]
+KEPT_COLOUR = PALETTE["blue"]
+AXIS_GREY = "#555555"
+GRID_GREY = "#E4E4E4"
+MEAN_STYLE = "-"
+MEDIAN_STYLE = (0, (5, 2.5))  # long dashes: distinct from the solid mean line in print
+
+FONT_FAMILY = "DejaVu Sans"  # ships with matplotlib, so every machine draws the same glyphs
+FONT_SIZE = 8.5
+SMALL_FONT_SIZE = 7.5
+DPI = 180
+# 15.2 cm wide fits the text block of A4 and US Letter pages with 2.5 cm margins.
+PAGE_WIDTH_IN = 6.0
+
+MARKER_LIMIT = 5_000  # beyond this, no marker per value
+FLAGGED_DRAW_LIMIT = 400
+DOT_PLOT_LIMIT = 1_000  # a dot plot of more values is unreadable; the histogram serves
+MAX_PANEL_BINS = 400
+
+LABEL_KEYS: Mapping[str, tuple[str, ...]] = {
+    "histogram": ("x", "y", "mean", "median"),
+    "dotplot": ("x", "y", "mean", "median"),
+    "with_without": ("x", "mean", "median", "all", "without", "flagged", "kept"),
+    "bin_sensitivity": ("x", "y", "panel"),
+}
+
+
+@dataclass(frozen=True, slots=True)
+class RenderedFigure:
+    """One finished figure: PNG bytes, its pixel size, and the texts the report shows with it."""
+
+    key: str
+    png: bytes
+    width_px: int
+    height_px: int
+    caption: str
+    alt_text: str
+
+    @property
+    def aspect(self) -> float:
+        """Height over width, for placing the picture at a chosen width."""
+        return self.height_px / self.width_px
+
+
+# --------------------------------------------------------------------------- public
+
+
+def render_figures(
+    findings: Findings, sample: Sample, narrative: Narrative, *, locale: str
+) -> list[RenderedFigure]:
+    """Render every figure the narrative carries a text for, in the narrative's order.
+
+    ``narrative.figures`` holds one :class:`FigureText` per figure the document
+    plan wants; its ``key`` picks the drawing function (see :data:`DRAWERS`).
+    """
+    rendered = []
+    for text in narrative.figures:
+        drawer = DRAWERS.get(text.key)
+        if drawer is None:
+            known = ", ".join(sorted(DRAWERS))
+            raise NarratorError(f"figure {text.key!r} is not one narrator draws (known: {known})")
+        rendered.append(drawer(findings, sample, text, locale=locale))
+    return rendered
+
+
+def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+    """Histogram with the engine's bin plan, its density curve, and mean and median lines.
+
+    Bars are the plan's counts (``findings.histogram``); the kernel density
+    estimate (``findings.density``, reflected at a declared bound per Schuster
+    1985) is scaled to counts as ``density * n * bin width`` so both share the
+    count axis. ``sample`` is not read; it is accepted so every drawer has one
+    signature.
+    """
+    labels = _labels(text, "histogram")
+    plan = _require(findings.histogram, "histogram", "a bin plan")
+    center = _require(findings.center, "histogram", "a mean and median")
+    numbers = NumberFormatter(locale)
+    edges = np.asarray(plan.edges, dtype=float)
+    counts = np.asarray(plan.counts, dtype=float)
+
+    fig, ax = _single_axes(height_in=3.3)
+    ax.bar(
+        edges[:-1], counts, width=np.diff(edges), align="edge",
+        color=BAR_FILL, edgecolor=BAR_EDGE, linewidth=0.6 if counts.size <= 120 else 0.0, zorder=2,
+    )
+    top = float(counts.max()) if counts.size else 1.0
+    if findings.density is not None and findings.density.grid:
+        grid = np.asarray(findings.density.grid, dtype=float)
+        curve = np.asarray(findings.density.values, dtype=float) * findings.n * plan.width
+        ax.plot(grid, curve, color=CURVE, linewidth=1.5, zorder=3, solid_capstyle="round")
+        top = max(top, float(np.nanmax(curve)))
+    ax.set_ylim(0, top * 1.16 if top > 0 else 1)
+    ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
+    _mark_center(ax, center.mean, center.median, labels)
+    _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=True)
+    return _render(fig, text)
+
+
+def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+    """Stacked dot plot: one dot per value, stacked within the bins of the engine's plan.
+
+    Wilkinson (1999) dot plot, "histodot" form: each value falls in a bin of
+    width ``findings.histogram.width``; the dots of a bin are stacked upward at
+    the bin's centre, so the height of a stack is its count. Dot diameter is the
+    bin width, shrunk when the tallest stack would not fit.
+    """
+    labels = _labels(text, "dotplot")
+    plan = _require(findings.histogram, "dotplot", "a bin plan")
+    center = _require(findings.center, "dotplot", "a mean and median")
+    values = np.asarray(sample.values, dtype=float)
+    if values.size > DOT_PLOT_LIMIT:
+        raise NarratorError(
+            f"a dot plot of {values.size} values would be unreadable (limit {DOT_PLOT_LIMIT}); "
+            "use the histogram"
+        )
+    numbers = NumberFormatter(locale)
+    edges = np.asarray(plan.edges, dtype=float)
+    # Same bin membership as numpy.histogram: right-open bins, the last one closed.
+    index = np.clip(np.searchsorted(edges, values, side="right") - 1, 0, edges.size - 2)
+    centers = (edges[:-1] + edges[1:]) / 2
+    stack_height = np.bincount(index, minlength=edges.size - 1)
+    tallest = int(stack_height.max()) if values.size else 1
+
+    height_in = 3.0
+    fig, ax = _single_axes(height_in=height_in)
+    x_low, x_high = _padded(edges[0], edges[-1], 0.01)
+    ax.set_xlim(x_low, x_high)
+    axes_width_pt, axes_height_pt = _axes_size_points(fig, ax)
+    points_per_unit = axes_width_pt / (x_high - x_low)
+    # Leave 20 % of the height free for the mean and median labels.
+    diameter_pt = min(plan.width * points_per_unit, 0.8 * axes_height_pt / max(tallest, 1))
+    ax.set_ylim(0, axes_height_pt)  # y in points, so dots stay round
+    order = np.lexsort((values, index))  # within a stack, smaller values at the bottom
+    level = np.empty(values.size, dtype=float)
+    seen: dict[int, int] = {}
+    for position in order:
+        bin_index = int(index[position])
+        level[position] = seen.get(bin_index, 0)
+        seen[bin_index] = seen.get(bin_index, 0) + 1
+    ax.scatter(
+        centers[index], (level + 0.5) * diameter_pt,
+        s=(0.86 * diameter_pt) ** 2, marker="o",
+        facecolor=BAR_FILL, edgecolor=CURVE, linewidth=0.7, zorder=3,
+    )
+    _mark_center(ax, center.mean, center.median, labels)
+    _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=False)
+    # Count ticks: a stack of k dots reaches k * diameter.
+    step = _nice_count_step(tallest)
+    ticks = np.arange(0, tallest + 1, step)
+    ax.yaxis.set_major_locator(ticker.FixedLocator(ticks * diameter_pt))
+    ax.yaxis.set_major_formatter(
+        ticker.FixedFormatter([numbers.fixed(float(t), 0) for t in ticks])
+    )
+    return _render(fig, text)
+
+
+def with_and_without(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> RenderedFigure:
+    """Where the flagged values sit, and how the mean and median move without them.
+
+    Top: every value as a strip, the flagged ones (``findings.outliers``) drawn
+    as filled triangles and the others as open circles, so shape and fill both
+    tell them apart. Above :data:`MARKER_LIMIT` values the others are drawn as
+    a density band instead, and at most :data:`FLAGGED_DRAW_LIMIT` flagged
+    values, evenly spread over their sorted order. Bottom: two rows, with all
+    values and without the flagged ones, each showing the mean (diamond) and
+    the median (square), joined across rows to show the move.
+    """
+    labels = _labels(text, "with_without")
+    center = _require(findings.center, "with_without", "a mean and median")
+    without = findings.without_outliers
+    numbers = NumberFormatter(locale)
+    values = np.asarray(sample.values, dtype=float)
+    flagged_mask = _flagged_mask(findings, sample)
+    flagged = np.sort(values[flagged_mask])
+    kept = values[~flagged_mask]
+
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.4), dpi=DPI)
+    FigureCanvasAgg(fig)
+    left, right = 1.55 / PAGE_WIDTH_IN, 0.25 / PAGE_WIDTH_IN
+    strip = fig.add_axes((left, 0.50, 1 - left - right, 0.40))
+    rows = fig.add_axes((left, 0.17, 1 - left - right, 0.24), sharex=strip)
+
+    low = float(values.min()) if values.size else 0.0
+    high = float(values.max()) if values.size else 1.0
+    strip.set_xlim(_padded(low, high, 0.03))
+    if values.size <= MARKER_LIMIT:
+        jitter = _spread_positions(kept.size)
+        strip.scatter(
+            kept, jitter, s=16, marker="o", facecolor="none", edgecolor=KEPT_COLOUR,
+            linewidth=0.8, zorder=3, label=labels["kept"],
+        )
+    else:
+        _density_band(strip, findings, kept)
+        strip.add_line(Line2D([], [], color=BAR_FILL, linewidth=6, label=labels["kept"]))
+    drawn = flagged
+    if flagged.size > FLAGGED_DRAW_LIMIT:
+        drawn = flagged[np.linspace(0, flagged.size - 1, FLAGGED_DRAW_LIMIT).round().astype(int)]
+    strip.scatter(
+        drawn, _spread_positions(drawn.size, phase=0.37), s=30, marker="^",
+        facecolor=FLAGGED_COLOUR, edgecolor=PALETTE["black"], linewidth=0.5, zorder=4,
+        label=labels["flagged"],
+    )
+    strip.set_ylim(-0.12, 1.12)
+    strip.set_yticks([])
+    for side in ("top", "right", "left"):
+        strip.spines[side].set_visible(False)
+    strip.spines["bottom"].set_color(AXIS_GREY)
+    strip.tick_params(axis="x", labelbottom=False, length=0)
+    legend = strip.legend(
+        loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, frameon=False,
+        prop=_font(SMALL_FONT_SIZE), handletextpad=0.3, columnspacing=1.4, borderaxespad=0.1,
+    )
+    for legend_text in legend.get_texts():
+        legend_text.set_color(PALETTE["black"])
+
+    with_row, without_row = 1.0, 0.0
+    mean_without = without.mean if without is not None and without.mean is not None else center.mean
+    median_without = (
+        without.median if without is not None and without.median is not None else center.median
+    )
+    for start, end, marker, colour, face in (
+        (center.mean, mean_without, "D", MEAN_COLOUR, MEAN_COLOUR),
+        (center.median, median_without, "s", MEDIAN_COLOUR, "white"),
+    ):
+        rows.plot([start, end], [with_row, without_row], color=GRID_GREY, linewidth=1.2, zorder=2)
+        rows.scatter(
+            [start, end], [with_row, without_row], s=38, marker=marker, facecolor=face,
+            edgecolor=colour, linewidth=1.2, zorder=3,
+        )
+    # Direct labels on the upper row, pushed apart so they never overlap.
+    mean_left = center.mean < center.median
+    for x, word, colour, to_left in (
+        (center.mean, labels["mean"], MEAN_COLOUR, mean_left),
+        (center.median, labels["median"], MEDIAN_COLOUR, not mean_left),
+    ):
+        rows.annotate(
+            word, (x, with_row), xytext=(-7 if to_left else 7, 6), textcoords="offset points",
+            ha="right" if to_left else "left", va="bottom", color=colour,
+            fontproperties=_font(SMALL_FONT_SIZE),
+        )
+    rows.set_ylim(-0.6, 1.75)
+    rows.set_yticks([with_row, without_row], [labels["all"], labels["without"]])
+    rows.tick_params(axis="y", length=0, labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY)
+    rows.grid(axis="x", color=GRID_GREY, linewidth=0.6)
+    rows.set_axisbelow(True)
+    for side in ("top", "right", "left"):
+        rows.spines[side].set_visible(False)
+    _style_x(rows, numbers, labels["x"])
+    return _render(fig, text)
+
+
+def bin_sensitivity_panel(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> RenderedFigure:
+    """Small multiples of the histogram at each bin width and offset the engine tried.
+
+    Rows are the widths of ``findings.shape.bin_sensitivity``, columns its
+    offsets (fractions of a bin); each panel is titled with the ``panel``
+    label pattern, filled with ``{width}``, ``{offset}`` and ``{peaks}`` (the
+    visible peaks the engine counted there). Panels whose peak count differs
+    from the plan's own (first width, first offset) get a darker fill, so a
+    reader sees at a glance how often the picture changes.
+    """
+    labels = _labels(text, "bin_sensitivity")
+    sensitivity = _require(findings.shape.bin_sensitivity, "bin_sensitivity", "bin sensitivity results")
+    numbers = NumberFormatter(locale)
+    values = np.asarray(sample.values, dtype=float)
+    if values.size == 0:
+        raise NarratorError("figure 'bin_sensitivity' needs values to draw")
+    widths, offsets = sensitivity.widths, sensitivity.offsets
+    n_rows, n_cols = len(widths), len(offsets)
+    panel_height = 1.05
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.55 + panel_height * n_rows), dpi=DPI)
+    FigureCanvasAgg(fig)
+    grid = fig.subplots(n_rows, n_cols, sharex=True, squeeze=False)
+    fig.subplots_adjust(
+        left=0.06, right=0.98, top=1 - 0.28 / fig.get_figheight(), bottom=0.5 / fig.get_figheight(),
+        wspace=0.12, hspace=0.55,
+    )
+    base_peaks = sensitivity.peak_counts[0][0] if sensitivity.peak_counts else None
+    low, high = float(values.min()), float(values.max())
+    width_decimals = _decimals_for(widths)
+    for row, width in enumerate(widths):
+        for col, offset in enumerate(offsets):
+            ax: Axes = grid[row][col]
+            edges = _offset_edges(low, high, width, offset)
+            counts, _ = np.histogram(values, bins=edges)
+            peaks = sensitivity.peak_counts[row][col]
+            differs = base_peaks is not None and peaks != base_peaks
+            ax.stairs(
+                counts, edges, fill=True, color=PALETTE["sky_blue"] if differs else BAR_FILL,
+                linewidth=0,
+            )
+            ax.stairs(counts, edges, fill=False, color=CURVE, linewidth=0.6)
+            title = labels["panel"].format(
+                width=numbers.fixed(width, width_decimals),
+                offset=numbers.fixed(offset, 2),
+                peaks=numbers.fixed(float(peaks), 0),
+            )
+            ax.set_title(title, fontproperties=_font(SMALL_FONT_SIZE - 0.5), pad=2, loc="left")
+            ax.set_yticks([])
+            for side in ("top", "right", "left"):
+                ax.spines[side].set_visible(False)
+            ax.spines["bottom"].set_color(AXIS_GREY)
+            ax.tick_params(
+                axis="x", labelsize=SMALL_FONT_SIZE - 1, labelfontfamily=FONT_FAMILY,
+                colors=AXIS_GREY, length=2,
+            )
+            ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=3, steps=[1, 2, 2.5, 5, 10]))
+            ax.xaxis.set_major_formatter(_LocaleTicks(numbers))
+    grid[0][0].set_xlim(_padded(low, high, 0.02))
+    fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02)
+    fig.supylabel(labels["y"], fontproperties=_font(FONT_SIZE), x=0.01)
+    return _render(fig, text)
+
+
+DRAWERS: Mapping[str, Callable[..., RenderedFigure]] = {
+    "histogram": histogram,
+    "dotplot": dot_plot,
+    "with_without": with_and_without,
+    "bin_sensitivity": bin_sensitivity_panel,
+}
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+class _LocaleTicks(ticker.Formatter):
+    """Tick labels through the report's number formatter, all ticks of an axis with one precision."""
+
+    def __init__(self, numbers: NumberFormatter) -> None:
+        self._numbers = numbers
+        self._decimals = 0
+
+    def set_locs(self, locs: Sequence[float]) -> None:
+        self.locs = locs
+        self._decimals = _decimals_for(locs)
+
+    def __call__(self, x: float, pos: int | None = None) -> str:
+        if abs(x) < 1e-12:
+            x = 0.0  # never print "-0"
+        return self._numbers.fixed(float(x), self._decimals)
+
+
+def _decimals_for(locs: Sequence[float]) -> int:
+    """Fewest decimals (up to 6) that write every tick exactly."""
+    finite = [float(v) for v in locs if math.isfinite(v)]
+    for decimals in range(7):
+        if all(abs(v - round(v, decimals)) <= 1e-9 * max(1.0, abs(v)) for v in finite):
+            return decimals
+    return 6
+
+
+def _labels(text: FigureText, figure: str) -> Mapping[str, str]:
+    missing = [key for key in LABEL_KEYS[figure] if not text.labels.get(key)]
+    if missing:
+        raise NarratorError(
+            f"figure {figure!r}: the phrase bank gave no label for {', '.join(missing)}"
+        )
+    return text.labels
+
+
+def _require(value, figure: str, what: str):
+    if value is None:
+        raise NarratorError(f"figure {figure!r} needs {what}, and the findings have none")
+    return value
+
+
+def _font(size: float = FONT_SIZE) -> FontProperties:
+    return FontProperties(family=FONT_FAMILY, size=size)
+
+
+def _single_axes(*, height_in: float) -> tuple[Figure, Axes]:
+    """A page-wide figure with one axes at fixed margins (in inches, so sizes are predictable)."""
+    fig = Figure(figsize=(PAGE_WIDTH_IN, height_in), dpi=DPI)
+    FigureCanvasAgg(fig)
+    left, right, bottom, top = 0.75, 0.2, 0.55, 0.15
+    ax = fig.add_axes((
+        left / PAGE_WIDTH_IN, bottom / height_in,
+        1 - (left + right) / PAGE_WIDTH_IN, 1 - (bottom + top) / height_in,
+    ))
+    return fig, ax
+
+
+def _axes_size_points(fig: Figure, ax: Axes) -> tuple[float, float]:
+    position = ax.get_position()
+    return (
+        position.width * fig.get_figwidth() * 72.0,
+        position.height * fig.get_figheight() * 72.0,
+    )
+
+
+def _finish_axes(
+    ax: Axes, numbers: NumberFormatter, x_label: str, y_label: str, *, integer_y: bool
+) -> None:
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
+    ax.spines["left"].set_color(AXIS_GREY)
+    ax.grid(axis="y", color=GRID_GREY, linewidth=0.6)
+    ax.set_axisbelow(True)
+    ax.yaxis.set_major_locator(ticker.MaxNLocator(nbins=5, integer=integer_y, steps=[1, 2, 2.5, 5, 10]))
+    ax.yaxis.set_major_formatter(_LocaleTicks(numbers))
+    ax.tick_params(
+        axis="y", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
+        labelcolor=PALETTE["black"], length=3,
+    )
+    ax.set_ylabel(y_label, fontproperties=_font(FONT_SIZE))
+    _style_x(ax, numbers, x_label)
+
+
+def _style_x(ax: Axes, numbers: NumberFormatter, x_label: str) -> None:
+    ax.spines["bottom"].set_color(AXIS_GREY)
+    ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=8, steps=[1, 2, 2.5, 5, 10]))
+    ax.xaxis.set_major_formatter(_LocaleTicks(numbers))
+    ax.tick_params(
+        axis="x", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
+        labelcolor=PALETTE["black"], length=3,
+    )
+    ax.set_xlabel(x_label, fontproperties=_font(FONT_SIZE))
+
+
+def _mark_center(ax: Axes, mean: float, median: float, labels: Mapping[str, str]) -> None:
+    """Vertical mean (solid) and median (dashed) lines with direct labels on opposite sides."""
+    ax.axvline(mean, color=MEAN_COLOUR, linestyle=MEAN_STYLE, linewidth=1.6, zorder=4)
+    ax.axvline(median, color=MEDIAN_COLOUR, linestyle=MEDIAN_STYLE, linewidth=1.4, zorder=4)
+    at_top = blended_transform_factory(ax.transData, ax.transAxes)
+    mean_left = mean < median
+    for x, word, colour, to_left in (
+        (mean, labels["mean"], MEAN_COLOUR, mean_left),
+        (median, labels["median"], MEDIAN_COLOUR, not mean_left),
+    ):
+        ax.annotate(
+            word, (x, 0.985), xycoords=at_top, xytext=(-4 if to_left else 4, 0),
+            textcoords="offset points", ha="right" if to_left else "left", va="top",
+            color=colour, fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
+            bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},
+        )
+
+
+def _padded(low: float, high: float, share: float) -> tuple[float, float]:
+    span = high - low
+    if not span > 0:
+        span = abs(low) if low else 1.0
+    return low - share * span, high + share * span
+
+
+def _nice_count_step(tallest: int) -> int:
+    for step in (1, 2, 5, 10, 20, 25, 50, 100, 200, 250, 500):
+        if tallest / step <= 6:
+            return step
+    return 1000
+
+
+def _spread_positions(count: int, phase: float = 0.0) -> np.ndarray:
+    """Vertical positions in [0, 1] for a strip, spread by the golden-ratio sequence.
+
+    A low-discrepancy sequence (Weyl's equidistribution) separates
+    neighbouring points as random jitter would, but with no random numbers, so
+    the picture is the same on every run.
+    """
+    golden = (math.sqrt(5) - 1) / 2
+    return ((np.arange(count) * golden + phase) % 1.0) * 0.9 + 0.05
+
+
+def _density_band(ax: Axes, findings: Findings, kept: np.ndarray) -> None:
+    """A mirrored density band (the values' spread) for strips too large to draw one by one."""
+    if findings.density is not None and findings.density.grid:
+        grid = np.asarray(findings.density.grid, dtype=float)
+        height = np.asarray(findings.density.values, dtype=float)
+    else:
+        counts, edges = np.histogram(kept, bins=200)
+        grid = (edges[:-1] + edges[1:]) / 2
+        height = counts.astype(float)
+    peak = float(height.max()) if height.size and height.max() > 0 else 1.0
+    half = 0.45 * height / peak
+    ax.fill_between(grid, 0.5 - half, 0.5 + half, color=BAR_FILL, linewidth=0, zorder=2)
+    ax.plot(grid, 0.5 + half, color=CURVE, linewidth=0.8, zorder=3)
+    ax.plot(grid, 0.5 - half, color=CURVE, linewidth=0.8, zorder=3)
+
+
+def _flagged_mask(findings: Findings, sample: Sample) -> np.ndarray:
+    values = np.asarray(sample.values, dtype=float)
+    outliers = findings.outliers
+    if outliers is None or outliers.count == 0:
+        return np.zeros(values.size, dtype=bool)
+    if outliers.rows and len(outliers.rows) == outliers.count:
+        return np.isin(np.asarray(sample.rows), np.asarray(outliers.rows))
+    # Rows not recorded for every flagged value: fall back to the fences.
+    mask = np.zeros(values.size, dtype=bool)
+    if outliers.lower_fence is not None:
+        mask |= values < outliers.lower_fence
+    if outliers.upper_fence is not None:
+        mask |= values > outliers.upper_fence
+    return mask
+
+
+def _offset_edges(low: float, high: float, width: float, offset: float) -> np.ndarray:
+    """Bin edges of the given width, shifted by ``offset`` bins, covering [low, high]."""
+    if not width > 0:
+        raise NarratorError(f"bin width must be positive, not {width}")
+    shift = offset * width
+    start = math.floor((low - shift) / width) * width + shift
+    count = max(1, math.ceil((high - start) / width + 1e-9))
+    if count > MAX_PANEL_BINS:
+        count = MAX_PANEL_BINS
+        width = (high - start) / count
+    edges = start + width * np.arange(count + 1)
+    if edges[-1] <= high:  # numpy's last bin is closed; make sure the maximum is inside it
+        edges = np.append(edges, edges[-1] + width)
+    return edges
+
+
+def _render(fig: Figure, text: FigureText) -> RenderedFigure:
+    buffer = io.BytesIO()
+    # metadata Software=None drops the version stamp; Agg writes no time chunk,
+    # so the same figure gives the same bytes.
+    fig.savefig(buffer, format="png", dpi=DPI, metadata={"Software": None}, facecolor="white")
+    width_px, height_px = (round(side * DPI) for side in fig.get_size_inches())
+    return RenderedFigure(
+        key=text.key,
+        png=buffer.getvalue(),
+        width_px=int(width_px),
+        height_px=int(height_px),
+        caption=text.caption,
+        alt_text=text.alt_text,
+    )

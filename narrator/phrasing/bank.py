@@ -1,0 +1,295 @@
+"""Phrase banks and document plans: the words and the outlines, read from templates/ as data.
+
+A phrase bank (``templates/phrases/<language>.toml``) holds every word a
+reader sees, keyed by dotted paths (``memo.lead.median``). A document plan
+(``templates/plans/<audience>.toml``) lists the sections of one audience's
+text, in order. Both are found with importlib.resources, so they work from an
+installed wheel too.
+
+=========================  ======================================================
+Name                       What it is
+=========================  ======================================================
+:class:`Noun`              a noun's forms by CLDR plural category, and its gender
+:class:`PhraseBank`        one language's messages, nouns and number words
+:func:`load_bank`          the bank for a language code ("en", "es"), cached
+:func:`available_languages` languages that have a bank
+:class:`PlanSection`       one section of a plan: key, title key, figures, tables
+:class:`Plan`              one audience's sections, in order
+:func:`load_plan`          the plan for an audience ("memo", "methods", "full")
+:func:`message_keys`       every message key of a bank (for the completeness test)
+=========================  ======================================================
+
+Bank layout. ``[meta]`` names the language. ``[grammar]`` holds
+``spell_out_max`` and ``number_words`` (a list of words for 0..spell_out_max
+per grammatical gender; ``default`` is required). ``[nouns.<key>]`` gives the
+forms of a noun by CLDR plural category (every category of the language
+must be present) and optionally its ``gender``. Every other table holds
+messages: a message is either a string or a *plural message*, a table whose
+keys are CLDR plural categories (``one``, ``other``...; a category it does not
+list falls back to ``other``, since the nouns inside it already carry the
+full plural forms).
+
+Substitution is safe: messages may only contain plain named fields
+(``{median}``); attribute access, indexing, conversions and format specs are
+rejected when the bank is loaded. Values are strings the number formatter
+already made, filled in with ``str.format_map``. No expression is ever run.
+"""
+
+from __future__ import annotations
+
+import functools
+import string
+import tomllib
+from dataclasses import dataclass
+from importlib import resources
+from typing import Any
+
+from babel import Locale
+
+from narrator.errors import NarratorError
+
+PLURAL_CATEGORIES = ("zero", "one", "two", "few", "many", "other")
+_NON_MESSAGE_TABLES = ("meta", "grammar", "nouns")
+
+
+def _templates():
+    return resources.files("narrator.templates")
+
+
+def available_languages() -> tuple[str, ...]:
+    """Language codes with a phrase bank under templates/phrases/, sorted."""
+    folder = _templates() / "phrases"
+    return tuple(sorted(item.name[:-5] for item in folder.iterdir() if item.name.endswith(".toml")))
+
+
+@dataclass(frozen=True, slots=True)
+class Noun:
+    forms: dict[str, str]  # CLDR plural category -> word
+    gender: str = "default"
+
+
+def _is_plural_message(value: Any) -> bool:
+    return isinstance(value, dict) and bool(value) and set(value) <= set(PLURAL_CATEGORIES) and all(
+        isinstance(item, str) for item in value.values()
+    )
+
+
+def _flatten(table: dict[str, Any], prefix: str, into: dict[str, str | dict[str, str]], where: str) -> None:
+    for name, value in table.items():
+        key = f"{prefix}.{name}" if prefix else name
+        if isinstance(value, str) or _is_plural_message(value):
+            into[key] = value
+        elif isinstance(value, dict):
+            _flatten(value, key, into, where)
+        elif isinstance(value, list) and all(isinstance(item, str) for item in value):
+            into[key] = value  # ordered word lists, e.g. the reference list
+        else:
+            raise NarratorError(f"{where}: {key} must be text, a list of text, or a table")
+
+
+_FORMATTER = string.Formatter()
+
+
+def _check_fields(text: str, key: str, where: str) -> None:
+    """Only plain {name} fields: no attribute access, indexing, conversion or format spec."""
+    try:
+        parsed = list(_FORMATTER.parse(text))
+    except ValueError as exc:
+        raise NarratorError(f"{where}: {key}: bad braces in {text!r}: {exc}") from None
+    for _literal, field_name, format_spec, conversion in parsed:
+        if field_name is None:
+            continue
+        if not field_name.isidentifier() or format_spec or conversion:
+            raise NarratorError(f"{where}: {key}: only plain {{name}} fields are allowed, found {{{field_name}}}")
+
+
+class _Values(dict):
+    """format_map values that name the message when a field is missing."""
+
+    __slots__ = ("key",)
+
+    def __missing__(self, name: str) -> str:
+        raise NarratorError(f"phrase bank message {self.key!r} needs a value for {{{name}}}")
+
+
+@dataclass(frozen=True, slots=True)
+class PhraseBank:
+    """One language's words. Messages are looked up by dotted key and filled with formatted strings."""
+
+    language: str
+    name: str
+    messages: dict[str, Any]  # dotted key -> str | {category: str} | [str, ...]
+    nouns: dict[str, Noun]
+    number_words: dict[str, tuple[str, ...]]  # gender -> words for 0..spell_out_max
+    spell_out_max: int
+
+    def has(self, key: str) -> bool:
+        return key in self.messages
+
+    def raw(self, key: str) -> Any:
+        try:
+            return self.messages[key]
+        except KeyError:
+            raise NarratorError(f"phrase bank {self.language!r} has no message {key!r}") from None
+
+    def format(self, key: str, category: str | None = None, **values: str) -> str:
+        """The message ``key`` filled with ``values``; for a plural message, the form for ``category``."""
+        message = self.raw(key)
+        if isinstance(message, dict):
+            if category is None:
+                raise NarratorError(f"phrase bank message {key!r} is plural; a plural category is needed")
+            message = message.get(category, message["other"])
+        elif not isinstance(message, str):
+            raise NarratorError(f"phrase bank entry {key!r} is a list, not a message")
+        mapping = _Values(values)
+        mapping.key = key
+        return message.format_map(mapping)
+
+    def words(self, key: str) -> tuple[str, ...]:
+        """A list entry (e.g. a reference) as a tuple of strings."""
+        value = self.raw(key)
+        if isinstance(value, list):
+            return tuple(value)
+        raise NarratorError(f"phrase bank entry {key!r} is not a list")
+
+    def noun(self, key: str) -> Noun:
+        try:
+            return self.nouns[key]
+        except KeyError:
+            raise NarratorError(f"phrase bank {self.language!r} has no noun {key!r}") from None
+
+    def number_word(self, n: int, gender: str = "default") -> str:
+        words = self.number_words.get(gender, self.number_words["default"])
+        return words[n]
+
+
+def _load_toml(folder: str, name: str) -> dict[str, Any]:
+    resource = _templates() / folder / f"{name}.toml"
+    where = f"templates/{folder}/{name}.toml"
+    if not resource.is_file():
+        raise NarratorError(f"{where} does not exist")
+    try:
+        return tomllib.loads(resource.read_text(encoding="utf-8"))
+    except tomllib.TOMLDecodeError as exc:
+        raise NarratorError(f"{where} is not valid TOML: {exc}") from None
+
+
+@functools.lru_cache(maxsize=16)
+def load_bank(language: str) -> PhraseBank:
+    """The phrase bank for ``language`` (a CLDR language code such as "en"), checked and cached."""
+    if language not in available_languages():
+        raise NarratorError(
+            f"no phrase bank for language {language!r}; available: {', '.join(available_languages())}"
+        )
+    where = f"templates/phrases/{language}.toml"
+    data = _load_toml("phrases", language)
+    meta = data.get("meta", {})
+    grammar = data.get("grammar", {})
+    spell_out_max = int(grammar.get("spell_out_max", -1))
+    number_words = {gender: tuple(words) for gender, words in grammar.get("number_words", {}).items()}
+    if "default" not in number_words:
+        raise NarratorError(f"{where}: grammar.number_words.default is missing")
+    for gender, words in number_words.items():
+        if len(words) != spell_out_max + 1:
+            raise NarratorError(f"{where}: grammar.number_words.{gender} needs {spell_out_max + 1} words")
+    categories = set(Locale.parse(language).plural_form.tags) | {"other"}
+    nouns = {}
+    for key, table in data.get("nouns", {}).items():
+        forms = {cat: word for cat, word in table.items() if cat in PLURAL_CATEGORIES}
+        missing = categories - set(forms)
+        if missing:
+            raise NarratorError(f"{where}: nouns.{key} lacks plural forms {sorted(missing)}")
+        nouns[key] = Noun(forms=forms, gender=str(table.get("gender", "default")))
+    messages: dict[str, Any] = {}
+    for table_name, table in data.items():
+        if table_name in _NON_MESSAGE_TABLES:
+            continue
+        if not isinstance(table, dict):
+            raise NarratorError(f"{where}: top-level entry {table_name!r} must be a table")
+        _flatten(table, table_name, messages, where)
+    for key, message in messages.items():
+        texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) else [message]
+        for text in texts:
+            _check_fields(text, key, where)
+        if isinstance(message, dict) and "other" not in message:
+            raise NarratorError(f"{where}: plural message {key} needs an 'other' form")
+    return PhraseBank(
+        language=language,
+        name=str(meta.get("name", language)),
+        messages=messages,
+        nouns=nouns,
+        number_words=number_words,
+        spell_out_max=spell_out_max,
+    )
+
+
+def message_keys(bank: PhraseBank) -> frozenset[str]:
+    """Every message key and noun key of a bank; all banks must have the same set."""
+    return frozenset(bank.messages) | frozenset(f"nouns.{key}" for key in bank.nouns)
+
+
+@dataclass(frozen=True, slots=True)
+class PlanSection:
+    key: str  # the section builder, e.g. "summary"
+    title: str  # phrase bank key of the section title
+    figures: tuple[str, ...] = ()  # FigureText keys; "distribution" = dot plot or histogram by n
+    tables: tuple[str, ...] = ()  # Table keys
+
+
+@dataclass(frozen=True, slots=True)
+class Plan:
+    audience: str
+    title: str  # phrase bank key of the document title
+    sections: tuple[PlanSection, ...]
+    dotplot_max_n: int = 150  # "distribution" shows a dot plot up to this n (Wilkinson 1999)
+
+
+KNOWN_SECTIONS = (
+    "summary",
+    "technical_summary",
+    "key_figures",
+    "statistics",
+    "shape",
+    "outliers",
+    "with_without",
+    "uncertainty",
+    "data_quality",
+    "methods",
+    "references",
+    "cautions",
+)
+KNOWN_TABLES = ("key_figures", "statistics", "outliers", "with_without")
+KNOWN_FIGURES = ("distribution", "histogram", "dotplot", "with_without", "bin_sensitivity")
+
+
+@functools.lru_cache(maxsize=16)
+def load_plan(audience: str) -> Plan:
+    """The document plan for ``audience`` from templates/plans/<audience>.toml, checked and cached."""
+    if not isinstance(audience, str) or not audience.isidentifier():
+        raise NarratorError(f"audience must be a plan name such as 'memo', not {audience!r}")
+    where = f"templates/plans/{audience}.toml"
+    data = _load_toml("plans", audience)
+    plan = data.get("plan", {})
+    sections = []
+    for number, item in enumerate(data.get("sections", []), start=1):
+        key = item.get("key")
+        if key not in KNOWN_SECTIONS:
+            raise NarratorError(f"{where}: section {number} has unknown key {key!r}; known: {', '.join(KNOWN_SECTIONS)}")
+        figures = tuple(item.get("figures", ()))
+        tables = tuple(item.get("tables", ()))
+        for figure in figures:
+            if figure not in KNOWN_FIGURES:
+                raise NarratorError(f"{where}: section {key!r} names unknown figure {figure!r}")
+        for table in tables:
+            if table not in KNOWN_TABLES:
+                raise NarratorError(f"{where}: section {key!r} names unknown table {table!r}")
+        sections.append(PlanSection(key=key, title=str(item.get("title", f"sections.{key}")), figures=figures,
+                                    tables=tables))
+    if not sections:
+        raise NarratorError(f"{where}: a plan needs at least one [[sections]] entry")
+    return Plan(
+        audience=str(plan.get("audience", audience)),
+        title=str(plan.get("title", f"titles.{audience}")),
+        sections=tuple(sections),
+        dotplot_max_n=int(plan.get("dotplot_max_n", 150)),
+    )
