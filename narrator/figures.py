@@ -178,12 +178,14 @@ def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: s
 
 
 def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
-    """Stacked dot plot: one dot per value, stacked within the bins of the engine's plan.
+    """Stacked dot plot: one dot per value, stacked within bins aligned to the engine's plan.
 
-    Wilkinson (1999) dot plot, "histodot" form: each value falls in a bin of
-    width ``findings.histogram.width``; the dots of a bin are stacked upward at
-    the bin's centre, so the height of a stack is its count. Dot diameter is the
-    bin width, shrunk when the tallest stack would not fit.
+    Wilkinson (1999) dot plot, "histodot" form: the dots of a bin are stacked
+    upward at the bin's centre, so the height of a stack is its count and the
+    dot diameter equals the bin width. The bins are the plan's own
+    (``findings.histogram``) or, when the tallest stack would not fit the
+    figure, the plan's bins split into 2, 4, 5, 10... equal parts, so every
+    dot-plot bin lies inside one histogram bin and the two pictures agree.
     """
     labels = _labels(text, "dotplot")
     plan = _require(findings.histogram, "dotplot", "a bin plan")
@@ -195,21 +197,21 @@ def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: st
             "use the histogram"
         )
     numbers = NumberFormatter(locale)
-    edges = np.asarray(plan.edges, dtype=float)
-    # Same bin membership as numpy.histogram: right-open bins, the last one closed.
-    index = np.clip(np.searchsorted(edges, values, side="right") - 1, 0, edges.size - 2)
-    centers = (edges[:-1] + edges[1:]) / 2
-    stack_height = np.bincount(index, minlength=edges.size - 1)
-    tallest = int(stack_height.max()) if values.size else 1
-
-    height_in = 3.0
-    fig, ax = _single_axes(height_in=height_in)
-    x_low, x_high = _padded(edges[0], edges[-1], 0.01)
+    fig, ax = _single_axes(height_in=3.0)
+    plan_edges = np.asarray(plan.edges, dtype=float)
+    x_low, x_high = _padded(plan_edges[0], plan_edges[-1], 0.01)
     ax.set_xlim(x_low, x_high)
     axes_width_pt, axes_height_pt = _axes_size_points(fig, ax)
     points_per_unit = axes_width_pt / (x_high - x_low)
     # Leave 20 % of the height free for the mean and median labels.
-    diameter_pt = min(plan.width * points_per_unit, 0.8 * axes_height_pt / max(tallest, 1))
+    room_pt = 0.8 * axes_height_pt
+    width, index = _dot_bins(
+        values, plan_edges, plan.width, points_per_unit, room_pt, integer_aligned=plan.integer_aligned
+    )
+    centers = plan_edges[0] + (np.arange(index.max() + 1 if index.size else 1) + 0.5) * width
+    stack_height = np.bincount(index, minlength=centers.size)
+    tallest = int(stack_height.max()) if values.size else 1
+    diameter_pt = min(width * points_per_unit, room_pt / max(tallest, 1))
     ax.set_ylim(0, axes_height_pt)  # y in points, so dots stay round
     order = np.lexsort((values, index))  # within a stack, smaller values at the bottom
     level = np.empty(values.size, dtype=float)
@@ -340,9 +342,8 @@ def bin_sensitivity_panel(
     Rows are the widths of ``findings.shape.bin_sensitivity``, columns its
     offsets (fractions of a bin); each panel is titled with the ``panel``
     label pattern, filled with ``{width}``, ``{offset}`` and ``{peaks}`` (the
-    visible peaks the engine counted there). Panels whose peak count differs
-    from the plan's own (first width, first offset) get a darker fill, so a
-    reader sees at a glance how often the picture changes.
+    visible peaks the engine counted there). Counts are not labelled: each
+    panel is about where the peaks are, and the panels' heights differ.
     """
     labels = _labels(text, "bin_sensitivity")
     sensitivity = _require(findings.shape.bin_sensitivity, "bin_sensitivity", "bin sensitivity results")
@@ -360,7 +361,6 @@ def bin_sensitivity_panel(
         left=0.06, right=0.98, top=1 - 0.28 / fig.get_figheight(), bottom=0.5 / fig.get_figheight(),
         wspace=0.12, hspace=0.55,
     )
-    base_peaks = sensitivity.peak_counts[0][0] if sensitivity.peak_counts else None
     low, high = float(values.min()), float(values.max())
     width_decimals = _decimals_for(widths)
     for row, width in enumerate(widths):
@@ -369,11 +369,7 @@ def bin_sensitivity_panel(
             edges = _offset_edges(low, high, width, offset)
             counts, _ = np.histogram(values, bins=edges)
             peaks = sensitivity.peak_counts[row][col]
-            differs = base_peaks is not None and peaks != base_peaks
-            ax.stairs(
-                counts, edges, fill=True, color=PALETTE["sky_blue"] if differs else BAR_FILL,
-                linewidth=0,
-            )
+            ax.stairs(counts, edges, fill=True, color=BAR_FILL, linewidth=0)
             ax.stairs(counts, edges, fill=False, color=CURVE, linewidth=0.6)
             title = labels["panel"].format(
                 width=numbers.fixed(width, width_decimals),
@@ -518,6 +514,38 @@ def _mark_center(ax: Axes, mean: float, median: float, labels: Mapping[str, str]
             color=colour, fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
             bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},
         )
+
+
+def _dot_bins(
+    values: np.ndarray,
+    plan_edges: np.ndarray,
+    plan_width: float,
+    points_per_unit: float,
+    room_pt: float,
+    *,
+    integer_aligned: bool,
+) -> tuple[float, np.ndarray]:
+    """The widest split of the plan's bin width whose tallest stack of dots fits ``room_pt``.
+
+    Returns the bin width and each value's bin index (bins counted from the
+    plan's first edge, right-open as in numpy.histogram, the last one closed).
+    Whole-number data keep whole-number bins, so no stack sits between two
+    possible values. When no split fits, the narrowest allowed one is returned
+    and the caller shrinks the dots.
+    """
+    start, stop = float(plan_edges[0]), float(plan_edges[-1])
+    splits = [
+        parts for parts in (1, 2, 4, 5, 10, 20, 25, 50, 100)
+        if not integer_aligned or float(plan_width / parts).is_integer()
+    ]
+    for parts in splits:
+        width = plan_width / parts
+        last = max(0, math.ceil((stop - start) / width - 1e-9) - 1)
+        index = np.clip(np.floor((values - start) / width).astype(np.int64), 0, last)
+        tallest = int(np.bincount(index).max()) if values.size else 1
+        if tallest * width * points_per_unit <= room_pt:
+            return width, index
+    return width, index
 
 
 def _padded(low: float, high: float, share: float) -> tuple[float, float]:

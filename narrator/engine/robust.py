@@ -157,22 +157,69 @@ class _Kernel:
             h = np.where(both_at_median, tie_value, h)
         return h
 
-    def count_above(self, value: float, low: np.ndarray, high: np.ndarray, *, strict: bool) -> np.ndarray:
+    def count_above(
+        self,
+        value: float,
+        low: np.ndarray,
+        high: np.ndarray,
+        *,
+        strict: bool,
+        rows: np.ndarray | None = None,
+    ) -> np.ndarray:
         """Per row, how many entries are > value (strict) or >= value.
 
-        The count of row i is known to lie in [low[i], high[i]]; bisection finds it.
+        The count for row ``rows[k]`` (row k when ``rows`` is None) is known to lie in
+        [low[k], high[k]]; bisection finds it.
         """
+        if rows is None:
+            rows = np.arange(low.size)
         low = low.copy()
         high = high.copy()
         pending = np.nonzero(low < high)[0]
         while pending.size:
             middle = (low[pending] + high[pending]) // 2
-            h = self.at(pending, middle)
+            h = self.at(rows[pending], middle)
             above = h > value if strict else h >= value
             low[pending] = np.where(above, middle + 1, low[pending])
             high[pending] = np.where(above, high[pending], middle)
             pending = pending[low[pending] < high[pending]]
         return low
+
+    def count_larger(self, value: float, low: np.ndarray, high: np.ndarray) -> np.ndarray:
+        """Per row, how many entries are > value; row i's count lies in [low[i], high[i]].
+
+        For a > 0 or b < 0 the denominator a - b is positive, so for -1 < value < 1
+        h(a, b) > value exactly when b > a (value - 1) / (value + 1). That gives a guess
+        by binary search in ``lower``; the kernel itself then checks the guess, and rows
+        where rounding or ties at the median make it wrong are bisected.
+        """
+        if not -1.0 < value < 1.0:
+            return self.count_above(value, low, high, strict=True)
+        threshold = self.upper * ((value - 1.0) / (value + 1.0))
+        # -lower is ascending; the number of lower values > threshold is the insertion point of -threshold.
+        guess = np.clip(np.searchsorted(-self.lower, -threshold, side="left"), low, high)
+        rows = np.arange(self.rows)
+        last_column = self.columns - 1
+        left_ok = (guess == low) | (self.at(rows, np.maximum(guess - 1, 0)) > value)
+        right_ok = (guess == high) | (self.at(rows, np.minimum(guess, last_column)) <= value)
+        wrong = np.nonzero(~(left_ok & right_ok))[0]
+        if wrong.size:
+            guess[wrong] = self.count_above(value, low[wrong], high[wrong], strict=True, rows=wrong)
+        return guess
+
+    def count_at_least(self, value: float, larger: np.ndarray, high: np.ndarray) -> np.ndarray:
+        """Per row, how many entries are >= value, given ``larger``, the counts of entries > value.
+
+        Entries equal to value are rare, so probe the entry just after the strict count first
+        and bisect only in the rows where it equals value.
+        """
+        rows = np.nonzero(larger < high)[0]
+        ties = rows[self.at(rows, larger[rows]) >= value]
+        if ties.size == 0:
+            return larger
+        at_least = larger.copy()
+        at_least[ties] = self.count_above(value, larger[ties] + 1, high[ties], strict=False, rows=ties)
+        return at_least
 
     def select(self, rank: int) -> float:
         """The entry of the given 0-based rank in decreasing order (Johnson & Mizoguchi 1978)."""
@@ -185,8 +232,8 @@ class _Kernel:
         up_to_right = p * q  # sum of right + 1
         while up_to_right - known_larger > p + q:
             candidate = self._weighted_median_of_row_medians(left, right)
-            larger = self.count_above(candidate, left, right + 1, strict=True)
-            at_least = self.count_above(candidate, left, right + 1, strict=False)
+            larger = self.count_larger(candidate, left, right + 1)
+            at_least = self.count_at_least(candidate, larger, right + 1)
             n_larger = int(larger.sum())
             n_at_least = int(at_least.sum())
             if rank < n_larger:
@@ -210,7 +257,7 @@ class _Kernel:
     def next_larger(self, value: float, *, rank: int) -> float:
         """The entry of 0-based decreasing rank ``rank - 1``, given that ``value`` has rank ``rank``."""
         p, q = self.rows, self.columns
-        larger = self.count_above(value, np.zeros(p, dtype=np.int64), np.full(p, q, dtype=np.int64), strict=True)
+        larger = self.count_larger(value, np.zeros(p, dtype=np.int64), np.full(p, q, dtype=np.int64))
         if int(larger.sum()) < rank:
             return value  # value is repeated, so it also holds rank - 1
         # Exactly `rank` entries exceed value: the smallest of them has rank - 1. In each row the
