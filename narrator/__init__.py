@@ -10,7 +10,7 @@ Name                What it is
 ==================  ===========================================================
 """
 
-# describe is exported once the engine modules land (see below)
+from narrator.engine.describe import describe
 from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.sample import Sample

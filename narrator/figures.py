@@ -9,6 +9,7 @@ Name                                What it draws
 :func:`dot_plot`                    one dot per value, stacked in the plan's bins
 :func:`with_and_without`            where flagged values sit; how mean and median move
 :func:`bin_sensitivity_panel`       small multiples over the bin widths and offsets tried
+:class:`LocaleTickFormatter`        axis tick labels through the report's number formatter
 :data:`PALETTE`                     the colours used, from Okabe & Ito (2008)
 ==================================  ===============================================
 
@@ -92,16 +93,27 @@ DPI = 180
 # 15.2 cm wide fits the text block of A4 and US Letter pages with 2.5 cm margins.
 PAGE_WIDTH_IN = 6.0
 
+# Margins around a single plot, in inches: room for tick labels and axis titles.
+_LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN = 0.75, 0.2, 0.55, 0.15
+
 MARKER_LIMIT = 5_000  # beyond this, no marker per value
 FLAGGED_DRAW_LIMIT = 400
 DOT_PLOT_LIMIT = 1_000  # a dot plot of more values is unreadable; the histogram serves
 MAX_PANEL_BINS = 400
 
+# Label keys each figure needs (a missing one is an error: a figure must not go
+# out with unlabelled marks) and those it uses when given.
 LABEL_KEYS: Mapping[str, tuple[str, ...]] = {
     "histogram": ("x", "y", "mean", "median"),
-    "dotplot": ("x", "y", "mean", "median"),
-    "with_without": ("x", "mean", "median", "all", "without", "flagged", "kept"),
-    "bin_sensitivity": ("x", "y", "panel"),
+    "dotplot": ("x", "mean", "median"),
+    "with_without": ("mean", "median", "all", "without"),
+    "bin_sensitivity": ("x",),  # plus width_<i> and offset_<j> for every width and offset
+}
+OPTIONAL_LABEL_KEYS: Mapping[str, tuple[str, ...]] = {
+    "histogram": ("density",),
+    "dotplot": ("y", "flagged", "kept"),
+    "with_without": ("x", "y", "flagged", "kept"),  # the value axis takes "x", else "y"
+    "bin_sensitivity": (),  # no count axis: the panels show where peaks are, not counts
 }
 
 
@@ -143,15 +155,12 @@ def render_figures(
     return rendered
 
 
-def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
-    """Histogram with the engine's bin plan, its density curve, and mean and median lines.
+# --------------------------------------------------------------------------- drawing
+# Each _draw_* builds the matplotlib Figure; the public functions below render it.
 
-    Bars are the plan's counts (``findings.histogram``); the kernel density
-    estimate (``findings.density``, reflected at a declared bound per Schuster
-    1985) is scaled to counts as ``density * n * bin width`` so both share the
-    count axis. ``sample`` is not read; it is accepted so every drawer has one
-    signature.
-    """
+
+def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:
+
     labels = _labels(text, "histogram")
     plan = _require(findings.histogram, "histogram", "a bin plan")
     center = _require(findings.center, "histogram", "a mean and median")
@@ -164,29 +173,23 @@ def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: s
         edges[:-1], counts, width=np.diff(edges), align="edge",
         color=BAR_FILL, edgecolor=BAR_EDGE, linewidth=0.6 if counts.size <= 120 else 0.0, zorder=2,
     )
+    ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
     top = float(counts.max()) if counts.size else 1.0
     if findings.density is not None and findings.density.grid:
         grid = np.asarray(findings.density.grid, dtype=float)
         curve = np.asarray(findings.density.values, dtype=float) * findings.n * plan.width
         ax.plot(grid, curve, color=CURVE, linewidth=1.5, zorder=3, solid_capstyle="round")
         top = max(top, float(np.nanmax(curve)))
+        if labels.get("density"):
+            _label_curve(fig, ax, grid, curve, labels["density"], avoid=(center.mean, center.median))
     ax.set_ylim(0, top * 1.16 if top > 0 else 1)
-    ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
     _mark_center(ax, center.mean, center.median, labels)
     _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=True)
-    return _render(fig, text)
+    return fig
 
 
-def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
-    """Stacked dot plot: one dot per value, stacked within bins aligned to the engine's plan.
+def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:
 
-    Wilkinson (1999) dot plot, "histodot" form: the dots of a bin are stacked
-    upward at the bin's centre, so the height of a stack is its count and the
-    dot diameter equals the bin width. The bins are the plan's own
-    (``findings.histogram``) or, when the tallest stack would not fit the
-    figure, the plan's bins split into 2, 4, 5, 10... equal parts, so every
-    dot-plot bin lies inside one histogram bin and the two pictures agree.
-    """
     labels = _labels(text, "dotplot")
     plan = _require(findings.histogram, "dotplot", "a bin plan")
     center = _require(findings.center, "dotplot", "a mean and median")
@@ -197,21 +200,24 @@ def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: st
             "use the histogram"
         )
     numbers = NumberFormatter(locale)
-    fig, ax = _single_axes(height_in=3.0)
     plan_edges = np.asarray(plan.edges, dtype=float)
     x_low, x_high = _padded(plan_edges[0], plan_edges[-1], 0.01)
-    ax.set_xlim(x_low, x_high)
-    axes_width_pt, axes_height_pt = _axes_size_points(fig, ax)
+    axes_width_pt = (PAGE_WIDTH_IN - _LEFT_IN - _RIGHT_IN) * 72.0
     points_per_unit = axes_width_pt / (x_high - x_low)
-    # Leave 20 % of the height free for the mean and median labels.
-    room_pt = 0.8 * axes_height_pt
+    # At most 3 inches tall; 20 % of the axes height stays free for the mean and median labels.
+    tallest_room_pt = 0.8 * (3.0 - _BOTTOM_IN - _TOP_IN) * 72.0
     width, index = _dot_bins(
-        values, plan_edges, plan.width, points_per_unit, room_pt, integer_aligned=plan.integer_aligned
+        values, plan_edges, plan.width, points_per_unit, tallest_room_pt,
+        integer_aligned=plan.integer_aligned,
     )
     centers = plan_edges[0] + (np.arange(index.max() + 1 if index.size else 1) + 0.5) * width
     stack_height = np.bincount(index, minlength=centers.size)
     tallest = int(stack_height.max()) if values.size else 1
-    diameter_pt = min(width * points_per_unit, room_pt / max(tallest, 1))
+    diameter_pt = min(width * points_per_unit, tallest_room_pt / max(tallest, 1))
+    # Shrink the figure to the tallest stack, so short stacks leave no empty band.
+    axes_height_pt = max(tallest * diameter_pt / 0.8, 72.0)
+    fig, ax = _single_axes(height_in=axes_height_pt / 72.0 + _BOTTOM_IN + _TOP_IN)
+    ax.set_xlim(x_low, x_high)
     ax.set_ylim(0, axes_height_pt)  # y in points, so dots stay round
     order = np.lexsort((values, index))  # within a stack, smaller values at the bottom
     level = np.empty(values.size, dtype=float)
@@ -220,13 +226,23 @@ def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: st
         bin_index = int(index[position])
         level[position] = seen.get(bin_index, 0)
         seen[bin_index] = seen.get(bin_index, 0) + 1
+    flagged = _flagged_mask(findings, sample)
+    x_dots, y_dots = centers[index], (level + 0.5) * diameter_pt
     ax.scatter(
-        centers[index], (level + 0.5) * diameter_pt,
-        s=(0.86 * diameter_pt) ** 2, marker="o",
-        facecolor=BAR_FILL, edgecolor=CURVE, linewidth=0.7, zorder=3,
+        x_dots[~flagged], y_dots[~flagged], s=(0.86 * diameter_pt) ** 2, marker="o",
+        facecolor=BAR_FILL, edgecolor=CURVE, linewidth=0.7, zorder=3, label=labels.get("kept") or None,
     )
+    if flagged.any():
+        # Flagged values: filled triangles, so shape and fill (not only colour) set them apart.
+        ax.scatter(
+            x_dots[flagged], y_dots[flagged], s=(1.0 * diameter_pt) ** 2, marker="^",
+            facecolor=FLAGGED_COLOUR, edgecolor=PALETTE["black"], linewidth=0.4, zorder=3,
+            label=labels.get("flagged") or None,
+        )
+        if labels.get("flagged"):
+            _legend(ax, loc="upper right")
     _mark_center(ax, center.mean, center.median, labels)
-    _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=False)
+    _finish_axes(ax, numbers, labels["x"], labels.get("y", ""), integer_y=False)
     # Count ticks: a stack of k dots reaches k * diameter.
     step = _nice_count_step(tallest)
     ticks = np.arange(0, tallest + 1, step)
@@ -234,23 +250,15 @@ def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: st
     ax.yaxis.set_major_formatter(
         ticker.FixedFormatter([numbers.fixed(float(t), 0) for t in ticks])
     )
-    return _render(fig, text)
+    return fig
 
 
-def with_and_without(
+def _draw_with_and_without(
     findings: Findings, sample: Sample, text: FigureText, *, locale: str
-) -> RenderedFigure:
-    """Where the flagged values sit, and how the mean and median move without them.
+) -> Figure:
 
-    Top: every value as a strip, the flagged ones (``findings.outliers``) drawn
-    as filled triangles and the others as open circles, so shape and fill both
-    tell them apart. Above :data:`MARKER_LIMIT` values the others are drawn as
-    a density band instead, and at most :data:`FLAGGED_DRAW_LIMIT` flagged
-    values, evenly spread over their sorted order. Bottom: two rows, with all
-    values and without the flagged ones, each showing the mean (diamond) and
-    the median (square), joined across rows to show the move.
-    """
     labels = _labels(text, "with_without")
+    value_axis = labels.get("x") or labels.get("y") or ""
     center = _require(findings.center, "with_without", "a mean and median")
     without = findings.without_outliers
     numbers = NumberFormatter(locale)
@@ -259,11 +267,11 @@ def with_and_without(
     flagged = np.sort(values[flagged_mask])
     kept = values[~flagged_mask]
 
-    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.4), dpi=DPI)
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.0), dpi=DPI)
     FigureCanvasAgg(fig)
     left, right = 1.55 / PAGE_WIDTH_IN, 0.25 / PAGE_WIDTH_IN
-    strip = fig.add_axes((left, 0.50, 1 - left - right, 0.40))
-    rows = fig.add_axes((left, 0.17, 1 - left - right, 0.24), sharex=strip)
+    strip = fig.add_axes((left, 0.54, 1 - left - right, 0.36))
+    rows = fig.add_axes((left, 0.19, 1 - left - right, 0.29), sharex=strip)
 
     low = float(values.min()) if values.size else 0.0
     high = float(values.max()) if values.size else 1.0
@@ -272,31 +280,27 @@ def with_and_without(
         jitter = _spread_positions(kept.size)
         strip.scatter(
             kept, jitter, s=16, marker="o", facecolor="none", edgecolor=KEPT_COLOUR,
-            linewidth=0.8, zorder=3, label=labels["kept"],
+            linewidth=0.8, zorder=3, label=labels.get("kept") or None,
         )
     else:
         _density_band(strip, findings, kept)
-        strip.add_line(Line2D([], [], color=BAR_FILL, linewidth=6, label=labels["kept"]))
+        if labels.get("kept"):
+            strip.add_line(Line2D([], [], color=BAR_FILL, linewidth=6, label=labels["kept"]))
     drawn = flagged
     if flagged.size > FLAGGED_DRAW_LIMIT:
         drawn = flagged[np.linspace(0, flagged.size - 1, FLAGGED_DRAW_LIMIT).round().astype(int)]
     strip.scatter(
-        drawn, _spread_positions(drawn.size, phase=0.37), s=30, marker="^",
+        drawn, _spread_positions(drawn.size, phase=0.37), s=30 if drawn.size <= 100 else 14, marker="^",
         facecolor=FLAGGED_COLOUR, edgecolor=PALETTE["black"], linewidth=0.5, zorder=4,
-        label=labels["flagged"],
+        label=labels.get("flagged") or None,
     )
     strip.set_ylim(-0.12, 1.12)
     strip.set_yticks([])
-    for side in ("top", "right", "left"):
+    for side in ("top", "right", "left", "bottom"):
         strip.spines[side].set_visible(False)
-    strip.spines["bottom"].set_color(AXIS_GREY)
     strip.tick_params(axis="x", labelbottom=False, length=0)
-    legend = strip.legend(
-        loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, frameon=False,
-        prop=_font(SMALL_FONT_SIZE), handletextpad=0.3, columnspacing=1.4, borderaxespad=0.1,
-    )
-    for legend_text in legend.get_texts():
-        legend_text.set_color(PALETTE["black"])
+    if labels.get("flagged") or labels.get("kept"):
+        _legend(strip, loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2)
 
     with_row, without_row = 1.0, 0.0
     mean_without = without.mean if without is not None and without.mean is not None else center.mean
@@ -330,21 +334,14 @@ def with_and_without(
     rows.set_axisbelow(True)
     for side in ("top", "right", "left"):
         rows.spines[side].set_visible(False)
-    _style_x(rows, numbers, labels["x"])
-    return _render(fig, text)
+    _style_x(rows, numbers, value_axis)
+    return fig
 
 
-def bin_sensitivity_panel(
+def _draw_bin_sensitivity(
     findings: Findings, sample: Sample, text: FigureText, *, locale: str
-) -> RenderedFigure:
-    """Small multiples of the histogram at each bin width and offset the engine tried.
+) -> Figure:
 
-    Rows are the widths of ``findings.shape.bin_sensitivity``, columns its
-    offsets (fractions of a bin); each panel is titled with the ``panel``
-    label pattern, filled with ``{width}``, ``{offset}`` and ``{peaks}`` (the
-    visible peaks the engine counted there). Counts are not labelled: each
-    panel is about where the peaks are, and the panels' heights differ.
-    """
     labels = _labels(text, "bin_sensitivity")
     sensitivity = _require(findings.shape.bin_sensitivity, "bin_sensitivity", "bin sensitivity results")
     numbers = NumberFormatter(locale)
@@ -353,30 +350,42 @@ def bin_sensitivity_panel(
         raise NarratorError("figure 'bin_sensitivity' needs values to draw")
     widths, offsets = sensitivity.widths, sensitivity.offsets
     n_rows, n_cols = len(widths), len(offsets)
-    panel_height = 1.05
-    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.55 + panel_height * n_rows), dpi=DPI)
+    missing = [f"width_{i}" for i in range(n_rows) if not labels.get(f"width_{i}")]
+    missing += [f"offset_{j}" for j in range(n_cols) if not labels.get(f"offset_{j}")]
+    if missing:
+        raise NarratorError(
+            f"figure 'bin_sensitivity': the phrase bank gave no label for {', '.join(missing)}"
+        )
+    panel_height = 0.95
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.75 + panel_height * n_rows), dpi=DPI)
     FigureCanvasAgg(fig)
     grid = fig.subplots(n_rows, n_cols, sharex=True, squeeze=False)
     fig.subplots_adjust(
-        left=0.06, right=0.98, top=1 - 0.28 / fig.get_figheight(), bottom=0.5 / fig.get_figheight(),
-        wspace=0.12, hspace=0.55,
+        left=1.0 / PAGE_WIDTH_IN, right=0.99, top=1 - 0.3 / fig.get_figheight(),
+        bottom=0.5 / fig.get_figheight(), wspace=0.1, hspace=0.35,
     )
     low, high = float(values.min()), float(values.max())
-    width_decimals = _decimals_for(widths)
+    plan = findings.histogram
+    whole = findings.variable.integer_valued or (plan is not None and plan.integer_aligned)
     for row, width in enumerate(widths):
         for col, offset in enumerate(offsets):
             ax: Axes = grid[row][col]
-            edges = _offset_edges(low, high, width, offset)
+            edges = _offset_edges(low, high, width, offset, half_unit=whole)
             counts, _ = np.histogram(values, bins=edges)
-            peaks = sensitivity.peak_counts[row][col]
             ax.stairs(counts, edges, fill=True, color=BAR_FILL, linewidth=0)
             ax.stairs(counts, edges, fill=False, color=CURVE, linewidth=0.6)
-            title = labels["panel"].format(
-                width=numbers.fixed(width, width_decimals),
-                offset=numbers.fixed(offset, 2),
-                peaks=numbers.fixed(float(peaks), 0),
-            )
-            ax.set_title(title, fontproperties=_font(SMALL_FONT_SIZE - 0.5), pad=2, loc="left")
+            if row == 0:
+                ax.set_title(
+                    labels[f"offset_{col}"],
+                    fontproperties=_font(SMALL_FONT_SIZE - 0.5), pad=4, loc="left",
+                )
+            if col == 0:
+                # Row titles in the left margin, level with the middle of the row.
+                ax.annotate(
+                    labels[f"width_{row}"],
+                    (0, 0.5), xycoords="axes fraction", xytext=(-6, 0), textcoords="offset points",
+                    ha="right", va="center", fontproperties=_font(SMALL_FONT_SIZE - 0.5),
+                )
             ax.set_yticks([])
             for side in ("top", "right", "left"):
                 ax.spines[side].set_visible(False)
@@ -386,11 +395,69 @@ def bin_sensitivity_panel(
                 colors=AXIS_GREY, length=2,
             )
             ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=3, steps=[1, 2, 2.5, 5, 10]))
-            ax.xaxis.set_major_formatter(_LocaleTicks(numbers))
+            ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
     grid[0][0].set_xlim(_padded(low, high, 0.02))
-    fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02)
-    fig.supylabel(labels["y"], fontproperties=_font(FONT_SIZE), x=0.01)
-    return _render(fig, text)
+    fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / PAGE_WIDTH_IN)
+    return fig
+
+
+# --------------------------------------------------------------------------- rendering
+
+
+def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+    """Histogram with the engine's bin plan, its density curve, and mean and median lines.
+
+    Bars are the plan's counts (``findings.histogram``); the kernel density
+    estimate (``findings.density``, reflected at a declared bound per Schuster
+    1985) is scaled to counts as ``density * n * bin width`` so both share the
+    count axis. ``sample`` is not read; it is accepted so every drawer has one
+    signature.
+    """
+    return _render(_draw_histogram(findings, sample, text, locale=locale), text)
+
+
+def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+    """Stacked dot plot: one dot per value, stacked within bins aligned to the engine's plan.
+
+    Wilkinson (1999) dot plot, "histodot" form: the dots of a bin are stacked
+    upward at the bin's centre, so the height of a stack is its count and the
+    dot diameter equals the bin width. The bins are the plan's own
+    (``findings.histogram``) or, when the tallest stack would not fit the
+    figure, the plan's bins split into 2, 4, 5, 10... equal parts, so every
+    dot-plot bin lies inside one histogram bin and the two pictures agree.
+    """
+    return _render(_draw_dot_plot(findings, sample, text, locale=locale), text)
+
+
+def with_and_without(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> RenderedFigure:
+    """Where the flagged values sit, and how the mean and median move without them.
+
+    Top: every value as a strip, the flagged ones (``findings.outliers``) drawn
+    as filled triangles and the others as open circles, so shape and fill both
+    tell them apart. Above :data:`MARKER_LIMIT` values the others are drawn as
+    a density band instead, and at most :data:`FLAGGED_DRAW_LIMIT` flagged
+    values, evenly spread over their sorted order. Bottom: two rows, with all
+    values and without the flagged ones, each showing the mean (diamond) and
+    the median (square), joined across rows to show the move.
+    """
+    return _render(_draw_with_and_without(findings, sample, text, locale=locale), text)
+
+
+def bin_sensitivity_panel(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> RenderedFigure:
+    """Small multiples of the histogram at each bin width and offset the engine tried.
+
+    Rows are the widths of ``findings.shape.bin_sensitivity``, columns its
+    offsets (fractions of a bin by which the edges move, as the engine placed
+    them: edges at ``(j + offset) * width``, less half a unit for whole-number
+    data). Row ``i`` is titled with label ``width_<i>``, column ``j`` with
+    ``offset_<j>`` (worded and formatted by the phrase builder). Counts are not
+    labelled: each panel is about where the peaks are, and heights differ.
+    """
+    return _render(_draw_bin_sensitivity(findings, sample, text, locale=locale), text)
 
 
 DRAWERS: Mapping[str, Callable[..., RenderedFigure]] = {
@@ -404,7 +471,7 @@ DRAWERS: Mapping[str, Callable[..., RenderedFigure]] = {
 # --------------------------------------------------------------------------- helpers
 
 
-class _LocaleTicks(ticker.Formatter):
+class LocaleTickFormatter(ticker.Formatter):
     """Tick labels through the report's number formatter, all ticks of an axis with one precision."""
 
     def __init__(self, numbers: NumberFormatter) -> None:
@@ -430,6 +497,53 @@ def _decimals_for(locs: Sequence[float]) -> int:
     return 6
 
 
+def _legend(ax: Axes, **placement) -> None:
+    legend = ax.legend(
+        frameon=False, prop=_font(SMALL_FONT_SIZE), handletextpad=0.3, columnspacing=1.4,
+        borderaxespad=0.1, **placement,
+    )
+    for legend_text in legend.get_texts():
+        legend_text.set_color(PALETTE["black"])
+
+
+def _label_curve(
+    fig: Figure, ax: Axes, grid: np.ndarray, curve: np.ndarray, word: str, *, avoid: Sequence[float]
+) -> None:
+    """Name the density curve directly, where the curve has fallen to half its height.
+
+    Tries the right flank (text to the right), then the left flank (text to the
+    left), and takes the first place where the words stay inside the axes and
+    cross neither the mean nor the median line. When none fits, a one-entry
+    key in the upper right corner names the curve instead.
+    """
+    peak = int(np.nanargmax(curve))
+    half = 0.5 * float(curve[peak])
+    x_low, x_high = ax.get_xlim()
+    axes_width_pt, _ = _axes_size_points(fig, ax)
+    text_span = (len(word) * SMALL_FONT_SIZE * 0.6 + 8) * (x_high - x_low) / axes_width_pt
+    right_side = np.nonzero(curve[peak:] <= half)[0]
+    left_side = np.nonzero(curve[: peak + 1] <= half)[0]
+    candidates = []
+    if right_side.size:
+        candidates.append((peak + int(right_side[0]), False))
+    if left_side.size:
+        candidates.append((int(left_side[-1]), True))
+    for index, to_left in candidates:
+        x = float(grid[index])
+        start, end = (x - text_span, x) if to_left else (x, x + text_span)
+        if start < x_low or end > x_high or any(start <= line <= end for line in avoid):
+            continue
+        ax.annotate(
+            word, (x, float(curve[index])), xytext=(-6 if to_left else 6, 4), textcoords="offset points",
+            ha="right" if to_left else "left", va="bottom", color=CURVE,
+            fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
+            bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},
+        )
+        return
+    ax.add_line(Line2D([], [], color=CURVE, linewidth=1.5, label=word))
+    _legend(ax, loc="upper right", bbox_to_anchor=(1.0, 0.9))
+
+
 def _labels(text: FigureText, figure: str) -> Mapping[str, str]:
     missing = [key for key in LABEL_KEYS[figure] if not text.labels.get(key)]
     if missing:
@@ -453,7 +567,7 @@ def _single_axes(*, height_in: float) -> tuple[Figure, Axes]:
     """A page-wide figure with one axes at fixed margins (in inches, so sizes are predictable)."""
     fig = Figure(figsize=(PAGE_WIDTH_IN, height_in), dpi=DPI)
     FigureCanvasAgg(fig)
-    left, right, bottom, top = 0.75, 0.2, 0.55, 0.15
+    left, right, bottom, top = _LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN
     ax = fig.add_axes((
         left / PAGE_WIDTH_IN, bottom / height_in,
         1 - (left + right) / PAGE_WIDTH_IN, 1 - (bottom + top) / height_in,
@@ -478,7 +592,7 @@ def _finish_axes(
     ax.grid(axis="y", color=GRID_GREY, linewidth=0.6)
     ax.set_axisbelow(True)
     ax.yaxis.set_major_locator(ticker.MaxNLocator(nbins=5, integer=integer_y, steps=[1, 2, 2.5, 5, 10]))
-    ax.yaxis.set_major_formatter(_LocaleTicks(numbers))
+    ax.yaxis.set_major_formatter(LocaleTickFormatter(numbers))
     ax.tick_params(
         axis="y", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
         labelcolor=PALETTE["black"], length=3,
@@ -490,7 +604,7 @@ def _finish_axes(
 def _style_x(ax: Axes, numbers: NumberFormatter, x_label: str) -> None:
     ax.spines["bottom"].set_color(AXIS_GREY)
     ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=8, steps=[1, 2, 2.5, 5, 10]))
-    ax.xaxis.set_major_formatter(_LocaleTicks(numbers))
+    ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
     ax.tick_params(
         axis="x", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
         labelcolor=PALETTE["black"], length=3,
@@ -605,11 +719,15 @@ def _flagged_mask(findings: Findings, sample: Sample) -> np.ndarray:
     return mask
 
 
-def _offset_edges(low: float, high: float, width: float, offset: float) -> np.ndarray:
-    """Bin edges of the given width, shifted by ``offset`` bins, covering [low, high]."""
+def _offset_edges(low: float, high: float, width: float, offset: float, *, half_unit: bool) -> np.ndarray:
+    """Bin edges ``(j + offset) * width`` (less 0.5 for whole-number data) covering [low, high].
+
+    The same placement as :func:`narrator.engine.bins.bin_sensitivity`, so each
+    panel is the histogram whose peaks the engine counted.
+    """
     if not width > 0:
         raise NarratorError(f"bin width must be positive, not {width}")
-    shift = offset * width
+    shift = offset * width - (0.5 if half_unit else 0.0)
     start = math.floor((low - shift) / width) * width + shift
     count = max(1, math.ceil((high - start) / width + 1e-9))
     if count > MAX_PANEL_BINS:

@@ -205,12 +205,15 @@ class HistogramPlan:
     edges: tuple[float, ...]
     counts: tuple[int, ...]
     integer_aligned: bool
+    # reason code when the plan differs from the plain rule: "iqr_zero_used_scott",
+    # "too_few_for_doane_used_sturges", "bin_cap", "magnitude_resolution", "constant"
+    note: str | None = None
 
 
 @dataclass(frozen=True, slots=True)
 class Density:
     kernel: str  # "gaussian"
-    bandwidth_rule: str  # "silverman", "scott", "sheather-jones"
+    bandwidth_rule: str  # "silverman", "scott", "sheather-jones", or "user" (width given)
     bandwidth: float
     method: str  # "binned-fft" or "exact"
     grid: tuple[float, ...]
@@ -219,6 +222,9 @@ class Density:
     upper_bound: float | None
     reflected: bool
     peaks: tuple[float, ...]  # grid locations of the prominent peaks
+    # reason code for a bandwidth fallback: "iqr_zero_used_sd", "sd_zero_used_iqr",
+    # "sd_zero_used_silverman", "sheather_jones_failed_used_silverman", "constant_fixed_width"
+    bandwidth_note: str | None = None
 
 
 @dataclass(frozen=True, slots=True)

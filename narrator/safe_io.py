@@ -44,7 +44,7 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
     if not folder.is_dir():
         raise NarratorError(f"cannot write {target}: folder {folder} does not exist")
     try:
-        handle = tempfile.NamedTemporaryFile(
+        handle = tempfile.NamedTemporaryFile(  # noqa: SIM115 - closed below, before the rename
             dir=folder, prefix=f".{target.name}.", suffix=".tmp", delete=False
         )
     except OSError as exc:

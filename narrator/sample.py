@@ -35,6 +35,8 @@ class Sample:
     exclusions: tuple[Exclusion, ...] = ()
     decimals: int = 0  # decimals the values are written with (largest seen, capped at 6)
     source: dict = field(default_factory=dict)  # file name, sha256, sheet, reading options
+    valid_min: float | None = None  # declared valid range; values outside were excluded as impossible
+    valid_max: float | None = None
 
     def excluded(self, reason: str) -> Exclusion | None:
         return next((e for e in self.exclusions if e.reason == reason), None)

@@ -71,16 +71,7 @@ def _as_sample(values_or_sample, name: str | None, unit: str | None) -> Sample:
     if isinstance(values_or_sample, Sample):
         sample = values_or_sample
         if unit is not None and sample.unit != unit:
-            sample = Sample(
-                values=sample.values,
-                rows=sample.rows,
-                name=name or sample.name,
-                unit=unit,
-                n_rows=sample.n_rows,
-                exclusions=sample.exclusions,
-                decimals=sample.decimals,
-                source=sample.source,
-            )
+            sample = replace(sample, unit=unit)
         return sample
     try:
         return Sample.from_values(values_or_sample, name=name or "value", unit=unit)
@@ -102,7 +93,7 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
         return sample
     count = int(outside.sum())
     new_rows = tuple(int(r) for r in sample.rows[outside][:10])
-    new_examples = tuple(repr(float(v)) for v in sample.values[outside][:5])
+    new_examples = tuple(f"{float(v):g}" for v in sample.values[outside][:5])
     exclusions = []
     merged = False
     for exclusion in sample.exclusions:
@@ -118,16 +109,7 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
     if not merged:
         exclusions.append(Exclusion("impossible", count, new_rows, new_examples))
     keep = ~outside
-    return Sample(
-        values=sample.values[keep],
-        rows=sample.rows[keep],
-        name=sample.name,
-        unit=sample.unit,
-        n_rows=sample.n_rows,
-        exclusions=tuple(exclusions),
-        decimals=sample.decimals,
-        source=sample.source,
-    )
+    return replace(sample, values=sample.values[keep], rows=sample.rows[keep], exclusions=tuple(exclusions))
 
 
 def _check_options(outlier_rule, level, bin_rule, bandwidth_rule, lower_bound, upper_bound) -> None:
@@ -525,7 +507,14 @@ def _intervals(sorted_values, *, population, level, seed, skewness, clearly_skew
     if n < 2 or sorted_values[-1] == sorted_values[0]:
         return Intervals(mean=None, median=None, reason="too_few")
     method, method_reason = intervals.choose_mean_method(n, skewness, clearly_skewed)
-    mean_interval = intervals.mean_interval(sorted_values, level=level, method=method, seed=seed)
+    try:
+        mean_interval = intervals.mean_interval(sorted_values, level=level, method=method, seed=seed)
+    except NarratorError:
+        if method == "t":
+            raise
+        # The bootstrap cannot work on degenerate resamples (nearly all values equal): use the t interval.
+        method_reason = "bootstrap_failed_t"
+        mean_interval = intervals.mean_interval(sorted_values, level=level, method="t", seed=seed)
     median_interval = intervals.median_interval(sorted_values, level=level)
     return Intervals(
         mean=mean_interval, median=median_interval, reason="computed", mean_method_reason=method_reason

@@ -28,11 +28,23 @@ QUANTILE_METHOD = "hyndman-fan-7"
 
 @dataclass(frozen=True, slots=True)
 class Moments:
+    """Mean and the biased central moments m_k = sum(d^k) / n.
+
+    The moments are kept as moments of d / deviation_scale (a power of two near
+    the largest deviation), so ratios such as m3 / m2^1.5 stay exact even when
+    m2 itself would underflow or overflow.
+    """
+
     n: int
     mean: float
-    m2: float  # biased central moments: sum(d^k) / n
-    m3: float
-    m4: float
+    deviation_scale: float
+    s2: float  # mean of (d / deviation_scale)^2
+    s3: float
+    s4: float
+
+    @property
+    def m2(self) -> float:
+        return self.s2 * self.deviation_scale**2
 
     @property
     def variance(self) -> float:
@@ -41,7 +53,14 @@ class Moments:
 
     @property
     def sd(self) -> float:
-        return math.sqrt(self.variance) if self.n > 1 else math.nan
+        """sqrt of the sample variance, computed without squaring the scale."""
+        if self.n < 2:
+            return math.nan
+        return math.sqrt(self.s2 * self.n / (self.n - 1)) * self.deviation_scale
+
+    @property
+    def has_spread(self) -> bool:
+        return self.s2 > 0
 
 
 def scaled(values: np.ndarray) -> tuple[np.ndarray, float]:
@@ -73,17 +92,20 @@ def central_moments(values: np.ndarray) -> Moments:
     """
     n = int(values.size)
     if n == 0:
-        return Moments(0, math.nan, math.nan, math.nan, math.nan)
+        return Moments(0, math.nan, 1.0, math.nan, math.nan, math.nan)
     mean = float(np.mean(values))
     deviations = values - mean
     correction = float(np.mean(deviations))
     mean += correction
     deviations -= correction
+    largest = float(np.max(np.abs(deviations)))
+    deviation_scale = 2.0 ** math.floor(math.log2(largest)) if largest > 0 else 1.0
+    deviations /= deviation_scale
     squares = deviations * deviations
-    m2 = float(np.mean(squares))
-    m3 = float(np.mean(squares * deviations))
-    m4 = float(np.mean(squares * squares))
-    return Moments(n, mean, m2, m3, m4)
+    s2 = float(np.mean(squares))
+    s3 = float(np.mean(squares * deviations))
+    s4 = float(np.mean(squares * squares))
+    return Moments(n, mean, deviation_scale, s2, s3, s4)
 
 
 def quantiles_sorted(sorted_values: np.ndarray, probabilities) -> np.ndarray:
@@ -134,9 +156,9 @@ def skewness_g1(moments: Moments) -> tuple[float | None, float | None]:
     """G1 = g1 sqrt(n (n-1)) / (n - 2) with g1 = m3 / m2^1.5 (Joanes & Gill 1998),
     and its standard error sqrt(6 n (n-1) / ((n-2)(n+1)(n+3))). None when n < 3 or no spread."""
     n = moments.n
-    if n < 3 or not moments.m2 > 0:
+    if n < 3 or not moments.has_spread:
         return None, None
-    g1 = moments.m3 / moments.m2**1.5
+    g1 = moments.s3 / moments.s2**1.5
     big_g1 = g1 * math.sqrt(n * (n - 1)) / (n - 2)
     se = math.sqrt(6.0 * n * (n - 1) / ((n - 2) * (n + 1) * (n + 3)))
     return big_g1, se
@@ -145,9 +167,9 @@ def skewness_g1(moments: Moments) -> tuple[float | None, float | None]:
 def excess_kurtosis(moments: Moments) -> float | None:
     """G2 = ((n+1) g2 + 6) (n-1) / ((n-2)(n-3)) with g2 = m4 / m2^2 - 3. None when n < 4."""
     n = moments.n
-    if n < 4 or not moments.m2 > 0:
+    if n < 4 or not moments.has_spread:
         return None
-    g2 = moments.m4 / moments.m2**2 - 3.0
+    g2 = moments.s4 / moments.s2**2 - 3.0
     return ((n + 1) * g2 + 6.0) * (n - 1) / ((n - 2) * (n - 3))
 
 
@@ -157,9 +179,9 @@ def skewness_test(moments: Moments) -> tuple[float | None, float | None]:
     Defined for n >= 8, as scipy.stats.skewtest.
     """
     n = moments.n
-    if n < 8 or not moments.m2 > 0:
+    if n < 8 or not moments.has_spread:
         return None, None
-    b2 = moments.m3 / moments.m2**1.5
+    b2 = moments.s3 / moments.s2**1.5
     y = b2 * math.sqrt(((n + 1) * (n + 3)) / (6.0 * (n - 2)))
     beta2 = 3.0 * (n * n + 27 * n - 70) * (n + 1) * (n + 3) / ((n - 2.0) * (n + 5) * (n + 7) * (n + 9))
     w2 = -1 + math.sqrt(2 * (beta2 - 1))

@@ -5,7 +5,7 @@ Name                       What it computes
 =========================  =====================================================
 :func:`medcouple`          exact medcouple of sorted data (Brys, Hubert & Struyf
                            2004), found by Johnson & Mizoguchi (1978) selection;
-                           O(n) memory, no n x n matrix is ever built
+                           O(n) memory, no n x n kernel matrix is ever built
 :func:`bowley_skewness`    (Q3 + Q1 - 2 Q2) / (Q3 - Q1), None when the IQR is 0
 =========================  =====================================================
 
@@ -67,17 +67,21 @@ def medcouple(sorted_values: np.ndarray) -> float:
     (1978) as used by Brys et al.: take the weighted median of the row medians,
     count the entries above it in every row, and discard the part of the matrix
     that cannot hold the answer. Each round removes at least a quarter of the
-    remaining entries, so there are O(log n) rounds. Counting in a row is a
-    vectorised bisection inside the row's remaining band, so a round costs
-    O(n log n) numpy work and the whole computation O(n log^2 n) worst case
-    with O(n) memory (the sequential two-pointer count of the paper is O(n) per
-    round but runs far slower as Python-level loops).
+    remaining entries, so there are O(log n) rounds. Memory is O(n).
+
+    Cost per round: the paper counts with a sequential two-pointer sweep, O(n)
+    but slow as a Python loop. Here the counts come from one vectorised binary
+    search (the kernel solved for the lower value), checked entry by entry with
+    the kernel itself, and the weighted median from a sort: O(n log n) work per
+    round inside numpy, so O(n log^2 n) in the worst case overall. The result
+    is exact either way: every comparison that decides the answer uses the
+    kernel value itself.
 
     ``sorted_values`` must be finite and sorted ascending. Constant data give 0.
     Values are rescaled by a power of two only when needed, which is exact, so
     huge or tiny magnitudes give the same result as moderate ones.
 
-    >>> medcouple(np.array([1.0, 2.0, 3.0, 4.0, 10.0]))
+    >>> medcouple(np.array([1.0, 2.0, 3.0, 6.0, 12.0]))
     0.5
     """
     values = np.asarray(sorted_values, dtype=np.float64)

@@ -1,0 +1,560 @@
+"""Kernel density estimate of one numeric column, and the peaks it shows.
+
+Pure functions of a 1-D array of finite numbers (numpy and scipy only).
+
+===========================  =========================================================
+Name                         What it does
+===========================  =========================================================
+:func:`bandwidth`            Gaussian-kernel bandwidth by a named rule (a float)
+:func:`choose_bandwidth`     the same, with the rule actually used and a reason code
+:func:`estimate_density`     Gaussian KDE by linear binning and FFT -> :class:`Density`
+:func:`find_peaks`           prominent peaks of a curve sampled on a grid
+:func:`local_maxima`         every local maximum with its height and prominence
+:func:`standard_units`       an overflow-safe centred and scaled copy of the values
+:class:`BandwidthChoice`     width, rule used, reason code
+:class:`StandardUnits`       centre, unit and the scaled values
+===========================  =========================================================
+
+Bandwidth rules (``BANDWIDTH_RULES``):
+
+- ``"silverman"``: h = 0.9 min(s, IQR / 1.34) n^(-1/5) (Silverman 1986,
+  *Density Estimation*, eq. 3.31). When one of s and IQR / 1.34 is 0 the
+  other is used (reason code ``iqr_zero_used_sd`` or ``sd_zero_used_iqr``).
+- ``"scott"``: h = 1.06 s n^(-1/5) (Scott 1992, *Multivariate Density
+  Estimation*, the normal-reference rule).
+- ``"sheather-jones"``: the solve-the-equation plug-in of Sheather & Jones
+  (1991, JRSS B 53), with the paper's pilot widths a = 0.920 IQR n^(-1/7) and
+  b = 0.912 IQR n^(-1/9) (1.349 s in place of the IQR when the IQR is 0).
+  The pair sums are computed from linearly binned counts on a fine grid and
+  their autocorrelation by FFT (binned functional estimation, Wand & Jones
+  1995, *Kernel Smoothing*), so the cost is O(n + M log M) for any n. If the estimated
+  functionals are not positive or the equation has no root, Silverman's rule
+  is used and recorded (``sheather_jones_failed_used_silverman``).
+
+A column with no spread at all (every value equal, or a single value) has no
+data-driven width. The fallback is ``DEGENERATE_WIDTH_SHARE`` (5 %) of the
+value's size, or ``DEGENERATE_WIDTH_AT_ZERO`` (1) when the value is 0: a
+visible bump, recorded with reason code ``constant_fixed_width``. Our choice.
+
+Density: the data are linearly binned (Fan & Marron 1994; Wand 1994) onto a
+fine grid with at least ``FINE_STEPS_PER_BANDWIDTH`` (32) points per
+bandwidth (4096 to 2^20 points), convolved with the Gaussian kernel by FFT
+(kernel cut at ``KERNEL_REACH_BANDWIDTHS`` = 8 bandwidths, where it is below
+1e-13 of its peak), then read off at ``grid_size`` output points by linear
+interpolation. The output grid spans [min - 3h, max + 3h], clipped at any
+declared bound. At a declared bound the kernel is reflected (Schuster 1985,
+*Communications in Statistics - Theory and Methods* 14): the density on the
+allowed side is f(t) + f(2L - t), so no mass falls beyond the bound and the
+curve integrates to 1 on the allowed side. With two bounds the reflections
+repeat (the images of the data under both mirrors), summed until they no
+longer reach the interval.
+
+Every computation runs in standard units (centre the mid-range, unit the
+half-range), so values near 1e300 neither overflow nor lose the spread.
+
+Peaks (:func:`find_peaks`): local maxima whose topographic prominence
+(scipy.signal's definition: height above the higher of the two lowest points
+separating the peak from any higher peak or from the ends) passes two tests:
+
+1. at least ``PEAK_MIN_PROMINENCE`` = 5 % of the curve's maximum, so a bump
+   too small to see does not count (a share of the maximum is common
+   practice; 5 % is our choice within the usual 5 to 10 %), and
+2. at least ``PEAK_NOISE_Z`` = 2 standard errors of the difference between
+   the estimate at the peak and at the valley, taking the pointwise variance
+   of a kernel estimate as f(t) R(K) / (n h) (the usual large-sample
+   approximation, Silverman 1986, ch. 3) and the two as independent:
+   prominence >= 2 sqrt((f_peak + f_valley) R(K) / (n h)).
+   One or two isolated values in a tail never pass this test, at any n.
+
+Why both (a one-off check when the constants were chosen, seeds 0 to 99 of
+numpy's default generator, normal, lognormal and exponential samples of 20
+to 10 000 values, all three rules): a 5 % share alone called a one-peaked
+sample two-peaked up to 84 % of the time (isolated tail values), 10 % alone
+up to 65 %; with the noise test added it was at most 9 % (Sheather-Jones
+width, 100 lognormal values) and at most 1 % with Silverman's rule, while a
+90/10 mixture of normals 4 SD apart was still found in 98 of 100 samples of
+300. tests/test_density.py repeats a smaller version. The shape rule also asks a second signal to agree before
+reporting two peaks.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import optimize, signal
+
+from narrator.errors import NarratorError
+from narrator.findings import Density
+
+BANDWIDTH_RULES = ("silverman", "scott", "sheather-jones")
+
+SILVERMAN_FACTOR = 0.9
+SILVERMAN_IQR_DIVISOR = 1.34  # Silverman's rounding of the normal IQR 1.349 sigma
+SCOTT_FACTOR = 1.06
+NORMAL_IQR = 1.349  # IQR of the standard normal, 2 * 0.6745
+SJ_PILOT_A = 0.920  # Sheather & Jones (1991): a = 0.920 IQR n^(-1/7)
+SJ_PILOT_B = 0.912  # b = 0.912 IQR n^(-1/9)
+SJ_ALPHA = 1.357  # alpha_2(h) = 1.357 [S(a) / T(b)]^(1/7) h^(5/7)
+GAUSSIAN_ROUGHNESS = 1.0 / (2.0 * math.sqrt(math.pi))  # R(K) for the Gaussian kernel
+SJ_STEPS_PER_SCALE = 200  # binning grid for the plug-in: at least 200 points per normal-scale SD
+SJ_GRID_MIN = 1024
+SJ_GRID_MAX = 2**17
+SJ_KERNEL_REACH = 12.0  # Gaussian derivatives beyond 12 pilot widths are below 1e-28
+
+DEGENERATE_WIDTH_SHARE = 0.05
+DEGENERATE_WIDTH_AT_ZERO = 1.0
+
+GRID_MARGIN_BANDWIDTHS = 3.0
+KERNEL_REACH_BANDWIDTHS = 8.0
+FINE_STEPS_PER_BANDWIDTH = 32
+FINE_GRID_MIN = 4096
+FINE_GRID_MAX = 2**20
+DEFAULT_GRID_SIZE = 512
+
+PEAK_MIN_PROMINENCE = 0.05
+PEAK_NOISE_Z = 2.0
+
+
+@dataclass(frozen=True, slots=True)
+class StandardUnits:
+    """``values = centre + unit * scaled``; ``scaled`` lies in [-1, 1] unless all values are equal."""
+
+    centre: float
+    unit: float
+    scaled: np.ndarray
+
+
+@dataclass(frozen=True, slots=True)
+class BandwidthChoice:
+    """A bandwidth, the rule that produced it and why it differs from the one asked for (or None)."""
+
+    width: float
+    rule: str
+    note: str | None
+
+
+def _as_values(values, what: str = "values") -> np.ndarray:
+    array = np.asarray(values, dtype=float)
+    if array.ndim != 1:
+        array = array.ravel()
+    if array.size == 0:
+        raise NarratorError(f"{what}: no values to work with")
+    if not np.all(np.isfinite(array)):
+        raise NarratorError(f"{what}: values must be finite numbers (found NaN or infinity)")
+    return array
+
+
+def standard_units(values: np.ndarray) -> StandardUnits:
+    """Centre on the mid-range and divide by the half-range, without overflow.
+
+    The mid-range is computed as min/2 + max/2 and the half-range as
+    max/2 - min/2, so values near the largest float stay finite. When all values
+    are equal the unit is the value's size (or 1 at zero) and every scaled value is 0.
+
+    >>> units = standard_units(np.array([1e300, 3e300]))
+    >>> units.centre, units.unit, units.scaled.tolist()
+    (2e+300, 1e+300, [-1.0, 1.0])
+    """
+    array = _as_values(values)
+    low = float(array.min())
+    high = float(array.max())
+    centre = low / 2.0 + high / 2.0
+    half_range = high / 2.0 - low / 2.0
+    unit = half_range if half_range > 0.0 else (abs(centre) if centre != 0.0 else 1.0)
+    return StandardUnits(centre=centre, unit=unit, scaled=(array - centre) / unit)
+
+
+def _sd_and_iqr(scaled: np.ndarray, sd: float | None, iqr: float | None, unit: float) -> tuple[float, float]:
+    """SD (n - 1) and IQR (Hyndman-Fan type 7) in standard units; given values are in data units."""
+    if sd is None:
+        sd_scaled = float(np.std(scaled, ddof=1)) if scaled.size > 1 else 0.0
+    else:
+        sd_scaled = float(sd) / unit
+    if iqr is None:
+        q1, q3 = np.percentile(scaled, [25.0, 75.0])
+        iqr_scaled = float(q3 - q1)
+    else:
+        iqr_scaled = float(iqr) / unit
+    if not (math.isfinite(sd_scaled) and math.isfinite(iqr_scaled)) or sd_scaled < 0 or iqr_scaled < 0:
+        raise NarratorError("bandwidth: sd and iqr must be finite and not negative")
+    return sd_scaled, iqr_scaled
+
+
+def _degenerate_width(units: StandardUnits) -> float:
+    """The fixed width for a column with no spread, in standard units."""
+    if units.centre != 0.0:
+        return DEGENERATE_WIDTH_SHARE * abs(units.centre) / units.unit
+    return DEGENERATE_WIDTH_AT_ZERO / units.unit
+
+
+def _silverman(n: int, sd_scaled: float, iqr_scaled: float) -> tuple[float, str | None]:
+    robust_scale = iqr_scaled / SILVERMAN_IQR_DIVISOR
+    if sd_scaled > 0 and robust_scale > 0:
+        return SILVERMAN_FACTOR * min(sd_scaled, robust_scale) * n ** -0.2, None
+    if sd_scaled > 0:
+        return SILVERMAN_FACTOR * sd_scaled * n ** -0.2, "iqr_zero_used_sd"
+    if robust_scale > 0:
+        return SILVERMAN_FACTOR * robust_scale * n ** -0.2, "sd_zero_used_iqr"
+    return 0.0, None
+
+
+def _linear_bin(scaled: np.ndarray, start: float, step: float, size: int) -> np.ndarray:
+    """Linear binning: each value splits its unit weight between the two nearest grid points."""
+    position = (scaled - start) / step
+    index = np.floor(position).astype(np.intp)
+    np.clip(index, 0, size - 2, out=index)
+    upper_share = position - index
+    counts = np.bincount(index, weights=1.0 - upper_share, minlength=size)
+    counts += np.bincount(index + 1, weights=upper_share, minlength=size)
+    return counts
+
+
+def _hermite_gaussian(order: int, u: np.ndarray) -> np.ndarray:
+    """The order-th derivative of the standard normal density (orders 4 and 6)."""
+    phi = np.exp(-0.5 * u * u) / math.sqrt(2.0 * math.pi)
+    u2 = u * u
+    if order == 4:
+        return (u2 * u2 - 6.0 * u2 + 3.0) * phi
+    if order == 6:
+        return (u2 * u2 * u2 - 15.0 * u2 * u2 + 45.0 * u2 - 15.0) * phi
+    raise ValueError(f"derivative order {order} is not implemented")
+
+
+class _BinnedPairSums:
+    """Sum over all ordered pairs (i, j), i = j included, of phi^(r)((X_i - X_j) / g), from binned counts.
+
+    With counts c_k on a grid of spacing delta, the pair sum is approximately
+    sum_d C(d) phi^(r)(d delta / g) with C(d) = sum_k c_k c_(k+d), the counts'
+    autocorrelation, which one FFT gives for every lag at once.
+    """
+
+    def __init__(self, scaled: np.ndarray, scale: float) -> None:
+        low = float(scaled.min())
+        span = float(scaled.max()) - low
+        wanted = math.ceil(span / (scale / SJ_STEPS_PER_SCALE)) + 1
+        size = int(min(max(1 << max(wanted - 1, 1).bit_length(), SJ_GRID_MIN), SJ_GRID_MAX))
+        self.step = span / (size - 1)
+        counts = _linear_bin(scaled, low, self.step, size)
+        spectrum = np.fft.rfft(counts, 2 * size)
+        self.lag_sums = np.fft.irfft(spectrum * np.conj(spectrum), 2 * size)[:size]
+        self.size = size
+
+    def __call__(self, order: int, width: float) -> float:
+        limit = min(self.size, math.ceil(SJ_KERNEL_REACH * width / self.step) + 1)
+        u = np.arange(limit) * self.step / width
+        weights = _hermite_gaussian(order, u)
+        return float(self.lag_sums[0] * weights[0] + 2.0 * np.dot(self.lag_sums[1:limit], weights[1:]))
+
+
+def _sheather_jones(scaled: np.ndarray, sd_scaled: float, iqr_scaled: float) -> float | None:
+    """Sheather & Jones (1991) solve-the-equation bandwidth in standard units, or None if it fails."""
+    n = scaled.size
+    if n < 2:
+        return None
+    spread = iqr_scaled if iqr_scaled > 0 else NORMAL_IQR * sd_scaled
+    if spread <= 0:
+        return None
+    pair_sums = _BinnedPairSums(scaled, spread / NORMAL_IQR)
+    pairs = n * (n - 1.0)
+
+    def s_hat(width: float) -> float:  # estimates the integral of f''(x)^2
+        return pair_sums(4, width) / (pairs * width**5)
+
+    def t_hat(width: float) -> float:  # estimates the integral of f'''(x)^2, i.e. minus psi_6
+        return -pair_sums(6, width) / (pairs * width**7)
+
+    pilot_a = SJ_PILOT_A * spread * n ** (-1.0 / 7.0)
+    pilot_b = SJ_PILOT_B * spread * n ** (-1.0 / 9.0)
+    s_a, t_b = s_hat(pilot_a), t_hat(pilot_b)
+    if not (s_a > 0 and t_b > 0):
+        return None
+    alpha_factor = SJ_ALPHA * (s_a / t_b) ** (1.0 / 7.0)
+
+    def equation(h: float) -> float:
+        s_value = s_hat(alpha_factor * h ** (5.0 / 7.0))
+        if not s_value > 0:
+            return math.nan
+        return (GAUSSIAN_ROUGHNESS / (n * s_value)) ** 0.2 - h
+
+    reference = SCOTT_FACTOR * (spread / NORMAL_IQR) * n ** -0.2
+    low, high = reference / 4.0, reference * 2.0
+    for _ in range(40):
+        value = equation(low)
+        if math.isnan(value):
+            return None
+        if value > 0:
+            break
+        low /= 2.0
+    else:
+        return None
+    for _ in range(40):
+        value = equation(high)
+        if math.isnan(value):
+            return None
+        if value < 0:
+            break
+        high *= 2.0
+    else:
+        return None
+    return float(optimize.brentq(equation, low, high, xtol=1e-12 * reference, rtol=1e-12))
+
+
+def _choose_scaled(
+    units: StandardUnits, rule: str, sd: float | None, iqr: float | None
+) -> tuple[float, str, str | None]:
+    """(width in standard units, rule used, reason code)."""
+    if rule not in BANDWIDTH_RULES:
+        raise NarratorError(f"unknown bandwidth rule {rule!r}; choose one of {', '.join(BANDWIDTH_RULES)}")
+    scaled = units.scaled
+    n = scaled.size
+    sd_scaled, iqr_scaled = _sd_and_iqr(scaled, sd, iqr, units.unit)
+    if sd_scaled == 0 and iqr_scaled == 0:
+        return _degenerate_width(units), rule, "constant_fixed_width"
+    if rule == "scott":
+        if sd_scaled > 0:
+            return SCOTT_FACTOR * sd_scaled * n ** -0.2, rule, None
+        width, _ = _silverman(n, sd_scaled, iqr_scaled)
+        return width, "silverman", "sd_zero_used_silverman"
+    if rule == "sheather-jones":
+        width = _sheather_jones(scaled, sd_scaled, iqr_scaled)
+        if width is not None and math.isfinite(width) and width > 0:
+            return width, rule, ("iqr_zero_used_sd" if iqr_scaled == 0 else None)
+        width, _ = _silverman(n, sd_scaled, iqr_scaled)
+        return width, "silverman", "sheather_jones_failed_used_silverman"
+    width, note = _silverman(n, sd_scaled, iqr_scaled)
+    return width, rule, note
+
+
+def choose_bandwidth(
+    values, rule: str = "silverman", *, sd: float | None = None, iqr: float | None = None
+) -> BandwidthChoice:
+    """The Gaussian-kernel bandwidth by ``rule``, the rule actually used and a reason code.
+
+    ``sd`` (n - 1 denominator) and ``iqr`` (Hyndman-Fan type 7) may be passed
+    when already known, in data units; otherwise they are computed. See the
+    module docstring for the rules, fallbacks and references.
+
+    >>> choice = choose_bandwidth(np.array([3.0, 3.0, 3.0]))
+    >>> round(choice.width, 6), choice.note
+    (0.15, 'constant_fixed_width')
+    """
+    units = standard_units(values)
+    width, used, note = _choose_scaled(units, rule, sd, iqr)
+    return BandwidthChoice(width=width * units.unit, rule=used, note=note)
+
+
+def bandwidth(values, rule: str = "silverman", *, sd: float | None = None, iqr: float | None = None) -> float:
+    """Bandwidth h of a Gaussian kernel density estimate, in data units.
+
+    ``"silverman"``: 0.9 min(s, IQR / 1.34) n^(-1/5) (Silverman 1986, eq. 3.31);
+    ``"scott"``: 1.06 s n^(-1/5) (Scott 1992); ``"sheather-jones"``: the
+    solve-the-equation plug-in (Sheather & Jones 1991), binned. Fallbacks are
+    described in the module docstring; :func:`choose_bandwidth` reports them.
+
+    >>> round(bandwidth(np.array([1.0, 2.0, 3.0, 4.0])), 4)
+    0.7635
+    """
+    return choose_bandwidth(values, rule, sd=sd, iqr=iqr).width
+
+
+def _reflection_images(lower: float | None, upper: float | None, reach: float) -> list[tuple[float, float]]:
+    """(sign, shift) pairs: the bounded density at t is the sum of f(shift + sign * t)."""
+    if lower is None and upper is None:
+        return [(1.0, 0.0)]
+    if upper is None:
+        return [(1.0, 0.0), (-1.0, 2.0 * lower)]
+    if lower is None:
+        return [(1.0, 0.0), (-1.0, 2.0 * upper)]
+    width = upper - lower
+    repeats = math.ceil((width + reach) / (2.0 * width))
+    images = []
+    for k in range(-repeats, repeats + 1):
+        images.append((1.0, -2.0 * k * width))
+        images.append((-1.0, 2.0 * lower + 2.0 * k * width))
+    return images
+
+
+def _check_bounds(array: np.ndarray, lower_bound: float | None, upper_bound: float | None) -> None:
+    if lower_bound is not None:
+        if not math.isfinite(lower_bound):
+            raise NarratorError("density: the lower bound must be a finite number")
+        if array.min() < lower_bound:
+            raise NarratorError(
+                f"density: a value ({array.min():g}) lies below the declared lower bound {lower_bound:g}"
+            )
+    if upper_bound is not None:
+        if not math.isfinite(upper_bound):
+            raise NarratorError("density: the upper bound must be a finite number")
+        if array.max() > upper_bound:
+            raise NarratorError(
+                f"density: a value ({array.max():g}) lies above the declared upper bound {upper_bound:g}"
+            )
+    if lower_bound is not None and upper_bound is not None and not lower_bound < upper_bound:
+        raise NarratorError("density: the lower bound must be below the upper bound")
+
+
+def estimate_density(
+    values,
+    *,
+    rule: str = "silverman",
+    bandwidth: float | None = None,
+    lower_bound: float | None = None,
+    upper_bound: float | None = None,
+    grid_size: int = DEFAULT_GRID_SIZE,
+    sd: float | None = None,
+    iqr: float | None = None,
+) -> Density:
+    """Gaussian kernel density estimate on a regular grid, with prominent peaks.
+
+    f(t) = (1 / (n h)) sum_i phi((t - x_i) / h), computed by linear binning and
+    FFT convolution (Wand 1994; Fan & Marron 1994) in O(n + m log m), reflected
+    at declared bounds (Schuster 1985). ``bandwidth`` overrides ``rule``
+    (recorded as ``bandwidth_rule="user"``). ``sd`` and ``iqr`` (data units)
+    spare recomputing them for the bandwidth rule. Grid, constants and the
+    peak rule are in the module docstring.
+
+    >>> result = estimate_density(np.array([1.0, 2.0, 2.5, 4.0]), lower_bound=0.0)
+    >>> result.grid[0], result.reflected, len(result.peaks)
+    (0.0, True, 1)
+    """
+    array = _as_values(values, "density")
+    if not isinstance(grid_size, int | np.integer) or grid_size < 2:
+        raise NarratorError("density: grid_size must be a whole number of at least 2")
+    _check_bounds(array, lower_bound, upper_bound)
+    units = standard_units(array)
+    if bandwidth is None:
+        width, used_rule, note = _choose_scaled(units, rule, sd, iqr)
+    else:
+        if not (math.isfinite(bandwidth) and bandwidth > 0):
+            raise NarratorError("density: the bandwidth must be a positive number")
+        width, used_rule, note = bandwidth / units.unit, "user", None
+
+    scaled = units.scaled
+    n = scaled.size
+    low, high = float(scaled.min()), float(scaled.max())
+    lower = None if lower_bound is None else (lower_bound - units.centre) / units.unit
+    upper = None if upper_bound is None else (upper_bound - units.centre) / units.unit
+    reach = KERNEL_REACH_BANDWIDTHS * width
+
+    # Fine grid for binning: the unbounded estimate, out to where the kernel vanishes.
+    fine_start, fine_stop = low - reach, high + reach
+    wanted = math.ceil((fine_stop - fine_start) / (width / FINE_STEPS_PER_BANDWIDTH)) + 1
+    fine_size = int(min(max(wanted, FINE_GRID_MIN), FINE_GRID_MAX))
+    fine_step = (fine_stop - fine_start) / (fine_size - 1)
+    counts = _linear_bin(scaled, fine_start, fine_step, fine_size)
+    half = min(math.ceil(reach / fine_step), fine_size - 1)
+    u = np.arange(-half, half + 1) * (fine_step / width)
+    kernel = np.exp(-0.5 * u * u) / (math.sqrt(2.0 * math.pi) * n * width)
+    fine_density = signal.fftconvolve(counts, kernel, mode="same")
+    np.maximum(fine_density, 0.0, out=fine_density)  # FFT round-off leaves tiny negatives far out
+    fine_grid = fine_start + np.arange(fine_size) * fine_step
+
+    # Output grid: data +- 3h, clipped at the bounds; reflect the kernel there.
+    out_low = low - GRID_MARGIN_BANDWIDTHS * width
+    out_high = high + GRID_MARGIN_BANDWIDTHS * width
+    if lower is not None:
+        out_low = max(out_low, lower)
+    if upper is not None:
+        out_high = min(out_high, upper)
+    # Keep the grid inside the float range (data near +-1.8e308): written so that nothing overflows.
+    largest = float(np.finfo(float).max)
+    out_low = max(out_low, -largest / units.unit - units.centre / units.unit)
+    out_high = min(out_high, largest / units.unit - units.centre / units.unit)
+    grid = np.linspace(out_low, out_high, grid_size)
+    density_scaled = np.zeros(grid_size)
+    for sign, shift in _reflection_images(lower, upper, reach):
+        density_scaled += np.interp(shift + sign * grid, fine_grid, fine_density, left=0.0, right=0.0)
+    reflected = (lower is not None and low - lower < reach) or (upper is not None and upper - high < reach)
+
+    grid_data = units.centre + grid * units.unit
+    if lower_bound is not None and out_low == lower:
+        grid_data[0] = lower_bound  # exactly the bound, not a rounding of it
+    if upper_bound is not None and out_high == upper:
+        grid_data[-1] = upper_bound
+    density_data = density_scaled / units.unit
+    # Peaks are found in standard units, where f / h cannot underflow for huge magnitudes.
+    peak_locations = find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)
+    peaks = tuple(float(grid_data[np.searchsorted(grid, location)]) for location in peak_locations)
+    return Density(
+        kernel="gaussian",
+        bandwidth_rule=used_rule,
+        bandwidth=float(width * units.unit),
+        method="binned-fft",
+        grid=tuple(float(t) for t in grid_data),
+        values=tuple(float(v) for v in density_data),
+        lower_bound=None if lower_bound is None else float(lower_bound),
+        upper_bound=None if upper_bound is None else float(upper_bound),
+        reflected=bool(reflected),
+        peaks=peaks,
+        bandwidth_note=note,
+    )
+
+
+def find_peaks(
+    grid,
+    values,
+    *,
+    min_prominence: float = PEAK_MIN_PROMINENCE,
+    sample_size: int | None = None,
+    bandwidth: float | None = None,
+    noise_z: float = PEAK_NOISE_Z,
+) -> tuple[float, ...]:
+    """Grid locations of the prominent peaks of a density curve, ascending.
+
+    A peak is a local maximum (a flat top counts once, at its middle) whose
+    prominence is at least ``min_prominence`` times the curve's maximum and,
+    when ``sample_size`` n and ``bandwidth`` h of a Gaussian kernel estimate
+    are given, at least ``noise_z`` sqrt((f_peak + f_valley) R(K) / (n h)),
+    R(K) = 1 / (2 sqrt(pi)); the highest peak always counts. Maxima and
+    prominences come from :func:`local_maxima`: the curve is padded with 0 at
+    both ends, so a maximum at a reflecting bound (for example a mode at 0)
+    counts as a peak. The module docstring gives the reasons for the thresholds.
+
+    >>> find_peaks([0, 1, 2, 3, 4], [0.0, 1.0, 0.2, 0.9, 0.0])
+    (1.0, 3.0)
+    """
+    grid_array = np.asarray(grid, dtype=float)
+    curve = np.asarray(values, dtype=float)
+    if grid_array.shape != curve.shape or curve.ndim != 1:
+        raise NarratorError("peaks: grid and values must be 1-D and of the same length")
+    if curve.size == 0 or not np.all(np.isfinite(curve)):
+        return ()
+    top = float(curve.max())
+    if top <= 0:
+        return ()
+    positions, heights, prominence = local_maxima(curve)
+    keep = prominence >= min_prominence * top
+    if sample_size is not None and bandwidth is not None:
+        valley_height = heights - prominence
+        variance_scale = GAUSSIAN_ROUGHNESS / (sample_size * bandwidth)
+        keep &= prominence >= noise_z * np.sqrt(np.maximum(heights + valley_height, 0.0) * variance_scale)
+    keep[np.argmax(heights)] = True  # the highest point of a curve with any mass is always a peak
+    return tuple(float(grid_array[i]) for i in positions[keep])
+
+
+def local_maxima(curve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(index, height, prominence) of every local maximum of a sampled curve, left to right.
+
+    The curve is padded with 0 at both ends, so an end point can be a maximum.
+    A flat top counts once, at its middle. Prominence is the topographic one
+    (scipy.signal.peak_prominences) on the curve with flat runs collapsed; of
+    two separate maxima of exactly equal height the right one is taken as the
+    higher, so each is measured against the dip between them rather than
+    against the ends.
+
+    >>> local_maxima([1.0, 3.0, 3.0, 3.0, 0.5, 2.0])
+    (array([2, 5]), array([3., 2.]), array([3. , 1.5]))
+    """
+    heights = np.asarray(curve, dtype=float).ravel()
+    padded = np.concatenate(([0.0], heights, [0.0]))
+    run_starts = np.concatenate(([0], np.flatnonzero(np.diff(padded) != 0) + 1))
+    run_ends = np.concatenate((run_starts[1:], [padded.size]))
+    run_heights = padded[run_starts]
+    top = float(run_heights.max()) if run_heights.size else 0.0
+    # A rising tie-break far below any real difference orders equal separate maxima.
+    tie_break = 1e-12 * max(top, 1e-300) * np.arange(run_heights.size) / max(run_heights.size, 1)
+    found, properties = signal.find_peaks(run_heights + tie_break, prominence=0.0)
+    middles = (run_starts[found] + run_ends[found] - 1) // 2 - 1  # middle of the flat top, unpadded
+    return middles.astype(np.intp), run_heights[found], np.asarray(properties["prominences"], dtype=float)

@@ -1,0 +1,157 @@
+"""The wording context: one findings object, one bank, one formatter and the rounding policy.
+
+Every builder in narrator.phrasing (prose sections, tables, figure texts)
+takes a :class:`WordingContext`, so all of them round and format the same
+way (DESIGN.md principle 6: one door for numbers).
+
+=============================  ===================================================
+Name                           What it is
+=============================  ===================================================
+:class:`WordingContext`        findings + bank + formatter + decimals for each use
+:func:`make_context`           builds it, applying the rounding policy
+:func:`capitalize_first`       upper-cases the first letter of a sentence
+=============================  ===================================================
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from babel.units import get_unit_name
+
+from narrator.findings import Findings
+from narrator.phrasing.bank import PhraseBank, load_bank
+from narrator.phrasing.hedges import Hedge, shape_hedge
+from narrator.phrasing.narrative import Sentence
+from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals
+
+COMPACT_FROM = 1_000_000  # memo numbers this large (without a unit) read better as "1.2 million"
+STATISTIC_DECIMALS = 2  # dimensionless statistics (G1, Bowley, medcouple) to two decimals (common practice)
+P_DECIMALS = 3  # p-values to three decimals, "p < 0.001" below that (APA 2020)
+
+
+def capitalize_first(text: str) -> str:
+    """The sentence with its first letter in upper case (a count word may start it)."""
+    for index, char in enumerate(text):
+        if char.isalpha():
+            return text[:index] + char.upper() + text[index + 1 :] if char.islower() else text
+        if not char.isspace() and char not in "\"'“‘¿¡(":
+            return text
+    return text
+
+
+@dataclass(frozen=True, slots=True)
+class WordingContext:
+    findings: Findings
+    bank: PhraseBank
+    fmt: NumberFormatter
+    name: str  # what the text calls the variable
+    memo_decimals: int
+    methods_decimals: int
+    data_decimals: int
+    hedge: Hedge
+
+    # ---- words
+    def text(self, key: str, category: str | None = None, **values: str) -> str:
+        return self.bank.format(key, category, **values)
+
+    def sentence(self, key: str, keys: Sequence[str] = (), category: str | None = None, **values: str) -> Sentence:
+        """A sentence; when it opens with a filled-in field ("{outlier_count} stand out"), its first letter is
+        capitalized. Text the bank itself starts in lower case ("n = 141") stays as written."""
+        text = self.text(key, category, **values)
+        template = self.bank.raw(key)
+        if isinstance(template, dict):
+            template = template.get(category or "other", template["other"])
+        return Sentence(capitalize_first(text) if template.startswith("{") else text, tuple(keys))
+
+    def plural(self, count: int) -> str:
+        return self.fmt.locale.plural_form(int(count))
+
+    def count(self, n: int, noun: str) -> str:
+        return self.fmt.count(n, noun)
+
+    # ---- numbers
+    def memo(self, value: float) -> str:
+        """A memo number with its unit, about two effective digits (Ehrenberg 1981)."""
+        if abs(value) >= COMPACT_FROM and self.fmt.unit_id is None and self.fmt.currency_code is None:
+            compact = self.fmt.compact(value)
+            if self.fmt.unit is None:
+                return compact
+            return self.bank.format("format.quantity_with_text_unit", number=compact, unit=self.fmt.unit)
+        return self.fmt.quantity(value, self.memo_decimals)
+
+    def exact(self, value: float) -> str:
+        """A summary statistic for methods text and tables: one decimal beyond the data (Cole 2015)."""
+        return self.fmt.fixed(value, self.methods_decimals)
+
+    def recorded(self, value: float) -> str:
+        """A data value as recorded (its own decimals)."""
+        return self.fmt.fixed(value, self.data_decimals)
+
+    def stat(self, value: float | None) -> str:
+        return "–" if value is None else self.fmt.fixed(value, STATISTIC_DECIMALS)
+
+    def whole(self, value: float) -> str:
+        return self.fmt.fixed(value, 0)
+
+    def signed(self, text_value: float, decimals: int) -> str:
+        number = self.fmt.fixed(text_value, decimals)
+        if text_value > 0 and number != self.fmt.fixed(0, decimals):
+            return self.text("format.signed_positive", number=number)
+        return number
+
+    def p_value(self, p: float) -> str:
+        threshold = 10.0**-P_DECIMALS
+        if p < threshold:
+            return self.text("format.p_below", threshold=self.fmt.fixed(threshold, P_DECIMALS))
+        return self.text("format.p_equals", p=self.fmt.fixed(p, P_DECIMALS))
+
+    def rows(self, rows: Sequence[int]) -> str:
+        return self.fmt.list([self.whole(row) for row in rows])
+
+    # ---- names
+    @property
+    def unit_label(self) -> str | None:
+        """The unit as a reader sees it on an axis: CLDR long name, currency code or the user's text."""
+        if self.fmt.currency_code is not None:
+            return self.fmt.currency_code
+        if self.fmt.unit_id is not None:
+            return get_unit_name(self.fmt.unit_id, length="long", locale=self.fmt.locale) or self.fmt.unit
+        return self.fmt.unit
+
+    @property
+    def axis_name(self) -> str:
+        unit = self.unit_label
+        if unit is None:
+            return self.name
+        return self.text("format.name_with_unit", name=self.name, unit=unit)
+
+
+def make_context(
+    findings: Findings,
+    locale: str,
+    *,
+    currency: str | None,
+    unit: str | None,
+    name: str | None,
+) -> WordingContext:
+    """The context for one narrative, with the rounding policy applied to these findings."""
+    fmt = NumberFormatter(locale, currency=currency, unit=unit if unit is not None else findings.variable.unit)
+    bank = load_bank(fmt.locale.language)
+    data_decimals = max(0, int(findings.variable.decimals))
+    scale = reference = None
+    if findings.spread is not None and findings.center is not None:
+        # The spread sets the effective digits; if the IQR is zero, fall back to the SD.
+        scale = findings.spread.iqr or findings.spread.sd or None
+        reference = findings.center.median if findings.center.lead == "median" else findings.center.mean
+    return WordingContext(
+        findings=findings,
+        bank=bank,
+        fmt=fmt,
+        name=name or findings.variable.name,
+        memo_decimals=memo_decimals(scale, reference=reference, data_decimals=data_decimals),
+        methods_decimals=methods_decimals(data_decimals),
+        data_decimals=data_decimals,
+        hedge=shape_hedge(findings),
+    )

@@ -1,0 +1,130 @@
+"""Captions, alt text and axis labels for the figures, worded and formatted for the locale.
+
+=====================  ==========================================================
+FigureText key         Made when
+=====================  ==========================================================
+``histogram``          the engine planned a histogram (there is spread)
+``dotplot``            there is at least one value (Wilkinson 1999 dot plot)
+``with_without``       outliers were flagged and values remain without them
+``bin_sensitivity``    the engine ran the bin-width and offset grid
+=====================  ==========================================================
+
+Alt text says what the figure shows, with its numbers, so a reader who
+cannot see it gets the same facts (the Word picture description). Label
+keys: ``x``, ``y`` and legend words (``mean``, ``median``, ``density``,
+``flagged``, ``all``, ``without``); the bin grid adds ``width_<i>`` and
+``offset_<j>`` panel labels in the grid's order.
+"""
+
+from __future__ import annotations
+
+from narrator.phrasing.context import WordingContext
+from narrator.phrasing.narrative import FigureText
+from narrator.phrasing.technical import width_text
+
+
+def _labels(ctx: WordingContext, key: str, names: tuple[str, ...], **values: str) -> dict[str, str]:
+    return {name: ctx.text(f"figures.{key}.{name}", axis_name=ctx.axis_name, **values) for name in names}
+
+
+def histogram_text(ctx: WordingContext) -> FigureText | None:
+    findings = ctx.findings
+    plan = findings.histogram
+    if plan is None or findings.center is None or not plan.counts:
+        return None
+    top = max(range(len(plan.counts)), key=lambda i: (plan.counts[i], -i))
+    values = {
+        "name": ctx.name,
+        "n_values": ctx.count(findings.n, "value"),
+        "width": width_text(ctx, plan.width),
+        "min": ctx.recorded(findings.spread.min),
+        "max": ctx.recorded(findings.spread.max),
+        "top_low": ctx.recorded(plan.edges[top]),
+        "top_high": ctx.recorded(plan.edges[top + 1]),
+        "top_count": ctx.count(plan.counts[top], "value"),
+        "median": ctx.exact(findings.center.median),
+        "mean": ctx.exact(findings.center.mean),
+    }
+    return FigureText(
+        key="histogram",
+        caption=ctx.text("figures.histogram.caption", **values),
+        alt_text=ctx.text("figures.histogram.alt", **values),
+        labels=_labels(ctx, "histogram", ("x", "y", "mean", "median", "density")),
+    )
+
+
+def dotplot_text(ctx: WordingContext) -> FigureText | None:
+    findings = ctx.findings
+    if findings.n == 0 or findings.center is None:
+        return None
+    flagged = findings.outliers
+    any_flagged = flagged is not None and flagged.count > 0
+    values = {
+        "name": ctx.name,
+        "n_values": ctx.count(findings.n, "value"),
+        "min": ctx.recorded(findings.spread.min),
+        "max": ctx.recorded(findings.spread.max),
+        "median": ctx.exact(findings.center.median),
+        "mean": ctx.exact(findings.center.mean),
+        "flagged_sentence": ctx.text("figures.dotplot.flagged_sentence" if any_flagged
+                                     else "figures.dotplot.none_flagged"),
+    }
+    return FigureText(
+        key="dotplot",
+        caption=ctx.text("figures.dotplot.caption", **values),
+        alt_text=ctx.text("figures.dotplot.alt", **values).strip(),
+        labels=_labels(ctx, "dotplot", ("x", "y", "mean", "median", "flagged")),
+    )
+
+
+def with_without_text(ctx: WordingContext) -> FigureText | None:
+    findings = ctx.findings
+    flagged, without = findings.outliers, findings.without_outliers
+    if flagged is None or flagged.count == 0 or without is None or without.n == 0 or without.mean is None:
+        return None
+    values = {
+        "name": ctx.name,
+        "n_values": ctx.count(findings.n, "value"),
+        "flagged_count": ctx.whole(flagged.count),
+        "mean": ctx.exact(findings.center.mean),
+        "median": ctx.exact(findings.center.median),
+        "mean_without": ctx.exact(without.mean),
+        "median_without": ctx.exact(without.median),
+    }
+    return FigureText(
+        key="with_without",
+        caption=ctx.text("figures.with_without.caption", **values),
+        alt_text=ctx.text("figures.with_without.alt", **values),
+        labels=_labels(ctx, "with_without", ("x", "y", "all", "without", "mean", "median")),
+    )
+
+
+def bin_sensitivity_text(ctx: WordingContext) -> FigureText | None:
+    grid = ctx.findings.shape.bin_sensitivity
+    if grid is None:
+        return None
+    values = {
+        "name": ctx.name,
+        "widths_count": ctx.whole(len(grid.widths)),
+        "offsets_count": ctx.whole(len(grid.offsets)),
+        "grids": ctx.whole(len(grid.widths) * len(grid.offsets)),
+        "peaks": ctx.count(grid.min_peaks, "peak"),
+        "min_peaks": ctx.whole(grid.min_peaks),
+        "max_peaks": ctx.whole(grid.max_peaks),
+    }
+    alt_key = "figures.bin_sensitivity.alt_sensitive" if grid.sensitive else "figures.bin_sensitivity.alt_stable"
+    labels = _labels(ctx, "bin_sensitivity", ("x", "y"))
+    # One label per panel row (width_0, width_1, ...) and column (offset_0, ...), in the grid's order.
+    for index, width in enumerate(grid.widths):
+        labels[f"width_{index}"] = ctx.text("figures.bin_sensitivity.width", width=width_text(ctx, width))
+    for index, offset in enumerate(grid.offsets):
+        labels[f"offset_{index}"] = ctx.text("figures.bin_sensitivity.offset", offset=ctx.fmt.fixed(offset, 2))
+    return FigureText(
+        key="bin_sensitivity",
+        caption=ctx.text("figures.bin_sensitivity.caption", **values),
+        alt_text=ctx.text(alt_key, **values),
+        labels=labels,
+    )
+
+
+FIGURE_BUILDERS = (histogram_text, dotplot_text, with_without_text, bin_sensitivity_text)

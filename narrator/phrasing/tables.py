@@ -1,0 +1,158 @@
+"""Tables, already worded and formatted for the locale; the writer only lays them out.
+
+=================  ==============================================================
+Table key          Rows
+=================  ==============================================================
+``key_figures``    plain-word figures for a memo (memo rounding, units in cells)
+``statistics``     n, missing, mean (SD), median (IQR), trimmed mean, range, P5-P95, MAD
+``outliers``       flagged values with their row numbers (never record identifiers)
+``with_without``   n, mean, median, SD, IQR with all values, without the flagged, change
+=================  ==============================================================
+
+Each column holds one precision (APA Publication Manual, 7th ed., 2020):
+statistics at the methods precision (one decimal beyond the data, Cole
+2015), flagged values as recorded, counts as whole numbers.
+"""
+
+from __future__ import annotations
+
+from narrator.phrasing.context import WordingContext
+from narrator.phrasing.narrative import Table
+
+OUTLIER_ROWS_SHOWN = 50  # longer lists are cut, and the caption says so
+
+
+def key_figures_table(ctx: WordingContext) -> Table | None:
+    findings = ctx.findings
+    center, spread = findings.center, findings.spread
+    if center is None:
+        return None
+    key = "tables.key_figures"
+    left_out = findings.n_missing + findings.quality.n_non_numeric + findings.quality.n_impossible
+    rows = [
+        (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
+        (ctx.text(f"{key}.left_out"), ctx.whole(left_out)),
+        (ctx.text(f"{key}.median"), ctx.memo(center.median)),
+        (ctx.text(f"{key}.mean"), ctx.memo(center.mean)),
+        (ctx.text(f"{key}.middle_half"), ctx.text("format.range", low=ctx.memo(spread.q1), high=ctx.memo(spread.q3))),
+        (ctx.text(f"{key}.lowest"), ctx.memo(spread.min)),
+        (ctx.text(f"{key}.highest"), ctx.memo(spread.max)),
+    ]
+    if findings.outliers is not None and findings.outliers.note != "not_run_too_few":
+        rows.append((ctx.text(f"{key}.unusual"), ctx.whole(findings.outliers.count)))
+    return Table(
+        key="key_figures",
+        caption=ctx.text(f"{key}.caption", name=ctx.name),
+        header=(ctx.text(f"{key}.measure"), ctx.text(f"{key}.value")),
+        rows=tuple(rows),
+        keys=("n", "center.median", "center.mean", "spread.q1", "spread.q3", "spread.min", "spread.max",
+              "outliers.count"),
+        align=("left", "right"),
+    )
+
+
+def statistics_table(ctx: WordingContext) -> Table | None:
+    findings = ctx.findings
+    center, spread = findings.center, findings.spread
+    if center is None:
+        return None
+    key = "tables.statistics"
+    x = ctx.exact
+    excluded = findings.quality.n_non_numeric + findings.quality.n_impossible
+    rows = [
+        (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
+        (ctx.text(f"{key}.missing"), ctx.whole(findings.n_missing)),
+        (ctx.text(f"{key}.excluded"), ctx.whole(excluded)),
+        (ctx.text(f"{key}.mean_sd"), ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))),
+        (ctx.text(f"{key}.median_iqr"),
+         ctx.text("format.median_iqr", median=x(center.median), q1=x(spread.q1), q3=x(spread.q3))),
+        (ctx.text(f"{key}.trimmed"), x(center.trimmed_mean_20)),
+        (ctx.text(f"{key}.range"), ctx.text("format.table_range", low=x(spread.min), high=x(spread.max))),
+        (ctx.text(f"{key}.p5_p95"), ctx.text("format.table_range", low=x(spread.p5), high=x(spread.p95))),
+        (ctx.text(f"{key}.mad"), x(spread.mad_scaled)),
+    ]
+    name = ctx.axis_name
+    return Table(
+        key="statistics",
+        caption=ctx.text(f"{key}.caption", name=name),
+        header=(ctx.text(f"{key}.statistic"), ctx.text(f"{key}.value")),
+        rows=tuple(rows),
+        keys=("n", "n_missing", "center.mean", "spread.sd", "center.median", "spread.q1", "spread.q3",
+              "center.trimmed_mean_20", "spread.min", "spread.max", "spread.p5", "spread.p95", "spread.mad_scaled"),
+        align=("left", "right"),
+    )
+
+
+def outliers_table(ctx: WordingContext) -> Table | None:
+    flagged = ctx.findings.outliers
+    if flagged is None or flagged.count == 0:
+        return None
+    key = "tables.outliers"
+    upper = flagged.upper_fence
+    far = set(zip(flagged.far_out_rows, flagged.far_out_values, strict=False))
+    rows = []
+    for value, row in list(zip(flagged.values, flagged.rows, strict=False))[:OUTLIER_ROWS_SHOWN]:
+        high = value > upper if upper is not None else value > ctx.findings.center.median
+        rows.append((
+            ctx.whole(row),
+            ctx.recorded(value),
+            ctx.text(f"words.side.{'high' if high else 'low'}"),
+            ctx.text("format.yes") if (row, value) in far else ctx.text("format.no"),
+        ))
+    rule = ctx.text(f"words.outlier_rule.{flagged.rule}")
+    if flagged.count > OUTLIER_ROWS_SHOWN:
+        caption = ctx.text(f"{key}.caption_first", rule=rule, shown=ctx.whole(OUTLIER_ROWS_SHOWN),
+                           total=ctx.whole(flagged.count))
+    else:
+        caption = ctx.text(f"{key}.caption", rule=rule)
+    return Table(
+        key="outliers",
+        caption=caption,
+        header=(ctx.text(f"{key}.row"), ctx.text(f"{key}.value"), ctx.text(f"{key}.side"), ctx.text(f"{key}.far_out")),
+        rows=tuple(rows),
+        keys=("outliers.values", "outliers.rows", "outliers.far_out_values"),
+        align=("right", "right", "left", "left"),
+    )
+
+
+def with_without_table(ctx: WordingContext) -> Table | None:
+    findings = ctx.findings
+    flagged, without = findings.outliers, findings.without_outliers
+    if flagged is None or flagged.count == 0 or without is None or without.n == 0 or without.mean is None:
+        return None
+    key = "tables.with_without"
+    x = ctx.exact
+    d = ctx.methods_decimals
+    center, spread = findings.center, findings.spread
+
+    def optional(value):
+        return "–" if value is None else x(value)
+
+    def change(value):
+        return "–" if value is None else ctx.signed(value, d)
+
+    rows = (
+        (ctx.text(f"{key}.n"), ctx.whole(findings.n), ctx.whole(without.n), ctx.signed(without.n - findings.n, 0)),
+        (ctx.text(f"{key}.mean"), x(center.mean), optional(without.mean), change(without.mean_change)),
+        (ctx.text(f"{key}.median"), x(center.median), optional(without.median), change(without.median_change)),
+        (ctx.text(f"{key}.sd"), x(spread.sd), optional(without.sd), change(without.sd_change)),
+        (ctx.text(f"{key}.iqr"), x(spread.iqr), optional(without.iqr), change(without.iqr_change)),
+    )
+    return Table(
+        key="with_without",
+        caption=ctx.text(f"{key}.caption", name=ctx.axis_name),
+        header=(ctx.text(f"{key}.measure"), ctx.text(f"{key}.all"), ctx.text(f"{key}.without"),
+                ctx.text(f"{key}.change")),
+        rows=rows,
+        keys=("without_outliers.n", "without_outliers.mean", "without_outliers.median", "without_outliers.sd",
+              "without_outliers.iqr"),
+        align=("left", "right", "right", "right"),
+    )
+
+
+TABLE_BUILDERS = {
+    "key_figures": key_figures_table,
+    "statistics": statistics_table,
+    "outliers": outliers_table,
+    "with_without": with_without_table,
+}

@@ -1,0 +1,535 @@
+"""Writer: lays a Narrative, its figures and tables out as a Word (.docx) report.
+
+The only module in narrator that imports python-docx; nothing else sees a
+docx object. Every word comes from the narrative or the :class:`ReportFrame`
+(both filled from the phrase bank by the caller); the writer only decides
+where things go and which style they take.
+
+=============================  ================================================
+Name                           What it is
+=============================  ================================================
+:func:`write_report`           the .docx and its findings sidecar, both atomic
+:func:`build_document`         the .docx as bytes (no file touched)
+:class:`ReportFrame`           words around the narrative: title lines,
+                               numbering patterns, the reproducibility appendix
+:func:`xml_safe`               text with characters XML 1.0 cannot hold removed
+:func:`sidecar_path`           ``<report>.findings.json`` beside a report
+:func:`default_template`       bytes of templates/styles/narrator-base.docx
+:data:`STYLE_NAMES`            the styles a report uses
+=============================  ================================================
+
+Layout, in order: title block (title, then the frame's detail lines:
+organisation, data description, date); each narrative section with its title
+as a level-1 heading, its paragraphs, its tables (caption above, as is usual
+for tables, e.g. APA 2020) and its figures (caption below), numbered through
+the document with Word SEQ fields; then the reproducibility appendix as a
+two-column table.
+
+A user's own .docx can stand in for the style base (``template=``): its body is
+cleared, its styles, page setup, headers and footers are kept, and any style a
+report needs that it lacks is copied from the default base, so the report takes
+the user's branding without breaking. Document properties are all set from
+the caller's values; none is left from the template, the library or the
+operating-system user.
+"""
+
+from __future__ import annotations
+
+import copy
+import datetime as dt
+import io
+import os
+import re
+import zipfile
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import docx
+from docx.enum.table import WD_TABLE_ALIGNMENT
+from docx.enum.text import WD_ALIGN_PARAGRAPH
+from docx.opc.constants import RELATIONSHIP_TYPE as RT
+from docx.oxml import OxmlElement
+from docx.oxml.ns import qn
+from docx.shared import Cm, Emu
+
+from narrator import findings as findings_module
+from narrator.errors import NarratorError
+from narrator.figures import RenderedFigure
+from narrator.findings import Findings
+from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
+from narrator.resources import template_file
+from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file
+
+STYLE_NAMES = {
+    "title": "Title",
+    "details": "Report Details",
+    "heading": "Heading 1",
+    "body": "Normal",
+    "bullet": "List Bullet",
+    "reference": "Reference",
+    "caption": "Caption",
+    "figure": "Figure",
+    "table": "Narrator Table",
+    "table_text": "Table Text",
+    "table_heading": "Table Heading",
+}
+# Styles copied into a user's template when it lacks them, parents first.
+_COPY_ORDER = (
+    "Report Details", "Heading 1", "List Bullet", "Reference", "Caption", "Figure",
+    "Table Text", "Table Heading", "Narrator Table", "Title",
+)
+
+# Territories whose paper is US Letter (CLDR supplemental "paperSize" data,
+# from memory); everywhere else gets A4. Margins are 2.5 cm either way.
+_LETTER_TERRITORIES = frozenset(
+    {"US", "CA", "MX", "PH", "CL", "CO", "VE", "GT", "PR", "BZ", "CR", "NI", "PA", "SV"}
+)
+_LETTER = (Cm(21.59), Cm(27.94))
+_A4 = (Cm(21.0), Cm(29.7))
+_MARGIN = Cm(2.5)
+MAX_FIGURE_WIDTH = Cm(15.2)
+
+# XML 1.0 (section 2.2) allows tab, newline, carriage return and the ranges
+# below; everything else (C0 controls, lone surrogates, U+FFFE/U+FFFF) is removed.
+_NOT_XML = re.compile("[^\t\n\r\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
+
+
+@dataclass(frozen=True, slots=True)
+class ReportFrame:
+    """The words around the narrative, already taken from the phrase bank and formatted.
+
+    ``figure_number`` and ``table_number`` are patterns with one ``{number}``
+    field ("Figure {number}."), put before each caption with a Word SEQ field
+    for the number; when None, captions are written exactly as the narrative
+    gives them. ``appendix_rows`` are (label, value) pairs.
+    """
+
+    details: tuple[str, ...] = ()
+    figure_number: str | None = None
+    table_number: str | None = None
+    appendix_title: str | None = None
+    appendix_intro: str | None = None
+    appendix_header: tuple[str, str] | None = None
+    appendix_rows: tuple[tuple[str, str], ...] = ()
+
+
+def xml_safe(text: object) -> str:
+    """``text`` as a string with every character XML 1.0 cannot hold removed.
+
+    Keeps tab and newline (python-docx writes them as ``w:tab`` and ``w:br``);
+    a carriage return becomes a newline. The allowed set is the ``Char``
+    production of the XML 1.0 recommendation (W3C 2008, section 2.2).
+
+    >>> xml_safe("a\\x00b\\x1bc\\td")
+    'abc\\td'
+    """
+    value = str(text).replace("\r\n", "\n").replace("\r", "\n")
+    return _NOT_XML.sub("", value)
+
+
+def sidecar_path(report_path: str | os.PathLike[str]) -> Path:
+    """Where the findings sidecar of a report goes: beside it, its suffix replaced.
+
+    >>> sidecar_path("out/waits.docx").as_posix()
+    'out/waits.findings.json'
+    """
+    return Path(report_path).with_suffix(".findings.json")
+
+
+def default_template() -> bytes:
+    """The default style base, found with importlib.resources so an installed wheel has it too."""
+    return template_file("styles", "narrator-base.docx").read_bytes()
+
+
+def write_report(
+    path: str | os.PathLike[str],
+    narrative: Narrative,
+    figures: Sequence[RenderedFigure],
+    *,
+    findings: Findings,
+    frame: ReportFrame,
+    properties: Mapping[str, str],
+    generated_at: dt.datetime,
+    template: str | os.PathLike[str] | None = None,
+    protect: Sequence[str | os.PathLike[str] | None] = (),
+) -> Path:
+    """Write the report to ``path`` and the findings sidecar beside it; return the sidecar path.
+
+    Both files are written atomically (:func:`narrator.safe_io.atomic_write_bytes`):
+    a failure leaves any previous report untouched. ``protect`` names files
+    that must never be overwritten (the input data): writing over one raises
+    :class:`NarratorError`, as does a report path ending in ``.findings.json``.
+    """
+    target = Path(path)
+    sidecar = sidecar_path(target)
+    if target.name.lower().endswith(".findings.json"):
+        raise NarratorError(
+            f"refusing to write the report to {target}: that name is for the findings sidecar"
+        )
+    if target.is_dir():
+        raise NarratorError(f"cannot write the report to {target}: it is a folder")
+    refuse_same_file(target, *protect)
+    refuse_same_file(sidecar, *protect)
+    if template is not None:
+        refuse_same_file(target, template)
+    data = build_document(
+        narrative, figures, frame=frame, properties=properties, generated_at=generated_at, template=template
+    )
+    atomic_write_bytes(target, data)
+    atomic_write_text(sidecar, findings_module.dumps(findings) + "\n")
+    return sidecar
+
+
+def build_document(
+    narrative: Narrative,
+    figures: Sequence[RenderedFigure],
+    *,
+    frame: ReportFrame,
+    properties: Mapping[str, str],
+    generated_at: dt.datetime,
+    template: str | os.PathLike[str] | None = None,
+) -> bytes:
+    """The report as .docx bytes. Same inputs and time, same bytes."""
+    document = _open_base(template)
+    _clear_body(document)
+    if template is None:
+        _page_for_locale(document, narrative.locale)
+    _ensure_styles(document, template is not None)
+    _set_language(document, narrative.locale)
+    bullets_numbered = _style_has_numbering(document, STYLE_NAMES["bullet"])
+
+    by_key = {figure.key: figure for figure in figures}
+    counters = {"figure": 0, "table": 0}
+
+    document.add_paragraph(xml_safe(narrative.title), style=STYLE_NAMES["title"])
+    for line in frame.details:
+        document.add_paragraph(xml_safe(line), style=STYLE_NAMES["details"])
+    for section in narrative.sections:
+        _add_section(document, section, by_key, frame, counters, bullets_numbered)
+    if frame.appendix_rows:
+        _add_appendix(document, frame)
+
+    _set_properties(document, properties, generated_at, narrative.locale)
+    _drop_thumbnail(document)
+    buffer = io.BytesIO()
+    document.save(buffer)
+    return _stable_zip(buffer.getvalue(), generated_at)
+
+
+# --------------------------------------------------------------------------- base document
+
+
+def _open_base(template: str | os.PathLike[str] | None):
+    if template is None:
+        return docx.Document(io.BytesIO(default_template()))
+    path = Path(template)
+    if not path.is_file():
+        raise NarratorError(f"template {path} does not exist or is not a file")
+    try:
+        return docx.Document(str(path))
+    except Exception as exc:  # python-docx raises several kinds for a bad package
+        raise NarratorError(
+            f"template {path} is not a valid Word document (.docx): {type(exc).__name__}: {exc}"
+        ) from None
+
+
+def _clear_body(document) -> None:
+    # Keep the final section properties (page size, margins, header and footer
+    # references): they are part of a template's branding.
+    body = document.element.body
+    for child in list(body):
+        if child.tag != qn("w:sectPr"):
+            body.remove(child)
+
+
+def _page_for_locale(document, locale: str) -> None:
+    territory = locale.replace("-", "_").split("_")[1].upper() if "_" in locale.replace("-", "_") else ""
+    width, height = _LETTER if territory in _LETTER_TERRITORIES else _A4
+    for section in document.sections:
+        section.page_width, section.page_height = width, height
+        section.left_margin = section.right_margin = _MARGIN
+        section.top_margin = section.bottom_margin = _MARGIN
+
+
+def _ensure_styles(document, from_user_template: bool) -> None:
+    """Copy from the default base every style the report uses that the document lacks."""
+    if not from_user_template:
+        return
+    base = docx.Document(io.BytesIO(default_template()))
+    styles_element = document.styles.element
+    for name in _COPY_ORDER:
+        if name in document.styles:
+            continue
+        element = copy.deepcopy(base.styles[name].element)
+        # The base's numbering definitions do not travel with the style; a
+        # numbering id in the user's file would point at something else.
+        for numbering in element.iter(qn("w:numPr")):
+            numbering.getparent().remove(numbering)
+        styles_element.append(element)
+
+
+def _style_has_numbering(document, name: str) -> bool:
+    style = document.styles[name]
+    while style is not None:
+        ppr = style.element.pPr
+        if ppr is not None and ppr.find(qn("w:numPr")) is not None:
+            return True
+        style = style.base_style
+    return False
+
+
+def _set_language(document, locale: str) -> None:
+    """Mark the text's language (BCP 47 tag) so spelling and hyphenation follow the report's locale."""
+    tag = xml_safe(locale.replace("_", "-"))
+    normal = document.styles["Normal"].element
+    rpr = normal.get_or_add_rPr()
+    lang = rpr.find(qn("w:lang"))
+    if lang is None:
+        lang = OxmlElement("w:lang")
+        rpr.append(lang)
+    lang.set(qn("w:val"), tag)
+
+
+# --------------------------------------------------------------------------- content
+
+
+def _add_section(document, section: Section, by_key, frame: ReportFrame, counters, bullets_numbered) -> None:
+    if section.title:
+        document.add_paragraph(xml_safe(section.title), style=STYLE_NAMES["heading"])
+    for paragraph in section.paragraphs:
+        _add_paragraph(document, paragraph, bullets_numbered)
+    for table in section.tables:
+        counters["table"] += 1
+        _add_table(document, table, frame.table_number, counters["table"])
+    for key in section.figures:
+        figure = by_key.get(key)
+        if figure is None:
+            raise NarratorError(
+                f"section {section.key!r} shows figure {key!r}, but no such figure was rendered"
+            )
+        counters["figure"] += 1
+        _add_figure(document, figure, frame.figure_number, counters["figure"])
+
+
+def _add_paragraph(document, paragraph: Paragraph, bullets_numbered: bool) -> None:
+    text = xml_safe(paragraph.text)
+    if paragraph.style == "bullet":
+        if not bullets_numbered:
+            text = "\u2022\t" + text  # the template's bullet style has no numbering of its own
+        document.add_paragraph(text, style=STYLE_NAMES["bullet"])
+    elif paragraph.style == "reference":
+        document.add_paragraph(text, style=STYLE_NAMES["reference"])
+    elif paragraph.style == "body":
+        document.add_paragraph(text, style=STYLE_NAMES["body"])
+    else:
+        raise NarratorError(f"paragraph style {paragraph.style!r} is not one the writer knows")
+
+
+def _caption(document, pattern: str | None, number: int, sequence: str, caption: str, *, keep_next: bool):
+    """A caption paragraph: the numbering pattern with a SEQ field for the number, then the caption."""
+    paragraph = document.add_paragraph(style=STYLE_NAMES["caption"])
+    paragraph.paragraph_format.keep_with_next = keep_next
+    if pattern:
+        before, _, after = pattern.partition("{number}")
+        if before:
+            paragraph.add_run(xml_safe(before))
+        _add_seq_field(paragraph, sequence, number)
+        paragraph.add_run(xml_safe(after + " ") if after else " ")
+    paragraph.add_run(xml_safe(caption))
+    return paragraph
+
+
+def _add_seq_field(paragraph, sequence: str, number: int) -> None:
+    # A simple field (ECMA-376 part 1, 17.16.5.58 SEQ) keeps Word's own caption
+    # numbering and lists of figures working; the cached result is the number.
+    field = OxmlElement("w:fldSimple")
+    field.set(qn("w:instr"), f" SEQ {sequence} \\* ARABIC ")
+    run = OxmlElement("w:r")
+    text = OxmlElement("w:t")
+    text.text = str(number)
+    run.append(text)
+    field.append(run)
+    paragraph._p.append(field)
+
+
+def _add_table(document, table: Table, pattern: str | None, number: int) -> None:
+    columns = len(table.header)
+    if columns == 0:
+        raise NarratorError(f"table {table.key!r} has no header")
+    for index, row in enumerate(table.rows, start=1):
+        if len(row) != columns:
+            raise NarratorError(
+                f"table {table.key!r}: row {index} has {len(row)} cells, the header has {columns}"
+            )
+    caption = _caption(document, pattern, number, "Table", table.caption, keep_next=True)
+    caption.paragraph_format.space_after = Cm(0.1)
+    grid = document.add_table(rows=1 + len(table.rows), cols=columns)
+    grid.style = document.styles[STYLE_NAMES["table"]]
+    grid.alignment = WD_TABLE_ALIGNMENT.LEFT
+    grid.autofit = False
+    align = tuple(table.align) + ("left",) * (columns - len(table.align))
+    header_row = grid.rows[0]
+    _repeat_as_header(header_row)
+    for col, text in enumerate(table.header):
+        _fill_cell(header_row.cells[col], text, STYLE_NAMES["table_heading"], align[col])
+    for row_index, row in enumerate(table.rows, start=1):
+        cells = grid.rows[row_index].cells
+        for col, text in enumerate(row):
+            _fill_cell(cells[col], text, STYLE_NAMES["table_text"], align[col])
+        _keep_row_together(grid.rows[row_index])
+    _set_widths(grid, _column_widths(table, _text_width(document)))
+    # A little air after the table, where the next paragraph begins.
+    document.add_paragraph(style=STYLE_NAMES["body"]).paragraph_format.space_after = Cm(0.1)
+
+
+def _fill_cell(cell, text: str, style: str, align: str) -> None:
+    paragraph = cell.paragraphs[0]
+    paragraph.style = style
+    paragraph.add_run(xml_safe(text))
+    if align == "right":
+        paragraph.alignment = WD_ALIGN_PARAGRAPH.RIGHT
+    elif align not in ("left", ""):
+        raise NarratorError(f"table column alignment {align!r} must be 'left' or 'right'")
+
+
+def _repeat_as_header(row) -> None:
+    trpr = row._tr.get_or_add_trPr()
+    header = OxmlElement("w:tblHeader")
+    trpr.append(header)
+
+
+def _keep_row_together(row) -> None:
+    trpr = row._tr.get_or_add_trPr()
+    trpr.append(OxmlElement("w:cantSplit"))
+
+
+def _add_figure(document, figure: RenderedFigure, pattern: str | None, number: int) -> None:
+    if not figure.alt_text.strip():
+        raise NarratorError(f"figure {figure.key!r} has no alt text; every picture needs one")
+    paragraph = document.add_paragraph(style=STYLE_NAMES["figure"])
+    paragraph.alignment = WD_ALIGN_PARAGRAPH.CENTER
+    paragraph.paragraph_format.keep_with_next = True
+    width = Emu(min(int(MAX_FIGURE_WIDTH), int(_text_width(document))))
+    shape = paragraph.add_run().add_picture(io.BytesIO(figure.png), width=width)
+    properties = shape._inline.docPr
+    properties.set("descr", xml_safe(figure.alt_text))
+    properties.set("title", xml_safe(figure.caption))
+    properties.set("name", xml_safe(figure.key))
+    _caption(document, pattern, number, "Figure", figure.caption, keep_next=False)
+
+
+def _text_width(document) -> Emu:
+    section = document.sections[-1]
+    return Emu(int(section.page_width) - int(section.left_margin) - int(section.right_margin))
+
+
+def _column_widths(table: Table, text_width: Emu) -> tuple[Emu, ...]:
+    """Column widths from the longest cell of each column, so short tables stay compact.
+
+    About 0.2 cm per character at the 8.5 pt table font, plus cell padding;
+    when the total exceeds the text width, columns shrink in proportion and
+    their text wraps.
+    """
+    longest = [
+        max([len(text) for text in column] or [1])
+        for column in zip(table.header, *table.rows, strict=True)
+    ]
+    wanted = [max(1.6, 0.2 * chars + 0.5) for chars in longest]
+    total = sum(wanted)
+    available = int(text_width) / int(Cm(1))
+    scale = min(1.0, available / total)
+    return tuple(Cm(width * scale) for width in wanted)
+
+
+def _set_widths(grid, widths: Sequence[Emu]) -> None:
+    # Word reads the cell widths, LibreOffice the grid columns: set both.
+    for column, width in zip(grid.columns, widths, strict=True):
+        column.width = width
+    for row in grid.rows:
+        for cell, width in zip(row.cells, widths, strict=True):
+            cell.width = width
+
+
+def _add_appendix(document, frame: ReportFrame) -> None:
+    if frame.appendix_title:
+        document.add_paragraph(xml_safe(frame.appendix_title), style=STYLE_NAMES["heading"])
+    if frame.appendix_intro:
+        document.add_paragraph(xml_safe(frame.appendix_intro), style=STYLE_NAMES["body"])
+    header = frame.appendix_header
+    grid = document.add_table(rows=len(frame.appendix_rows) + (1 if header else 0), cols=2)
+    grid.style = document.styles[STYLE_NAMES["table"]]
+    widths = (Cm(5.0), Emu(int(_text_width(document)) - int(Cm(5.0))))
+    rows = list(grid.rows)
+    if header:
+        _repeat_as_header(rows[0])
+        for col, text in enumerate(header):
+            _fill_cell(rows[0].cells[col], text, STYLE_NAMES["table_heading"], "left")
+        rows = rows[1:]
+    for row, (label, value) in zip(rows, frame.appendix_rows, strict=True):
+        _fill_cell(row.cells[0], label, STYLE_NAMES["table_text"], "left")
+        _fill_cell(row.cells[1], value, STYLE_NAMES["table_text"], "left")
+        _keep_row_together(row)
+    _set_widths(grid, widths)
+    if not header:
+        # No header row: the style's header formatting must not fall on the first entry.
+        look = grid._tbl.tblPr.find(qn("w:tblLook"))
+        if look is not None:
+            look.set(qn("w:firstRow"), "0")
+            look.set(qn("w:val"), "0400")
+
+
+# --------------------------------------------------------------------------- package
+
+
+def _set_properties(document, properties: Mapping[str, str], generated_at: dt.datetime, locale: str) -> None:
+    """Every core property from the caller; nothing from the template, the library or the OS user."""
+    known = {"title", "subject", "author", "keywords", "category", "comments"}
+    unknown = set(properties) - known
+    if unknown:
+        raise NarratorError(f"unknown document properties: {', '.join(sorted(unknown))}")
+    if generated_at.tzinfo is None:
+        raise NarratorError("the generation time must carry a time zone (for example UTC)")
+    moment = generated_at.astimezone(dt.UTC).replace(microsecond=0)
+    core = document.core_properties
+    author = xml_safe(properties.get("author", ""))
+    core.title = xml_safe(properties.get("title", ""))
+    core.subject = xml_safe(properties.get("subject", ""))
+    core.author = author
+    core.last_modified_by = author
+    core.keywords = xml_safe(properties.get("keywords", ""))
+    core.category = xml_safe(properties.get("category", ""))
+    core.comments = xml_safe(properties.get("comments", ""))
+    core.content_status = ""
+    core.identifier = ""
+    core.version = ""
+    core.language = xml_safe(locale.replace("_", "-"))
+    core.revision = 1
+    core.created = moment
+    core.modified = moment
+    element = core._element
+    if element.lastPrinted is not None:
+        element._remove_lastPrinted()
+
+
+def _drop_thumbnail(document) -> None:
+    # A template's page preview would show the template, not the report.
+    package = document.part.package
+    for rel_id, rel in list(package.rels.items()):
+        if rel.reltype == RT.THUMBNAIL:
+            del package.rels[rel_id]
+
+
+def _stable_zip(data: bytes, moment: dt.datetime) -> bytes:
+    """Rewrite the package with every member stamped with ``moment``, so equal reports are equal bytes."""
+    stamp = moment.astimezone(dt.UTC)
+    date_time = (max(stamp.year, 1980), stamp.month, stamp.day, stamp.hour, stamp.minute, stamp.second)
+    source = zipfile.ZipFile(io.BytesIO(data))
+    buffer = io.BytesIO()
+    with zipfile.ZipFile(buffer, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+        for info in source.infolist():
+            member = zipfile.ZipInfo(info.filename, date_time=date_time)
+            member.compress_type = zipfile.ZIP_DEFLATED
+            member.external_attr = 0o644 << 16
+            archive.writestr(member, source.read(info.filename))
+    return buffer.getvalue()
