@@ -4,6 +4,7 @@
 Command        What it does
 =============  ==============================================================
 ``facts``      read one column and print the findings (a table, or ``--json``)
+``tell``       read one column and print the narrative as plain text
 =============  ==============================================================
 
 Every command reports bad input as one line, ``narrator: <message>``, and
@@ -177,6 +178,15 @@ def command_facts(args: argparse.Namespace) -> int:
     return 0
 
 
+def command_tell(args: argparse.Namespace) -> int:
+    from narrator.phrasing import narrate
+
+    _, found = read_and_describe(args)
+    narrative = narrate(found, args.audience, args.locale, currency=args.currency)
+    sys.stdout.write(narrative.plain_text())
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="narrator", description="Describe a column of numbers in careful, plain words."
@@ -189,6 +199,14 @@ def build_parser() -> argparse.ArgumentParser:
     add_reading_options(facts)
     facts.add_argument("--json", action="store_true", help="print the findings as JSON")
     facts.set_defaults(handler=command_facts)
+
+    tell = commands.add_parser("tell", help="print the narrative for one column as plain text")
+    add_reading_options(tell)
+    tell.add_argument("--audience", default="memo", choices=("memo", "methods", "full"),
+                      help="who the text is for (default: memo)")
+    tell.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES")
+    tell.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
+    tell.set_defaults(handler=command_tell)
     return parser
 
 

@@ -55,6 +55,7 @@ from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
 from matplotlib.lines import Line2D
 from matplotlib.transforms import blended_transform_factory
+from PIL import Image
 
 from narrator.errors import NarratorError
 from narrator.findings import Findings
@@ -267,7 +268,7 @@ def _draw_with_and_without(
     flagged = np.sort(values[flagged_mask])
     kept = values[~flagged_mask]
 
-    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.0), dpi=DPI)
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.0), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
     left, right = 1.55 / PAGE_WIDTH_IN, 0.25 / PAGE_WIDTH_IN
     strip = fig.add_axes((left, 0.54, 1 - left - right, 0.36))
@@ -357,7 +358,7 @@ def _draw_bin_sensitivity(
             f"figure 'bin_sensitivity': the phrase bank gave no label for {', '.join(missing)}"
         )
     panel_height = 0.95
-    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.75 + panel_height * n_rows), dpi=DPI)
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.75 + panel_height * n_rows), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
     grid = fig.subplots(n_rows, n_cols, sharex=True, squeeze=False)
     fig.subplots_adjust(
@@ -479,7 +480,6 @@ class LocaleTickFormatter(ticker.Formatter):
         self._decimals = 0
 
     def set_locs(self, locs: Sequence[float]) -> None:
-        self.locs = locs
         self._decimals = _decimals_for(locs)
 
     def __call__(self, x: float, pos: int | None = None) -> str:
@@ -565,7 +565,7 @@ def _font(size: float = FONT_SIZE) -> FontProperties:
 
 def _single_axes(*, height_in: float) -> tuple[Figure, Axes]:
     """A page-wide figure with one axes at fixed margins (in inches, so sizes are predictable)."""
-    fig = Figure(figsize=(PAGE_WIDTH_IN, height_in), dpi=DPI)
+    fig = Figure(figsize=(PAGE_WIDTH_IN, height_in), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
     left, right, bottom, top = _LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN
     ax = fig.add_axes((
@@ -740,11 +740,15 @@ def _offset_edges(low: float, high: float, width: float, offset: float, *, half_
 
 
 def _render(fig: Figure, text: FigureText) -> RenderedFigure:
+    canvas = fig.canvas
+    canvas.draw()
+    rgba = np.asarray(canvas.buffer_rgba())
+    # Opaque RGB on white: no alpha channel (which PDF converters split into a
+    # second "soft mask" image), and no text chunks (no software name, no
+    # time), so the same figure gives the same bytes.
     buffer = io.BytesIO()
-    # metadata Software=None drops the version stamp; Agg writes no time chunk,
-    # so the same figure gives the same bytes.
-    fig.savefig(buffer, format="png", dpi=DPI, metadata={"Software": None}, facecolor="white")
-    width_px, height_px = (round(side * DPI) for side in fig.get_size_inches())
+    Image.fromarray(np.ascontiguousarray(rgba[..., :3])).save(buffer, format="PNG", dpi=(DPI, DPI))
+    height_px, width_px = rgba.shape[:2]
     return RenderedFigure(
         key=text.key,
         png=buffer.getvalue(),

@@ -379,6 +379,7 @@ def _add_table(document, table: Table, pattern: str | None, number: int) -> None
             _fill_cell(cells[col], text, STYLE_NAMES["table_text"], align[col])
         _keep_row_together(grid.rows[row_index])
     _set_widths(grid, _column_widths(table, _text_width(document)))
+    _keep_table_on_one_page(grid)
     # A little air after the table, where the next paragraph begins.
     document.add_paragraph(style=STYLE_NAMES["body"]).paragraph_format.space_after = Cm(0.1)
 
@@ -397,6 +398,19 @@ def _repeat_as_header(row) -> None:
     trpr = row._tr.get_or_add_trPr()
     header = OxmlElement("w:tblHeader")
     trpr.append(header)
+
+
+def _keep_table_on_one_page(grid) -> None:
+    # Word and LibreOffice keep a table together when every row but the last
+    # keeps with the next; a table longer than a page still breaks, and its
+    # header row repeats.
+    rows = list(grid.rows)
+    if len(rows) > 30:
+        return
+    for row in rows[:-1]:
+        for cell in row.cells:
+            for paragraph in cell.paragraphs:
+                paragraph.paragraph_format.keep_with_next = True
 
 
 def _keep_row_together(row) -> None:

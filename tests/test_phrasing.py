@@ -330,3 +330,22 @@ def test_golden_texts(rivers, huron, rivers_12):
         if path.read_text(encoding="utf-8") != text:
             differ.append(name)
     assert not differ, f"wording changed in {differ}; if deliberate, rerun with NARRATOR_UPDATE_GOLDEN=1"
+
+
+# ------------------------------------------------------------------ cli
+
+
+def test_tell_prints_the_narrative(tmp_path, capsys):
+    from narrator.cli import main
+
+    # Invented data: repair-shop turnaround hours, one blank cell.
+    path = tmp_path / "invented_turnaround.csv"
+    path.write_text("hours\n2.5\n3.0\n4.5\n\n2.0\n3.5\n5.0\n4.0\n3.0\n2.5\n6.0\n", encoding="utf-8")
+    assert main(["tell", str(path), "--column", "hours", "--unit", "hours", "--locale", "es_ES"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("Resumen\n")
+    assert "Dejamos fuera una fila vacía." in out
+    assert main(["tell", str(path), "--column", "hours", "--audience", "methods"]) == 0
+    assert "Hyndman & Fan (1996)" in capsys.readouterr().out
+    assert main(["tell", str(path), "--column", "hours", "--locale", "xx_NOWHERE"]) == 2
+    assert "unknown locale" in capsys.readouterr().err

@@ -338,7 +338,7 @@ def count_visible_peaks(counts) -> int:
     noise_z = max(float(stats.norm.isf(FALSE_PEAK_RATE / (2.0 * heights.size))), MIN_NOISE_Z)
     needed = np.maximum(noise_z * np.sqrt(peak_height + valley), PEAK_MIN_SHARE * tallest)
     visible = prominence >= needed
-    visible[np.argmax(peak_height)] = True
+    visible[np.argmax(prominence)] = True  # the tallest peak: its prominence is its full height
     return int(visible.sum())
 
 

@@ -530,7 +530,8 @@ def find_peaks(
         valley_height = heights - prominence
         variance_scale = GAUSSIAN_ROUGHNESS / (sample_size * bandwidth)
         keep &= prominence >= noise_z * np.sqrt(np.maximum(heights + valley_height, 0.0) * variance_scale)
-    keep[np.argmax(heights)] = True  # the highest point of a curve with any mass is always a peak
+    # The highest maximum (its prominence is its full height) always counts.
+    keep[np.argmax(prominence)] = True
     return tuple(float(grid_array[i]) for i in positions[keep])
 
 

@@ -47,7 +47,7 @@ from narrator.findings import (
     Variable,
     WithoutOutliers,
 )
-from narrator.sample import Exclusion, Sample
+from narrator.sample import Exclusion, Sample, guess_decimals
 
 DEFAULT_SEED = 20261201
 MAD_NORMAL_SCALE = 1.482602218505602  # 1 / Phi^-1(3/4), as scipy.stats.median_abs_deviation(scale="normal")
@@ -166,6 +166,8 @@ def describe(
     n = int(values.size)
     sorted_values = np.sort(values)
     integer_valued = bool(n) and bool(np.all(np.mod(sorted_values, 1.0) == 0))
+    # The precision the values carry: a file may write whole numbers as "41.0".
+    decimals = 0 if integer_valued else guess_decimals(sorted_values)
     variable = Variable(
         name=sample.name,
         unit=sample.unit,
@@ -174,7 +176,7 @@ def describe(
         lower_bound=lower_bound,
         upper_bound=upper_bound,
         population=population,
-        decimals=sample.decimals,
+        decimals=decimals,
         integer_valued=integer_valued,
     )
     options = {
@@ -194,7 +196,7 @@ def describe(
     provenance = {**sample.source, "libraries": library_versions()}
 
     if n == 0:
-        quality, _ = assess_quality(sample, sorted_values, iqr=None)
+        quality, _ = assess_quality(sample, sorted_values, iqr=None, decimals=0)
         return Findings(
             schema_version=SCHEMA_VERSION,
             variable=variable,
@@ -338,7 +340,7 @@ def describe(
     interval_findings = _intervals(
         sorted_values, population=population, level=level, seed=seed, skewness=g1, clearly_skewed=clearly_skewed
     )
-    quality, _ = assess_quality(sample, sorted_values, iqr=iqr * factor)
+    quality, _ = assess_quality(sample, sorted_values, iqr=iqr * factor, decimals=decimals)
     return Findings(
         schema_version=SCHEMA_VERSION,
         variable=variable,

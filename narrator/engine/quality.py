@@ -156,9 +156,14 @@ def _ties(sorted_values: np.ndarray) -> tuple[list[QualityFlag], int]:
 
 
 def assess_quality(
-    sample: Sample, sorted_values: np.ndarray, *, iqr: float | None
+    sample: Sample, sorted_values: np.ndarray, *, iqr: float | None, decimals: int
 ) -> tuple[Quality, int]:
-    """All data-quality flags for a sample; returns (Quality, number of distinct values)."""
+    """All data-quality flags for a sample; returns (Quality, number of distinct values).
+
+    ``decimals`` is the precision the values actually carry (41.0 written in a
+    file counts as a whole number), so a column of whole numbers exported with
+    ".0" is not mistaken for heaping at whole numbers.
+    """
     flags = _exclusion_flags(sample)
     n = int(sorted_values.size)
     distinct = 0
@@ -167,7 +172,7 @@ def assess_quality(
     else:
         flags.extend(_missing_codes(sorted_values, sample.values, sample.rows))
         if iqr is not None:
-            flags.extend(_heaping(sample.values, sample.decimals, iqr))
+            flags.extend(_heaping(sample.values, decimals, iqr))
         tie_flags, distinct = _ties(sorted_values)
         flags.extend(tie_flags)
     if n < MIN_FOR_SHAPE:

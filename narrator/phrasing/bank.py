@@ -274,7 +274,8 @@ def load_plan(audience: str) -> Plan:
     for number, item in enumerate(data.get("sections", []), start=1):
         key = item.get("key")
         if key not in KNOWN_SECTIONS:
-            raise NarratorError(f"{where}: section {number} has unknown key {key!r}; known: {', '.join(KNOWN_SECTIONS)}")
+            known = ", ".join(KNOWN_SECTIONS)
+            raise NarratorError(f"{where}: section {number} has unknown key {key!r}; known: {known}")
         figures = tuple(item.get("figures", ()))
         tables = tuple(item.get("tables", ()))
         for figure in figures:

@@ -81,6 +81,10 @@ class WordingContext:
             return self.bank.format("format.quantity_with_text_unit", number=compact, unit=self.fmt.unit)
         return self.fmt.quantity(value, self.memo_decimals)
 
+    def memo_recorded(self, value: float) -> str:
+        """A single data value in a memo, with its unit: memo rounding, never finer than recorded."""
+        return self.fmt.quantity(value, min(self.memo_decimals, self.data_decimals))
+
     def exact(self, value: float) -> str:
         """A summary statistic for methods text and tables: one decimal beyond the data (Cole 2015)."""
         return self.fmt.fixed(value, self.methods_decimals)

@@ -105,9 +105,9 @@ def _why(ctx: WordingContext) -> Sentence | None:
 def _side_part(ctx: WordingContext, side: str, values: tuple[float, ...]) -> str:
     """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; values ascending."""
     if len(values) == 1:
-        span = ctx.memo(values[0])
+        span = ctx.memo_recorded(values[0])
     else:
-        span = ctx.text("format.range", low=ctx.memo(values[0]), high=ctx.memo(values[-1]))
+        span = ctx.text("format.range", low=ctx.memo_recorded(values[0]), high=ctx.memo_recorded(values[-1]))
     return ctx.text(f"memo.outliers.side_{side}", ctx.plural(len(values)),
                     count=_count_word(ctx, len(values), "value"), span=span)
 
@@ -127,8 +127,8 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
         return [ctx.sentence("memo.outliers.none", ("outliers.count",))]
     values = {
         "outlier_count": ctx.count(flagged.count, "value"),
-        "lowest": ctx.memo(min(flagged.values)),
-        "highest": ctx.memo(max(flagged.values)),
+        "lowest": ctx.memo_recorded(min(flagged.values)),
+        "highest": ctx.memo_recorded(max(flagged.values)),
     }
     keys = ("outliers.count", "outliers.values")
     if flagged.count_low and flagged.count_high:

@@ -76,9 +76,9 @@ class Narrative:
         """The narrative as plain text, for pasting into an email."""
         blocks = []
         for section in self.sections:
-            lines = [section.title, "=" * len(section.title)] if section.title else []
+            parts = [f"{section.title}\n{'=' * len(section.title)}"] if section.title else []
             for paragraph in section.paragraphs:
-                prefix = "- " if paragraph.style == "bullet" else ""
-                lines.append(prefix + paragraph.text)
-            blocks.append("\n\n".join(lines) if not section.title else "\n".join(lines[:2]) + "\n\n" + "\n\n".join(lines[2:]))
+                parts.append(("- " if paragraph.style == "bullet" else "") + paragraph.text)
+            if parts:
+                blocks.append("\n\n".join(parts))
         return "\n\n\n".join(b.rstrip() for b in blocks).rstrip() + "\n"

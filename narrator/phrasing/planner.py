@@ -130,7 +130,10 @@ def narrate(
     Plain Language Guidelines (2011).
     """
     if not isinstance(findings, Findings):
-        raise NarratorError(f"narrate() needs a Findings object (from narrator.describe), not {type(findings).__name__}")
+        kind = type(findings).__name__
+        raise NarratorError(f"narrate() needs a Findings object (from narrator.describe), not {kind}")
+    if audience not in AUDIENCES and not isinstance(audience, str):
+        raise NarratorError(f"audience must be one of {', '.join(AUDIENCES)} or a plan name, not {audience!r}")
     plan = load_plan(audience)
     ctx = make_context(findings, locale, currency=currency, unit=unit, name=name)
     made = {}

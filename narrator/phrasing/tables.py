@@ -35,8 +35,8 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
         (ctx.text(f"{key}.median"), ctx.memo(center.median)),
         (ctx.text(f"{key}.mean"), ctx.memo(center.mean)),
         (ctx.text(f"{key}.middle_half"), ctx.text("format.range", low=ctx.memo(spread.q1), high=ctx.memo(spread.q3))),
-        (ctx.text(f"{key}.lowest"), ctx.memo(spread.min)),
-        (ctx.text(f"{key}.highest"), ctx.memo(spread.max)),
+        (ctx.text(f"{key}.lowest"), ctx.memo_recorded(spread.min)),
+        (ctx.text(f"{key}.highest"), ctx.memo_recorded(spread.max)),
     ]
     if findings.outliers is not None and findings.outliers.note != "not_run_too_few":
         rows.append((ctx.text(f"{key}.unusual"), ctx.whole(findings.outliers.count)))
