@@ -5,6 +5,7 @@ Command        What it does
 =============  ==============================================================
 ``facts``      read one column and print the findings (a table, or ``--json``)
 ``tell``       read one column and print the narrative as plain text
+``draft``      read one column and write the Word report and its findings sidecar
 =============  ==============================================================
 
 Every command reports bad input as one line, ``narrator: <message>``, and
@@ -187,6 +188,21 @@ def command_tell(args: argparse.Namespace) -> int:
     return 0
 
 
+def command_draft(args: argparse.Namespace) -> int:
+    from narrator.report import report_from_findings
+    from narrator.safe_io import refuse_same_file
+
+    refuse_same_file(args.output, args.file)  # before any work, not only at the end
+    sample, found = read_and_describe(args)
+    outcome = report_from_findings(
+        sample, found, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
+        currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
+        author=args.author,
+    )
+    sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="narrator", description="Describe a column of numbers in careful, plain words."
@@ -207,6 +223,19 @@ def build_parser() -> argparse.ArgumentParser:
     tell.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES")
     tell.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
     tell.set_defaults(handler=command_tell)
+
+    draft = commands.add_parser("draft", help="write the Word report (.docx) for one column")
+    add_reading_options(draft)
+    draft.add_argument("-o", "--output", required=True, metavar="REPORT.docx", help="where to write the report")
+    draft.add_argument("--audience", default="full", choices=("memo", "methods", "full"),
+                       help="who the report is for (default: full)")
+    draft.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES")
+    draft.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
+    draft.add_argument("--title", help="report title (default: from the phrase bank)")
+    draft.add_argument("--organisation", help="organisation named under the title")
+    draft.add_argument("--author", help="document author property (default: the organisation)")
+    draft.add_argument("--template", help="a .docx whose styles, page and headers the report takes")
+    draft.set_defaults(handler=command_draft)
     return parser
 
 

@@ -36,8 +36,9 @@ from narrator.phrasing.numbers import NumberFormatter, parse_locale
 from narrator.sample import Sample
 from narrator.writer import ReportFrame, write_report
 
-# Source entries shown as their own appendix rows, not among the settings.
-_SOURCE_ROWS = ("file", "sha256", "column")
+# Reading options kept in Sample.source that a reader needs to read the file
+# the same way again; the other source entries are diagnostics, not settings.
+_READING_SETTINGS = ("sheet", "encoding", "delimiter", "decimal_comma", "missing_tokens")
 
 
 @dataclass(frozen=True, slots=True)
@@ -192,7 +193,7 @@ def report_frame(
         if exclusion.count
     ]
     rows.append((bank.format("report.left_out"), "; ".join(left_out) or bank.format("report.none")))
-    every_setting = {**findings.options, **{k: v for k, v in source.items() if k not in _SOURCE_ROWS}}
+    every_setting = {**findings.options, **{k: source[k] for k in _READING_SETTINGS if k in source}}
     every_setting.update(settings)
     for name in every_setting:
         value = json.dumps(every_setting[name], ensure_ascii=False, sort_keys=True, default=str)

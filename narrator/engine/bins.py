@@ -155,6 +155,12 @@ def _edge_tolerance(low: float, high: float, width: float, shift: float) -> floa
     return EDGE_TOLERANCE + 16.0 * float(np.finfo(float).eps) * largest_position
 
 
+def _nice_at_least(target: float, whole: bool) -> float:
+    """The narrowest nice width not below target."""
+    width = _whole_width(target) if whole else nice_width(target)
+    return width if width >= target else _next_wider(width, whole)
+
+
 def _bin_index(
     values: np.ndarray, width: float, shift: float, first_index: float, tolerance: float
 ) -> np.ndarray:
@@ -266,10 +272,13 @@ def histogram_plan(
     width = _whole_width(raw) if whole else nice_width(raw)
 
     narrowest = largest * MAGNITUDE_RESOLUTION
-    while width < narrowest:
-        width = _next_wider(width, whole)
+    if width < narrowest:
+        width = _nice_at_least(narrowest, whole)
         note = "magnitude_resolution"
-    while True:
+    if (high - low) / width > MAX_BINS:
+        width = _nice_at_least((high - low) / MAX_BINS, whole)
+        note = "bin_cap"
+    while True:  # alignment can add a bin: widen step by step until the bins fit
         tolerance = _edge_tolerance(low, high, width, shift)
         first = _first_index(low, width, shift, tolerance)
         bins = int(_bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1

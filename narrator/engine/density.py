@@ -36,6 +36,12 @@ data-driven width. The fallback is ``DEGENERATE_WIDTH_SHARE`` (5 %) of the
 value's size, or ``DEGENERATE_WIDTH_AT_ZERO`` (1) when the value is 0: a
 visible bump, recorded with reason code ``constant_fixed_width``. Our choice.
 
+A bandwidth narrower than the range / ``MAX_RANGE_IN_BANDWIDTHS`` (2^14) is
+widened to that (reason code ``bandwidth_floor``): such a curve is a row of
+spikes no 512-point grid can draw, and the binned estimate could not keep its
+accuracy (this happens only with a few values extremely far from a tied or
+tightly packed bulk).
+
 Density: the data are linearly binned (Fan & Marron 1994; Wand 1994) onto a
 fine grid with at least ``FINE_STEPS_PER_BANDWIDTH`` (32) points per
 bandwidth (4096 to 2^20 points), convolved with the Gaussian kernel by FFT
@@ -104,6 +110,7 @@ SJ_GRID_MAX = 2**17
 SJ_KERNEL_REACH = 12.0  # Gaussian derivatives beyond 12 pilot widths are below 1e-28
 
 DEGENERATE_WIDTH_SHARE = 0.05
+MAX_RANGE_IN_BANDWIDTHS = 2**14
 DEGENERATE_WIDTH_AT_ZERO = 1.0
 
 GRID_MARGIN_BANDWIDTHS = 3.0
@@ -168,10 +175,12 @@ def standard_units(values: np.ndarray) -> StandardUnits:
 
 def _sd_and_iqr(scaled: np.ndarray, sd: float | None, iqr: float | None, unit: float) -> tuple[float, float]:
     """SD (n - 1) and IQR (Hyndman-Fan type 7) in standard units; given values are in data units."""
-    if sd is None:
-        sd_scaled = float(np.std(scaled, ddof=1)) if scaled.size > 1 else 0.0
-    else:
+    if sd is not None:
         sd_scaled = float(sd) / unit
+    elif scaled.size > 1:
+        sd_scaled = float(np.std(scaled, ddof=1))
+    else:
+        sd_scaled = 0.0
     if iqr is None:
         q1, q3 = np.percentile(scaled, [25.0, 75.0])
         iqr_scaled = float(q3 - q1)
@@ -301,10 +310,24 @@ def _sheather_jones(scaled: np.ndarray, sd_scaled: float, iqr_scaled: float) -> 
     return float(optimize.brentq(equation, low, high, xtol=1e-12 * reference, rtol=1e-12))
 
 
+def _floored(units: StandardUnits, width: float, rule: str, note: str | None) -> tuple[float, str, str | None]:
+    """Widen a bandwidth narrower than range / MAX_RANGE_IN_BANDWIDTHS (see the module docstring)."""
+    floor = float(units.scaled.max() - units.scaled.min()) / MAX_RANGE_IN_BANDWIDTHS
+    if width < floor:
+        return floor, rule, "bandwidth_floor"
+    return width, rule, note
+
+
 def _choose_scaled(
     units: StandardUnits, rule: str, sd: float | None, iqr: float | None
 ) -> tuple[float, str, str | None]:
-    """(width in standard units, rule used, reason code)."""
+    """(width in standard units, rule used, reason code), floored."""
+    return _floored(units, *_choose_unfloored(units, rule, sd, iqr))
+
+
+def _choose_unfloored(
+    units: StandardUnits, rule: str, sd: float | None, iqr: float | None
+) -> tuple[float, str, str | None]:
     if rule not in BANDWIDTH_RULES:
         raise NarratorError(f"unknown bandwidth rule {rule!r}; choose one of {', '.join(BANDWIDTH_RULES)}")
     scaled = units.scaled
@@ -429,7 +452,7 @@ def estimate_density(
     else:
         if not (math.isfinite(bandwidth) and bandwidth > 0):
             raise NarratorError("density: the bandwidth must be a positive number")
-        width, used_rule, note = bandwidth / units.unit, "user", None
+        width, used_rule, note = _floored(units, bandwidth / units.unit, "user", None)
 
     scaled = units.scaled
     n = scaled.size

@@ -15,9 +15,11 @@ Name                           What it is
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+from babel.numbers import get_currency_precision
 from babel.units import get_unit_name
 
 from narrator.findings import Findings
@@ -28,6 +30,7 @@ from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_de
 
 COMPACT_FROM = 1_000_000  # memo numbers this large (without a unit) read better as "1.2 million"
 STATISTIC_DECIMALS = 2  # dimensionless statistics (G1, Bowley, medcouple) to two decimals (common practice)
+NOT_DEFINED = "–"  # an en dash, the table convention for a statistic that is not defined (APA 2020)
 P_DECIMALS = 3  # p-values to three decimals, "p < 0.001" below that (APA 2020)
 
 
@@ -79,14 +82,24 @@ class WordingContext:
             if self.fmt.unit is None:
                 return compact
             return self.bank.format("format.quantity_with_text_unit", number=compact, unit=self.fmt.unit)
-        return self.fmt.quantity(value, self.memo_decimals)
+        return self.fmt.quantity(value, self._memo_places(self.memo_decimals))
+
+    def _memo_places(self, decimals: int) -> int:
+        # Money is written in whole units or with the currency's own minor units ($11.50), never $11.5.
+        if self.fmt.currency_code is not None and decimals > 0:
+            return get_currency_precision(self.fmt.currency_code)
+        return decimals
 
     def memo_recorded(self, value: float) -> str:
         """A single data value in a memo, with its unit: memo rounding, never finer than recorded."""
-        return self.fmt.quantity(value, min(self.memo_decimals, self.data_decimals))
+        return self.fmt.quantity(value, self._memo_places(min(self.memo_decimals, self.data_decimals)))
 
     def exact(self, value: float) -> str:
-        """A summary statistic for methods text and tables: one decimal beyond the data (Cole 2015)."""
+        """A summary statistic for methods text and tables: one decimal beyond the data (Cole 2015).
+
+        An undefined statistic (the SD of one value) shows as a dash."""
+        if value is None or not math.isfinite(value):
+            return NOT_DEFINED
         return self.fmt.fixed(value, self.methods_decimals)
 
     def recorded(self, value: float) -> str:
@@ -94,7 +107,9 @@ class WordingContext:
         return self.fmt.fixed(value, self.data_decimals)
 
     def stat(self, value: float | None) -> str:
-        return "–" if value is None else self.fmt.fixed(value, STATISTIC_DECIMALS)
+        if value is None or not math.isfinite(value):
+            return NOT_DEFINED
+        return self.fmt.fixed(value, STATISTIC_DECIMALS)
 
     def whole(self, value: float) -> str:
         return self.fmt.fixed(value, 0)

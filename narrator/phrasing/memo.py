@@ -139,7 +139,8 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
         sentences = [ctx.sentence("memo.outliers.both", keys, **values)]
     else:
         side = "high" if flagged.count_high else "low"
-        sentences = [ctx.sentence(f"memo.outliers.{side}", keys, ctx.plural(flagged.count), **values)]
+        same = "_same" if values["lowest"] == values["highest"] else ""  # not "from $150 to $150"
+        sentences = [ctx.sentence(f"memo.outliers.{side}{same}", keys, ctx.plural(flagged.count), **values)]
     without = findings.without_outliers
     if without is not None and without.n > 0 and without.mean is not None:
         center = findings.center

@@ -38,6 +38,22 @@ class Table:
     align: tuple[str, ...] = ()  # per column: "left" or "right"
 
 
+    def plain_text(self) -> str:
+        """The table as aligned text columns under its caption."""
+        lines = [self.header, *self.rows]
+        widths = [max(len(line[i]) for line in lines) for i in range(len(self.header))]
+
+        def render(cells: tuple[str, ...]) -> str:
+            padded = []
+            for i, cell in enumerate(cells):
+                right = i < len(self.align) and self.align[i] == "right"
+                padded.append(cell.rjust(widths[i]) if right else cell.ljust(widths[i]))
+            return "  ".join(padded).rstrip()
+
+        rule = "  ".join("-" * width for width in widths)
+        return "\n".join([self.caption, "", render(self.header), rule, *(render(row) for row in self.rows)])
+
+
 @dataclass(frozen=True, slots=True)
 class FigureText:
     key: str  # "histogram", "dotplot", "with_without", "bin_sensitivity"
@@ -79,6 +95,7 @@ class Narrative:
             parts = [f"{section.title}\n{'=' * len(section.title)}"] if section.title else []
             for paragraph in section.paragraphs:
                 parts.append(("- " if paragraph.style == "bullet" else "") + paragraph.text)
+            parts.extend(table.plain_text() for table in section.tables)
             if parts:
                 blocks.append("\n\n".join(parts))
         return "\n\n\n".join(b.rstrip() for b in blocks).rstrip() + "\n"

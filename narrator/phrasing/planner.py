@@ -132,8 +132,6 @@ def narrate(
     if not isinstance(findings, Findings):
         kind = type(findings).__name__
         raise NarratorError(f"narrate() needs a Findings object (from narrator.describe), not {kind}")
-    if audience not in AUDIENCES and not isinstance(audience, str):
-        raise NarratorError(f"audience must be one of {', '.join(AUDIENCES)} or a plan name, not {audience!r}")
     plan = load_plan(audience)
     ctx = make_context(findings, locale, currency=currency, unit=unit, name=name)
     made = {}
