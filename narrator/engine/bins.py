@@ -38,7 +38,8 @@ replaced by the nearer of 2 and 5), and edges at half-integers (k * width -
 0.5), so no value ever sits on an edge and, at width 1, each bin is centred on
 one integer. Bins are half-open, [edge_i, edge_(i+1)), except that the last bin is closed
 when the largest value sits exactly on its upper edge (numpy's convention;
-a percentage of 100 then shares the top bin). A value equal to an
+a percentage of 100 then shares the top bin). An outer edge beyond the
+largest double (values near 1.8e308) is clamped to it. A value equal to an
 edge up to floating-point rounding (``EDGE_TOLERANCE`` of a bin) counts in the
 bin the edge opens, so decimal data such as 0.3 land in the bin [0.3, 0.4)
 even though 3 * 0.1 is 0.30000000000000004 in binary.
@@ -174,7 +175,12 @@ def _first_index(low: float, width: float, shift: float, tolerance: float) -> fl
 
 
 def _edges(first_index: float, bins: int, width: float, shift: float) -> np.ndarray:
-    edges = (first_index + np.arange(bins + 1)) * width + shift
+    largest = float(np.finfo(float).max)
+    steps = first_index + np.arange(bins + 1)
+    # Near the largest double an outer edge may not exist: clamp it to the largest float
+    # (computed as steps * (width / largest) <= 1 so nothing overflows).
+    beyond = np.abs(steps) * (width / largest) > 1.0
+    edges = np.where(beyond, np.sign(steps) * largest, np.where(beyond, 0.0, steps) * width) + shift
     if width < 1.0:
         # Print-clean edges: 0.30000000000000004 becomes 0.3 (the width has at most 4 significant digits).
         decimals = math.ceil(-math.log10(width)) + 1
