@@ -157,9 +157,9 @@ def report_frame(
 ) -> ReportFrame:
     """Title lines, caption numbering and the reproducibility appendix, worded from ``bank.report``.
 
-    Settings are shown as JSON values (``0.95``, ``"tukey"``, ``null``): they
-    are what a recipe or the command line takes, so a reader can repeat them
-    exactly.
+    Settings are shown as a recipe or the command line takes them (``0.95``,
+    ``tukey``, ``[0.1, 0.2]``), so a reader can repeat them exactly; settings
+    left unset (the default applied) are not listed.
     """
     numbers = NumberFormatter(locale)
     source = dict(sample.source or {})
@@ -195,8 +195,10 @@ def report_frame(
     rows.append((bank.format("report.left_out"), "; ".join(left_out) or bank.format("report.none")))
     every_setting = {**findings.options, **{k: source[k] for k in _READING_SETTINGS if k in source}}
     every_setting.update(settings)
-    for name in every_setting:
-        value = json.dumps(every_setting[name], ensure_ascii=False, sort_keys=True, default=str)
+    for name, setting in every_setting.items():
+        if setting is None:  # not set: the default applied, and the other rows say what it gave
+            continue
+        value = setting if isinstance(setting, str) else json.dumps(setting, ensure_ascii=False, sort_keys=True)
         rows.append((bank.format("report.setting", name=name), value))
     rows.append((bank.format("report.generated"), generated_at.strftime("%Y-%m-%dT%H:%M:%SZ")))
 

@@ -122,9 +122,10 @@ def test_appendix_records_the_input_and_every_setting(full_report, rivers_csv):
     assert appendix["Input file"] == "rivers.csv"
     assert appendix["Rows read"] == "141"
     assert appendix["Generated"] == "2026-12-01T09:30:00Z"
-    assert appendix["Setting: audience"] == '"full"'
-    for option in full_report.findings.options:
-        assert f"Setting: {option}" in appendix
+    assert appendix["Setting: audience"] == "full"
+    for option, value in full_report.findings.options.items():
+        # Unset settings (the default applied) are left out; every set one is listed.
+        assert (f"Setting: {option}" in appendix) == (value is not None)
     assert "narrator 0.1.0" in appendix["Software"] and "python-docx" in appendix["Software"]
 
 

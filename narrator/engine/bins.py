@@ -40,9 +40,10 @@ one integer. Bins are half-open, [edge_i, edge_(i+1)), except that the last bin 
 when the largest value sits exactly on its upper edge (numpy's convention;
 a percentage of 100 then shares the top bin). An outer edge beyond the
 largest double (values near 1.8e308) is clamped to it. A value equal to an
-edge up to floating-point rounding (``EDGE_TOLERANCE`` of a bin) counts in the
-bin the edge opens, so decimal data such as 0.3 land in the bin [0.3, 0.4)
-even though 3 * 0.1 is 0.30000000000000004 in binary.
+edge up to floating-point rounding (``EDGE_ROUNDING_ULPS`` = 64 units in the
+last place of the values' position in bins) counts in the bin the edge opens,
+so decimal data such as 0.3 land in the bin [0.3, 0.4) even though 3 * 0.1 is
+0.30000000000000004 in binary.
 
 Visible peaks and bin sensitivity: see :func:`count_visible_peaks` and
 :func:`bin_sensitivity`.
@@ -69,7 +70,7 @@ MAX_BINS = 200
 MIN_BINS = 1
 CONSTANT_WIDTH_SHARE = 0.1  # one bin 10 % of the value's size wide (width 1 at zero)
 MAGNITUDE_RESOLUTION = 2.0**-30  # narrowest width, relative to the largest |value|
-EDGE_TOLERANCE = 1e-9  # in bins: "on the edge" up to rounding
+EDGE_ROUNDING_ULPS = 64  # "on the edge" up to this many rounding steps of x / width
 LARGEST_EXACT_INTEGER = 2.0**52  # beyond this, x + 0.5 is not representable
 
 FALSE_PEAK_RATE = 0.05
@@ -153,7 +154,7 @@ def _next_wider(width: float, whole: bool) -> float:
 def _edge_tolerance(low: float, high: float, width: float, shift: float) -> float:
     """How near (in bins) to an edge a value counts as on it, allowing for rounding of x / width."""
     largest_position = max(abs(low - shift), abs(high - shift)) / width
-    return EDGE_TOLERANCE + 16.0 * float(np.finfo(float).eps) * largest_position
+    return EDGE_ROUNDING_ULPS * float(np.finfo(float).eps) * (1.0 + largest_position)
 
 
 def _nice_at_least(target: float, whole: bool) -> float:
@@ -181,10 +182,14 @@ def _edges(first_index: float, bins: int, width: float, shift: float) -> np.ndar
     # (computed as steps * (width / largest) <= 1 so nothing overflows).
     beyond = np.abs(steps) * (width / largest) > 1.0
     edges = np.where(beyond, np.sign(steps) * largest, np.where(beyond, 0.0, steps) * width) + shift
-    if width < 1.0:
-        # Print-clean edges: 0.30000000000000004 becomes 0.3 (the width has at most 4 significant digits).
+    if 1e-300 < width < 1.0:
+        # Print-clean edges: 0.30000000000000004 becomes 0.3 (the width has at most 4 significant digits),
+        # unless rounding would overflow or move an edge by more than rounding error.
         decimals = math.ceil(-math.log10(width)) + 1
-        edges = np.round(edges, decimals)
+        with np.errstate(over="ignore", invalid="ignore"):
+            rounded = np.round(edges, decimals)
+        if np.all(np.isfinite(rounded)) and np.all(np.abs(rounded - edges) <= 1e-6 * width):
+            edges = rounded
     return edges
 
 
@@ -247,23 +252,27 @@ def histogram_plan(
     shift = -0.5 if whole else 0.0
 
     low, high = float(array.min()), float(array.max())
-    if low == high:
-        width = 1.0 if whole or low == 0 else nice_width(CONSTANT_WIDTH_SHARE * abs(low))
-        first = _first_index(low, width, shift, _edge_tolerance(low, high, width, shift))
-        edges = _edges(first, 1, width, shift)
+    if not math.isfinite(high - low):
+        raise NarratorError("histogram: the values span more than the largest floating-point number")
+    units = standard_units(array)
+    if not units.has_spread:
+        # One bin (two if the values straddle an edge within floating-point resolution).
+        if whole or low == 0:
+            width = 1.0
+        else:  # 10 % of the value's size, kept above the smallest normal double
+            width = _nice_at_least(max(CONSTANT_WIDTH_SHARE * abs(low), float(np.finfo(float).tiny)), False)
+        tolerance = _edge_tolerance(low, high, width, shift)
+        first = _first_index(low, width, shift, tolerance)
+        index = _bin_index(array, width, shift, first, tolerance)
         return HistogramPlan(
             rule=rule,
             raw_width=0.0,
             width=width,
-            edges=tuple(float(e) for e in edges),
-            counts=(int(array.size),),
+            edges=tuple(float(e) for e in _edges(first, int(index.max()) + 1, width, shift)),
+            counts=tuple(int(c) for c in np.bincount(index)),
             integer_aligned=whole,
             note="constant",
         )
-
-    if not math.isfinite(high - low):
-        raise NarratorError("histogram: the values span more than the largest floating-point number")
-    units = standard_units(array)
     scaled = units.scaled
     sd_scaled = float(sd) / units.unit if sd is not None else float(np.std(scaled, ddof=1))
     if iqr is not None:
@@ -421,10 +430,17 @@ def bin_sensitivity(
         widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
     else:
         widths = tuple(float(base_width * f) for f in width_factors)
-    shift = -0.5 if whole else 0.0
+    # Work in units of a power of two near the data's size when values or widths are huge or tiny:
+    # the division is exact, so multiples of a width stay multiples, and nothing overflows.
+    size = max(float(np.max(np.abs(array))), base_width * max(width_factors))
+    factor = 1.0 if 2.0**-100 < size < 2.0**100 else 2.0 ** math.floor(math.log2(size))
+    if factor != 1.0:
+        array = array / factor
+    scaled_widths = tuple(w / factor for w in widths)
+    shift = (-0.5 if whole else 0.0) / factor
     low, high = float(array.min()), float(array.max())
 
-    plan = _fine_resolution(widths, offsets)
+    plan = _fine_resolution(scaled_widths, offsets)
     peak_counts: list[tuple[int, ...]] = []
     if plan is not None:
         step, period = plan
@@ -434,11 +450,11 @@ def bin_sensitivity(
         if fine_bins > MAX_FINE_BINS:
             raise NarratorError(
                 f"bin sensitivity: a width of {min(widths):g} is too narrow"
-                f" for values spanning {high - low:g}"
+                f" for values spanning {(high - low) * factor:g}"
             )
         fine_index = _bin_index(array, step, shift, float(origin), _edge_tolerance(low, high, step, shift))
         fine_counts = np.bincount(fine_index)
-        for w in widths:
+        for w in scaled_widths:
             steps_per_bin = round(w / step)
             row = []
             for o in offsets:
@@ -450,7 +466,7 @@ def bin_sensitivity(
                 row.append(count_visible_peaks(coarse.reshape(-1, steps_per_bin).sum(axis=1)))
             peak_counts.append(tuple(row))
     else:
-        for w in widths:
+        for w in scaled_widths:
             peak_counts.append(
                 tuple(count_visible_peaks(_counts_direct(array, w, shift + o * w)) for o in offsets)
             )

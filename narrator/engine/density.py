@@ -31,7 +31,8 @@ Bandwidth rules (``BANDWIDTH_RULES``):
   functionals are not positive or the equation has no root, Silverman's rule
   is used and recorded (``sheather_jones_failed_used_silverman``).
 
-A column with no spread at all (every value equal, or a single value) has no
+A column with no spread at all (every value equal, or a single value, or
+differences below the smallest normal double) has no
 data-driven width. The fallback is ``DEGENERATE_WIDTH_SHARE`` (5 %) of the
 value's size, or ``DEGENERATE_WIDTH_AT_ZERO`` (1) when the value is 0: a
 visible bump, recorded with reason code ``constant_fixed_width``. Our choice.
@@ -126,11 +127,16 @@ PEAK_NOISE_Z = 2.0
 
 @dataclass(frozen=True, slots=True)
 class StandardUnits:
-    """``values = centre + unit * scaled``; ``scaled`` lies in [-1, 1] unless all values are equal."""
+    """``values = centre + unit * scaled``; ``scaled`` lies in [-1, 1] when the values have spread.
+
+    ``has_spread`` is False when all values are equal, or differ by less than
+    the smallest normal double (2.2e-308), below which no width can be computed.
+    """
 
     centre: float
     unit: float
     scaled: np.ndarray
+    has_spread: bool
 
 
 @dataclass(frozen=True, slots=True)
@@ -161,16 +167,17 @@ def standard_units(values: np.ndarray) -> StandardUnits:
     are equal the unit is the value's size (or 1 at zero) and every scaled value is 0.
 
     >>> units = standard_units(np.array([1e300, 3e300]))
-    >>> units.centre, units.unit, units.scaled.tolist()
-    (2e+300, 1e+300, [-1.0, 1.0])
+    >>> units.centre, units.unit, units.scaled.tolist(), units.has_spread
+    (2e+300, 1e+300, [-1.0, 1.0], True)
     """
     array = _as_values(values)
     low = float(array.min())
     high = float(array.max())
     centre = low / 2.0 + high / 2.0
     half_range = high / 2.0 - low / 2.0
-    unit = half_range if half_range > 0.0 else (abs(centre) if centre != 0.0 else 1.0)
-    return StandardUnits(centre=centre, unit=unit, scaled=(array - centre) / unit)
+    has_spread = half_range >= float(np.finfo(float).tiny)
+    unit = half_range if has_spread else (abs(centre) if centre != 0.0 else 1.0)
+    return StandardUnits(centre=centre, unit=unit, scaled=(array - centre) / unit, has_spread=has_spread)
 
 
 def _sd_and_iqr(scaled: np.ndarray, sd: float | None, iqr: float | None, unit: float) -> tuple[float, float]:
@@ -313,7 +320,7 @@ def _sheather_jones(scaled: np.ndarray, sd_scaled: float, iqr_scaled: float) -> 
 def _floored(units: StandardUnits, width: float, rule: str, note: str | None) -> tuple[float, str, str | None]:
     """Widen a bandwidth narrower than range / MAX_RANGE_IN_BANDWIDTHS (see the module docstring)."""
     floor = float(units.scaled.max() - units.scaled.min()) / MAX_RANGE_IN_BANDWIDTHS
-    if width < floor:
+    if units.has_spread and width < floor:
         return floor, rule, "bandwidth_floor"
     return width, rule, note
 
@@ -333,7 +340,7 @@ def _choose_unfloored(
     scaled = units.scaled
     n = scaled.size
     sd_scaled, iqr_scaled = _sd_and_iqr(scaled, sd, iqr, units.unit)
-    if sd_scaled == 0 and iqr_scaled == 0:
+    if not units.has_spread or (sd_scaled == 0 and iqr_scaled == 0):
         return _degenerate_width(units), rule, "constant_fixed_width"
     if rule == "scott":
         if sd_scaled > 0:

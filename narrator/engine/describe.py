@@ -72,6 +72,8 @@ def _as_sample(values_or_sample, name: str | None, unit: str | None) -> Sample:
         sample = values_or_sample
         if unit is not None and sample.unit != unit:
             sample = replace(sample, unit=unit)
+        if name is not None and sample.name != name:
+            sample = replace(sample, name=name)
         return sample
     try:
         return Sample.from_values(values_or_sample, name=name or "value", unit=unit)

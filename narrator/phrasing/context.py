@@ -68,6 +68,10 @@ class WordingContext:
             template = template.get(category or "other", template["other"])
         return Sentence(capitalize_first(text) if template.startswith("{") else text, tuple(keys))
 
+    def caption(self, key: str, category: str | None = None, **values: str) -> str:
+        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field."""
+        return self.sentence(key, (), category, **values).text
+
     def plural(self, count: int) -> str:
         return self.fmt.locale.plural_form(int(count))
 

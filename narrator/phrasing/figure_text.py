@@ -47,7 +47,7 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
     }
     return FigureText(
         key="histogram",
-        caption=ctx.text("figures.histogram.caption", **values),
+        caption=ctx.caption("figures.histogram.caption", **values),
         alt_text=ctx.text("figures.histogram.alt", **values),
         labels=_labels(ctx, "histogram", ("x", "y", "mean", "median", "density")),
     )
@@ -71,7 +71,7 @@ def dotplot_text(ctx: WordingContext) -> FigureText | None:
     }
     return FigureText(
         key="dotplot",
-        caption=ctx.text("figures.dotplot.caption", **values),
+        caption=ctx.caption("figures.dotplot.caption", **values),
         alt_text=ctx.text("figures.dotplot.alt", **values).strip(),
         labels=_labels(ctx, "dotplot", ("x", "y", "mean", "median", "flagged")),
     )
@@ -93,7 +93,7 @@ def with_without_text(ctx: WordingContext) -> FigureText | None:
     }
     return FigureText(
         key="with_without",
-        caption=ctx.text("figures.with_without.caption", **values),
+        caption=ctx.caption("figures.with_without.caption", **values),
         alt_text=ctx.text("figures.with_without.alt", **values),
         labels=_labels(ctx, "with_without", ("x", "y", "all", "without", "mean", "median")),
     )
@@ -121,7 +121,7 @@ def bin_sensitivity_text(ctx: WordingContext) -> FigureText | None:
         labels[f"offset_{index}"] = ctx.text("figures.bin_sensitivity.offset", offset=ctx.fmt.fixed(offset, 2))
     return FigureText(
         key="bin_sensitivity",
-        caption=ctx.text("figures.bin_sensitivity.caption", **values),
+        caption=ctx.caption("figures.bin_sensitivity.caption", **values),
         alt_text=ctx.text(alt_key, **values),
         labels=labels,
     )

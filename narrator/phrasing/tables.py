@@ -42,7 +42,7 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
         rows.append((ctx.text(f"{key}.unusual"), ctx.whole(findings.outliers.count)))
     return Table(
         key="key_figures",
-        caption=ctx.text(f"{key}.caption", name=ctx.name),
+        caption=ctx.caption(f"{key}.caption", name=ctx.name),
         header=(ctx.text(f"{key}.measure"), ctx.text(f"{key}.value")),
         rows=tuple(rows),
         keys=("n", "center.median", "center.mean", "spread.q1", "spread.q3", "spread.min", "spread.max",
@@ -74,7 +74,7 @@ def statistics_table(ctx: WordingContext) -> Table | None:
     name = ctx.axis_name
     return Table(
         key="statistics",
-        caption=ctx.text(f"{key}.caption", name=name),
+        caption=ctx.caption(f"{key}.caption", name=name),
         header=(ctx.text(f"{key}.statistic"), ctx.text(f"{key}.value")),
         rows=tuple(rows),
         keys=("n", "n_missing", "center.mean", "spread.sd", "center.median", "spread.q1", "spread.q3",
@@ -101,10 +101,10 @@ def outliers_table(ctx: WordingContext) -> Table | None:
         ))
     rule = ctx.text(f"words.outlier_rule.{flagged.rule}")
     if flagged.count > OUTLIER_ROWS_SHOWN:
-        caption = ctx.text(f"{key}.caption_first", rule=rule, shown=ctx.whole(OUTLIER_ROWS_SHOWN),
+        caption = ctx.caption(f"{key}.caption_first", rule=rule, shown=ctx.whole(OUTLIER_ROWS_SHOWN),
                            total=ctx.whole(flagged.count))
     else:
-        caption = ctx.text(f"{key}.caption", rule=rule)
+        caption = ctx.caption(f"{key}.caption", rule=rule)
     return Table(
         key="outliers",
         caption=caption,
@@ -140,7 +140,7 @@ def with_without_table(ctx: WordingContext) -> Table | None:
     )
     return Table(
         key="with_without",
-        caption=ctx.text(f"{key}.caption", name=ctx.axis_name),
+        caption=ctx.caption(f"{key}.caption", name=ctx.axis_name),
         header=(ctx.text(f"{key}.measure"), ctx.text(f"{key}.all"), ctx.text(f"{key}.without"),
                 ctx.text(f"{key}.change")),
         rows=rows,
