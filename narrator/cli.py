@@ -203,6 +203,20 @@ def command_draft(args: argparse.Namespace) -> int:
     return 0
 
 
+def command_compare(args: argparse.Namespace) -> int:
+    from narrator.changes import compare, read_sidecar
+    from narrator.phrasing.changes import changes_section
+    from narrator.phrasing.narrative import Narrative
+
+    old, _ = read_sidecar(args.old)
+    new, _ = read_sidecar(args.new)
+    section = changes_section(compare(old, new), old, new, locale=args.locale, currency=args.currency)
+    narrative = Narrative(audience="changes", locale=args.locale, language=args.locale.split("_")[0],
+                          title=section.title, sections=(section,))
+    sys.stdout.write(narrative.plain_text())
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="narrator", description="Describe a column of numbers in careful, plain words."
@@ -236,6 +250,13 @@ def build_parser() -> argparse.ArgumentParser:
     draft.add_argument("--author", help="document author property (default: the organisation)")
     draft.add_argument("--template", help="a .docx whose styles, page and headers the report takes")
     draft.set_defaults(handler=command_draft)
+
+    compare = commands.add_parser("compare", help="say in plain words what changed between two findings files")
+    compare.add_argument("old", metavar="OLD.findings.json", help="findings of the earlier build")
+    compare.add_argument("new", metavar="NEW.findings.json", help="findings of the later build")
+    compare.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers")
+    compare.add_argument("--currency", help="ISO 4217 code when the values are money")
+    compare.set_defaults(handler=command_compare)
     return parser
 
 
