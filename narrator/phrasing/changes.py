@@ -116,5 +116,6 @@ def _shape_words(ctx: WordingContext, findings: Findings) -> str:
     shape = findings.shape
     words = ctx.text(f"words.shape.{shape.label}")
     if shape.strength:
-        return ctx.text("changes.shape_with_strength", strength=ctx.text(f"words.strength.{shape.strength}"), shape=words)
+        strength = ctx.text(f"words.strength.{shape.strength}")
+        return ctx.text("changes.shape_with_strength", strength=strength, shape=words)
     return words
