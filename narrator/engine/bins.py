@@ -36,14 +36,16 @@ of the width (the first edge is floor(min / width) * width). Whole-number data
 (``integer_valued``) get whole widths of at least 1 from 1, 2, 5 x 10^k (2.5 is
 replaced by the nearer of 2 and 5), and edges at half-integers (k * width -
 0.5), so no value ever sits on an edge and, at width 1, each bin is centred on
-one integer. Bins are half-open, [edge_i, edge_(i+1)), except that the last bin is closed
-when the largest value sits exactly on its upper edge (numpy's convention;
-a percentage of 100 then shares the top bin). An outer edge beyond the
-largest double (values near 1.8e308) is clamped to it. A value equal to an
-edge up to floating-point rounding (``EDGE_ROUNDING_ULPS`` = 64 units in the
-last place of the values' position in bins) counts in the bin the edge opens,
-so decimal data such as 0.3 land in the bin [0.3, 0.4) even though 3 * 0.1 is
-0.30000000000000004 in binary.
+one integer.
+
+Bins are half-open, [edge_i, edge_(i+1)), except that the last bin is closed
+when the largest value sits exactly on its upper edge (numpy's convention; a
+percentage of 100 then shares the top bin). An outer edge beyond the largest
+double (values near 1.8e308) is clamped to it. A value equal to an edge up to
+floating-point rounding (``EDGE_ROUNDING_ULPS`` = 64 units in the last place
+of the value's position in bins, at most ``EDGE_TOLERANCE_CAP``, a millionth
+of a bin) counts in the bin the edge opens, so decimal data such as 0.3 land
+in the bin [0.3, 0.4) even though 3 * 0.1 is 0.30000000000000004 in binary.
 
 Visible peaks and bin sensitivity: see :func:`count_visible_peaks` and
 :func:`bin_sensitivity`.
@@ -71,6 +73,7 @@ MIN_BINS = 1
 CONSTANT_WIDTH_SHARE = 0.1  # one bin 10 % of the value's size wide (width 1 at zero)
 MAGNITUDE_RESOLUTION = 2.0**-30  # narrowest width, relative to the largest |value|
 EDGE_ROUNDING_ULPS = 64  # "on the edge" up to this many rounding steps of x / width
+EDGE_TOLERANCE_CAP = 1e-6  # ... but never more than a millionth of a bin
 LARGEST_EXACT_INTEGER = 2.0**52  # beyond this, x + 0.5 is not representable
 
 FALSE_PEAK_RATE = 0.05
@@ -154,7 +157,7 @@ def _next_wider(width: float, whole: bool) -> float:
 def _edge_tolerance(low: float, high: float, width: float, shift: float) -> float:
     """How near (in bins) to an edge a value counts as on it, allowing for rounding of x / width."""
     largest_position = max(abs(low - shift), abs(high - shift)) / width
-    return EDGE_ROUNDING_ULPS * float(np.finfo(float).eps) * (1.0 + largest_position)
+    return min(EDGE_ROUNDING_ULPS * float(np.finfo(float).eps) * (1.0 + largest_position), EDGE_TOLERANCE_CAP)
 
 
 def _nice_at_least(target: float, whole: bool) -> float:
@@ -425,18 +428,23 @@ def bin_sensitivity(
         raise NarratorError("bin sensitivity: width factors must be positive numbers")
     if not offsets or any(not (math.isfinite(o) and 0 <= o < 1) for o in offsets):
         raise NarratorError("bin sensitivity: offsets must be fractions in [0, 1)")
-    whole = bool(integer_valued) and float(np.max(np.abs(array))) < LARGEST_EXACT_INTEGER
-    if whole:
-        widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
-    else:
-        widths = tuple(float(base_width * f) for f in width_factors)
+    largest_value = float(np.max(np.abs(array)))
+    whole = bool(integer_valued) and largest_value < LARGEST_EXACT_INTEGER
     # Work in units of a power of two near the data's size when values or widths are huge or tiny:
     # the division is exact, so multiples of a width stay multiples, and nothing overflows.
-    size = max(float(np.max(np.abs(array))), base_width * max(width_factors))
-    factor = 1.0 if 2.0**-100 < size < 2.0**100 else 2.0 ** math.floor(math.log2(size))
+    size_log2 = max(
+        math.log2(largest_value) if largest_value > 0 else -math.inf,
+        math.log2(base_width) + math.log2(max(width_factors)),
+    )
+    factor = 1.0 if -100 < size_log2 < 100 else math.ldexp(1.0, min(math.floor(size_log2), 1023))
     if factor != 1.0:
         array = array / factor
-    scaled_widths = tuple(w / factor for w in widths)
+    if whole:
+        scaled_widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
+    else:
+        scaled_widths = tuple(float((base_width / factor) * f) for f in width_factors)
+    # Reported in data units; a width past the largest double (values near 1.8e308) reads as that.
+    widths = tuple(min(w * factor, float(np.finfo(float).max)) for w in scaled_widths)
     shift = (-0.5 if whole else 0.0) / factor
     low, high = float(array.min()), float(array.max())
 

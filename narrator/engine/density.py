@@ -31,8 +31,8 @@ Bandwidth rules (``BANDWIDTH_RULES``):
   functionals are not positive or the equation has no root, Silverman's rule
   is used and recorded (``sheather_jones_failed_used_silverman``).
 
-A column with no spread at all (every value equal, or a single value, or
-differences below the smallest normal double) has no
+A column with no spread at all (every value equal, or a single value, or a
+half-range below 2^-1000, see :class:`StandardUnits`) has no
 data-driven width. The fallback is ``DEGENERATE_WIDTH_SHARE`` (5 %) of the
 value's size, or ``DEGENERATE_WIDTH_AT_ZERO`` (1) when the value is 0: a
 visible bump, recorded with reason code ``constant_fixed_width``. Our choice.
@@ -111,6 +111,7 @@ SJ_GRID_MAX = 2**17
 SJ_KERNEL_REACH = 12.0  # Gaussian derivatives beyond 12 pilot widths are below 1e-28
 
 DEGENERATE_WIDTH_SHARE = 0.05
+SMALLEST_SPREAD = 2.0**-1000
 MAX_RANGE_IN_BANDWIDTHS = 2**14
 DEGENERATE_WIDTH_AT_ZERO = 1.0
 
@@ -129,8 +130,10 @@ PEAK_NOISE_Z = 2.0
 class StandardUnits:
     """``values = centre + unit * scaled``; ``scaled`` lies in [-1, 1] when the values have spread.
 
-    ``has_spread`` is False when all values are equal, or differ by less than
-    the smallest normal double (2.2e-308), below which no width can be computed.
+    ``has_spread`` is False when all values are equal, or when their half-range
+    is below ``SMALLEST_SPREAD`` = 2^-1000 (about 9e-302): below that a density
+    in data units (about 1 / spread high) would overflow. The unit is then the
+    values' size (at least ``SMALLEST_SPREAD``; 1 at zero).
     """
 
     centre: float
@@ -175,8 +178,8 @@ def standard_units(values: np.ndarray) -> StandardUnits:
     high = float(array.max())
     centre = low / 2.0 + high / 2.0
     half_range = high / 2.0 - low / 2.0
-    has_spread = half_range >= float(np.finfo(float).tiny)
-    unit = half_range if has_spread else (abs(centre) if centre != 0.0 else 1.0)
+    has_spread = half_range >= SMALLEST_SPREAD
+    unit = half_range if has_spread else (max(abs(centre), SMALLEST_SPREAD) if centre != 0.0 else 1.0)
     return StandardUnits(centre=centre, unit=unit, scaled=(array - centre) / unit, has_spread=has_spread)
 
 
@@ -201,7 +204,7 @@ def _sd_and_iqr(scaled: np.ndarray, sd: float | None, iqr: float | None, unit: f
 def _degenerate_width(units: StandardUnits) -> float:
     """The fixed width for a column with no spread, in standard units."""
     if units.centre != 0.0:
-        return DEGENERATE_WIDTH_SHARE * abs(units.centre) / units.unit
+        return DEGENERATE_WIDTH_SHARE * max(abs(units.centre), SMALLEST_SPREAD) / units.unit
     return DEGENERATE_WIDTH_AT_ZERO / units.unit
 
 
@@ -249,8 +252,12 @@ class _BinnedPairSums:
     def __init__(self, scaled: np.ndarray, scale: float) -> None:
         low = float(scaled.min())
         span = float(scaled.max()) - low
-        wanted = math.ceil(span / (scale / SJ_STEPS_PER_SCALE)) + 1
-        size = int(min(max(1 << max(wanted - 1, 1).bit_length(), SJ_GRID_MIN), SJ_GRID_MAX))
+        points = span * SJ_STEPS_PER_SCALE / scale if scale > 0 else math.inf
+        if not points < SJ_GRID_MAX:
+            size = SJ_GRID_MAX
+        else:
+            wanted = math.ceil(points) + 1
+            size = int(min(max(1 << max(wanted - 1, 1).bit_length(), SJ_GRID_MIN), SJ_GRID_MAX))
         self.step = span / (size - 1)
         counts = _linear_bin(scaled, low, self.step, size)
         spectrum = np.fft.rfft(counts, 2 * size)
@@ -258,9 +265,13 @@ class _BinnedPairSums:
         self.size = size
 
     def __call__(self, order: int, width: float) -> float:
+        """The pair sum at pilot width ``width``; NaN when the width is under a quarter of a grid step,
+        where binned sums are no longer trustworthy (the caller then falls back to Silverman's rule)."""
+        if not (math.isfinite(width) and width >= self.step / 4.0):
+            return math.nan
         limit = min(self.size, math.ceil(SJ_KERNEL_REACH * width / self.step) + 1)
-        u = np.arange(limit) * self.step / width
-        weights = _hermite_gaussian(order, u)
+        u = np.arange(limit) * (self.step / width)
+        weights = np.where(u <= SJ_KERNEL_REACH, _hermite_gaussian(order, np.minimum(u, SJ_KERNEL_REACH)), 0.0)
         return float(self.lag_sums[0] * weights[0] + 2.0 * np.dot(self.lag_sums[1:limit], weights[1:]))
 
 
@@ -275,16 +286,19 @@ def _sheather_jones(scaled: np.ndarray, sd_scaled: float, iqr_scaled: float) -> 
     pair_sums = _BinnedPairSums(scaled, spread / NORMAL_IQR)
     pairs = n * (n - 1.0)
 
+    # A NaN pair sum (pilot width too narrow for the grid) is passed on, never divided.
     def s_hat(width: float) -> float:  # estimates the integral of f''(x)^2
-        return pair_sums(4, width) / (pairs * width**5)
+        total = pair_sums(4, width)
+        return total / (pairs * width**5) if math.isfinite(total) else math.nan
 
     def t_hat(width: float) -> float:  # estimates the integral of f'''(x)^2, i.e. minus psi_6
-        return -pair_sums(6, width) / (pairs * width**7)
+        total = pair_sums(6, width)
+        return -total / (pairs * width**7) if math.isfinite(total) else math.nan
 
     pilot_a = SJ_PILOT_A * spread * n ** (-1.0 / 7.0)
     pilot_b = SJ_PILOT_B * spread * n ** (-1.0 / 9.0)
     s_a, t_b = s_hat(pilot_a), t_hat(pilot_b)
-    if not (s_a > 0 and t_b > 0):
+    if not (s_a > 0 and t_b > 0 and math.isfinite(s_a) and math.isfinite(t_b)):
         return None
     alpha_factor = SJ_ALPHA * (s_a / t_b) ** (1.0 / 7.0)
 
@@ -314,7 +328,11 @@ def _sheather_jones(scaled: np.ndarray, sd_scaled: float, iqr_scaled: float) -> 
         high *= 2.0
     else:
         return None
-    return float(optimize.brentq(equation, low, high, xtol=1e-12 * reference, rtol=1e-12))
+    try:
+        root = float(optimize.brentq(equation, low, high, xtol=1e-12 * reference, rtol=1e-12))
+    except (ValueError, RuntimeError):  # no sign change left, or no convergence
+        return None
+    return root if math.isfinite(equation(root)) else None
 
 
 def _floored(units: StandardUnits, width: float, rule: str, note: str | None) -> tuple[float, str, str | None]:
@@ -481,28 +499,28 @@ def estimate_density(
     np.maximum(fine_density, 0.0, out=fine_density)  # FFT round-off leaves tiny negatives far out
     fine_grid = fine_start + np.arange(fine_size) * fine_step
 
-    # Output grid: data +- 3h, clipped at the bounds; reflect the kernel there.
+    # Output grid: data +- 3h, clipped at the bounds; reflect the kernel there. Without a bound,
+    # keep the grid inside the float range (data near +-1.8e308), written so nothing overflows.
+    largest = float(np.finfo(float).max)
     out_low = low - GRID_MARGIN_BANDWIDTHS * width
     out_high = high + GRID_MARGIN_BANDWIDTHS * width
-    if lower is not None:
-        out_low = max(out_low, lower)
-    if upper is not None:
-        out_high = min(out_high, upper)
-    # Keep the grid inside the float range (data near +-1.8e308): written so that nothing overflows.
-    largest = float(np.finfo(float).max)
-    out_low = max(out_low, -largest / units.unit - units.centre / units.unit)
-    out_high = min(out_high, largest / units.unit - units.centre / units.unit)
+    clipped_low = lower is not None and out_low <= lower
+    clipped_high = upper is not None and out_high >= upper
+    out_low = lower if clipped_low else max(out_low, -largest / units.unit - units.centre / units.unit)
+    out_high = upper if clipped_high else min(out_high, largest / units.unit - units.centre / units.unit)
     grid = np.linspace(out_low, out_high, grid_size)
     density_scaled = np.zeros(grid_size)
     for sign, shift in _reflection_images(lower, upper, reach):
         density_scaled += np.interp(shift + sign * grid, fine_grid, fine_density, left=0.0, right=0.0)
     reflected = (lower is not None and low - lower < reach) or (upper is not None and upper - high < reach)
 
-    grid_data = units.centre + grid * units.unit
-    if lower_bound is not None and out_low == lower:
+    with np.errstate(over="ignore"):  # a rounding step past the largest double is clipped just below
+        grid_data = np.clip(units.centre + grid * units.unit, -largest, largest)
+    if clipped_low:
         grid_data[0] = lower_bound  # exactly the bound, not a rounding of it
-    if upper_bound is not None and out_high == upper:
+    if clipped_high:
         grid_data[-1] = upper_bound
+    grid_data = np.maximum.accumulate(grid_data)  # rounding in data units must not reverse the order
     density_data = density_scaled / units.unit
     # Peaks are found in standard units, where f / h cannot underflow for huge magnitudes.
     peak_locations = find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)

@@ -47,7 +47,7 @@ from narrator.findings import (
     Variable,
     WithoutOutliers,
 )
-from narrator.sample import Exclusion, Sample, guess_decimals
+from narrator.sample import Exclusion, Sample, clean_label, guess_decimals
 
 DEFAULT_SEED = 20261201
 MAD_NORMAL_SCALE = 1.482602218505602  # 1 / Phi^-1(3/4), as scipy.stats.median_abs_deviation(scale="normal")
@@ -68,6 +68,10 @@ def library_versions() -> dict[str, str]:
 
 
 def _as_sample(values_or_sample, name: str | None, unit: str | None) -> Sample:
+    # A label or unit may come from a recipe or the command line: it is shown in
+    # the document and on figures, so it is cleaned like a column name.
+    name = None if name is None else clean_label(name) or None
+    unit = None if unit is None else clean_label(unit) or None
     if isinstance(values_or_sample, Sample):
         sample = values_or_sample
         if unit is not None and sample.unit != unit:
@@ -111,7 +115,9 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
     if not merged:
         exclusions.append(Exclusion("impossible", count, new_rows, new_examples))
     keep = ~outside
-    return replace(sample, values=sample.values[keep], rows=sample.rows[keep], exclusions=tuple(exclusions))
+    ids = None if sample.ids is None else sample.ids[keep]
+    return replace(sample, values=sample.values[keep], rows=sample.rows[keep], exclusions=tuple(exclusions),
+                   ids=ids)
 
 
 def _check_options(outlier_rule, level, bin_rule, bandwidth_rule, lower_bound, upper_bound) -> None:
@@ -161,8 +167,11 @@ def describe(
     """
     _check_options(outlier_rule, level, bin_rule, bandwidth_rule, lower_bound, upper_bound)
     # A bound the quantity cannot cross is also a limit of the valid range: a wait of -3 days is impossible.
-    effective_min = valid_min if lower_bound is None else max(lower_bound, valid_min or lower_bound)
-    effective_max = valid_max if upper_bound is None else min(upper_bound, valid_max or upper_bound)
+    # (A valid minimum of 0 is a bound like any other: compare with None, not truthiness.)
+    effective_min = valid_min if lower_bound is None else max(
+        lower_bound, lower_bound if valid_min is None else valid_min)
+    effective_max = valid_max if upper_bound is None else min(
+        upper_bound, upper_bound if valid_max is None else valid_max)
     sample = _apply_valid_range(_as_sample(values_or_sample, name, unit), effective_min, effective_max)
     values = sample.values
     n = int(values.size)
@@ -288,6 +297,10 @@ def describe(
     )
     if factor != 1.0:
         flagged = _rescale_outliers(flagged, factor)
+    if sample.ids is not None and flagged.rows:
+        # Rows are in file order, so each flagged row is found by bisection.
+        where = np.searchsorted(sample.rows, np.asarray(flagged.rows, dtype=np.int64))
+        flagged = replace(flagged, ids=tuple(str(sample.ids[k]) for k in where))
 
     without = _without_outliers(unit_values, flagged.values, factor, mean, median, sd, iqr)
     lead, lead_reasons = choose_lead(

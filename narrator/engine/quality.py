@@ -8,6 +8,11 @@ Flag code                    When it is raised
 ``non_numeric``              cells that are not numbers were left out
 ``impossible``               values outside the declared valid range were left out
 ``non_finite``               infinities or overflowing numbers were left out
+``ambiguous_grouping``       cells such as "1,234" that the other decimal convention
+                             reads differently were read under the declared one
+``percent_signs``            cells carried a "%"; the numbers were kept as written
+``currency_marks``           cells carried a currency symbol or code, set aside
+``encoding_guessed``         the text file was not UTF-8; a fallback codec was used
 ``missing_code``             values such as -99 or 9999 sit far from the rest (kept, flagged)
 ``heaping``                  far more values at round numbers than chance gives
 ``few_distinct``             ten or fewer distinct values
@@ -56,6 +61,34 @@ def _exclusion_flags(sample: Sample) -> list[QualityFlag]:
                     rows=tuple(int(r) for r in exclusion.rows[:ROWS_SHOWN]),
                 )
             )
+    return flags
+
+
+def _reading_flags(sample: Sample) -> list[QualityFlag]:
+    """What the reader saw in the cells and settled by rule, so a reader of the report can check it.
+
+    A cell that two conventions read differently is never guessed silently:
+    it is read under the declared convention and counted here.
+    """
+    source = sample.source or {}
+    total = max(sample.n_rows, 1)
+    flags = []
+    ambiguous = int(source.get("ambiguous_grouping") or 0)
+    if ambiguous:
+        flags.append(QualityFlag(
+            code="ambiguous_grouping", count=ambiguous, share=ambiguous / total,
+            rows=tuple(int(r) for r in source.get("ambiguous_grouping_rows", ())[:ROWS_SHOWN]),
+            detail={"decimal_comma": float(bool(source.get("decimal_comma")))},
+        ))
+    percent = int(source.get("percent_cells") or 0)
+    if percent:
+        flags.append(QualityFlag(code="percent_signs", count=percent, share=percent / total))
+    currencies = source.get("currency_symbols") or ()
+    if currencies:
+        flags.append(QualityFlag(code="currency_marks", count=len(currencies),
+                                 detail={"distinct_marks": float(len(currencies))}))
+    if source.get("encoding_guessed"):
+        flags.append(QualityFlag(code="encoding_guessed", count=1))
     return flags
 
 
@@ -164,7 +197,7 @@ def assess_quality(
     file counts as a whole number), so a column of whole numbers exported with
     ".0" is not mistaken for heaping at whole numbers.
     """
-    flags = _exclusion_flags(sample)
+    flags = _exclusion_flags(sample) + _reading_flags(sample)
     n = int(sorted_values.size)
     distinct = 0
     if n == 0:
