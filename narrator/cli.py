@@ -6,6 +6,9 @@ Command        What it does
 ``facts``      read one column and print the findings (a table, or ``--json``)
 ``tell``       read one column and print the narrative as plain text
 ``draft``      read one column and write the Word report and its findings sidecar
+               (``--group-by`` breaks it down by a grouping column)
+``recipe``     write a starter report recipe (TOML) for a data file
+``redraft``    build every report a recipe names, each with its sidecar
 =============  ==============================================================
 
 Every command reports bad input as one line, ``narrator: <message>``, and
@@ -19,6 +22,7 @@ import argparse
 import os
 import sys
 from collections.abc import Callable, Sequence
+from pathlib import Path
 
 from narrator import findings as findings_module
 from narrator.errors import NarratorError
@@ -55,6 +59,10 @@ def add_reading_options(parser: argparse.ArgumentParser) -> None:
         "--missing", action="append", default=[], metavar="TOKEN",
         help="an extra cell text that means missing (repeatable), e.g. --missing -99",
     )
+    parser.add_argument(
+        "--id-column", metavar="NAME",
+        help="a column of record identifiers to show beside flagged values (none are read otherwise)",
+    )
 
 
 def read_and_describe(args: argparse.Namespace):
@@ -69,6 +77,7 @@ def read_and_describe(args: argparse.Namespace):
         missing=tuple(args.missing),
         valid_min=args.valid_min,
         valid_max=args.valid_max,
+        id_column=args.id_column,
     )
     try:
         sample = read_column(args.file, args.column, **options)
@@ -193,6 +202,8 @@ def command_draft(args: argparse.Namespace) -> int:
     from narrator.safe_io import refuse_same_file
 
     refuse_same_file(args.output, args.file)  # before any work, not only at the end
+    if args.group_by is not None:
+        return _draft_by_group(args)
     sample, found = read_and_describe(args)
     outcome = report_from_findings(
         sample, found, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
@@ -200,6 +211,73 @@ def command_draft(args: argparse.Namespace) -> int:
         author=args.author,
     )
     sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
+    return 0
+
+
+def _draft_by_group(args: argparse.Namespace) -> int:
+    from narrator.collection import VariableRequest, analyse_file
+    from narrator.progress import progress_for
+    from narrator.report import report_from_collection
+
+    request = VariableRequest(
+        column=int(args.column) if args.column.isdigit() else args.column, label=args.label, unit=args.unit,
+        valid_min=args.valid_min, valid_max=args.valid_max, lower_bound=args.lower_bound,
+        upper_bound=args.upper_bound, population=args.population, outlier_rule=args.outlier_rule,
+    )
+    progress = progress_for(None, quiet=args.quiet)
+    try:
+        collection = analyse_file(
+            args.file, [request], sheet=args.sheet, decimal_comma=args.decimal_comma, missing=tuple(args.missing),
+            group_by=args.group_by, privacy_threshold=args.privacy_threshold, step=progress.step,
+        )
+        outcome = report_from_collection(
+            collection, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
+            currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
+            author=args.author, step=progress.step,
+        )
+    finally:
+        progress.finish()
+    sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
+    return 0
+
+
+def command_recipe(args: argparse.Namespace) -> int:
+    from narrator.recipe import write_starter_recipe
+
+    sheet = int(args.sheet) if args.sheet is not None and args.sheet.isdigit() else args.sheet
+    written = write_starter_recipe(args.file, args.output, sheet=sheet, decimal_comma=args.decimal_comma,
+                                   force=args.force)
+    sys.stdout.write(f"wrote {written}\n")
+    return 0
+
+
+def command_redraft(args: argparse.Namespace) -> int:
+    from narrator.progress import progress_for
+    from narrator.recipe import build_recipe, load_recipe
+
+    recipe = load_recipe(args.recipe)
+    progress = progress_for(None, quiet=args.quiet)
+    try:
+        outcomes = build_recipe(recipe, step=progress.step)
+    finally:
+        progress.finish()
+    for outcome in outcomes:
+        sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
+    return 0
+
+
+def command_demo(args: argparse.Namespace) -> int:
+    from narrator.demo import INVENTED, run_demo
+    from narrator.progress import progress_for
+
+    progress = progress_for(None, quiet=args.quiet)
+    try:
+        outcomes = run_demo(Path(args.output), step=progress.step)
+    finally:
+        progress.finish()
+    sys.stdout.write(f"{INVENTED}\n")
+    for outcome in outcomes:
+        sys.stdout.write(f"wrote {outcome.report}\n")
     return 0
 
 
@@ -249,7 +327,32 @@ def build_parser() -> argparse.ArgumentParser:
     draft.add_argument("--organisation", help="organisation named under the title")
     draft.add_argument("--author", help="document author property (default: the organisation)")
     draft.add_argument("--template", help="a .docx whose styles, page and headers the report takes")
+    draft.add_argument("--group-by", metavar="COLUMN",
+                       help="break the figures down by this column (site, program, year...)")
+    draft.add_argument("--privacy-threshold", type=int, default=10, metavar="N",
+                       help="with --group-by, groups with fewer than N values are not shown (default: 10)")
+    draft.add_argument("--quiet", action="store_true", help="show no progress line")
     draft.set_defaults(handler=command_draft)
+
+    recipe = commands.add_parser("recipe", help="write a starter report recipe (TOML) for a data file")
+    recipe.add_argument("file", help="CSV, TSV, Excel (.xlsx) or Parquet file")
+    recipe.add_argument("-o", "--output", required=True, metavar="RECIPE.toml", help="where to write the recipe")
+    recipe.add_argument("--sheet", help="Excel sheet name or position (default: the first sheet)")
+    recipe.add_argument("--decimal-comma", action="store_true",
+                        help="numbers are written with a decimal comma (1.234,5)")
+    recipe.add_argument("--force", action="store_true", help="replace the recipe file if it exists")
+    recipe.set_defaults(handler=command_recipe)
+
+    redraft = commands.add_parser("redraft", help="build every report a recipe names")
+    redraft.add_argument("recipe", metavar="RECIPE.toml", help="the report recipe")
+    redraft.add_argument("--quiet", action="store_true", help="show no progress line")
+    redraft.set_defaults(handler=command_redraft)
+
+    demo = commands.add_parser("demo", help="write example reports from invented data that ships with narrator")
+    demo.add_argument("-o", "--output", default="narrator-demo", metavar="FOLDER",
+                      help="folder for the example data, recipes and reports (default: narrator-demo)")
+    demo.add_argument("--quiet", action="store_true", help="show no progress line")
+    demo.set_defaults(handler=command_demo)
 
     compare = commands.add_parser("compare", help="say in plain words what changed between two findings files")
     compare.add_argument("old", metavar="OLD.findings.json", help="findings of the earlier build")

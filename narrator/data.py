@@ -8,6 +8,7 @@ Name                          What it does
 :func:`parse_number`          one cell text -> float, or None when it is not a
                               number under the declared decimal convention
 :func:`list_numeric_columns`  headers of the columns that mostly hold numbers
+:func:`read_labels`           one column as text labels (a grouping column)
 :func:`file_sha256`           hex SHA-256 of a file, for provenance
 :data:`MISSING_TOKENS`        cell texts read as "missing" (case ignored)
 :data:`SUPPORTED_FORMATS`     file extension -> format name
@@ -71,7 +72,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from narrator.errors import NarratorError
-from narrator.sample import Exclusion, Sample, guess_decimals
+from narrator.sample import Exclusion, Sample, clean_label, guess_decimals
 
 __all__ = [
     "EXCLUSION_REASONS",
@@ -81,6 +82,7 @@ __all__ = [
     "list_numeric_columns",
     "parse_number",
     "read_column",
+    "read_labels",
 ]
 
 # Compared after stripping spaces and ignoring case, so "na", "n/a", "NULL",
@@ -475,7 +477,7 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
 
 
 def _build_sample(cells: _Cells, rows: np.ndarray, name: str, unit: str | None, options: _Options,
-                  source: dict) -> Sample:
+                  source: dict, ids: np.ndarray | None = None) -> Sample:
     values = cells.values + 0.0  # a copy, and -0.0 becomes 0.0
     status = cells.status.copy()
     if options.missing_codes.size:
@@ -500,7 +502,8 @@ def _build_sample(cells: _Cells, rows: np.ndarray, name: str, unit: str | None, 
     ambiguous = ambiguous[keep[ambiguous]] if ambiguous.size else ambiguous
     source = {
         **source,
-        "column": name,
+        # Cleaned but not cut: the appendix shows it, and it must still name the column.
+        "column": clean_label(name, limit=max(len(name), 1)),
         "decimal_comma": options.decimal_comma,
         "missing_tokens": options.missing_tokens,
         "valid_min": options.valid_min,
@@ -514,14 +517,15 @@ def _build_sample(cells: _Cells, rows: np.ndarray, name: str, unit: str | None, 
     return Sample(
         values=np.ascontiguousarray(values[keep], dtype=np.float64),
         rows=np.ascontiguousarray(rows[keep], dtype=np.int64),
-        name=name if name.strip() else f"column {source['column_position']}",
-        unit=unit,
+        name=clean_label(name) or f"column {source['column_position']}",
+        unit=None if unit is None else clean_label(unit),
         n_rows=int(values.size),
         exclusions=exclusions,
         decimals=min(MAX_DECIMALS, max(written, guessed)),
         source=source,
         valid_min=options.valid_min,
         valid_max=options.valid_max,
+        ids=None if ids is None else ids[keep],
     )
 
 
@@ -849,7 +853,8 @@ def _unsaved_formulas(path: Path, sheet_name: str, index: int, blank_rows: set[i
         workbook.close()
 
 
-def _read_excel(path: Path, column: str | int, sheet: str | int | None, options: _Options):
+def _read_excel(path: Path, column: str | int, sheet: str | int | None, options: _Options,
+                id_column: str | int | None = None):
     workbook = _open_workbook(path, data_only=True)
     try:
         sheet_name = _choose_sheet(workbook, sheet, path.name)
@@ -866,7 +871,11 @@ def _read_excel(path: Path, column: str | int, sheet: str | int | None, options:
     cells = _excel_cells(raw, options, formulas)
     source = {"sha256": file_sha256(path), "sheet": sheet_name, "encoding": None, "encoding_guessed": False,
               "delimiter": None}
-    return headers, index, cells, source
+    ids = None
+    if id_column is not None:
+        id_index = _select_id_column(headers, id_column, index, f"{path.name}, sheet '{sheet_name}'")
+        ids = _id_texts(row[id_index] if id_index < len(row) else None for row in rows[1:])
+    return headers, index, cells, source, ids
 
 
 # ----- Parquet ---------------------------------------------------------------
@@ -929,7 +938,7 @@ def _parquet_cells(array: pa.Array, options: _Options) -> _Cells:
     return _Cells(values, status, decimals, display)
 
 
-def _read_parquet(path: Path, column: str | int, options: _Options):
+def _read_parquet(path: Path, column: str | int, options: _Options, id_column: str | int | None = None):
     parquet = _parquet_file(path)
     positions = _parquet_positions(parquet)
     headers = [parquet.schema_arrow.names[k] for k in positions]
@@ -937,7 +946,31 @@ def _read_parquet(path: Path, column: str | int, options: _Options):
     array = _parquet_column(parquet, positions[index], path)
     source = {"sha256": file_sha256(path), "sheet": None, "encoding": None, "encoding_guessed": False,
               "delimiter": None, "row_numbering": "position + 2, as if a header row came first"}
-    return headers, index, _parquet_cells(array, options), source
+    ids = None
+    if id_column is not None:
+        id_index = _select_id_column(headers, id_column, index, path.name)
+        ids = _id_texts(_parquet_column(parquet, positions[id_index], path).to_pylist())
+    return headers, index, _parquet_cells(array, options), source, ids
+
+
+def _select_id_column(headers: Sequence[str], id_column: str | int, value_index: int, where: str) -> int:
+    """The id column's index: a header text, or digits meaning a 1-based position when no header has them."""
+    if isinstance(id_column, str) and id_column.isdigit() and id_column not in headers:
+        id_column = int(id_column)
+    index = _select_column(headers, id_column, where)
+    if index == value_index:
+        raise NarratorError(f"{where}: the id column is the column being described; name another column")
+    return index
+
+
+def _id_texts(cells: Iterable[object]) -> np.ndarray:
+    """Identifier cells as short, safe strings (numbers without a spurious ".0"); blank stays blank."""
+    def shown(cell: object) -> str:
+        if cell is None or (isinstance(cell, float) and math.isnan(cell)):
+            return ""  # a short row's absent cell, or a null
+        return clean_label(_header_text(cell), limit=EXAMPLE_LENGTH)
+
+    return np.array([shown(cell) for cell in cells], dtype=object)
 
 
 # ---------------------------------------------------------------------------
@@ -974,6 +1007,7 @@ def read_column(
     valid_min: float | None = None,
     valid_max: float | None = None,
     encoding: str | None = None,
+    id_column: str | int | None = None,
 ) -> Sample:
     """Read one numeric column of a CSV, TSV, Excel (.xlsx) or Parquet file into a Sample.
 
@@ -985,6 +1019,10 @@ def read_column(
     missing; ``valid_min``/``valid_max`` bound the values that are possible
     (values outside are excluded as impossible, never called outliers);
     ``encoding`` names the codec of a text file when it is not UTF-8.
+    ``id_column`` (a header text or 1-based position) names a column of record
+    identifiers to carry in ``Sample.ids``, aligned with the values, so the
+    outlier table can say which record a flagged value belongs to; without it
+    no identifier is read at all (privacy by default).
 
     Every cell ends up either in ``Sample.values`` (float64, finite, in file
     order, with its spreadsheet row number in ``Sample.rows``) or counted in
@@ -1010,10 +1048,14 @@ def read_column(
         index = _select_column(headers, column, target.name)
         cells = _text_column_cells(data.iloc[:, index], options)
         facts["sheet"] = None
+        ids = None
+        if id_column is not None:
+            id_index = _select_id_column(headers, id_column, index, target.name)
+            ids = _id_texts(data.iloc[:, id_index].tolist())
     elif file_format == "xlsx":
-        headers, index, cells, facts = _read_excel(target, column, sheet, options)
+        headers, index, cells, facts, ids = _read_excel(target, column, sheet, options, id_column)
     else:
-        headers, index, cells, facts = _read_parquet(target, column, options)
+        headers, index, cells, facts, ids = _read_parquet(target, column, options, id_column)
     rows = np.arange(2, cells.values.size + 2, dtype=np.int64)
     source = {
         "file": target.name,
@@ -1022,7 +1064,9 @@ def read_column(
         "row_numbering": "spreadsheet rows, header is row 1",
         **facts,
     }
-    return _build_sample(cells, rows, headers[index], unit, options, source)
+    if ids is not None:
+        source["id_column"] = clean_label(headers[_select_id_column(headers, id_column, index, target.name)])
+    return _build_sample(cells, rows, headers[index], unit, options, source, ids)
 
 
 def list_numeric_columns(
@@ -1074,3 +1118,59 @@ def list_numeric_columns(
             numeric.append(header)
     return numeric
 
+
+def read_labels(
+    path: str | os.PathLike[str],
+    column: str | int,
+    *,
+    sheet: str | int | None = None,
+    missing: Iterable[object] = (),
+    encoding: str | None = None,
+) -> tuple[str, tuple[str | None, ...]]:
+    """One column read as text labels, such as a grouping column: (header, one label per data row).
+
+    Labels are in file order, so label ``k`` belongs to spreadsheet row
+    ``k + 2`` (the row numbering of :func:`read_column`). Surrounding spaces
+    are removed and the text is made safe to show (:func:`narrator.sample.clean_label`);
+    blank cells and :data:`MISSING_TOKENS` (plus ``missing``)
+    give ``None``. Typed cells are written as text: Excel and Parquet numbers
+    as :func:`read_column` writes them in messages (``5``, not ``5.0``), dates
+    in ISO 8601. Files are read with the same rules as :func:`read_column`
+    (delimiter, encoding, sheet choice, column choice).
+    """
+    target = Path(path)
+    file_format = _file_format(target)
+    _check_file(target)
+    if sheet is not None and file_format != "xlsx":
+        raise NarratorError(f"{target.name}: a sheet can only be chosen in an Excel workbook")
+    if isinstance(missing, str):
+        missing = (missing,)
+    absent = {_loose(token) for token in MISSING_TOKENS} | {_loose(_token_text(token)) for token in missing}
+    if file_format in ("csv", "tsv"):
+        headers, data, _facts = _read_text_table(target, file_format, encoding)
+        index = _select_column(headers, column, target.name)
+        raw: list[object] = data.iloc[:, index].tolist()
+    elif file_format == "xlsx":
+        workbook = _open_workbook(target, data_only=True)
+        try:
+            sheet_name = _choose_sheet(workbook, sheet, target.name)
+            rows = _excel_rows(workbook, sheet_name)
+        finally:
+            workbook.close()
+        if not rows:
+            raise NarratorError(f"{target.name}: sheet '{sheet_name}' is empty")
+        headers = [_header_text(cell) for cell in rows[0]]
+        index = _select_column(headers, column, f"{target.name}, sheet '{sheet_name}'")
+        raw = [row[index] if index < len(row) else None for row in rows[1:]]
+    else:
+        parquet = _parquet_file(target)
+        positions = _parquet_positions(parquet)
+        headers = [parquet.schema_arrow.names[k] for k in positions]
+        index = _select_column(headers, column, target.name)
+        raw = _parquet_column(parquet, positions[index], target).to_pylist()
+    labels: list[str | None] = []
+    for cell in raw:
+        text = None if cell is None or (isinstance(cell, float) and math.isnan(cell)) else _header_text(cell)
+        text = None if text is None else " ".join(clean_label(text).split())
+        labels.append(None if text is None or _loose(text) in absent else text)
+    return headers[index], tuple(labels)

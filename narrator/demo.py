@@ -10,7 +10,7 @@ Scenario                        What it shows
 housing (``housing_waits``)     days from application to first rent payment in
                                 an invented housing-assistance program: blank
                                 and "N/A" cells, one impossible wait (-3 days),
-                                a missing-value code (999), real long waits,
+                                a missing-value code (99), real long waits,
                                 two offices and a tiny third one (suppressed),
                                 and a second month of data for regeneration
 water (``water_use``)           litres per household per day at an invented
@@ -42,9 +42,9 @@ RECIPES = ("housing", "water", "repair")
 
 
 def _housing_frame(rng: np.random.Generator, n_north: int, n_east: int, n_mobile: int, month: str) -> pd.DataFrame:
-    north = 4 + rng.gamma(3.0, 6.0, n_north)
-    east = 6 + rng.gamma(3.2, 8.0, n_east)
-    mobile = 10 + rng.gamma(2.0, 5.0, n_mobile)
+    north = 3 + rng.lognormal(np.log(16), 0.5, n_north)
+    east = 3 + rng.lognormal(np.log(23), 0.5, n_east)
+    mobile = 5 + rng.lognormal(np.log(14), 0.5, n_mobile)
     days = np.concatenate([north, east, mobile]).round()
     office = ["Northside office"] * n_north + ["Eastgate office"] * n_east + ["Mobile unit"] * n_mobile
     amounts = rng.normal(860, 190, days.size).clip(250).round(2)
@@ -52,16 +52,12 @@ def _housing_frame(rng: np.random.Generator, n_north: int, n_east: int, n_mobile
     days, amounts = days[order], amounts[order]
     office = [office[i] for i in order]
     cells = [f"{int(d)}" for d in days]
-    # Real long waits (kept: they are real cases), one impossible value, a missing-value code, blanks.
+    # Real long waits (kept: they are real cases), blanks, one impossible value, a missing-value
+    # code some offices type (99): each at its own row.
     long_waits = [97, 121, 146] if month == "2026-10" else [97, 121, 146, 133, 158]
-    for position, value in zip(rng.choice(days.size, len(long_waits), replace=False), long_waits, strict=True):
-        cells[position] = str(value)
-    blanks = rng.choice(days.size, 9, replace=False)
-    for k, position in enumerate(blanks):
-        cells[position] = "" if k % 3 else "N/A"
-    cells[int(rng.integers(days.size))] = "-3"
-    for position in rng.choice(days.size, 3, replace=False):
-        cells[position] = "999"
+    specials = [str(v) for v in long_waits] + ["", "", "N/A"] * 3 + ["-3"] + ["99"] * 3
+    for position, text in zip(rng.choice(days.size, len(specials), replace=False), specials, strict=True):
+        cells[position] = text
     money = [f"${a:,.2f}" for a in amounts]
     ids = [f"HA-{month.replace('-', '')}-{k:04d}" for k in range(1, days.size + 1)]
     return pd.DataFrame(
@@ -192,3 +188,24 @@ def write_examples(folder: Path) -> list[Path]:
         atomic_write_bytes(folder / name, text.encode("utf-8"))
         written.append(folder / name)
     return written
+
+
+def run_demo(folder: Path, *, step=None) -> list:
+    """Write the examples into ``folder`` and build every report their recipes name.
+
+    The housing scenario is built twice: on October's data, then on the
+    November refresh, so its reports carry the "what changed" section.
+    Returns the report outcomes in build order.
+    """
+    from narrator.recipe import build_recipe, load_recipe
+
+    folder = Path(folder)
+    write_examples(folder)
+    outcomes = []
+    for name in RECIPES:
+        recipe_path = folder / f"{name}.toml"
+        if name == "housing":
+            outcomes.extend(build_recipe(load_recipe(recipe_path), step=step))
+            atomic_write_bytes(folder / "housing_waits.csv", data_files()["housing_waits_2026-11.csv"])
+        outcomes.extend(build_recipe(load_recipe(recipe_path), step=step))
+    return outcomes

@@ -54,6 +54,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
 from matplotlib.lines import Line2D
+from matplotlib.text import Text
 from matplotlib.transforms import blended_transform_factory
 from PIL import Image
 
@@ -741,6 +742,10 @@ def _offset_edges(low: float, high: float, width: float, offset: float, *, half_
 
 def _render(fig: Figure, text: FigureText) -> RenderedFigure:
     canvas = fig.canvas
+    # Words on a figure can come from the data (a column named "$x$ and $y$"):
+    # they are drawn as written, never read as mathtext markup.
+    for artist in fig.findobj(Text):
+        artist.set_parse_math(False)
     canvas.draw()
     rgba = np.asarray(canvas.buffer_rgba())
     # Opaque RGB on white: no alpha channel (which PDF converters split into a

@@ -5,6 +5,8 @@ Name                           What it does
 =============================  ================================================
 :func:`build_report`           file + column -> report.docx and its sidecar
 :func:`report_from_findings`   the same from a Sample and its Findings
+:func:`report_from_collection` several variables and groups -> one report
+:func:`collection_frame`       the frame of a report on several variables
 :func:`report_frame`           the words around the narrative, from the bank
 :func:`generation_time`        "now", or the pinned time (SOURCE_DATE_EPOCH)
 :class:`ReportOutcome`         what was written, and what it was made from
@@ -19,22 +21,30 @@ from __future__ import annotations
 import datetime as dt
 import json
 import os
-from collections.abc import Mapping
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from babel.dates import format_date
 
+from narrator.changes import baseline_for, compare, findings_pair, sidecar_payload
 from narrator.errors import NarratorError
 from narrator.figures import render_figures
 from narrator.findings import Findings
+from narrator.findings_set import is_set
 from narrator.phrasing import narrate
 from narrator.phrasing.bank import PhraseBank, load_bank
+from narrator.phrasing.changes import changes_section
 from narrator.phrasing.narrative import Narrative
 from narrator.phrasing.numbers import NumberFormatter, parse_locale
 from narrator.sample import Sample
-from narrator.writer import ReportFrame, write_report
+from narrator.writer import ReportFrame, sidecar_path, write_report
+
+if TYPE_CHECKING:
+    from narrator.collection import Collection
+    from narrator.figures import RenderedFigure
+    from narrator.findings_set import FindingsSet
 
 # Reading options kept in Sample.source that a reader needs to read the file
 # the same way again; the other source entries are diagnostics, not settings.
@@ -118,6 +128,9 @@ def report_from_findings(
     """
     moment = generation_time(generated_at)
     narrative = narrate(findings, audience, locale, currency=currency, title=title)
+    baseline = _single_baseline(findings, output)
+    if baseline is not None:
+        narrative = _with_changes_section(narrative, baseline, findings, locale=locale, currency=currency)
     figures = render_figures(findings, sample, narrative, locale=locale)
     bank = load_bank(parse_locale(locale).language)
     report_settings = {
@@ -141,8 +154,39 @@ def report_from_findings(
     sidecar = write_report(
         output, narrative, figures, findings=findings, frame=frame, properties=properties,
         generated_at=moment, template=template, protect=(input_path,),
+        sidecar_text=json.dumps(sidecar_payload(findings, baseline), indent=2, ensure_ascii=False, allow_nan=False),
     )
     return ReportOutcome(Path(output), sidecar, findings, narrative, moment)
+
+
+def _single_baseline(findings: Findings, output: str | os.PathLike[str]) -> Findings | None:
+    """The earlier findings this build is compared with, from the sidecar of the previous build, if any.
+
+    A previous sidecar of another kind (a report on several variables) is not
+    comparable with a single-variable build: no comparison, rather than a wrong one.
+    """
+    previous_path = sidecar_path(Path(output))
+    if not previous_path.is_file():
+        return None
+    try:
+        data = json.loads(previous_path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise NarratorError(f"{previous_path.name}: the previous findings cannot be read ({exc})") from None
+    if is_set(data):
+        return None
+    previous, previous_baseline = findings_pair(data, previous_path.name)
+    if previous.variable.name != findings.variable.name:
+        return None
+    return baseline_for(findings, previous, previous_baseline)
+
+
+def _with_changes_section(
+    narrative: Narrative, baseline: Findings, findings: Findings, *, locale: str, currency: str | None
+) -> Narrative:
+    """The narrative with "what changed since the previous data" right after its first section."""
+    section = changes_section(compare(baseline, findings), baseline, findings, locale=locale, currency=currency)
+    sections = (*narrative.sections[:1], section, *narrative.sections[1:])
+    return replace(narrative, sections=sections)
 
 
 def report_frame(
@@ -218,3 +262,150 @@ def _reason(bank: PhraseBank, code: str) -> str:
     if not bank.has(key):
         raise NarratorError(f"phrase bank {bank.language!r} has no words for excluded rows of kind {code!r}")
     return bank.format(key)
+
+
+def report_from_collection(
+    collection: Collection,
+    output: str | os.PathLike[str],
+    *,
+    input_path: str | os.PathLike[str] | None = None,
+    audience: str = "full",
+    locale: str = "en_US",
+    currency: str | None = None,
+    title: str | None = None,
+    organisation: str | None = None,
+    template: str | os.PathLike[str] | None = None,
+    author: str | None = None,
+    generated_at: dt.datetime | None = None,
+    step: Callable[[str], None] | None = None,
+    previous: FindingsSet | None = None,
+) -> ReportOutcome:
+    """One report on several variables and/or groups: overview, a part per variable, the set sidecar.
+
+    The narrative comes from :func:`narrator.phrasing.collection.narrate_set`;
+    each variable's figures are drawn from its own findings and sample, the
+    side-by-side group figure from the shown groups only. The sidecar is the
+    findings set (:mod:`narrator.findings_set`). ``ReportOutcome.findings`` is
+    the first variable's overall findings.
+
+    ``previous`` is the findings set of the last build of this report (its
+    sidecar). Each variable is matched with the previous variable of the same
+    name; the build it is compared with follows
+    :func:`narrator.changes.baseline_for` (unchanged data keep the last
+    comparison, so a rebuild gives the same text), and its part of the report
+    gets a "what changed" section.
+    """
+    from narrator.findings_set import dumps_set
+    from narrator.phrasing.collection import SetOptions, narrate_set
+
+    announce = step or (lambda _what: None)
+    moment = generation_time(generated_at)
+    findings_set = collection.findings_set(_baselines(collection, previous))
+    narrative = narrate_set(findings_set, SetOptions(audience=audience, locale=locale, currency=currency,
+                                                     title=title))
+    announce("drawing the figures")
+    figures = _collection_figures(collection, narrative, locale=locale)
+    bank = load_bank(parse_locale(locale).language)
+    settings = {
+        "audience": audience, "locale": locale, "currency": currency, "title": title,
+        "organisation": organisation, "template": Path(template).name if template is not None else None,
+        "group_by": collection.group_by, "privacy_threshold": collection.privacy_threshold,
+    }
+    frame = collection_frame(bank, collection, locale=locale, organisation=organisation, generated_at=moment,
+                             settings=settings)
+    names = [part.findings.variable.name for part in collection.variables]
+    properties = {
+        "title": narrative.title,
+        "subject": frame.details[1] if organisation else frame.details[0],
+        "author": author or organisation or "",
+        "keywords": ", ".join(part for part in (*names, collection.group_by, audience) if part),
+    }
+    announce("writing the report")
+    sidecar = write_report(
+        output, narrative, figures, findings=None, frame=frame, properties=properties,
+        generated_at=moment, template=template, protect=(input_path,), sidecar_text=dumps_set(findings_set) + "\n",
+    )
+    return ReportOutcome(Path(output), sidecar, collection.variables[0].findings, narrative, moment)
+
+
+def _baselines(collection: Collection, previous: FindingsSet | None) -> list[Findings | None]:
+    from narrator.changes import baseline_for
+
+    if previous is None:
+        return []
+    earlier = {item.findings.variable.name: item for item in previous.variables}
+    chosen = []
+    for part in collection.variables:
+        match = earlier.get(part.findings.variable.name)
+        chosen.append(None if match is None else baseline_for(part.findings, match.findings, match.baseline))
+    return chosen
+
+
+def _collection_figures(collection: Collection, narrative: Narrative, *, locale: str) -> list[RenderedFigure]:
+    from narrator.figures import DRAWERS
+    from narrator.group_figure import group_rows
+
+    rendered = []
+    for text in narrative.figures:
+        prefix, _, key = text.key.partition("-")
+        part = collection.variables[int(prefix.removeprefix("v")) - 1]
+        if key == "groups":
+            shown = [(group.findings, group.sample) for group in part.groups if group.findings.center is not None]
+            rendered.append(group_rows(shown, text, locale=locale))
+            continue
+        drawer = DRAWERS.get(key)
+        if drawer is None:
+            raise NarratorError(f"figure {key!r} is not one narrator draws (known: {', '.join(sorted(DRAWERS))})")
+        figure = drawer(part.findings, part.sample, replace(text, key=key), locale=locale)
+        rendered.append(replace(figure, key=text.key))
+    return rendered
+
+
+def collection_frame(
+    bank: PhraseBank,
+    collection: Collection,
+    *,
+    locale: str,
+    organisation: str | None,
+    generated_at: dt.datetime,
+    settings: Mapping[str, Any],
+) -> ReportFrame:
+    """The frame of a report on several variables: one data line, and per-variable rows in the appendix.
+
+    Built on :func:`report_frame` for the first variable, so both kinds of
+    report word their frame the same way; the rows that are about one column
+    (column, rows read, values used, rows left out, and any setting that
+    differs between variables) repeat for every variable, prefixed with its
+    name; settings all variables share are listed once.
+    """
+    first = collection.variables[0]
+    base = report_frame(bank, first.findings, first.sample, locale=locale, organisation=organisation,
+                        generated_at=generated_at, settings=settings)
+    source = dict(first.sample.source or {})
+    columns = [str((part.sample.source or {}).get("column") or part.sample.name) for part in collection.variables]
+    numbers = NumberFormatter(locale)
+    if source.get("file"):
+        data_line = bank.format("collection.data_columns", columns=numbers.list(columns), file=str(source["file"]))
+        details = tuple(line if line != base.details[1 if organisation else 0] else data_line
+                        for line in base.details)
+    else:
+        details = base.details
+    per_variable = {bank.format(f"report.{key}") for key in ("column", "rows_read", "values_used", "left_out")}
+    # A setting every variable shares is listed once; one that differs is listed per variable.
+    option_names = {name for part in collection.variables for name in part.findings.options}
+    for name in option_names:
+        values = [json.dumps(part.findings.options.get(name), sort_keys=True) for part in collection.variables]
+        if len(set(values)) > 1:
+            per_variable.add(bank.format("report.setting", name=name))
+    shared = [(label, value) for label, value in base.appendix_rows if label not in per_variable]
+    variable_rows: list[tuple[str, str]] = []
+    for part in collection.variables:
+        single = report_frame(bank, part.findings, part.sample, locale=locale, organisation=organisation,
+                              generated_at=generated_at, settings={})
+        name = part.findings.variable.name
+        variable_rows.extend(
+            (bank.format("collection.for_variable", item=label, name=name), value)
+            for label, value in single.appendix_rows if label in per_variable
+        )
+    rows = (*shared[:-1], *variable_rows, shared[-1])  # the generation time stays last
+    return replace(base, details=details, appendix_rows=rows)

@@ -42,7 +42,8 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
     target = Path(path)
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
-        raise NarratorError(f"cannot write {target}: folder {folder} does not exist")
+        what = "is a file, not a folder" if folder.exists() else "does not exist"
+        raise NarratorError(f"cannot write {target}: folder {folder} {what}")
     try:
         handle = tempfile.NamedTemporaryFile(  # noqa: SIM115 - closed below, before the rename
             dir=folder, prefix=f".{target.name}.", suffix=".tmp", delete=False

@@ -1,10 +1,57 @@
-"""Sample: one numeric column after reading and cleaning, with an account of what was left out."""
+"""Sample: one numeric column after reading and cleaning, with an account of what was left out.
+
+=====================  ========================================================
+Name                   What it is
+=====================  ========================================================
+:class:`Exclusion`     cells left out of the analysis, grouped by why
+:class:`Sample`        values ready for the engine, with their source rows
+:func:`guess_decimals` decimals needed to write values as recorded
+:func:`clean_label`    a name taken from the data, made safe to show anywhere
+=====================  ========================================================
+"""
 
 from __future__ import annotations
 
+import unicodedata
 from dataclasses import dataclass, field
 
 import numpy as np
+
+LABEL_LENGTH = 200  # characters of a column name or label a report shows before cutting it
+
+# Bidirectional embedding, override and isolate controls (Unicode Standard
+# Annex 9): in a name from a file they can make text display in a different
+# order than it is stored, so they are dropped.
+_BIDI_CONTROLS = frozenset("\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
+_LINE_BREAKS = frozenset("\t\n\r\x0b\x0c\x85\u2028\u2029")
+
+
+def clean_label(text: object, limit: int = LABEL_LENGTH) -> str:
+    """A name from the data (a column header, a label, a unit) made safe to show in any output.
+
+    Control characters (Unicode category Cc; XML 1.0, W3C 2008, section 2.2,
+    cannot hold most of them and fonts have no glyph for any), surrogates,
+    private-use and unassigned code points (which include the non-characters
+    U+FFFE and U+FFFF) and bidirectional controls are removed; line breaks,
+    tabs and other spaces each become a plain space (runs are kept: the
+    name must still match its header); the result is cut at ``limit``
+    characters with an ellipsis. Nothing in the text is interpreted: braces,
+    dollar signs and "=" stay as they are.
+
+    >>> clean_label("wait" + chr(0) + chr(10) + "(days)" + chr(0x202E))
+    'wait (days)'
+    """
+    kept = []
+    for character in str(text):
+        category = unicodedata.category(character)
+        if character in _LINE_BREAKS or category == "Zs":
+            kept.append(" ")
+        elif category in ("Cc", "Cs", "Co", "Cn") or character in _BIDI_CONTROLS:
+            continue
+        else:
+            kept.append(character)
+    cleaned = "".join(kept)
+    return cleaned if len(cleaned) <= limit else cleaned[: limit - 1].rstrip() + "\u2026"
 
 
 @dataclass(frozen=True, slots=True)
@@ -37,6 +84,10 @@ class Sample:
     source: dict = field(default_factory=dict)  # file name, sha256, sheet, reading options
     valid_min: float | None = None  # declared valid range; values outside were excluded as impossible
     valid_max: float | None = None
+    # Record identifiers aligned with ``values``, only when the caller asked for
+    # them (an id column); None otherwise, so no identifier can reach a report
+    # by accident.
+    ids: np.ndarray | None = None
 
     def excluded(self, reason: str) -> Exclusion | None:
         return next((e for e in self.exclusions if e.reason == reason), None)

@@ -65,6 +65,7 @@ STYLE_NAMES = {
     "title": "Title",
     "details": "Report Details",
     "heading": "Heading 1",
+    "heading_2": "Heading 2",
     "body": "Normal",
     "bullet": "List Bullet",
     "reference": "Reference",
@@ -76,7 +77,7 @@ STYLE_NAMES = {
 }
 # Styles copied into a user's template when it lacks them, parents first.
 _COPY_ORDER = (
-    "Report Details", "Heading 1", "List Bullet", "Reference", "Caption", "Figure",
+    "Report Details", "Heading 1", "Heading 2", "List Bullet", "Reference", "Caption", "Figure",
     "Table Text", "Table Heading", "Narrator Table", "Title",
 )
 
@@ -147,14 +148,18 @@ def write_report(
     narrative: Narrative,
     figures: Sequence[RenderedFigure],
     *,
-    findings: Findings,
+    findings: Findings | None,
     frame: ReportFrame,
     properties: Mapping[str, str],
     generated_at: dt.datetime,
     template: str | os.PathLike[str] | None = None,
     protect: Sequence[str | os.PathLike[str] | None] = (),
+    sidecar_text: str | None = None,
 ) -> Path:
     """Write the report to ``path`` and the findings sidecar beside it; return the sidecar path.
+
+    The sidecar holds ``findings`` as JSON, or ``sidecar_text`` when given
+    (a report on several variables or groups writes its findings set that way).
 
     Both files are written atomically (:func:`narrator.safe_io.atomic_write_bytes`):
     a failure leaves any previous report untouched. ``protect`` names files
@@ -177,7 +182,11 @@ def write_report(
         narrative, figures, frame=frame, properties=properties, generated_at=generated_at, template=template
     )
     atomic_write_bytes(target, data)
-    atomic_write_text(sidecar, findings_module.dumps(findings) + "\n")
+    if sidecar_text is None:
+        if findings is None:
+            raise NarratorError("a report needs findings or a sidecar text for its findings sidecar")
+        sidecar_text = findings_module.dumps(findings) + "\n"
+    atomic_write_text(sidecar, sidecar_text)
     return sidecar
 
 
@@ -296,7 +305,10 @@ def _set_language(document, locale: str) -> None:
 
 def _add_section(document, section: Section, by_key, frame: ReportFrame, counters, bullets_numbered) -> None:
     if section.title:
-        document.add_paragraph(xml_safe(section.title), style=STYLE_NAMES["heading"])
+        if section.level not in (1, 2):
+            raise NarratorError(f"section {section.key!r} has heading level {section.level}; the writer knows 1 and 2")
+        style = STYLE_NAMES["heading"] if section.level == 1 else STYLE_NAMES["heading_2"]
+        document.add_paragraph(xml_safe(section.title), style=style)
     for paragraph in section.paragraphs:
         _add_paragraph(document, paragraph, bullets_numbered)
     for table in section.tables:
@@ -506,14 +518,14 @@ def _set_properties(document, properties: Mapping[str, str], generated_at: dt.da
         raise NarratorError("the generation time must carry a time zone (for example UTC)")
     moment = generated_at.astimezone(dt.UTC).replace(microsecond=0)
     core = document.core_properties
-    author = xml_safe(properties.get("author", ""))
-    core.title = xml_safe(properties.get("title", ""))
-    core.subject = xml_safe(properties.get("subject", ""))
+    author = _property_text(properties.get("author", ""))
+    core.title = _property_text(properties.get("title", ""))
+    core.subject = _property_text(properties.get("subject", ""))
     core.author = author
     core.last_modified_by = author
-    core.keywords = xml_safe(properties.get("keywords", ""))
-    core.category = xml_safe(properties.get("category", ""))
-    core.comments = xml_safe(properties.get("comments", ""))
+    core.keywords = _property_text(properties.get("keywords", ""))
+    core.category = _property_text(properties.get("category", ""))
+    core.comments = _property_text(properties.get("comments", ""))
     core.content_status = ""
     core.identifier = ""
     core.version = ""
@@ -524,6 +536,14 @@ def _set_properties(document, properties: Mapping[str, str], generated_at: dt.da
     element = core._element
     if element.lastPrinted is not None:
         element._remove_lastPrinted()
+
+
+PROPERTY_LENGTH = 255  # python-docx refuses longer core properties (a long column name reaches the title)
+
+
+def _property_text(value: object) -> str:
+    text = xml_safe(value)
+    return text if len(text) <= PROPERTY_LENGTH else text[: PROPERTY_LENGTH - 1] + "\u2026"
 
 
 def _drop_thumbnail(document) -> None:

@@ -56,9 +56,9 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
 
 from narrator.engine.density import local_maxima, standard_units
+from narrator.engine.distributions import normal_isf
 from narrator.errors import NarratorError
 from narrator.findings import BinSensitivity, HistogramPlan
 
@@ -174,6 +174,42 @@ def _bin_index(
     return np.floor(position - first_index + tolerance).astype(np.int64)
 
 
+def _sorted_bin_counts(
+    sorted_values: np.ndarray, width: float, shift: float, first_index: float, tolerance: float, bins: int
+) -> np.ndarray:
+    """Counts per bin of sorted values, clipped to bins 0..bins-1, without indexing every value.
+
+    The bin index floor((x - shift) / width - first + tolerance) never decreases as x grows
+    (each floating-point step rounds monotonically), so in sorted data each bin is one run;
+    a vectorised bisection finds where bins 1..bins-1 start. The counts are the same as
+    ``np.bincount`` of the clipped indices of every value, at O(bins log n) cost.
+    """
+    n = sorted_values.size
+    wanted = np.arange(1, bins, dtype=np.int64)
+    low = np.zeros(wanted.size, dtype=np.int64)
+    high = np.full(wanted.size, n, dtype=np.int64)
+    pending = np.nonzero(low < high)[0]
+    while pending.size:
+        middle = (low[pending] + high[pending]) // 2
+        index = _bin_index(sorted_values[middle], width, shift, first_index, tolerance)
+        before = index < wanted[pending]
+        low[pending] = np.where(before, middle + 1, low[pending])
+        high[pending] = np.where(before, high[pending], middle)
+        pending = pending[low[pending] < high[pending]]
+    starts = np.concatenate(([0], low, [n]))
+    return np.diff(starts)
+
+
+def _sorted_ends(array: np.ndarray, what: str) -> tuple[float, float]:
+    """(smallest, largest) of values said to be sorted ascending; a NaN sorts last, infinities sit at the ends."""
+    if array.size == 0:
+        raise NarratorError(f"{what}: no values to work with")
+    low, high = float(array[0]), float(array[-1])
+    if not (math.isfinite(low) and math.isfinite(high)):
+        raise NarratorError(f"{what}: values must be finite numbers (found NaN or infinity)")
+    return low, high
+
+
 def _first_index(low: float, width: float, shift: float, tolerance: float) -> float:
     return float(math.floor((low - shift) / width + tolerance))
 
@@ -197,11 +233,11 @@ def _edges(first_index: float, bins: int, width: float, shift: float) -> np.ndar
 
 
 def _raw_width(
-    scaled: np.ndarray, rule: str, sd_scaled: float, iqr_scaled: float
+    scaled: np.ndarray, n: int, rule: str, sd_scaled: float, iqr_scaled: float, *, presorted: bool = False
 ) -> tuple[float, str, str | None]:
-    """(raw width in standard units, rule used, reason code)."""
-    n = scaled.size
-    value_range = float(scaled.max() - scaled.min())
+    """(raw width in standard units, rule used, reason code) for n values; ``scaled`` holds them in
+    standard units, or only the two ends when they are sorted and the rule needs no more."""
+    value_range = float(scaled[-1] - scaled[0]) if presorted else float(scaled.max() - scaled.min())
     if rule == "freedman-diaconis":
         if iqr_scaled > 0:
             return FREEDMAN_DIACONIS_FACTOR * iqr_scaled * n ** (-1.0 / 3.0), rule, None
@@ -232,12 +268,16 @@ def histogram_plan(
     integer_valued: bool | None = None,
     sd: float | None = None,
     iqr: float | None = None,
+    presorted: bool = False,
 ) -> HistogramPlan:
     """Bins for a histogram: raw width by ``rule``, nice width, aligned edges, counts.
 
     ``integer_valued=None`` detects whole-number data. ``sd`` (n - 1) and
     ``iqr`` (type 7) may be passed in data units when already known. Rules,
     rounding, alignment and fallbacks are in the module docstring.
+    ``presorted=True`` says the values are sorted ascending: the ends are then
+    the extremes and the counts come from binary searches (the same counts,
+    without a pass over the values).
     ``HistogramPlan.rule`` is the rule actually used; ``note`` says why it
     differs from the one asked for.
 
@@ -247,17 +287,24 @@ def histogram_plan(
     """
     if rule not in BIN_RULES:
         raise NarratorError(f"unknown bin rule {rule!r}; choose one of {', '.join(BIN_RULES)}")
-    array = _as_values(values, "histogram")
-    largest = float(np.max(np.abs(array)))
+    if presorted:
+        array = np.asarray(values, dtype=float).ravel()
+        low, high = _sorted_ends(array, "histogram")
+        largest = max(abs(low), abs(high))
+    else:
+        array = _as_values(values, "histogram")
+        largest = float(np.max(np.abs(array)))
+        low, high = float(array.min()), float(array.max())
     whole = _detect_integer(array) if integer_valued is None else bool(integer_valued)
     if whole and largest >= LARGEST_EXACT_INTEGER:
         whole = False  # half-integer edges cannot be written down at this size
     shift = -0.5 if whole else 0.0
 
-    low, high = float(array.min()), float(array.max())
     if not math.isfinite(high - low):
         raise NarratorError("histogram: the values span more than the largest floating-point number")
-    units = standard_units(array)
+    # Sorted data need only their ends in standard units, unless Doane's rule needs every value's moment.
+    ends_only = presorted and rule != "doane" and sd is not None and iqr is not None
+    units = standard_units(array[[0, -1]] if ends_only else array)
     if not units.has_spread:
         # One bin (two if the values straddle an edge within floating-point resolution).
         if whole or low == 0:
@@ -266,13 +313,19 @@ def histogram_plan(
             width = _nice_at_least(max(CONSTANT_WIDTH_SHARE * abs(low), float(np.finfo(float).tiny)), False)
         tolerance = _edge_tolerance(low, high, width, shift)
         first = _first_index(low, width, shift, tolerance)
-        index = _bin_index(array, width, shift, first, tolerance)
+        if presorted:
+            bins = int(_bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
+            constant_counts = _sorted_bin_counts(array, width, shift, first, tolerance, bins)
+        else:
+            index = _bin_index(array, width, shift, first, tolerance)
+            bins = int(index.max()) + 1
+            constant_counts = np.bincount(index)
         return HistogramPlan(
             rule=rule,
             raw_width=0.0,
             width=width,
-            edges=tuple(float(e) for e in _edges(first, int(index.max()) + 1, width, shift)),
-            counts=tuple(int(c) for c in np.bincount(index)),
+            edges=tuple(float(e) for e in _edges(first, bins, width, shift)),
+            counts=tuple(int(c) for c in constant_counts),
             integer_aligned=whole,
             note="constant",
         )
@@ -285,7 +338,7 @@ def histogram_plan(
         iqr_scaled = float(q3 - q1)
     if not (sd_scaled > 0 and math.isfinite(sd_scaled) and iqr_scaled >= 0 and math.isfinite(iqr_scaled)):
         raise NarratorError("histogram: sd must be positive and iqr not negative for data with spread")
-    raw_scaled, used_rule, note = _raw_width(scaled, rule, sd_scaled, iqr_scaled)
+    raw_scaled, used_rule, note = _raw_width(scaled, array.size, rule, sd_scaled, iqr_scaled, presorted=presorted)
     raw = raw_scaled * units.unit
     width = _whole_width(raw) if whole else nice_width(raw)
 
@@ -309,9 +362,12 @@ def histogram_plan(
     if bins > 1 and abs((high - shift) / width - first - (bins - 1)) <= tolerance:
         bins -= 1
     bins = max(bins, MIN_BINS)
-    index = _bin_index(array, width, shift, first, tolerance)
-    np.clip(index, 0, bins - 1, out=index)
-    counts = np.bincount(index, minlength=bins)
+    if presorted:
+        counts = _sorted_bin_counts(array, width, shift, first, tolerance, bins)
+    else:
+        index = _bin_index(array, width, shift, first, tolerance)
+        np.clip(index, 0, bins - 1, out=index)
+        counts = np.bincount(index, minlength=bins)
     return HistogramPlan(
         rule=used_rule,
         raw_width=float(raw),
@@ -362,7 +418,7 @@ def count_visible_peaks(counts) -> int:
         return 0
     _, peak_height, prominence = local_maxima(heights)
     valley = np.maximum(peak_height - prominence, 0.0)
-    noise_z = max(float(stats.norm.isf(FALSE_PEAK_RATE / (2.0 * heights.size))), MIN_NOISE_Z)
+    noise_z = max(float(normal_isf(FALSE_PEAK_RATE / (2.0 * heights.size))), MIN_NOISE_Z)
     needed = np.maximum(noise_z * np.sqrt(peak_height + valley), PEAK_MIN_SHARE * tallest)
     visible = prominence >= needed
     visible[np.argmax(prominence)] = True  # the tallest peak: its prominence is its full height
@@ -401,6 +457,7 @@ def bin_sensitivity(
     width_factors: tuple[float, ...] = DEFAULT_WIDTH_FACTORS,
     offsets: tuple[float, ...] = DEFAULT_OFFSETS,
     integer_valued: bool = False,
+    presorted: bool = False,
 ) -> BinSensitivity:
     """Visible peaks of the histogram at every width x offset; sensitive when the count varies.
 
@@ -415,20 +472,25 @@ def bin_sensitivity(
     (base / 8 for the defaults) is aggregated into every combination by
     summing consecutive fine bins, so the whole grid costs about one pass over
     the data. Widths or offsets without such a step (within 64 divisions) are
-    counted one histogram at a time.
+    counted one histogram at a time. ``presorted=True`` says the values are sorted
+    ascending: the fine counts then come from binary searches (the same counts).
 
     >>> result = bin_sensitivity([1.0, 1.2, 1.4, 1.5, 1.6, 1.8, 2.0, 2.1, 2.5], 0.5)
     >>> result.widths, result.sensitive
     ((0.25, 0.5, 1.0), False)
     """
-    array = _as_values(values, "bin sensitivity")
+    if presorted:
+        array = np.asarray(values, dtype=float).ravel()
+        _sorted_ends(array, "bin sensitivity")
+    else:
+        array = _as_values(values, "bin sensitivity")
     if not (math.isfinite(base_width) and base_width > 0):
         raise NarratorError(f"bin sensitivity: base width must be a positive number, not {base_width!r}")
     if not width_factors or any(not (math.isfinite(f) and f > 0) for f in width_factors):
         raise NarratorError("bin sensitivity: width factors must be positive numbers")
     if not offsets or any(not (math.isfinite(o) and 0 <= o < 1) for o in offsets):
         raise NarratorError("bin sensitivity: offsets must be fractions in [0, 1)")
-    largest_value = float(np.max(np.abs(array)))
+    largest_value = max(abs(float(array[0])), abs(float(array[-1]))) if presorted else float(np.max(np.abs(array)))
     whole = bool(integer_valued) and largest_value < LARGEST_EXACT_INTEGER
     # Work in units of a power of two near the data's size when values or widths are huge or tiny:
     # the division is exact, so multiples of a width stay multiples, and nothing overflows.
@@ -446,7 +508,7 @@ def bin_sensitivity(
     # Reported in data units; a width past the largest double (values near 1.8e308) reads as that.
     widths = tuple(min(w * factor, float(np.finfo(float).max)) for w in scaled_widths)
     shift = (-0.5 if whole else 0.0) / factor
-    low, high = float(array.min()), float(array.max())
+    low, high = (float(array[0]), float(array[-1])) if presorted else (float(array.min()), float(array.max()))
 
     plan = _fine_resolution(scaled_widths, offsets)
     peak_counts: list[tuple[int, ...]] = []
@@ -460,8 +522,12 @@ def bin_sensitivity(
                 f"bin sensitivity: a width of {min(widths):g} is too narrow"
                 f" for values spanning {(high - low) * factor:g}"
             )
-        fine_index = _bin_index(array, step, shift, float(origin), _edge_tolerance(low, high, step, shift))
-        fine_counts = np.bincount(fine_index)
+        fine_tolerance = _edge_tolerance(low, high, step, shift)
+        last_fine = int(_bin_index(np.array([high]), step, shift, float(origin), fine_tolerance)[0])
+        if presorted and (last_fine + 1) * math.log2(array.size + 1) < array.size:
+            fine_counts = _sorted_bin_counts(array, step, shift, float(origin), fine_tolerance, last_fine + 1)
+        else:
+            fine_counts = np.bincount(_bin_index(array, step, shift, float(origin), fine_tolerance))
         for w in scaled_widths:
             steps_per_bin = round(w / step)
             row = []

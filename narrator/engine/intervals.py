@@ -21,12 +21,11 @@ interest; the report says so once.
 
 from __future__ import annotations
 
-import inspect
 import math
 
 import numpy as np
-from scipy import stats
 
+from narrator.engine.distributions import binomial_cdf, binomial_ppf, t_ppf
 from narrator.errors import NarratorError
 from narrator.findings import Interval
 
@@ -46,8 +45,6 @@ BOOTSTRAP_MIN_RESAMPLES = 1000
 _BOOTSTRAP_BATCH_CELLS = 2_000_000
 _RESCALE_ABOVE = 2.0**500
 
-# scipy 1.15 renamed the bootstrap's random_state argument to rng.
-_BOOTSTRAP_RNG_KEYWORD = "rng" if "rng" in inspect.signature(stats.bootstrap).parameters else "random_state"
 
 
 def choose_mean_method(n: int, skewness: float | None, skew_clear: bool) -> tuple[str, str]:
@@ -104,7 +101,7 @@ def mean_interval(
             raise NarratorError(f"a t interval for the mean needs at least 2 values; got {n}")
         mean = float(np.mean(data))
         sd = float(np.std(data, ddof=1))
-        half_width = float(stats.t.ppf((1.0 + level) / 2.0, n - 1)) * sd / math.sqrt(n)
+        half_width = float(t_ppf((1.0 + level) / 2.0, n - 1)) * sd / math.sqrt(n)
         return Interval(
             low=(mean - half_width) * factor, high=(mean + half_width) * factor, level=level, method="t"
         )
@@ -147,7 +144,7 @@ def median_interval(sorted_values: np.ndarray, *, level: float = 0.95) -> Interv
     rank = _median_rank(n, level)
     if rank is None:
         return None
-    coverage = 1.0 - 2.0 * float(stats.binom.cdf(rank - 1, n, 0.5))
+    coverage = 1.0 - 2.0 * binomial_cdf(rank - 1, n, 0.5)
     return Interval(
         low=float(data[rank - 1]),
         high=float(data[n - rank]),
@@ -179,12 +176,12 @@ def _median_rank(n: int, level: float) -> int | None:
     # A hair of tolerance so a tail probability that equals the target exactly (possible for
     # levels such as 0.5) is not lost to rounding in the binomial CDF.
     limit = tail * (1.0 + 1e-12)
-    below = int(stats.binom.ppf(tail, n, 0.5))  # smallest j with P(B <= j) >= tail
+    below = int(binomial_ppf(tail, n, 0.5))  # smallest j with P(B <= j) >= tail
     # The largest j with P(B <= j) <= tail is `below` or one less; check and step to be sure.
     j = below
-    while j >= 0 and stats.binom.cdf(j, n, 0.5) > limit:
+    while j >= 0 and binomial_cdf(j, n, 0.5) > limit:
         j -= 1
-    while j + 1 < n and stats.binom.cdf(j + 1, n, 0.5) <= limit:
+    while j + 1 < n and binomial_cdf(j + 1, n, 0.5) <= limit:
         j += 1
     # k = j + 1 never passes the middle: P(B <= j) <= tail < 1/2 forces j + 1 <= n - j.
     return j + 1 if j >= 0 else None
@@ -208,6 +205,13 @@ def _bca(data: np.ndarray, *, level: float, seed: int, resamples: int) -> tuple[
     if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
         raise NarratorError(f"the bootstrap seed must be a whole number >= 0; got {seed!r}")
     batch = max(1, min(int(resamples), _BOOTSTRAP_BATCH_CELLS // n))
+    # scipy.stats is imported here only: it costs about half a second of start-up, and the bootstrap
+    # runs for small skewed samples alone. scipy 1.15 renamed the random_state argument to rng.
+    import inspect
+
+    from scipy import stats
+
+    rng_keyword = "rng" if "rng" in inspect.signature(stats.bootstrap).parameters else "random_state"
     result = stats.bootstrap(
         (data,),
         np.mean,
@@ -216,7 +220,7 @@ def _bca(data: np.ndarray, *, level: float, seed: int, resamples: int) -> tuple[
         vectorized=True,
         confidence_level=level,
         method="BCa",
-        **{_BOOTSTRAP_RNG_KEYWORD: np.random.default_rng(int(seed))},
+        **{rng_keyword: np.random.default_rng(int(seed))},
     )
     low = float(result.confidence_interval.low)
     high = float(result.confidence_interval.high)

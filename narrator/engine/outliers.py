@@ -53,8 +53,8 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
 
+from narrator.engine.distributions import t_ppf
 from narrator.errors import NarratorError
 from narrator.findings import OUTLIER_RULES, Outliers
 
@@ -169,7 +169,7 @@ def esd_critical_values(n: int, max_outliers: int, alpha: float = 0.05) -> np.nd
     steps = np.arange(1, max_outliers + 1, dtype=np.float64)
     remaining = n - steps  # n - i
     probability = 1.0 - alpha / (2.0 * (remaining + 1.0))
-    t = stats.t.ppf(probability, remaining - 1.0)
+    t = t_ppf(probability, remaining - 1.0)
     return remaining * t / np.sqrt((remaining - 1.0 + t * t) * (remaining + 1.0))
 
 

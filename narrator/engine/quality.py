@@ -30,8 +30,8 @@ published standard; each is a module constant so the methods text can state it.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
 
+from narrator.engine.distributions import binomial_sf
 from narrator.findings import Quality, QualityFlag
 from narrator.sample import Sample
 
@@ -92,22 +92,53 @@ def _reading_flags(sample: Sample) -> list[QualityFlag]:
     return flags
 
 
+def _linear_quantiles(value_at, count: int, probabilities) -> np.ndarray:
+    """numpy.quantile(..., method="linear") of a sorted array of ``count`` values seen through ``value_at``.
+
+    The same index arithmetic and interpolation steps as numpy's own (``_get_indexes`` and ``_lerp``),
+    so the result is the same number to the last bit, without building the array.
+    """
+    quantiles = np.asanyarray(probabilities, dtype=float)
+    virtual = (count - 1) * quantiles
+    previous = np.floor(virtual)
+    following = previous + 1
+    above = virtual >= count - 1
+    previous[above] = -1
+    following[above] = -1
+    previous = previous.astype(np.intp)
+    following = following.astype(np.intp)
+    positions = np.arange(count)
+    lower = value_at(positions[previous])
+    upper = value_at(positions[following])
+    gamma = virtual - previous
+    difference = upper - lower
+    result = lower + difference * gamma
+    np.subtract(upper, difference * (1 - gamma), out=result, where=gamma >= 0.5)
+    return result
+
+
 def _missing_codes(sorted_values: np.ndarray, values: np.ndarray, rows: np.ndarray) -> list[QualityFlag]:
     """Values that look like missing-value codes: repeated (or long all-nines) and far from the rest."""
     flags = []
+    n = sorted_values.size
     for code in SUSPECT_CODES:
-        left = np.searchsorted(sorted_values, code, side="left")
-        right = np.searchsorted(sorted_values, code, side="right")
-        count = int(right - left)
+        left = int(np.searchsorted(sorted_values, code, side="left"))
+        right = int(np.searchsorted(sorted_values, code, side="right"))
+        count = right - left
         all_nines = abs(code) >= 99 and set(str(int(abs(code)))) == {"9"}
         if count == 0 or (count < 2 and not all_nines):
             continue
-        others = np.concatenate([sorted_values[:left], sorted_values[right:]])
-        if others.size < 4:
+        if n - count < 4:
             continue
-        q1, q3 = np.quantile(others, [0.25, 0.75])
+
+        def others_at(index: np.ndarray, left: int = left, count: int = count) -> np.ndarray:
+            # The sorted values without the code's run: positions at or past the run shift by its length.
+            return sorted_values[np.where(index < left, index, index + count)]
+
+        q1, q3 = _linear_quantiles(others_at, n - count, [0.25, 0.75])
         spread = q3 - q1
         if spread <= 0:
+            others = np.concatenate([sorted_values[:left], sorted_values[right:]])
             spread = float(np.std(others)) or 1.0
         far = code < q1 - CODE_DISTANCE_IQR * spread or code > q3 + CODE_DISTANCE_IQR * spread
         if far:
@@ -137,12 +168,22 @@ def _heaping(values: np.ndarray, decimals: int, iqr: float) -> list[QualityFlag]
             checks = [(10.0, 0.1), (5.0, 0.2)]
     elif decimals <= 3:
         checks = [(1.0, 10.0**-decimals)]
+    distance = np.empty_like(values)
+    tolerance = np.empty_like(values)
     for base, chance in checks:
-        ratio = values / base
-        hits = int(np.count_nonzero(np.abs(ratio - np.round(ratio)) < 1e-9 * np.maximum(1.0, np.abs(ratio))))
+        ratio = values if base == 1.0 else values / base
+        # |ratio - round(ratio)| < 1e-9 max(1, |ratio|), in two reused buffers (no temporaries at large n).
+        np.round(ratio, out=distance)
+        np.subtract(ratio, distance, out=distance)
+        np.abs(distance, out=distance)
+        np.abs(ratio, out=tolerance)
+        np.maximum(tolerance, 1.0, out=tolerance)
+        tolerance *= 1e-9
+        hits = int(np.count_nonzero(distance < tolerance))
         observed = hits / n
         if observed >= HEAPING_RATIO * chance:
-            p = float(stats.binomtest(hits, n, chance, alternative="greater").pvalue)
+            # One-sided binomial test, P(B >= hits): scipy.stats.binomtest(..., alternative="greater").
+            p = min(1.0, binomial_sf(hits - 1, n, chance))
             if p < HEAPING_P:
                 return [
                     QualityFlag(
@@ -156,32 +197,59 @@ def _heaping(values: np.ndarray, decimals: int, iqr: float) -> list[QualityFlag]
     return []
 
 
+def _run_length(sorted_values: np.ndarray, value: float) -> int:
+    return int(np.searchsorted(sorted_values, value, side="right") - np.searchsorted(sorted_values, value, side="left"))
+
+
+def _distinct_up_to(sorted_values: np.ndarray, limit: int) -> int:
+    """The number of distinct values, counted by jumping from run to run; stops past ``limit``."""
+    position, distinct, n = 0, 0, sorted_values.size
+    while position < n and distinct <= limit:
+        position = int(np.searchsorted(sorted_values, sorted_values[position], side="right"))
+        distinct += 1
+    return distinct
+
+
+def _longest_run(sorted_values: np.ndarray, at_least: int) -> tuple[int, float] | None:
+    """(length, value) of the first longest run of equal values, if it has at least ``at_least`` values.
+
+    A run that long covers one of the positions 0, at_least, 2 at_least, ..., so only the values there
+    are candidates: O((n / at_least) log n) instead of a pass over the sorted data.
+    """
+    best = None
+    for value in np.unique(sorted_values[::at_least]):
+        length = _run_length(sorted_values, value)
+        if length >= at_least and (best is None or length > best[0]):
+            best = (length, float(value))
+    return best
+
+
 def _ties(sorted_values: np.ndarray) -> tuple[list[QualityFlag], int]:
+    """Tie flags from the sorted values by binary search; the distinct count is exact up to FEW_DISTINCT + 1
+    (more distinct values than that report FEW_DISTINCT + 1: no flag needs the exact number then)."""
     n = sorted_values.size
-    starts = np.flatnonzero(np.concatenate([[True], sorted_values[1:] != sorted_values[:-1]]))
-    distinct = int(starts.size)
-    run_lengths = np.diff(np.append(starts, n))
+    distinct = _distinct_up_to(sorted_values, FEW_DISTINCT)
     flags = []
     if distinct == 1:
         flags.append(QualityFlag(code="constant", count=n, share=1.0, values=(float(sorted_values[0]),)))
         return flags, distinct
     if distinct <= FEW_DISTINCT and n > 2 * FEW_DISTINCT:
         flags.append(QualityFlag(code="few_distinct", count=distinct, detail={"distinct": float(distinct)}))
-    top = int(np.argmax(run_lengths))
-    top_share = run_lengths[top] / n
-    if top_share >= TIE_SHARE and n >= MIN_FOR_CONFIDENT:
-        flags.append(
-            QualityFlag(
-                code="many_ties",
-                count=int(run_lengths[top]),
-                share=float(top_share),
-                values=(float(sorted_values[starts[top]]),),
-            )
-        )
+    if n >= MIN_FOR_CONFIDENT:
+        # The shortest run that reaches the tie share (the same float comparison as the flag's).
+        shortest = max(1, int(TIE_SHARE * n) - 1)
+        while shortest / n < TIE_SHARE:
+            shortest += 1
+        top = _longest_run(sorted_values, shortest)
+        if top is not None:
+            length, value = top
+            flags.append(QualityFlag(code="many_ties", count=length, share=float(length / n), values=(value,)))
     if distinct > 3 and n >= MIN_FOR_CONFIDENT:
+        first_run = _run_length(sorted_values, sorted_values[0])
+        last_run = _run_length(sorted_values, sorted_values[-1])
         for code, run, value in (
-            ("floor", run_lengths[0], sorted_values[0]),
-            ("ceiling", run_lengths[-1], sorted_values[-1]),
+            ("floor", first_run, sorted_values[0]),
+            ("ceiling", last_run, sorted_values[-1]),
         ):
             if run >= PILE_UP_MIN_COUNT and run / n >= PILE_UP_SHARE:
                 flags.append(QualityFlag(code=code, count=int(run), share=float(run / n), values=(float(value),)))
@@ -191,7 +259,11 @@ def _ties(sorted_values: np.ndarray) -> tuple[list[QualityFlag], int]:
 def assess_quality(
     sample: Sample, sorted_values: np.ndarray, *, iqr: float | None, decimals: int
 ) -> tuple[Quality, int]:
-    """All data-quality flags for a sample; returns (Quality, number of distinct values).
+    """All data-quality flags for a sample; returns (Quality, number of distinct values, exact up to
+    ``FEW_DISTINCT`` + 1; larger counts read as ``FEW_DISTINCT`` + 1).
+
+    ``sorted_values`` are the sample's values sorted ascending; every tie and code check is a
+    binary search in them, so no check costs a full pass over the data.
 
     ``decimals`` is the precision the values actually carry (41.0 written in a
     file counts as a whole number), so a column of whole numbers exported with

@@ -7,6 +7,11 @@ Name                       What it computes
                            2004), found by Johnson & Mizoguchi (1978) selection;
                            O(n) memory, no n x n kernel matrix is ever built
 :func:`bowley_skewness`    (Q3 + Q1 - 2 Q2) / (Q3 - Q1), None when the IQR is 0
+:func:`medcouple_of_sample`  the medcouple a report states: exact up to
+                           ``MEDCOUPLE_EXACT_MAX_N`` values, else the exact
+                           medcouple of a fixed-seed random subsample of
+                           ``MEDCOUPLE_SUBSAMPLE_SIZE`` values; with its method
+                           code ("exact" or "subsample:<size>:<seed>")
 =========================  =====================================================
 
 Both are robust: a few extreme values cannot drive them to their limits
@@ -25,6 +30,14 @@ from narrator.errors import NarratorError
 # difference could overflow, or so small that the kernel would work in subnormal numbers.
 _RESCALE_ABOVE = 2.0**500
 _RESCALE_BELOW = 2.0**-500
+
+# Above this many values the medcouple is taken on a random subsample (our choice, for speed): the exact
+# algorithm costs about 50 ms at 50 000 values on a 2020s laptop core and grows as n log^2 n. The
+# medcouple's standard error at the normal is about sqrt(1.25 / m) for m values (Brys, Hubert & Struyf
+# 2004 give its influence function), so a subsample of 50 000 leaves about 0.005: a fence multiplier
+# e^(3 MC) moves by about 1.5 %.
+MEDCOUPLE_EXACT_MAX_N = 50_000
+MEDCOUPLE_SUBSAMPLE_SIZE = 50_000
 
 
 def bowley_skewness(q1: float, median: float, q3: float) -> float | None:
@@ -46,6 +59,29 @@ def bowley_skewness(q1: float, median: float, q3: float) -> float | None:
     if iqr == 0:
         return None
     return float((q3 + q1 - 2.0 * median) / iqr)
+
+
+def medcouple_of_sample(sorted_values: np.ndarray, seed: int) -> tuple[float, str]:
+    """(medcouple, method code) of sorted data, as the report states it.
+
+    Up to ``MEDCOUPLE_EXACT_MAX_N`` values: the exact :func:`medcouple`, method ``"exact"``.
+    Above: the exact medcouple of ``MEDCOUPLE_SUBSAMPLE_SIZE`` values drawn without replacement
+    by ``numpy.random.default_rng(seed)``, method ``"subsample:<size>:<seed>"``. The positions
+    are drawn in the sorted data and taken in increasing order, so the subsample is itself
+    sorted and does not depend on the order of the rows.
+
+    >>> medcouple_of_sample(np.array([1.0, 2.0, 3.0, 6.0, 12.0]), seed=1)
+    (0.5, 'exact')
+    """
+    n = int(np.asarray(sorted_values).size)
+    if n <= MEDCOUPLE_EXACT_MAX_N:
+        return medcouple(sorted_values), "exact"
+    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
+        raise NarratorError(f"the medcouple subsample needs a whole-number seed >= 0; got {seed!r}")
+    generator = np.random.default_rng(int(seed))
+    positions = np.sort(generator.choice(n, size=MEDCOUPLE_SUBSAMPLE_SIZE, replace=False))
+    subsample = np.asarray(sorted_values, dtype=np.float64)[positions]
+    return medcouple(subsample), f"subsample:{MEDCOUPLE_SUBSAMPLE_SIZE}:{int(seed)}"
 
 
 def medcouple(sorted_values: np.ndarray) -> float:

@@ -19,7 +19,8 @@ histogram peaks             visible peaks across bin widths and offsets
 Rules (our own, documented so the methods text can state them):
 
 1. Fewer than 8 values or no spread: ``undetermined``.
-2. Several peaks: the density shows two or more prominent peaks **and** a
+2. Several peaks: the density shows two or more prominent peaks, each holding
+   at least 7.5 % of the values (:func:`substantial_peaks`), **and** a
    second signal agrees (bimodality coefficient above 5/9, or every
    histogram in the sensitivity grid shows at least two peaks). Two peaks give
    ``bimodal``, more give ``multimodal``.
@@ -41,7 +42,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from narrator.findings import BinSensitivity, Shape
+import numpy as np
+
+from narrator.findings import BinSensitivity, Density, Shape
 
 BULMER_MODERATE = 0.5
 BULMER_STRONG = 1.0
@@ -51,6 +54,7 @@ P_STRONG = 0.001
 P_MODERATE = 0.05
 MIN_FOR_SHAPE = 8
 MIN_FOR_STRONG_EVIDENCE = 20
+MIN_PEAK_MASS = 0.075  # a peak must hold this share of the values to count (our own cut)
 HEAVY_TAIL_KURTOSIS = 1.0  # G2 above this: tails heavier than the normal's (our cut, common practice)
 
 
@@ -79,6 +83,32 @@ def bimodality_coefficient(skewness: float | None, kurtosis: float | None, n: in
     if skewness is None or kurtosis is None or n < 4:
         return None
     return (skewness**2 + 1) / (kurtosis + 3.0 * (n - 1) ** 2 / ((n - 2) * (n - 3)))
+
+
+def substantial_peaks(density: Density | None, min_mass: float = MIN_PEAK_MASS) -> int | None:
+    """How many of the density's prominent peaks hold at least ``min_mass`` of the values.
+
+    Each peak's share is the area under the curve between the lowest points
+    separating it from its neighbours. A small bump far out in a tail (a few
+    long waits, a repeated code) is a cluster of unusual values, not a second
+    peak of the distribution; the outlier and data-quality checks report it.
+    """
+    if density is None:
+        return None
+    if len(density.peaks) < 2:
+        return len(density.peaks)
+    grid = np.asarray(density.grid, dtype=float)
+    curve = np.asarray(density.values, dtype=float)
+    positions = sorted(int(np.clip(np.searchsorted(grid, peak), 0, grid.size - 1)) for peak in density.peaks)
+    cuts = [0]
+    for left, right in zip(positions, positions[1:], strict=False):
+        cuts.append(left + int(np.argmin(curve[left : right + 1])))
+    cuts.append(grid.size - 1)
+    masses = np.array([np.trapezoid(curve[a : b + 1], grid[a : b + 1]) for a, b in zip(cuts, cuts[1:], strict=False)])
+    total = float(masses.sum())
+    if not total > 0:
+        return 1
+    return max(1, int(np.count_nonzero(masses / total >= min_mass)))
 
 
 def _sign(value: float | None) -> int:

@@ -151,6 +151,13 @@ class WordingContext:
         return self.text("format.name_with_unit", name=self.name, unit=unit)
 
 
+def _money_capped(decimals: int, fmt: NumberFormatter) -> int:
+    """Money is never written finer than the currency's minor unit ($888.81, not $888.807)."""
+    if fmt.currency_code is not None:
+        return min(decimals, get_currency_precision(fmt.currency_code))
+    return decimals
+
+
 def make_context(
     findings: Findings,
     locale: str,
@@ -174,7 +181,7 @@ def make_context(
         fmt=fmt,
         name=name or findings.variable.name,
         memo_decimals=memo_decimals(scale, reference=reference, data_decimals=data_decimals),
-        methods_decimals=methods_decimals(data_decimals),
+        methods_decimals=_money_capped(methods_decimals(data_decimals), fmt),
         data_decimals=data_decimals,
         hedge=shape_hedge(findings),
     )

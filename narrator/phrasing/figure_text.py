@@ -55,7 +55,9 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
 
 def dotplot_text(ctx: WordingContext) -> FigureText | None:
     findings = ctx.findings
-    if findings.n == 0 or findings.center is None:
+    # The dots stack in the histogram plan's bins; one value, or values all
+    # equal, have no plan (no spread to bin), so there is no dot plot either.
+    if findings.n == 0 or findings.center is None or findings.histogram is None:
         return None
     flagged = findings.outliers
     any_flagged = flagged is not None and flagged.count > 0

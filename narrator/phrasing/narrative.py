@@ -69,6 +69,7 @@ class Section:
     paragraphs: tuple[Paragraph, ...] = ()
     tables: tuple[Table, ...] = ()
     figures: tuple[str, ...] = ()  # FigureText keys shown in this section, in order
+    level: int = 1  # heading level: 1 for a top section, 2 for one inside a variable's part of a report
 
 
 @dataclass(frozen=True, slots=True)

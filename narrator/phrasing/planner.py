@@ -63,7 +63,8 @@ def caution_paragraphs(ctx: WordingContext) -> tuple[Paragraph, ...]:
     keys.append("cautions.population" if findings.variable.population else "cautions.representative")
     if findings.intervals.mean is not None and not findings.variable.population:
         keys.append("cautions.independence")
-    keys.extend(("cautions.review", "cautions.privacy"))
+    shows_ids = findings.outliers is not None and bool(findings.outliers.ids)
+    keys.extend(("cautions.review", "cautions.identifiers" if shows_ids else "cautions.privacy"))
     return tuple(Paragraph((ctx.sentence(key),), style="bullet") for key in keys)
 
 
@@ -75,7 +76,8 @@ def _outlier_section_sentences(ctx: WordingContext) -> list[Sentence]:
     sentences = outlier_sentences(ctx)
     flagged = ctx.findings.outliers
     if flagged is not None and flagged.count > 0:
-        sentences.append(ctx.sentence("technical.outlier_privacy", ("outliers.rows",)))
+        privacy = "technical.outlier_identifiers" if flagged.ids else "technical.outlier_privacy"
+        sentences.append(ctx.sentence(privacy, ("outliers.rows",)))
     return sentences
 
 

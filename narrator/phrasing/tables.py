@@ -5,7 +5,7 @@ Table key          Rows
 =================  ==============================================================
 ``key_figures``    plain-word figures for a memo (memo rounding, units in cells)
 ``statistics``     n, missing, mean (SD), median (IQR), trimmed mean, range, P5-P95, MAD
-``outliers``       flagged values with their row numbers (never record identifiers)
+``outliers``       flagged values with their row numbers (identifiers only when asked for)
 ``with_without``   n, mean, median, SD, IQR with all values, without the flagged, change
 =================  ==============================================================
 
@@ -90,10 +90,13 @@ def outliers_table(ctx: WordingContext) -> Table | None:
     key = "tables.outliers"
     upper = flagged.upper_fence
     far = set(zip(flagged.far_out_rows, flagged.far_out_values, strict=False))
+    # Identifiers appear only when the reader was asked to carry an id column.
+    ids = tuple(flagged.ids) if len(flagged.ids) == len(flagged.rows) else ()
     rows = []
-    for value, row in list(zip(flagged.values, flagged.rows, strict=False))[:OUTLIER_ROWS_SHOWN]:
+    for index, (value, row) in enumerate(list(zip(flagged.values, flagged.rows, strict=False))[:OUTLIER_ROWS_SHOWN]):
         high = value > upper if upper is not None else value > ctx.findings.center.median
         rows.append((
+            *((ids[index],) if ids else ()),
             ctx.whole(row),
             ctx.recorded(value),
             ctx.text(f"words.side.{'high' if high else 'low'}"),
@@ -108,10 +111,11 @@ def outliers_table(ctx: WordingContext) -> Table | None:
     return Table(
         key="outliers",
         caption=caption,
-        header=(ctx.text(f"{key}.row"), ctx.text(f"{key}.value"), ctx.text(f"{key}.side"), ctx.text(f"{key}.far_out")),
+        header=(*((ctx.text(f"{key}.identifier"),) if ids else ()), ctx.text(f"{key}.row"),
+                ctx.text(f"{key}.value"), ctx.text(f"{key}.side"), ctx.text(f"{key}.far_out")),
         rows=tuple(rows),
-        keys=("outliers.values", "outliers.rows", "outliers.far_out_values"),
-        align=("right", "right", "left", "left"),
+        keys=("outliers.values", "outliers.rows", "outliers.far_out_values", *(("outliers.ids",) if ids else ())),
+        align=(*(("left",) if ids else ()), "right", "right", "left", "left"),
     )
 
 
