@@ -630,7 +630,7 @@ def local_maxima(curve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 # scipy.signal would cost most of a second of start-up (it imports scipy.stats); the two routines the
 # engine used from it are restated below, step for step, so the numbers are the same to the last bit
-# (tests/test_density.py compares them with scipy.signal).
+# (tests/engine/test_scipy_equivalents.py compares them with scipy.signal).
 
 
 def _convolve_same(data: np.ndarray, kernel: np.ndarray) -> np.ndarray:

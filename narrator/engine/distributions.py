@@ -4,7 +4,7 @@
 whole engine needs for a million values. These wrappers call the same
 scipy.special routines that scipy.stats' public methods end in, with the same
 arguments, so each returns the same number to the last bit (checked in
-tests/engine/test_distributions.py):
+tests/engine/test_scipy_equivalents.py):
 
 ========================  ===============================================  =====================
 Function                  What it gives                                    Same as

@@ -32,10 +32,10 @@ _RESCALE_ABOVE = 2.0**500
 _RESCALE_BELOW = 2.0**-500
 
 # Above this many values the medcouple is taken on a random subsample (our choice, for speed): the exact
-# algorithm costs about 50 ms at 50 000 values on a 2020s laptop core and grows as n log^2 n. The
-# medcouple's standard error at the normal is about sqrt(1.25 / m) for m values (Brys, Hubert & Struyf
-# 2004 give its influence function), so a subsample of 50 000 leaves about 0.005: a fence multiplier
-# e^(3 MC) moves by about 1.5 %.
+# algorithm costs about 50 ms at 50 000 values on the benchmark machine (tests/benchmarks/) and grows
+# as n log^2 n. Its standard error at the normal is about sqrt(1.25 / m) for m values (the asymptotic
+# variance from Brys, Hubert & Struyf 2004; the 1.25 is from memory), so a subsample of 50 000 leaves
+# about 0.005: a fence multiplier e^(3 MC) moves by about 1.5 %.
 MEDCOUPLE_EXACT_MAX_N = 50_000
 MEDCOUPLE_SUBSAMPLE_SIZE = 50_000
 

@@ -42,6 +42,11 @@ def left_out_items(ctx: WordingContext, prefix: str) -> tuple[str, tuple[str, ..
 def memo_caution(ctx: WordingContext) -> Sentence:
     """The one caution a memo ends with: the most pressing for these findings."""
     findings = ctx.findings
+    code = findings.quality.get("missing_code")
+    if code is not None and code.values:
+        # A value that may stand for "missing" can change every figure: it comes first.
+        return ctx.sentence("cautions.check_code", ("quality.flags",), code=ctx.recorded(code.values[0]),
+                            count_times=ctx.text("quality.times", ctx.plural(code.count), count=ctx.whole(code.count)))
     if findings.outliers is not None and findings.outliers.count > 0:
         return ctx.sentence("cautions.check_flagged", ("outliers.count",))
     if 0 < findings.n < 20:

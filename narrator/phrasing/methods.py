@@ -110,6 +110,11 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
     if findings.shape.skewness is not None:
         sentences.append(ctx.sentence("methods.shape_rule", ("shape.skewness", "shape.skewness_test_p"),
                                       moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1)))
+    method_parts = findings.shape.medcouple_method.split(":")
+    if method_parts[0] == "subsample" and len(method_parts) == 3:
+        # The engine took the medcouple on a fixed-seed random subsample (large samples): say so, with both numbers.
+        sentences.append(ctx.sentence("methods.medcouple_subsample", ("shape.medcouple_method",),
+                                      size=ctx.whole(float(method_parts[1])), seed=method_parts[2]))
     sentences.append(_outlier_sentence(ctx))
     if findings.outliers is not None and findings.outliers.count > 0:
         sentences.append(ctx.sentence("methods.with_without", ("without_outliers",)))
