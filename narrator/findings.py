@@ -21,6 +21,8 @@ Class                       What it holds
 :class:`Density`            kernel density estimate on a grid
 :class:`QualityFlag`        one data-quality observation (a code, counts, rows)
 :class:`Quality`            rows read, missing, excluded, and all flags
+:class:`ApproximateFigure`  one figure that is not exact, how it was made, its bound
+:class:`Accuracy`           which engine ran, which figures are exact, which approximate
 :class:`Findings`           all of the above plus options and provenance
 ==========================  ====================================================
 
@@ -258,6 +260,38 @@ class Quality:
 
 
 @dataclass(frozen=True, slots=True)
+class ApproximateFigure:
+    """A figure computed from part of the data or a sketch, with how far it may be from the exact one."""
+
+    figure: str  # findings key, e.g. "shape.medcouple"
+    method: str  # e.g. "reservoir-subsample"
+    bound: float | None  # size of the bound, in the figure's own units
+    bound_kind: str  # e.g. "standard_error", "normalized_rank_error"
+    depends: tuple[str, ...] = ()  # figures that inherit the approximation, e.g. the adjusted fences
+
+
+@dataclass(frozen=True, slots=True)
+class Accuracy:
+    """How the findings were computed when the data were not all in memory at once.
+
+    ``exact`` figures are the same numbers the in-memory engine gives; ``merged`` ones are sums merged
+    over chunks, equal to the in-memory ones up to floating-point rounding (``merged_relative_error``);
+    ``approximate`` ones carry their bound.
+    """
+
+    engine: str  # "stream" or "dask"
+    passes: int  # reads of the data
+    exact: tuple[str, ...]
+    merged: tuple[str, ...]
+    approximate: tuple[ApproximateFigure, ...]
+    sketch: str | None = None  # e.g. "kll:2048"
+    sketch_rank_error: float | None = None  # normalized rank error of the sketch (99 % confidence)
+    merged_relative_error: float | None = None
+    reservoir_size: int | None = None
+    seed: int | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class Findings:
     schema_version: int
     variable: Variable
@@ -274,6 +308,8 @@ class Findings:
     quality: Quality
     options: dict[str, Any]
     provenance: dict[str, Any]
+    # Set only by the engines for data larger than memory (narrator.scale); None in memory.
+    accuracy: Accuracy | None = None
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict; non-finite floats become None."""

@@ -339,7 +339,8 @@ def histogram_plan(
     if not (sd_scaled > 0 and math.isfinite(sd_scaled) and iqr_scaled >= 0 and math.isfinite(iqr_scaled)):
         raise NarratorError("histogram: sd must be positive and iqr not negative for data with spread")
     raw_scaled, used_rule, note = _raw_width(scaled, array.size, rule, sd_scaled, iqr_scaled, presorted=presorted)
-    raw = raw_scaled * units.unit
+    # A width from the rule can pass the largest double when the values span most of it: cap it there.
+    raw = min(raw_scaled * units.unit, float(np.finfo(float).max))
     width = _whole_width(raw) if whole else nice_width(raw)
 
     narrowest = largest * MAGNITUDE_RESOLUTION

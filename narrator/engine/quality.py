@@ -44,7 +44,9 @@ PILE_UP_MIN_COUNT = 3
 HEAPING_RATIO = 2.0  # observed share at round values at least this many times the chance share
 HEAPING_P = 0.001  # and a one-sided binomial test below this
 SUSPECT_CODES = (-9.0, -99.0, -999.0, -9999.0, -99999.0, 99.0, 999.0, 9999.0, 99999.0, 999999.0, -1.0, -8.0)
-CODE_DISTANCE_IQR = 3.0  # a code must sit beyond the far-out fences of the other values
+CODE_DISTANCE_IQR = 3.0
+CODE_NEIGHBOURHOOD = 0.1  # neighbours of a suspected code: within this share of the IQR
+SPIKE_RATIO = 3.0  # a code holds at least this many times its neighbours' typical count  # a code must sit beyond the far-out fences of the other values
 ROWS_SHOWN = 10
 
 
@@ -117,8 +119,27 @@ def _linear_quantiles(value_at, count: int, probabilities) -> np.ndarray:
     return result
 
 
+def _is_spike(sorted_values: np.ndarray, left: int, right: int, half_width: float) -> bool:
+    """Is the run sorted_values[left:right] a spike: far more often than its neighbours' values?
+
+    A code typed for "missing" piles up on one value; a real value that
+    happens to equal a code (99.0 among a million measurements) is about as
+    common as the values beside it.
+    """
+    count = right - left
+    code = sorted_values[left]
+    start = int(np.searchsorted(sorted_values, code - half_width, side="left"))
+    stop = int(np.searchsorted(sorted_values, code + half_width, side="right"))
+    neighbours = np.concatenate([sorted_values[start:left], sorted_values[right:stop]])
+    if neighbours.size == 0:
+        return True
+    distinct = 1 + int(np.count_nonzero(np.diff(neighbours)))
+    return count >= SPIKE_RATIO * neighbours.size / distinct
+
+
 def _missing_codes(sorted_values: np.ndarray, values: np.ndarray, rows: np.ndarray) -> list[QualityFlag]:
-    """Values that look like missing-value codes: repeated (or long all-nines) and far from the rest."""
+    """Values that look like missing-value codes: repeated (or long all-nines), far from the rest,
+    and a spike (far more common than the values next to them)."""
     flags = []
     n = sorted_values.size
     for code in SUSPECT_CODES:
@@ -141,7 +162,7 @@ def _missing_codes(sorted_values: np.ndarray, values: np.ndarray, rows: np.ndarr
             others = np.concatenate([sorted_values[:left], sorted_values[right:]])
             spread = float(np.std(others)) or 1.0
         far = code < q1 - CODE_DISTANCE_IQR * spread or code > q3 + CODE_DISTANCE_IQR * spread
-        if far:
+        if far and _is_spike(sorted_values, left, right, CODE_NEIGHBOURHOOD * spread):
             where = np.flatnonzero(values == code)[:ROWS_SHOWN]
             flags.append(
                 QualityFlag(

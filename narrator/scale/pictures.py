@@ -1,0 +1,319 @@
+"""The histogram plan, the bin-sensitivity grid and the kernel density estimate from counts made in a pass.
+
+The in-memory engine (:mod:`narrator.engine.bins`, :mod:`narrator.engine.density`) reads the sorted
+values; here the same decisions are taken from the figures an earlier pass gave (n, smallest and
+largest value, SD, IQR, skewness), the grids are laid out, a later pass counts the values into them
+(:class:`~.summaries.BinCounts`, :class:`~.summaries.LinearBinCounts`), and the results are finished
+from those counts with the engine's own helpers and constants, step for step.
+
+==============================  ====================================================
+Name                            What it does
+==============================  ====================================================
+:class:`HistogramLayout`        rule used, widths, first bin, bin count, tolerance
+:func:`histogram_layout`        the plan's decisions without the values
+:func:`histogram_from_counts`   layout + counts -> HistogramPlan
+:class:`SensitivityLayout`      the fine grid (or the separate grids) of the 3 x 4
+:func:`sensitivity_layout`      ... chosen like :func:`narrator.engine.bins.bin_sensitivity`
+:func:`sensitivity_from_counts` fine counts -> BinSensitivity
+:class:`DensityLayout`          standard units, bandwidth, fine binning grid
+:func:`density_layout`          bandwidth by Silverman's or Scott's rule, grid
+:func:`density_from_counts`     binned counts -> Density (FFT, reflection, peaks)
+==============================  ====================================================
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from narrator.engine import bins as engine_bins
+from narrator.engine import density as engine_density
+from narrator.errors import NarratorError
+from narrator.findings import BinSensitivity, Density, HistogramPlan
+from narrator.scale.summaries import BinCounts, LinearBinCounts
+
+
+@dataclass(frozen=True, slots=True)
+class HistogramLayout:
+    rule: str
+    raw_width: float
+    width: float
+    shift: float
+    first: float
+    tolerance: float
+    bins: int
+    whole: bool
+    note: str | None
+
+    def counter(self) -> BinCounts:
+        return BinCounts(self.width, self.shift, self.first, self.tolerance, self.bins, clip=True)
+
+
+def histogram_layout(
+    *, n: int, low: float, high: float, sd: float, iqr: float, rule: str, integer_valued: bool,
+    skewness_biased: float | None,
+) -> HistogramLayout:
+    """The decisions of :func:`narrator.engine.bins.histogram_plan` for sorted data, from n, the extremes,
+    SD and IQR (data units); Doane's rule takes the moment skewness g1 = m3 / m2^1.5 (``skewness_biased``)."""
+    largest = max(abs(low), abs(high))
+    whole = bool(integer_valued)
+    if whole and largest >= engine_bins.LARGEST_EXACT_INTEGER:
+        whole = False
+    shift = -0.5 if whole else 0.0
+    if not math.isfinite(high - low):
+        raise NarratorError("histogram: the values span more than the largest floating-point number")
+    units = engine_density.standard_units(np.array([low, high]))
+    if not units.has_spread:
+        if whole or low == 0:
+            width = 1.0
+        else:
+            width = engine_bins._nice_at_least(
+                max(engine_bins.CONSTANT_WIDTH_SHARE * abs(low), float(np.finfo(float).tiny)), False)
+        tolerance = engine_bins._edge_tolerance(low, high, width, shift)
+        first = engine_bins._first_index(low, width, shift, tolerance)
+        bins = int(engine_bins._bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
+        return HistogramLayout(rule, 0.0, width, shift, first, tolerance, bins, whole, "constant")
+    sd_scaled = float(sd) / units.unit
+    iqr_scaled = float(iqr) / units.unit
+    if not (sd_scaled > 0 and math.isfinite(sd_scaled) and iqr_scaled >= 0 and math.isfinite(iqr_scaled)):
+        raise NarratorError("histogram: sd must be positive and iqr not negative for data with spread")
+    if rule == "doane" and n > 2:
+        value_range = float(units.scaled[-1] - units.scaled[0])
+        sigma_g1 = math.sqrt(6.0 * (n - 2) / ((n + 1.0) * (n + 3.0)))
+        count = math.ceil(1.0 + math.log2(n) + math.log2(1.0 + abs(skewness_biased or 0.0) / sigma_g1))
+        raw_scaled, used_rule, note = value_range / count, rule, None
+    else:
+        raw_scaled, used_rule, note = engine_bins._raw_width(units.scaled, n, rule, sd_scaled, iqr_scaled,
+                                                             presorted=True)
+    raw = raw_scaled * units.unit
+    width = engine_bins._whole_width(raw) if whole else engine_bins.nice_width(raw)
+    narrowest = largest * engine_bins.MAGNITUDE_RESOLUTION
+    if width < narrowest:
+        width = engine_bins._nice_at_least(narrowest, whole)
+        note = "magnitude_resolution"
+    if (high - low) / width > engine_bins.MAX_BINS:
+        width = engine_bins._nice_at_least((high - low) / engine_bins.MAX_BINS, whole)
+        note = "bin_cap"
+    while True:
+        tolerance = engine_bins._edge_tolerance(low, high, width, shift)
+        first = engine_bins._first_index(low, width, shift, tolerance)
+        bins = int(engine_bins._bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
+        if bins <= engine_bins.MAX_BINS:
+            break
+        width = engine_bins._next_wider(width, whole)
+        note = "bin_cap"
+    if bins > 1 and abs((high - shift) / width - first - (bins - 1)) <= tolerance:
+        bins -= 1
+    bins = max(bins, engine_bins.MIN_BINS)
+    return HistogramLayout(used_rule, float(raw), float(width), shift, first, tolerance, bins, whole, note)
+
+
+def histogram_from_counts(layout: HistogramLayout, counts: np.ndarray) -> HistogramPlan:
+    edges = engine_bins._edges(layout.first, layout.bins, layout.width, layout.shift)
+    return HistogramPlan(
+        rule=layout.rule,
+        raw_width=layout.raw_width,
+        width=layout.width,
+        edges=tuple(float(e) for e in edges),
+        counts=tuple(int(c) for c in counts),
+        integer_aligned=layout.whole,
+        note=layout.note,
+    )
+
+
+@dataclass(frozen=True, slots=True)
+class SensitivityLayout:
+    base_width: float
+    widths: tuple[float, ...]  # data units, as reported
+    scaled_widths: tuple[float, ...]
+    offsets: tuple[float, ...]
+    factor: float
+    shift: float
+    fine: tuple[float, int] | None  # (step, period) of the shared fine grid, or None
+    counters: tuple[BinCounts, ...]  # one fine counter, or one per width x offset
+
+
+def sensitivity_layout(
+    *, low: float, high: float, base_width: float, integer_valued: bool,
+    width_factors: tuple[float, ...] = engine_bins.DEFAULT_WIDTH_FACTORS,
+    offsets: tuple[float, ...] = engine_bins.DEFAULT_OFFSETS,
+) -> SensitivityLayout:
+    """The grids :func:`narrator.engine.bins.bin_sensitivity` counts into, for data spanning [low, high]."""
+    largest_value = max(abs(low), abs(high))
+    whole = bool(integer_valued) and largest_value < engine_bins.LARGEST_EXACT_INTEGER
+    size_log2 = max(math.log2(largest_value) if largest_value > 0 else -math.inf,
+                    math.log2(base_width) + math.log2(max(width_factors)))
+    factor = 1.0 if -100 < size_log2 < 100 else math.ldexp(1.0, min(math.floor(size_log2), 1023))
+    if whole:
+        scaled_widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
+    else:
+        scaled_widths = tuple(float((base_width / factor) * f) for f in width_factors)
+    widths = tuple(min(w * factor, float(np.finfo(float).max)) for w in scaled_widths)
+    shift = (-0.5 if whole else 0.0) / factor
+    low_s, high_s = low / factor, high / factor
+    plan = engine_bins._fine_resolution(scaled_widths, offsets)
+    counters: list[BinCounts] = []
+    if plan is not None:
+        step, period = plan
+        origin = (math.floor((low_s - shift) / (step * period)) - 1) * period
+        fine_bins = (high_s - shift) / step - origin + 2
+        if fine_bins > engine_bins.MAX_FINE_BINS:
+            raise NarratorError(f"bin sensitivity: a width of {min(widths):g} is too narrow"
+                                f" for values spanning {(high_s - low_s) * factor:g}")
+        tolerance = engine_bins._edge_tolerance(low_s, high_s, step, shift)
+        last = int(engine_bins._bin_index(np.array([high_s]), step, shift, float(origin), tolerance)[0])
+        counters.append(_scaled_counter(step, shift, float(origin), tolerance, last + 1, factor))
+    else:
+        for w in scaled_widths:
+            for o in offsets:
+                w_shift = shift + o * w
+                tolerance = engine_bins._edge_tolerance(low_s, high_s, w, w_shift)
+                first = engine_bins._first_index(low_s, w, w_shift, tolerance)
+                last = int(engine_bins._bin_index(np.array([high_s]), w, w_shift, first, tolerance)[0])
+                counters.append(_scaled_counter(w, w_shift, first, tolerance, last + 1, factor))
+    return SensitivityLayout(float(base_width), widths, scaled_widths, tuple(float(o) for o in offsets), factor,
+                             shift, plan, tuple(counters))
+
+
+def _scaled_counter(width, shift, first, tolerance, bins, factor) -> BinCounts:
+    return BinCounts(width, shift, first, tolerance, bins, clip=True, factor=factor)
+
+
+def sensitivity_from_counts(layout: SensitivityLayout, counters) -> BinSensitivity:
+    peak_counts: list[tuple[int, ...]] = []
+    if layout.fine is not None:
+        step, _ = layout.fine
+        fine_counts = counters[0].counts
+        for w in layout.scaled_widths:
+            steps_per_bin = round(w / step)
+            row = []
+            for o in layout.offsets:
+                shifted = fine_counts[round(o * w / step):]
+                padding = (-shifted.size) % steps_per_bin
+                coarse = np.concatenate((shifted, np.zeros(padding, dtype=shifted.dtype)))
+                row.append(engine_bins.count_visible_peaks(coarse.reshape(-1, steps_per_bin).sum(axis=1)))
+            peak_counts.append(tuple(row))
+    else:
+        columns = len(layout.offsets)
+        for i in range(len(layout.scaled_widths)):
+            peak_counts.append(tuple(engine_bins.count_visible_peaks(counters[i * columns + j].counts)
+                                     for j in range(columns)))
+    flat = [count for row in peak_counts for count in row]
+    return BinSensitivity(
+        base_width=layout.base_width, widths=layout.widths, offsets=layout.offsets,
+        peak_counts=tuple(peak_counts), sensitive=len(set(flat)) > 1, min_peaks=min(flat), max_peaks=max(flat),
+    )
+
+
+@dataclass(frozen=True, slots=True)
+class DensityLayout:
+    n: int
+    centre: float
+    unit: float
+    has_spread: bool
+    low: float  # standard units
+    high: float
+    width: float  # bandwidth, standard units
+    rule: str
+    note: str | None
+    fine_start: float
+    fine_step: float
+    fine_size: int
+    lower_bound: float | None
+    upper_bound: float | None
+
+    def counter(self) -> LinearBinCounts:
+        return LinearBinCounts(self.centre, self.unit, self.fine_start, self.fine_step, self.fine_size)
+
+
+def density_layout(
+    *, n: int, low: float, high: float, sd: float, iqr: float, rule: str,
+    lower_bound: float | None, upper_bound: float | None,
+) -> DensityLayout:
+    """Standard units, bandwidth and binning grid of :func:`narrator.engine.density.estimate_density`
+    (Silverman's or Scott's rule; both need only n, SD, IQR and the extremes)."""
+    if rule not in ("silverman", "scott"):
+        raise NarratorError(f"the bandwidth rule {rule!r} needs every value in memory; with more data than "
+                            "memory use 'silverman' or 'scott'")
+    ends = np.array([low, high])
+    engine_density._check_bounds(ends, lower_bound, upper_bound)
+    centre = low / 2.0 + high / 2.0
+    half_range = high / 2.0 - low / 2.0
+    has_spread = half_range >= engine_density.SMALLEST_SPREAD
+    unit = half_range if has_spread else (
+        max(abs(centre), engine_density.SMALLEST_SPREAD) if centre != 0.0 else 1.0)
+    units = engine_density.StandardUnits(centre=centre, unit=unit, scaled=(ends - centre) / unit,
+                                         has_spread=has_spread)
+    low_s, high_s = float(units.scaled[0]), float(units.scaled[1])
+    sd_scaled, iqr_scaled = float(sd) / unit, float(iqr) / unit
+    if not (math.isfinite(sd_scaled) and math.isfinite(iqr_scaled)) or sd_scaled < 0 or iqr_scaled < 0:
+        raise NarratorError("bandwidth: sd and iqr must be finite and not negative")
+    used, note = rule, None
+    if not has_spread or (sd_scaled == 0 and iqr_scaled == 0):
+        width, note = engine_density._degenerate_width(units), "constant_fixed_width"
+    elif rule == "scott" and sd_scaled > 0:
+        width = engine_density.SCOTT_FACTOR * sd_scaled * n ** -0.2
+    elif rule == "scott":
+        width, _ = engine_density._silverman(n, sd_scaled, iqr_scaled)
+        used, note = "silverman", "sd_zero_used_silverman"
+    else:
+        width, note = engine_density._silverman(n, sd_scaled, iqr_scaled)
+    floor = (high_s - low_s) / engine_density.MAX_RANGE_IN_BANDWIDTHS
+    if has_spread and width < floor:
+        width, note = floor, "bandwidth_floor"
+    reach = engine_density.KERNEL_REACH_BANDWIDTHS * width
+    fine_start, fine_stop = low_s - reach, high_s + reach
+    wanted = math.ceil((fine_stop - fine_start) / (width / engine_density.FINE_STEPS_PER_BANDWIDTH)) + 1
+    fine_size = int(min(max(wanted, engine_density.FINE_GRID_MIN), engine_density.FINE_GRID_MAX))
+    fine_step = (fine_stop - fine_start) / (fine_size - 1)
+    return DensityLayout(n, centre, unit, has_spread, low_s, high_s, width, used, note, fine_start, fine_step,
+                         fine_size, lower_bound, upper_bound)
+
+
+def density_from_counts(layout: DensityLayout, counts: np.ndarray,
+                        grid_size: int = engine_density.DEFAULT_GRID_SIZE) -> Density:
+    """The rest of :func:`narrator.engine.density.estimate_density` once the values are binned."""
+    n, width, unit, centre = layout.n, layout.width, layout.unit, layout.centre
+    low, high = layout.low, layout.high
+    lower_bound, upper_bound = layout.lower_bound, layout.upper_bound
+    lower = None if lower_bound is None else (lower_bound - centre) / unit
+    upper = None if upper_bound is None else (upper_bound - centre) / unit
+    reach = engine_density.KERNEL_REACH_BANDWIDTHS * width
+    fine_step, fine_size, fine_start = layout.fine_step, layout.fine_size, layout.fine_start
+    half = min(math.ceil(reach / fine_step), fine_size - 1)
+    u = np.arange(-half, half + 1) * (fine_step / width)
+    kernel = np.exp(-0.5 * u * u) / (math.sqrt(2.0 * math.pi) * n * width)
+    fine_density = engine_density._convolve_same(counts, kernel)
+    np.maximum(fine_density, 0.0, out=fine_density)
+    fine_grid = fine_start + np.arange(fine_size) * fine_step
+    largest = float(np.finfo(float).max)
+    out_low = low - engine_density.GRID_MARGIN_BANDWIDTHS * width
+    out_high = high + engine_density.GRID_MARGIN_BANDWIDTHS * width
+    clipped_low = lower is not None and out_low <= lower
+    clipped_high = upper is not None and out_high >= upper
+    out_low = lower if clipped_low else max(out_low, -largest / unit - centre / unit)
+    out_high = upper if clipped_high else min(out_high, largest / unit - centre / unit)
+    grid = np.linspace(out_low, out_high, grid_size)
+    density_scaled = np.zeros(grid_size)
+    for sign, shift in engine_density._reflection_images(lower, upper, reach):
+        density_scaled += np.interp(shift + sign * grid, fine_grid, fine_density, left=0.0, right=0.0)
+    reflected = (lower is not None and low - lower < reach) or (upper is not None and upper - high < reach)
+    with np.errstate(over="ignore"):
+        grid_data = np.clip(centre + grid * unit, -largest, largest)
+    if clipped_low:
+        grid_data[0] = lower_bound
+    if clipped_high:
+        grid_data[-1] = upper_bound
+    grid_data = np.maximum.accumulate(grid_data)
+    density_data = density_scaled / unit
+    peak_locations = engine_density.find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)
+    peaks = tuple(float(grid_data[np.searchsorted(grid, location)]) for location in peak_locations)
+    return Density(
+        kernel="gaussian", bandwidth_rule=layout.rule, bandwidth=float(width * unit), method="binned-fft",
+        grid=tuple(float(t) for t in grid_data), values=tuple(float(v) for v in density_data),
+        lower_bound=None if lower_bound is None else float(lower_bound),
+        upper_bound=None if upper_bound is None else float(upper_bound),
+        reflected=bool(reflected), peaks=peaks, bandwidth_note=layout.note,
+    )

@@ -1,0 +1,141 @@
+"""Exact order statistics in a second pass, inside brackets taken from the quantile sketch.
+
+For each wanted range of ranks [a, b] (0-based, ascending order) the sketch gives a value below
+which fewer than a values lie and one above which fewer than n - b - 1 lie, widened by a margin of
+``BRACKET_MARGIN`` times the sketch's normalized rank error on each side. The next pass counts the
+values below each bracket exactly and keeps the (few) values inside it; the wanted order statistic
+is then read off exactly. The sketch's bound is probabilistic (99 % per query for KLL), so every
+bracket is checked against the exact counts and a bracket that missed is widened (by
+``WIDEN_FACTOR``) and read again in another pass; the result is exact either way.
+
+=========================  =====================================================
+Name                       What it does
+=========================  =====================================================
+:func:`plan_brackets`      rank ranges + sketch -> PartitionCounts to fill
+:class:`OrderStatistics`   exact values by rank from filled PartitionCounts
+:func:`type7_ranks`        the two ranks each type 7 quantile interpolates
+:func:`type7_quantiles`    type 7 quantiles from an order-statistic lookup
+=========================  =====================================================
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Iterable
+
+import numpy as np
+
+from narrator.scale.summaries import PartitionCounts, QuantileSketch
+
+BRACKET_MARGIN = 2.0
+WIDEN_FACTOR = 8.0
+
+
+def plan_brackets(sketch: QuantileSketch, n: int, ranges: Iterable[tuple[int, int]], margin: float,
+                  extra_points: Iterable[float] = ()) -> PartitionCounts:
+    """Boundaries and kept gaps covering every rank range with a margin of ``margin`` (a share of n).
+
+    ``extra_points`` are values whose exact counts below and at are wanted too (no values kept).
+    """
+    regions = []
+    for a, b in ranges:
+        low_share = a / n - margin
+        high_share = (b + 1) / n + margin
+        low = -math.inf if low_share <= 0 else sketch.quantile(low_share)
+        high = math.inf if high_share >= 1 else sketch.quantile(high_share)
+        regions.append((low, high))
+    regions.sort()
+    merged: list[list[float]] = []
+    for low, high in regions:
+        if merged and low <= merged[-1][1]:
+            merged[-1][1] = max(merged[-1][1], high)
+        else:
+            merged.append([low, high])
+    points = {float(p) for p in extra_points if math.isfinite(p)}
+    for low, high in merged:
+        points.update(v for v in (low, high) if math.isfinite(v))
+    boundaries = np.array(sorted(points), dtype=np.float64)
+    collect = np.zeros(boundaries.size + 1, dtype=bool)
+    for j in range(boundaries.size + 1):
+        gap_low = -math.inf if j == 0 else boundaries[j - 1]
+        gap_high = math.inf if j == boundaries.size else boundaries[j]
+        collect[j] = any(low <= gap_low and gap_high <= high for low, high in merged)
+    return PartitionCounts(boundaries, collect)
+
+
+class OrderStatistics:
+    """Exact order statistics by 0-based rank, from one or more filled :class:`PartitionCounts`."""
+
+    def __init__(self, n: int) -> None:
+        self.n = n
+        self.partitions: list[PartitionCounts] = []
+        self.known: dict[int, float] = {}
+
+    def add(self, partition: PartitionCounts) -> None:
+        self.partitions.append(partition)
+
+    def value(self, rank: int) -> float | None:
+        if rank in self.known:
+            return self.known[rank]
+        for partition in self.partitions:
+            found = partition.order_statistic(rank)
+            if found is not None:
+                self.known[rank] = found
+                return found
+        return None
+
+    def missing(self, ranks: Iterable[int]) -> list[int]:
+        return sorted({r for r in ranks if self.value(r) is None})
+
+    def __call__(self, rank: int) -> float:
+        found = self.value(rank)
+        if found is None:
+            raise LookupError(f"order statistic {rank} was not bracketed")
+        return found
+
+
+def resolve(run_pass: Callable[[PartitionCounts], PartitionCounts], statistics: OrderStatistics,
+            sketch: QuantileSketch, ranks: Iterable[int], margin: float) -> int:
+    """Extra passes until every rank in ``ranks`` is known; returns how many passes it took."""
+    passes = 0
+    wanted = list(ranks)
+    while True:
+        missing = statistics.missing(wanted)
+        if not missing:
+            return passes
+        margin *= WIDEN_FACTOR
+        statistics.add(run_pass(plan_brackets(sketch, statistics.n, [(r, r) for r in missing], margin)))
+        passes += 1
+
+
+def type7_ranks(n: int, probabilities) -> list[int]:
+    """The ranks floor(h) and min(floor(h) + 1, n - 1), h = (n - 1) p, of type 7 quantiles."""
+    p = np.asarray(probabilities, dtype=float)
+    low = np.floor((n - 1) * p).astype(np.int64)
+    high = np.minimum(low + 1, n - 1)
+    return sorted({int(r) for r in np.concatenate([low, high])})
+
+
+def type7_quantiles(value_at: Callable[[int], float], n: int, probabilities, factor: float = 1.0) -> np.ndarray:
+    """Hyndman & Fan (1996) type 7 quantiles with the arithmetic of
+    :func:`narrator.engine.moments.quantiles_sorted`, of the values divided by ``factor``."""
+    p = np.asarray(probabilities, dtype=float)
+    h = (n - 1) * p
+    low = np.floor(h).astype(np.int64)
+    high = np.minimum(low + 1, n - 1)
+    fraction = h - low
+    lower_values = np.array([value_at(int(r)) for r in low]) / factor
+    upper_values = np.array([value_at(int(r)) for r in high]) / factor
+    return np.where(fraction == 0, lower_values, lower_values + fraction * (upper_values - lower_values))
+
+
+def median_ranks(n: int) -> list[int]:
+    return [n // 2] if n % 2 else [n // 2 - 1, n // 2]
+
+
+def median_of(value_at: Callable[[int], float], n: int, factor: float = 1.0) -> float:
+    """The middle value, or the mean of the two middle values (as :func:`narrator.engine.moments.median_sorted`)."""
+    middle = n // 2
+    if n % 2:
+        return float(value_at(middle) / factor)
+    return float(value_at(middle - 1) / factor / 2 + value_at(middle) / factor / 2)

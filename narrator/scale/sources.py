@@ -1,0 +1,337 @@
+"""Where the values come from when they do not fit in memory: a folder or glob of Parquet files, or a
+large CSV/TSV file, read in chunks with the cell rules of :mod:`narrator.data`.
+
+==========================  ====================================================
+Name                        What it is
+==========================  ====================================================
+:class:`ColumnSource`       one column of many Parquet files or one big text
+                            file; ``chunks()`` yields a Sample per chunk
+:func:`open_source`         path, folder or glob -> ColumnSource (checked)
+:func:`is_large_input`      whether a path names a folder or a glob (the
+                            streaming engine is then the default)
+:class:`ReadingSummary`     what reading left out, merged over chunks, and the
+                            Sample-like account the quality flags need
+:data:`DEFAULT_CHUNK_ROWS`  rows per chunk (about 8 MB of float64 values)
+==========================  ====================================================
+
+Rows are numbered as :func:`narrator.data.read_column` numbers them, counted
+across the files in name order: the first data row of the first file is row 2
+(as if a header row came first), and each later file continues the count.
+Each chunk's cells go through the same classification (missing tokens, text
+parsing, non-finite values, the valid range) as a whole file read in memory.
+"""
+
+from __future__ import annotations
+
+import glob
+import hashlib
+import os
+from collections.abc import Iterable, Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from narrator import data as reading
+from narrator.errors import NarratorError
+from narrator.sample import Exclusion, Sample
+
+DEFAULT_CHUNK_ROWS = 1 << 20
+ROWS_KEPT = reading.ROWS_KEPT
+EXAMPLES_KEPT = reading.EXAMPLES_KEPT
+_PARQUET_SUFFIXES = (".parquet", ".pq")
+_TEXT_FORMATS = {".csv": "csv", ".tsv": "tsv", ".tab": "tsv"}
+
+
+def is_large_input(path: str | os.PathLike[str]) -> bool:
+    """True for a folder or a glob pattern (``*``, ``?``, ``[``): many files, read by streaming."""
+    text = os.fspath(path)
+    return Path(text).is_dir() or glob.has_magic(text)
+
+
+def _parquet_paths(text: str) -> tuple[Path, ...]:
+    target = Path(text)
+    if target.is_dir():
+        found = sorted(p for p in target.rglob("*") if p.is_file() and p.suffix.lower() in _PARQUET_SUFFIXES)
+        where = f"folder {target.name}"
+    elif glob.has_magic(text):
+        found = sorted(Path(p) for p in glob.glob(text, recursive=True)
+                       if Path(p).is_file() and Path(p).suffix.lower() in _PARQUET_SUFFIXES)
+        where = f"pattern {Path(text).name}"
+    else:
+        found = [target] if target.is_file() else []
+        where = target.name
+    if not found:
+        raise NarratorError(f"{where}: no Parquet files (.parquet, .pq) found")
+    return tuple(found)
+
+
+@dataclass(frozen=True, slots=True)
+class ColumnSource:
+    """One column read chunk by chunk. ``kind`` is ``"parquet"`` (one or more files) or ``"csv"``/``"tsv"``."""
+
+    kind: str
+    paths: tuple[Path, ...]
+    label: str  # what the report calls the input: a folder, pattern or file name (never the full path)
+    column_name: str
+    column_index: int  # 0-based among the data columns
+    options: object  # narrator.data reading options
+    unit: str | None = None
+    chunk_rows: int = DEFAULT_CHUNK_ROWS
+    encoding: str | None = None
+    delimiter: str | None = None
+    facts: dict = field(default_factory=dict)
+
+    def chunks(self) -> Iterator[Sample]:
+        """One Sample per chunk, rows numbered across the whole input."""
+        if self.kind == "parquet":
+            offset = 0
+            for path in self.paths:
+                for chunk in self.parquet_file_chunks(path, offset):
+                    yield chunk
+                    offset += chunk.n_rows
+        else:
+            yield from self._text_chunks()
+
+    def parquet_file_chunks(self, path: Path, offset: int) -> Iterator[Sample]:
+        parquet = reading._parquet_file(path)
+        self._check_column(parquet, path)
+        name = parquet.schema_arrow.names[reading._parquet_positions(parquet)[self.column_index]]
+        try:
+            for batch in parquet.iter_batches(batch_size=self.chunk_rows, columns=[name]):
+                yield self.sample_of(reading._parquet_cells(batch.column(0), self.options), offset)
+                offset += batch.num_rows
+        except Exception as exc:  # pyarrow raises several kinds for a damaged file
+            if isinstance(exc, NarratorError):
+                raise
+            raise NarratorError(f"{path.name}: column '{name}' cannot be read ({exc})") from None
+
+    def parquet_rows(self, path: Path) -> int:
+        return int(reading._parquet_file(path).metadata.num_rows)
+
+    def _check_column(self, parquet, path: Path) -> None:
+        positions = reading._parquet_positions(parquet)
+        headers = [parquet.schema_arrow.names[k] for k in positions]
+        index = reading._select_column(headers, self.column_name, path.name)
+        if index != self.column_index:
+            raise NarratorError(f"{path.name}: column '{self.column_name}' is column {index + 1} here but "
+                                f"column {self.column_index + 1} in the first file; the files must share a layout")
+
+    def sample_of(self, cells, offset: int) -> Sample:
+        """A chunk's cells as a Sample; row numbers start at ``offset`` + 2."""
+        rows = np.arange(offset + 2, offset + 2 + cells.values.size, dtype=np.int64)
+        source = {"column_position": self.column_index + 1}
+        return reading._build_sample(cells, rows, self.column_name, self.unit, self.options, source)
+
+    def _text_chunks(self) -> Iterator[Sample]:
+        import pandas as pd
+
+        path = self.paths[0]
+        try:
+            reader = pd.read_csv(path, sep=self.delimiter, header=None, dtype=str, keep_default_na=False,
+                                 na_values=[], skip_blank_lines=False, chunksize=self.chunk_rows,
+                                 encoding=self.encoding, engine="c", skiprows=1)
+            offset = 0
+            pending: list = []  # blank rows held back: blank rows at the very end are not data rows
+            for frame in reader:
+                filled = frame.fillna("").apply(lambda column: column.str.strip().ne("")).any(axis=1).to_numpy()
+                cells_frame = frame.iloc[:, self.column_index] if self.column_index < frame.shape[1] else \
+                    pd.Series([""] * len(frame), dtype=object)
+                column = list(pending) + cells_frame.tolist()
+                filled_all = np.concatenate([np.zeros(len(pending), dtype=bool), filled])
+                last = int(np.flatnonzero(filled_all)[-1]) if filled_all.any() else -1
+                emit, pending = column[: last + 1], column[last + 1 :]
+                if emit:
+                    series = pd.Series(emit, dtype=object)
+                    cells = reading._text_column_cells(series, self.options)
+                    yield self.sample_of(cells, offset)
+                    offset += len(emit)
+        except UnicodeDecodeError as exc:
+            raise NarratorError(f"{path.name}: the file cannot be read as {self.encoding or 'utf-8'} ({exc.reason}); "
+                                f"give the file's encoding") from None
+        except pd.errors.ParserError as exc:
+            raise NarratorError(f"{path.name}: cannot be read as {self.kind.upper()} ({exc})") from None
+
+    def input_sha256(self) -> str:
+        """SHA-256 of the input: of the file itself, or of the list of (name, SHA-256) of every file."""
+        if len(self.paths) == 1 and self.kind != "parquet":
+            return reading.file_sha256(self.paths[0])
+        digest = hashlib.sha256()
+        for path in self.paths:
+            digest.update(f"{path.name}\t{reading.file_sha256(path)}\n".encode())
+        return digest.hexdigest()
+
+    def provenance(self) -> dict:
+        """The Sample.source entries of the whole input (no folder path)."""
+        return {
+            "file": self.label,
+            "format": "parquet" if self.kind == "parquet" else self.kind,
+            "files": len(self.paths),
+            "column_position": self.column_index + 1,
+            "row_numbering": "position + 2 counted across the files in name order" if self.kind == "parquet"
+            else "spreadsheet rows, header is row 1",
+            "sha256": self.input_sha256(),
+            "sheet": None,
+            "encoding": self.encoding,
+            "encoding_guessed": False,
+            "delimiter": None if self.delimiter in (None, reading._ONE_COLUMN) else self.delimiter,
+            **self.facts,
+        }
+
+
+def open_source(
+    path: str | os.PathLike[str],
+    column: str | int,
+    *,
+    unit: str | None = None,
+    decimal_comma: bool = False,
+    missing: Iterable[object] = (),
+    valid_min: float | None = None,
+    valid_max: float | None = None,
+    encoding: str | None = None,
+    chunk_rows: int = DEFAULT_CHUNK_ROWS,
+) -> ColumnSource:
+    """A :class:`ColumnSource` for a Parquet file, folder or glob, or one CSV/TSV file.
+
+    The reading options mean what they mean for :func:`narrator.data.read_column`. Text files are read
+    in the declared ``encoding`` (UTF-8 when none is given; a byte-order mark decides when present):
+    guessing a fallback codec would need the whole file first.
+    """
+    text = os.fspath(path)
+    if isinstance(chunk_rows, bool) or not isinstance(chunk_rows, int) or chunk_rows < 1:
+        raise NarratorError(f"chunk size must be a whole number of rows >= 1, not {chunk_rows!r}")
+    suffix = Path(text).suffix.lower()
+    label = Path(text).name or text
+    if suffix in _TEXT_FORMATS and not glob.has_magic(text):
+        target = Path(text)
+        options = reading._options(decimal_comma, missing, valid_min, valid_max, target.name)
+        reading._check_file(target)
+        with open(target, "rb") as handle:
+            start = handle.read(1 << 16)
+        if start.startswith(b"\xef\xbb\xbf"):
+            codec = "utf-8-sig"
+        elif start.startswith((b"\xff\xfe", b"\xfe\xff")):
+            codec = "utf-16"
+        else:
+            codec = encoding or "utf-8"
+        try:
+            head = start.decode(codec, errors="ignore") if codec != "utf-16" else start.decode(codec, "ignore")
+        except LookupError:
+            raise NarratorError(f"{target.name}: unknown text encoding '{codec}'") from None
+        head = head.removeprefix("\ufeff")
+        if not head.strip():
+            raise NarratorError(f"{target.name}: the file is empty")
+        header_line = head.splitlines()[0] if head.splitlines() else ""
+        file_format = _TEXT_FORMATS[suffix]
+        delimiter = reading._delimiter(header_line, file_format)
+        import csv
+
+        headers = next(csv.reader([header_line], delimiter=delimiter))
+        index = reading._select_column(headers, column, target.name)
+        return ColumnSource(kind=file_format, paths=(target,), label=label, column_name=headers[index],
+                            column_index=index, options=options, unit=unit, chunk_rows=chunk_rows,
+                            encoding=codec, delimiter=delimiter)
+    paths = _parquet_paths(text)
+    options = reading._options(decimal_comma, missing, valid_min, valid_max, label)
+    first = reading._parquet_file(paths[0])
+    positions = reading._parquet_positions(first)
+    headers = [first.schema_arrow.names[k] for k in positions]
+    index = reading._select_column(headers, column, paths[0].name)
+    return ColumnSource(kind="parquet", paths=paths, label=label, column_name=headers[index], column_index=index,
+                        options=options, unit=unit, chunk_rows=chunk_rows)
+
+
+class ReadingSummary:
+    """What reading and the declared bounds left out, merged over chunks in any grouping: rows read,
+    each exclusion's count, first rows and first distinct examples, and the reading facts."""
+
+    __slots__ = ("n_rows", "exclusions", "bound_exclusion", "percent_cells", "currencies", "ambiguous",
+                 "ambiguous_rows")
+
+    def __init__(self) -> None:
+        self.n_rows = 0
+        self.exclusions: dict[str, list] = {}  # reason -> [count, rows, (row, text) examples]
+        self.bound_exclusion: list = [0, [], []]
+        self.percent_cells = 0
+        self.currencies: set[str] = set()
+        self.ambiguous = 0
+        self.ambiguous_rows: list[int] = []
+
+    def add_chunk(self, chunk: Sample, bound_rows: np.ndarray, bound_values: np.ndarray) -> None:
+        self.n_rows += chunk.n_rows
+        for exclusion in chunk.exclusions:
+            rows = list(exclusion.rows)
+            # Examples keep file order: the chunk's first row, then their order within the chunk.
+            first = rows[0] if rows else 0
+            examples = [(first, k, text) for k, text in enumerate(exclusion.examples)]
+            self._add(self.exclusions.setdefault(exclusion.reason, [0, [], []]), exclusion.count, rows, examples)
+        if bound_rows.size:
+            rows = [int(r) for r in bound_rows[:ROWS_KEPT]]
+            examples = [(int(r), 0, f"{float(v):g}") for r, v in zip(bound_rows[:5], bound_values[:5], strict=True)]
+            self._add(self.bound_exclusion, int(bound_rows.size), rows, examples, distinct=False)
+        source = chunk.source
+        self.percent_cells += int(source.get("percent_cells") or 0)
+        self.currencies.update(source.get("currency_symbols") or ())
+        self.ambiguous += int(source.get("ambiguous_grouping") or 0)
+        self.ambiguous_rows = sorted(self.ambiguous_rows + list(source.get("ambiguous_grouping_rows") or ()))[
+            :ROWS_KEPT]
+
+    @staticmethod
+    def _add(entry: list, count: int, rows: list, examples: list, distinct: bool = True) -> None:
+        entry[0] += count
+        entry[1] = sorted(entry[1] + list(rows))[:ROWS_KEPT]
+        merged = sorted(entry[2] + list(examples))
+        kept: list = []
+        for row, order, text in merged:
+            if not distinct or all(text != seen for _, _, seen in kept):
+                kept.append((row, order, text))
+        entry[2] = kept[:EXAMPLES_KEPT]
+
+    def merge(self, other: ReadingSummary) -> ReadingSummary:
+        self.n_rows += other.n_rows
+        for reason, (count, rows, examples) in other.exclusions.items():
+            self._add(self.exclusions.setdefault(reason, [0, [], []]), count, rows, examples)
+        count, rows, examples = other.bound_exclusion
+        if count:
+            self._add(self.bound_exclusion, count, rows, examples, distinct=False)
+        self.percent_cells += other.percent_cells
+        self.currencies |= other.currencies
+        self.ambiguous += other.ambiguous
+        self.ambiguous_rows = sorted(self.ambiguous_rows + other.ambiguous_rows)[:ROWS_KEPT]
+        return self
+
+    def exclusion_list(self) -> tuple[Exclusion, ...]:
+        """Exclusions in the reader's order, the declared bounds' exclusions joined to "impossible"
+        the way the in-memory engine joins them (reading's rows and examples first)."""
+        found = []
+        for reason in reading.EXCLUSION_REASONS:
+            entry = self.exclusions.get(reason)
+            if entry is None and not (reason == "impossible" and self.bound_exclusion[0]):
+                continue
+            count, rows, examples = entry if entry is not None else (0, [], [])
+            texts = tuple(text for _, _, text in examples)
+            if reason == "impossible" and self.bound_exclusion[0]:
+                extra_count, extra_rows, extra_examples = self.bound_exclusion
+                exclusion = Exclusion("impossible", count + extra_count, (tuple(rows) + tuple(extra_rows))[:10],
+                                      (texts + tuple(text for _, _, text in extra_examples))[:5])
+            else:
+                exclusion = Exclusion(reason, count, tuple(rows), texts)
+            found.append(exclusion)
+        return tuple(found)
+
+    def source_facts(self) -> dict:
+        return {
+            "percent_signs": self.percent_cells > 0,
+            "percent_cells": self.percent_cells,
+            "currency_symbols": sorted(self.currencies),
+            "ambiguous_grouping": self.ambiguous,
+            "ambiguous_grouping_rows": list(self.ambiguous_rows),
+        }
+
+    def __getstate__(self):
+        return (self.n_rows, self.exclusions, self.bound_exclusion, self.percent_cells, self.currencies,
+                self.ambiguous, self.ambiguous_rows)
+
+    def __setstate__(self, state) -> None:
+        (self.n_rows, self.exclusions, self.bound_exclusion, self.percent_cells, self.currencies,
+         self.ambiguous, self.ambiguous_rows) = state

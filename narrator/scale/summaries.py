@@ -1,0 +1,930 @@
+"""Mergeable summaries of one numeric column, built chunk by chunk and merged in any grouping.
+
+Each summary has ``update(values, rows)`` for one chunk (float64 values, finite,
+with their int64 source rows) and ``merge(other)`` for the summary of another
+set of chunks; both change the summary in place and return it. Counts merge
+exactly; floating-point sums are merged in pairs so their error stays at the
+level of one chunk's pairwise sum.
+
+===========================  ======================================================
+Name                         What it keeps
+===========================  ======================================================
+:class:`MomentSummary`       n, mean and centred sums M2, M3, M4 (Chan, Golub &
+                             LeVeque 1979; Pebay 2008 for M3 and M4)
+:func:`merge_moments`        the parallel update of two MomentSummary values
+:class:`ExtremeSummary`      min and max with their first rows, how often each
+                             occurs, the next distinct values inwards
+:class:`QuantileSketch`      KLL sketch (Karnin, Lang & Liberty 2016) from the
+                             ``datasketches`` package, with its rank error
+:class:`TailCandidates`      the k smallest and k largest values with rows
+:class:`ReservoirSample`     a fixed-seed uniform sample without replacement
+                             (bottom-k of a row hash), the same for any chunking
+:class:`CodeCounts`          counts, first rows and counts below each suspect code
+:class:`RoundCounts`         values at multiples of 10, 5 and 1 (heaping checks)
+:class:`DistinctValues`      the distinct values, kept while there are few
+:class:`PrecisionSummary`    whole-number test and the decimals the values carry
+:class:`PartitionCounts`     exact counts in the cells cut by sorted boundaries,
+                             and the values themselves in chosen cells
+:class:`RangeMean`           count and mean of the values inside an open interval
+:class:`BinCounts`           counts per bin of a fixed grid (bin index rule of
+                             :mod:`narrator.engine.bins`)
+:class:`LinearBinCounts`     linear binning on a fixed grid (Wand 1994), additive
+                             over chunks
+:class:`FlaggedValues`       values an outlier rule flags, with their rows, and
+                             the moments of the values it keeps
+:class:`FarthestValue`       the first row of the largest distance from a centre
+:class:`MeanDistance`        mean absolute distance from a centre
+===========================  ======================================================
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from narrator.engine.moments import Moments, central_moments
+
+# The reservoir's hash: SplitMix64 (Steele, Lea & Flood 2014), a bijection of 64-bit integers whose
+# output bits pass standard randomness tests; keying a value by the hash of its row and the seed
+# makes "keep the m smallest keys" a uniform sample without replacement that no chunking changes.
+_GOLDEN = np.uint64(0x9E3779B97F4A7C15)
+_MIX_1 = np.uint64(0xBF58476D1CE4E5B9)
+_MIX_2 = np.uint64(0x94D049BB133111EB)
+
+
+def row_hash(rows: np.ndarray, seed: int) -> np.ndarray:
+    """SplitMix64 of (row + seed * golden ratio constant), as unsigned 64-bit keys."""
+    with np.errstate(over="ignore"):
+        z = rows.astype(np.uint64) + np.uint64(seed % 2**64) * _GOLDEN + _GOLDEN
+        z = (z ^ (z >> np.uint64(30))) * _MIX_1
+        z = (z ^ (z >> np.uint64(27))) * _MIX_2
+        return z ^ (z >> np.uint64(31))
+
+
+# ---------------------------------------------------------------------------
+# Moments
+# ---------------------------------------------------------------------------
+
+
+class MomentSummary:
+    """n, mean and the centred sums M_k = sum (x - mean)^k, k = 2, 3, 4, of the values seen.
+
+    The sums are kept as M_k / scale^k with ``scale`` a power of two (exact to apply), so tiny or
+    huge spreads neither underflow nor overflow. A chunk's own sums come from
+    :func:`narrator.engine.moments.central_moments` (two-pass, pairwise), so the only error added
+    by chunking is that of the merge formula, a few units in the last place per merge.
+    """
+
+    __slots__ = ("n", "mean", "scale", "m2", "m3", "m4")
+
+    def __init__(self) -> None:
+        self.n = 0
+        self.mean = 0.0
+        self.scale = 1.0
+        self.m2 = 0.0
+        self.m3 = 0.0
+        self.m4 = 0.0
+
+    @classmethod
+    def of(cls, values: np.ndarray) -> MomentSummary:
+        summary = cls()
+        if values.size:
+            moments = central_moments(values)
+            summary.n = moments.n
+            summary.mean = moments.mean
+            summary.scale = moments.deviation_scale
+            summary.m2 = moments.s2 * moments.n
+            summary.m3 = moments.s3 * moments.n
+            summary.m4 = moments.s4 * moments.n
+        return summary
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> MomentSummary:
+        return self.merge(MomentSummary.of(values))
+
+    def merge(self, other: MomentSummary) -> MomentSummary:
+        merged = merge_moments(self, other)
+        self.n, self.mean, self.scale = merged.n, merged.mean, merged.scale
+        self.m2, self.m3, self.m4 = merged.m2, merged.m3, merged.m4
+        return self
+
+    def moments(self) -> Moments:
+        """The same :class:`~narrator.engine.moments.Moments` the in-memory engine builds."""
+        if self.n == 0:
+            return Moments(0, math.nan, 1.0, math.nan, math.nan, math.nan)
+        return Moments(self.n, self.mean, self.scale, self.m2 / self.n, self.m3 / self.n, self.m4 / self.n)
+
+    def __getstate__(self):
+        return (self.n, self.mean, self.scale, self.m2, self.m3, self.m4)
+
+    def __setstate__(self, state) -> None:
+        self.n, self.mean, self.scale, self.m2, self.m3, self.m4 = state
+
+
+def merge_moments(a: MomentSummary, b: MomentSummary) -> MomentSummary:
+    """The parallel update of Chan, Golub & LeVeque (1979) for the mean and M2, extended to M3 and M4
+    by Pebay (2008, Sandia report SAND2008-6212, eqs. 3.1 to 3.3). With d = mean_b - mean_a, n = na + nb:
+
+        mean = mean_a + d nb / n
+        M2 = M2a + M2b + d^2 na nb / n
+        M3 = M3a + M3b + d^3 na nb (na - nb) / n^2 + 3 d (na M2b - nb M2a) / n
+        M4 = M4a + M4b + d^4 na nb (na^2 - na nb + nb^2) / n^3
+             + 6 d^2 (na^2 M2b + nb^2 M2a) / n^2 + 4 d (na M3b - nb M3a) / n
+    """
+    result = MomentSummary()
+    if b.n == 0:
+        result.__setstate__(a.__getstate__())
+        return result
+    if a.n == 0:
+        result.__setstate__(b.__getstate__())
+        return result
+    na, nb = float(a.n), float(b.n)
+    n = na + nb
+    delta_raw = b.mean - a.mean
+    # A common power-of-two scale: the larger of the two, and large enough for the gap between the means.
+    gap_scale = 2.0 ** math.floor(math.log2(abs(delta_raw))) if delta_raw != 0 else 0.0
+    scale = max(a.scale, b.scale, gap_scale)
+    ra, rb = a.scale / scale, b.scale / scale  # powers of two: exact
+    a2, a3, a4 = a.m2 * ra**2, a.m3 * ra**3, a.m4 * ra**4
+    b2, b3, b4 = b.m2 * rb**2, b.m3 * rb**3, b.m4 * rb**4
+    d = delta_raw / scale
+    result.n = a.n + b.n
+    result.mean = a.mean + delta_raw * (nb / n)
+    result.scale = scale
+    result.m2 = a2 + b2 + d * d * na * nb / n
+    result.m3 = a3 + b3 + d**3 * na * nb * (na - nb) / (n * n) + 3.0 * d * (na * b2 - nb * a2) / n
+    result.m4 = (
+        a4 + b4 + d**4 * na * nb * (na * na - na * nb + nb * nb) / n**3
+        + 6.0 * d * d * (na * na * b2 + nb * nb * a2) / (n * n) + 4.0 * d * (na * b3 - nb * a3) / n
+    )
+    return result
+
+
+def remove_moments(total: MomentSummary, part: MomentSummary) -> MomentSummary:
+    """Moments of the values in ``total`` but not in ``part`` (the merge solved for one side; M2 only
+    is needed by callers, M3 and M4 are left at 0)."""
+    rest = MomentSummary()
+    rest.n = total.n - part.n
+    if rest.n <= 0:
+        return rest
+    n, np_, nr = float(total.n), float(part.n), float(rest.n)
+    rest.mean = (total.mean * n - part.mean * np_) / nr
+    rest.scale = max(total.scale, part.scale)
+    d = (part.mean - rest.mean) / rest.scale
+    t2 = total.m2 * (total.scale / rest.scale) ** 2
+    p2 = part.m2 * (part.scale / rest.scale) ** 2
+    rest.m2 = max(t2 - p2 - d * d * np_ * nr / n, 0.0)
+    return rest
+
+
+class ScaledMoments(MomentSummary):
+    """Moments of values divided by a fixed power of two (the in-memory engine's overflow guard)."""
+
+    __slots__ = ("factor",)
+
+    def __init__(self, factor: float = 1.0) -> None:
+        super().__init__()
+        self.factor = factor
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> ScaledMoments:
+        self.merge(MomentSummary.of(values if self.factor == 1.0 else values / self.factor))
+        return self
+
+    def merge(self, other: MomentSummary) -> ScaledMoments:
+        MomentSummary.merge(self, other)
+        return self
+
+    def __getstate__(self):
+        return (*MomentSummary.__getstate__(self), self.factor)
+
+    def __setstate__(self, state) -> None:
+        MomentSummary.__setstate__(self, state[:6])
+        self.factor = state[6]
+
+
+# ---------------------------------------------------------------------------
+# First-pass summaries
+# ---------------------------------------------------------------------------
+
+
+class ExtremeSummary:
+    """Smallest and largest value, the first row of each, how many values equal each, and the next
+    distinct value inwards from each end (the in-memory engine's "next_up" and "next_down")."""
+
+    __slots__ = ("n", "low", "low_row", "low_count", "second_low", "high", "high_row", "high_count",
+                 "second_high")
+
+    def __init__(self) -> None:
+        self.n = 0
+        self.low = math.inf
+        self.low_row = -1
+        self.low_count = 0
+        self.second_low = math.inf
+        self.high = -math.inf
+        self.high_row = -1
+        self.high_count = 0
+        self.second_high = -math.inf
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> ExtremeSummary:
+        if values.size == 0:
+            return self
+        other = ExtremeSummary()
+        other.n = int(values.size)
+        low_at, high_at = int(np.argmin(values)), int(np.argmax(values))
+        other.low, other.high = float(values[low_at]), float(values[high_at])
+        other.low_row, other.high_row = int(rows[low_at]), int(rows[high_at])
+        at_low, at_high = values == other.low, values == other.high
+        other.low_count, other.high_count = int(np.count_nonzero(at_low)), int(np.count_nonzero(at_high))
+        above = values[~at_low]
+        below = values[~at_high]
+        other.second_low = float(above.min()) if above.size else math.inf
+        other.second_high = float(below.max()) if below.size else -math.inf
+        return self.merge(other)
+
+    def merge(self, other: ExtremeSummary) -> ExtremeSummary:
+        if other.n == 0:
+            return self
+        if self.n == 0:
+            for name in self.__slots__:
+                setattr(self, name, getattr(other, name))
+            return self
+        lows = sorted({self.low, self.second_low, other.low, other.second_low})
+        highs = sorted({self.high, self.second_high, other.high, other.second_high}, reverse=True)
+        if other.low < self.low:
+            self.low_row, self.low_count = other.low_row, other.low_count
+        elif other.low == self.low:
+            self.low_row = min(self.low_row, other.low_row)
+            self.low_count += other.low_count
+        if other.high > self.high:
+            self.high_row, self.high_count = other.high_row, other.high_count
+        elif other.high == self.high:
+            self.high_row = min(self.high_row, other.high_row)
+            self.high_count += other.high_count
+        self.low, self.second_low = lows[0], (lows[1] if len(lows) > 1 else math.inf)
+        self.high, self.second_high = highs[0], (highs[1] if len(highs) > 1 else -math.inf)
+        self.n += other.n
+        return self
+
+    def __getstate__(self):
+        return tuple(getattr(self, name) for name in self.__slots__)
+
+    def __setstate__(self, state) -> None:
+        for name, value in zip(self.__slots__, state, strict=True):
+            setattr(self, name, value)
+
+
+class QuantileSketch:
+    """A KLL quantile sketch of doubles (Karnin, Lang & Liberty 2016, "Optimal quantile approximation
+    in streams", FOCS) from the Apache DataSketches library.
+
+    Its normalized rank error (``rank_error``) holds with 99 % confidence for a single query, per the
+    library's documentation; the second pass never relies on it being met, it checks every bracket and
+    widens it when the true rank fell outside.
+    """
+
+    __slots__ = ("k", "_sketch")
+
+    def __init__(self, k: int) -> None:
+        from datasketches import kll_doubles_sketch
+
+        self.k = int(k)
+        self._sketch = kll_doubles_sketch(self.k)
+
+    @property
+    def n(self) -> int:
+        return int(self._sketch.n)
+
+    @property
+    def rank_error(self) -> float:
+        return float(self._sketch.normalized_rank_error(False))
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> QuantileSketch:
+        if values.size:
+            self._sketch.update(np.ascontiguousarray(values, dtype=np.float64))
+        return self
+
+    def merge(self, other: QuantileSketch) -> QuantileSketch:
+        if other.n:
+            self._sketch.merge(other._sketch)
+        return self
+
+    def quantile(self, fraction: float) -> float:
+        return float(self._sketch.get_quantile(min(max(fraction, 0.0), 1.0)))
+
+    def rank(self, value: float) -> float:
+        """Approximate share of the values at or below ``value``."""
+        return float(self._sketch.get_rank(value, True))
+
+    def __getstate__(self):
+        return (self.k, self._sketch.serialize())
+
+    def __setstate__(self, state) -> None:
+        from datasketches import kll_doubles_sketch
+
+        self.k = state[0]
+        self._sketch = kll_doubles_sketch.deserialize(state[1])
+
+
+class TailCandidates:
+    """The ``k`` smallest and ``k`` largest values with their rows; ties broken by the earlier row."""
+
+    __slots__ = ("k", "low_values", "low_rows", "high_values", "high_rows")
+
+    def __init__(self, k: int) -> None:
+        self.k = int(k)
+        self.low_values = np.zeros(0)
+        self.low_rows = np.zeros(0, dtype=np.int64)
+        self.high_values = np.zeros(0)
+        self.high_rows = np.zeros(0, dtype=np.int64)
+
+    def _keep(self, values, rows) -> None:
+        order = np.lexsort((rows, values))[: self.k]
+        self.low_values, self.low_rows = values[order], rows[order]
+        order = np.lexsort((rows, -values))[: self.k]
+        self.high_values, self.high_rows = values[order], rows[order]
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> TailCandidates:
+        if values.size == 0 or self.k == 0:
+            return self
+        if values.size > 4 * self.k:
+            # Only the chunk's own k extremes can survive: select them first, in O(chunk).
+            low_cut = np.partition(values, self.k - 1)[self.k - 1]
+            high_cut = -np.partition(-values, self.k - 1)[self.k - 1]
+            keep = (values <= low_cut) | (values >= high_cut)
+            values, rows = values[keep], rows[keep]
+        self._keep(np.concatenate([self.low_values, self.high_values, values]),
+                   np.concatenate([self.low_rows, self.high_rows, rows]))
+        return self
+
+    def merge(self, other: TailCandidates) -> TailCandidates:
+        values = np.concatenate([self.low_values, self.high_values, other.low_values, other.high_values])
+        rows = np.concatenate([self.low_rows, self.high_rows, other.low_rows, other.high_rows])
+        # A value held in both lists of one side is one value: drop repeated rows.
+        rows, first = np.unique(rows, return_index=True)
+        self._keep(values[first], rows)
+        return self
+
+    def __getstate__(self):
+        return (self.k, self.low_values, self.low_rows, self.high_values, self.high_rows)
+
+    def __setstate__(self, state) -> None:
+        self.k, self.low_values, self.low_rows, self.high_values, self.high_rows = state
+
+
+class ReservoirSample:
+    """A uniform random sample of ``size`` values without replacement, with their rows.
+
+    Each value is keyed by :func:`row_hash` of its source row and the seed and the ``size`` smallest
+    keys are kept ("bottom-k" sampling; Cohen & Kaplan 2007): for distinct rows every subset of that
+    size is equally likely, and because a key depends only on the row, the sample is the same for
+    any chunking, any order of the chunks and any grouping of merges, on one machine or many.
+    """
+
+    __slots__ = ("size", "seed", "keys", "values", "rows")
+
+    def __init__(self, size: int, seed: int) -> None:
+        self.size = int(size)
+        self.seed = int(seed)
+        self.keys = np.zeros(0, dtype=np.uint64)
+        self.values = np.zeros(0)
+        self.rows = np.zeros(0, dtype=np.int64)
+
+    def _keep(self, keys, values, rows) -> None:
+        if keys.size > self.size:
+            part = np.argpartition(keys, self.size - 1)[: self.size]
+            keys, values, rows = keys[part], values[part], rows[part]
+        self.keys, self.values, self.rows = keys, values, rows
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> ReservoirSample:
+        if values.size:
+            self._keep(np.concatenate([self.keys, row_hash(rows, self.seed)]),
+                       np.concatenate([self.values, values]), np.concatenate([self.rows, rows]))
+        return self
+
+    def merge(self, other: ReservoirSample) -> ReservoirSample:
+        self._keep(np.concatenate([self.keys, other.keys]), np.concatenate([self.values, other.values]),
+                   np.concatenate([self.rows, other.rows]))
+        return self
+
+    def in_row_order(self) -> tuple[np.ndarray, np.ndarray]:
+        order = np.argsort(self.rows, kind="stable")
+        return self.values[order], self.rows[order]
+
+    def __getstate__(self):
+        return (self.size, self.seed, self.keys, self.values, self.rows)
+
+    def __setstate__(self, state) -> None:
+        self.size, self.seed, self.keys, self.values, self.rows = state
+
+
+class CodeCounts:
+    """For each candidate missing-value code: how many values equal it, how many lie below it, and the
+    first rows where it occurs."""
+
+    __slots__ = ("codes", "equal", "below", "rows", "rows_kept")
+
+    def __init__(self, codes, rows_kept: int) -> None:
+        self.codes = tuple(float(c) for c in codes)
+        self.equal = np.zeros(len(self.codes), dtype=np.int64)
+        self.below = np.zeros(len(self.codes), dtype=np.int64)
+        self.rows = [np.zeros(0, dtype=np.int64) for _ in self.codes]
+        self.rows_kept = rows_kept
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> CodeCounts:
+        for k, code in enumerate(self.codes):
+            hits = values == code
+            count = int(np.count_nonzero(hits))
+            self.below[k] += int(np.count_nonzero(values < code))
+            if count:
+                self.equal[k] += count
+                self.rows[k] = np.sort(np.concatenate([self.rows[k], rows[hits][: self.rows_kept]]))[: self.rows_kept]
+        return self
+
+    def merge(self, other: CodeCounts) -> CodeCounts:
+        self.equal += other.equal
+        self.below += other.below
+        self.rows = [np.sort(np.concatenate([a, b]))[: self.rows_kept] for a, b in zip(self.rows, other.rows,
+                                                                                         strict=True)]
+        return self
+
+    def __getstate__(self):
+        return (self.codes, self.equal, self.below, self.rows, self.rows_kept)
+
+    def __setstate__(self, state) -> None:
+        self.codes, self.equal, self.below, self.rows, self.rows_kept = state
+
+
+class RoundCounts:
+    """How many values sit on a multiple of each base, with the test the heaping check uses:
+    |x / base - round(x / base)| < 1e-9 max(1, |x / base|)."""
+
+    __slots__ = ("bases", "hits")
+
+    def __init__(self, bases=(10.0, 5.0, 1.0)) -> None:
+        self.bases = tuple(bases)
+        self.hits = np.zeros(len(self.bases), dtype=np.int64)
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> RoundCounts:
+        for k, base in enumerate(self.bases):
+            ratio = values if base == 1.0 else values / base
+            distance = np.abs(ratio - np.round(ratio))
+            tolerance = np.maximum(np.abs(ratio), 1.0) * 1e-9
+            self.hits[k] += int(np.count_nonzero(distance < tolerance))
+        return self
+
+    def merge(self, other: RoundCounts) -> RoundCounts:
+        self.hits += other.hits
+        return self
+
+    def count(self, base: float) -> int:
+        return int(self.hits[self.bases.index(base)])
+
+    def __getstate__(self):
+        return (self.bases, self.hits)
+
+    def __setstate__(self, state) -> None:
+        self.bases, self.hits = state
+
+
+class DistinctValues:
+    """The distinct values while there are at most ``limit`` of them; beyond that only "more"."""
+
+    __slots__ = ("limit", "values", "more")
+
+    def __init__(self, limit: int) -> None:
+        self.limit = int(limit)
+        self.values: set[float] = set()
+        self.more = False
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> DistinctValues:
+        if self.more or values.size == 0:
+            return self
+        # np.unique of a large chunk is a sort: look at a few values first to catch a many-valued column.
+        if np.unique(values[: 4 * (self.limit + 1)]).size > self.limit:
+            self.more = True
+            return self
+        self.values.update(float(v) for v in np.unique(values))
+        if len(self.values) > self.limit:
+            self.more, self.values = True, set()
+        return self
+
+    def merge(self, other: DistinctValues) -> DistinctValues:
+        if self.more or other.more:
+            self.more, self.values = True, set()
+        else:
+            self.values |= other.values
+            if len(self.values) > self.limit:
+                self.more, self.values = True, set()
+        return self
+
+    def count_up_to(self, limit: int) -> int:
+        """The distinct count, or ``limit + 1`` when there are more than ``limit``."""
+        return limit + 1 if self.more or len(self.values) > limit else len(self.values)
+
+    def __getstate__(self):
+        return (self.limit, self.values, self.more)
+
+    def __setstate__(self, state) -> None:
+        self.limit, self.values, self.more = state
+
+
+class PrecisionSummary:
+    """Whether every value is a whole number, and the decimals needed to write every value as recorded
+    (the test of :func:`narrator.sample.guess_decimals`, applied to all values, capped)."""
+
+    __slots__ = ("whole", "decimals", "cap")
+
+    def __init__(self, cap: int = 6) -> None:
+        self.whole = True
+        self.decimals = 0
+        self.cap = cap
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> PrecisionSummary:
+        if values.size == 0:
+            return self
+        if self.whole and not bool(np.all(np.floor(values) == values)):
+            self.whole = False
+        probe = values
+        for decimals in range(self.decimals, self.cap + 1):
+            times = probe * 10**decimals
+            off = np.abs(times - np.round(times)) > 1e-6 * np.maximum(1.0, np.abs(times))
+            if not off.any():
+                break
+            probe = probe[off]  # values that already fit need no more decimals
+            self.decimals = min(decimals + 1, self.cap)
+        return self
+
+    def merge(self, other: PrecisionSummary) -> PrecisionSummary:
+        self.whole = self.whole and other.whole
+        self.decimals = max(self.decimals, other.decimals)
+        return self
+
+    def __getstate__(self):
+        return (self.whole, self.decimals, self.cap)
+
+    def __setstate__(self, state) -> None:
+        self.whole, self.decimals, self.cap = state
+
+
+# ---------------------------------------------------------------------------
+# Later passes: summaries that need figures from an earlier pass
+# ---------------------------------------------------------------------------
+
+
+def _merge_weighted(values_a, counts_a, values_b, counts_b) -> tuple[np.ndarray, np.ndarray]:
+    """Union of two (sorted distinct values, counts) multisets."""
+    if values_b.size == 0:
+        return values_a, counts_a
+    if values_a.size == 0:
+        return values_b, counts_b
+    values, inverse = np.unique(np.concatenate([values_a, values_b]), return_inverse=True)
+    counts = np.bincount(inverse, weights=np.concatenate([counts_a, counts_b]).astype(np.float64),
+                         minlength=values.size)
+    return values, counts.astype(np.int64)
+
+
+class PartitionCounts:
+    """Exact counts of the values in every cell of the line cut by sorted, distinct ``boundaries``
+    b_0 < ... < b_(m-1): the open gaps (-inf, b_0), (b_0, b_1), ..., (b_(m-1), inf) and the single
+    points b_j. For the gaps marked in ``collect`` the values themselves are kept, as distinct values
+    with counts (a tie costs one entry). Any order statistic that falls in a point or a kept gap is
+    then known exactly.
+    """
+
+    __slots__ = ("boundaries", "collect", "gap_counts", "point_counts", "kept_values", "kept_counts")
+
+    def __init__(self, boundaries: np.ndarray, collect: np.ndarray) -> None:
+        self.boundaries = np.asarray(boundaries, dtype=np.float64)
+        self.collect = np.asarray(collect, dtype=bool)
+        size = self.boundaries.size
+        self.gap_counts = np.zeros(size + 1, dtype=np.int64)
+        self.point_counts = np.zeros(size, dtype=np.int64)
+        self.kept_values = np.zeros(0)
+        self.kept_counts = np.zeros(0, dtype=np.int64)
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> PartitionCounts:
+        if values.size == 0:
+            return self
+        size = self.boundaries.size
+        gap = np.searchsorted(self.boundaries, values, side="left")
+        if size:
+            at = self.boundaries[np.minimum(gap, size - 1)] == values
+            at &= gap < size
+        else:
+            at = np.zeros(values.size, dtype=bool)
+        self.point_counts += np.bincount(gap[at], minlength=size)[:size] if size else 0
+        in_gap = ~at
+        self.gap_counts += np.bincount(gap[in_gap], minlength=size + 1)
+        kept = values[in_gap & self.collect[gap]]
+        if kept.size:
+            unique, counts = np.unique(kept, return_counts=True)
+            self.kept_values, self.kept_counts = _merge_weighted(self.kept_values, self.kept_counts, unique,
+                                                                 counts)
+        return self
+
+    def merge(self, other: PartitionCounts) -> PartitionCounts:
+        self.gap_counts += other.gap_counts
+        self.point_counts += other.point_counts
+        self.kept_values, self.kept_counts = _merge_weighted(self.kept_values, self.kept_counts,
+                                                             other.kept_values, other.kept_counts)
+        return self
+
+    def count_below(self, boundary: float) -> int:
+        """Exact number of values strictly below one of the boundaries."""
+        j = int(np.searchsorted(self.boundaries, boundary))
+        return int(self.gap_counts[: j + 1].sum() + self.point_counts[:j].sum())
+
+    def count_equal(self, boundary: float) -> int:
+        return int(self.point_counts[int(np.searchsorted(self.boundaries, boundary))])
+
+    def order_statistic(self, rank: int) -> float | None:
+        """The value of 0-based rank ``rank`` in ascending order, or None when its cell was not kept."""
+        total = 0
+        for j in range(self.boundaries.size + 1):
+            gap = int(self.gap_counts[j])
+            if rank < total + gap:
+                if not self.collect[j]:
+                    return None
+                low = -math.inf if j == 0 else self.boundaries[j - 1]
+                high = math.inf if j == self.boundaries.size else self.boundaries[j]
+                inside = (self.kept_values > low) & (self.kept_values < high)
+                cumulative = np.cumsum(self.kept_counts[inside])
+                return float(self.kept_values[inside][int(np.searchsorted(cumulative, rank - total, side="right"))])
+            total += gap
+            if j < self.boundaries.size:
+                if rank < total + int(self.point_counts[j]):
+                    return float(self.boundaries[j])
+                total += int(self.point_counts[j])
+        return None
+
+    def kept_between(self, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
+        """Kept distinct values in [low, high] with counts, the boundary points in it included."""
+        inside = (self.kept_values >= low) & (self.kept_values <= high)
+        points = (self.boundaries >= low) & (self.boundaries <= high) & (self.point_counts > 0)
+        values = np.concatenate([self.kept_values[inside], self.boundaries[points]])
+        counts = np.concatenate([self.kept_counts[inside], self.point_counts[points]])
+        order = np.argsort(values, kind="stable")
+        return values[order], counts[order]
+
+    def __getstate__(self):
+        return (self.boundaries, self.collect, self.gap_counts, self.point_counts, self.kept_values,
+                self.kept_counts)
+
+    def __setstate__(self, state) -> None:
+        (self.boundaries, self.collect, self.gap_counts, self.point_counts, self.kept_values,
+         self.kept_counts) = state
+
+
+class RangeMean:
+    """Count and mean of the values strictly between ``low`` and ``high`` (a trimmed mean's middle),
+    merged like the mean of :class:`MomentSummary`."""
+
+    __slots__ = ("low", "high", "n", "mean")
+
+    def __init__(self, low: float, high: float) -> None:
+        self.low, self.high = float(low), float(high)
+        self.n = 0
+        self.mean = 0.0
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> RangeMean:
+        inside = values[(values > self.low) & (values < self.high)]
+        if inside.size:
+            mean = float(np.mean(inside))
+            mean += float(np.mean(inside - mean))
+            self._add(int(inside.size), mean)
+        return self
+
+    def _add(self, count: int, mean: float) -> None:
+        if count == 0:
+            return
+        total = self.n + count
+        self.mean = self.mean + (mean - self.mean) * (count / total) if self.n else mean
+        self.n = total
+
+    def merge(self, other: RangeMean) -> RangeMean:
+        self._add(other.n, other.mean)
+        return self
+
+    def __getstate__(self):
+        return (self.low, self.high, self.n, self.mean)
+
+    def __setstate__(self, state) -> None:
+        self.low, self.high, self.n, self.mean = state
+
+
+class BinCounts:
+    """Counts per bin index floor((x / factor - shift) / width - first + tolerance), clipped to
+    0..bins-1: the bin rule of :mod:`narrator.engine.bins`, value by value, so the counts equal the
+    in-memory ones exactly (``factor`` is the power of two the engine divides huge values by)."""
+
+    __slots__ = ("width", "shift", "first", "tolerance", "bins", "clip", "counts", "factor")
+
+    def __init__(self, width: float, shift: float, first: float, tolerance: float, bins: int, clip: bool,
+                 factor: float = 1.0):
+        self.width, self.shift, self.first, self.tolerance = width, shift, first, tolerance
+        self.bins, self.clip, self.factor = int(bins), bool(clip), factor
+        self.counts = np.zeros(self.bins, dtype=np.int64)
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> BinCounts:
+        if values.size == 0:
+            return self
+        if self.factor != 1.0:
+            values = values / self.factor
+        position = (values - self.shift) / self.width
+        index = np.floor(position - self.first + self.tolerance).astype(np.int64)
+        np.clip(index, 0, self.bins - 1, out=index)
+        self.counts += np.bincount(index, minlength=self.bins)[: self.bins]
+        return self
+
+    def merge(self, other: BinCounts) -> BinCounts:
+        self.counts += other.counts
+        return self
+
+    def __getstate__(self):
+        return tuple(getattr(self, name) for name in self.__slots__)
+
+    def __setstate__(self, state) -> None:
+        for name, value in zip(self.__slots__, state, strict=True):
+            setattr(self, name, value)
+
+
+class LinearBinCounts:
+    """Linear binning (Fan & Marron 1994; Wand 1994) on the grid start + j step, j = 0..size-1, of the
+    values in standard units (x - centre) / unit: each value splits its unit weight between the two
+    nearest grid points. The same arithmetic as the in-memory density's binning; only the order in
+    which the weights are added differs, so the counts agree to rounding."""
+
+    __slots__ = ("centre", "unit", "start", "step", "size", "counts")
+
+    def __init__(self, centre: float, unit: float, start: float, step: float, size: int) -> None:
+        self.centre, self.unit, self.start, self.step, self.size = centre, unit, start, step, int(size)
+        self.counts = np.zeros(self.size)
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> LinearBinCounts:
+        if values.size == 0:
+            return self
+        position = (values - self.centre) / self.unit
+        position -= self.start
+        position /= self.step
+        index = np.floor(position).astype(np.intp)
+        np.clip(index, 0, self.size - 2, out=index)
+        position -= index
+        self.counts += np.bincount(index, weights=1.0 - position, minlength=self.size)
+        index += 1
+        self.counts += np.bincount(index, weights=position, minlength=self.size)
+        return self
+
+    def merge(self, other: LinearBinCounts) -> LinearBinCounts:
+        self.counts += other.counts
+        return self
+
+    def __getstate__(self):
+        return (self.centre, self.unit, self.start, self.step, self.size, self.counts)
+
+    def __setstate__(self, state) -> None:
+        self.centre, self.unit, self.start, self.step, self.size, self.counts = state
+
+
+class FlaggedValues:
+    """Values an outlier rule flags, with their rows, and the moments of the values it keeps.
+
+    The rule's test runs on x / ``factor`` (the in-memory engine's scaled units), as the engine runs
+    it: ``("fences", lower, upper)`` flags x / factor < lower or > upper; ``("score", centre, scale,
+    threshold)`` flags (x / factor - centre) / scale < -threshold or > threshold.
+    """
+
+    __slots__ = ("test", "factor", "values", "rows", "inside")
+
+    def __init__(self, test: tuple, factor: float) -> None:
+        self.test = tuple(test)
+        self.factor = factor
+        self.values = np.zeros(0)
+        self.rows = np.zeros(0, dtype=np.int64)
+        self.inside = ScaledMoments(factor)
+
+    def sides(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(low, high) masks of the flagged values."""
+        units = values if self.factor == 1.0 else values / self.factor
+        if self.test[0] == "fences":
+            return units < self.test[1], units > self.test[2]
+        _, centre, scale, threshold = self.test
+        score = (units - centre) / scale
+        return score < -threshold, score > threshold
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> FlaggedValues:
+        low, high = self.sides(values)
+        outside = low | high
+        if outside.any():
+            self.values = np.concatenate([self.values, values[outside]])
+            self.rows = np.concatenate([self.rows, rows[outside]])
+            self.inside.update(values[~outside])
+        else:
+            self.inside.update(values)
+        return self
+
+    def merge(self, other: FlaggedValues) -> FlaggedValues:
+        self.values = np.concatenate([self.values, other.values])
+        self.rows = np.concatenate([self.rows, other.rows])
+        self.inside.merge(other.inside)
+        return self
+
+    def __getstate__(self):
+        return (self.test, self.factor, self.values, self.rows, self.inside.__getstate__())
+
+    def __setstate__(self, state) -> None:
+        self.test, self.factor, self.values, self.rows = state[:4]
+        self.inside = ScaledMoments()
+        self.inside.__setstate__(state[4])
+
+
+class FarthestValue:
+    """The largest |x - centre| and the first row where it occurs."""
+
+    __slots__ = ("centre", "distance", "value", "row")
+
+    def __init__(self, centre: float) -> None:
+        self.centre = centre
+        self.distance = -math.inf
+        self.value = math.nan
+        self.row = -1
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> FarthestValue:
+        if values.size == 0:
+            return self
+        distances = np.abs(values - self.centre)
+        at = int(np.argmax(distances))
+        self._take(float(distances[at]), float(values[at]), int(rows[at]))
+        return self
+
+    def _take(self, distance: float, value: float, row: int) -> None:
+        if distance > self.distance or (distance == self.distance and row < self.row):
+            self.distance, self.value, self.row = distance, value, row
+
+    def merge(self, other: FarthestValue) -> FarthestValue:
+        if other.row >= 0:
+            self._take(other.distance, other.value, other.row)
+        return self
+
+    def __getstate__(self):
+        return (self.centre, self.distance, self.value, self.row)
+
+    def __setstate__(self, state) -> None:
+        self.centre, self.distance, self.value, self.row = state
+
+
+__all__ = [
+    "BinCounts",
+    "CodeCounts",
+    "DistinctValues",
+    "ExtremeSummary",
+    "FarthestValue",
+    "FlaggedValues",
+    "LinearBinCounts",
+    "MeanDistance",
+    "MomentSummary",
+    "PartitionCounts",
+    "PrecisionSummary",
+    "QuantileSketch",
+    "RangeMean",
+    "ReservoirSample",
+    "RoundCounts",
+    "ScaledMoments",
+    "TailCandidates",
+    "merge_moments",
+    "remove_moments",
+    "row_hash",
+]
+
+
+class MeanDistance:
+    """Count and mean of |x / factor - centre| (the mean absolute deviation from the median that the
+    modified z rule falls back on when the MAD is 0), merged like the mean of :class:`MomentSummary`."""
+
+    __slots__ = ("centre", "factor", "n", "mean")
+
+    def __init__(self, centre: float, factor: float = 1.0) -> None:
+        self.centre, self.factor = centre, factor
+        self.n = 0
+        self.mean = 0.0
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> MeanDistance:
+        if values.size:
+            distances = np.abs((values if self.factor == 1.0 else values / self.factor) - self.centre)
+            self._add(int(distances.size), float(np.mean(distances)))
+        return self
+
+    def _add(self, count: int, mean: float) -> None:
+        if count:
+            total = self.n + count
+            self.mean = self.mean + (mean - self.mean) * (count / total) if self.n else mean
+            self.n = total
+
+    def merge(self, other: MeanDistance) -> MeanDistance:
+        self._add(other.n, other.mean)
+        return self
+
+    def __getstate__(self):
+        return (self.centre, self.factor, self.n, self.mean)
+
+    def __setstate__(self, state) -> None:
+        self.centre, self.factor, self.n, self.mean = state
