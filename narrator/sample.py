@@ -127,6 +127,10 @@ def guess_decimals(values: np.ndarray, cap: int = 6) -> int:
     if values.size == 0:
         return 0
     probe = values[:: max(1, values.size // 2000)][:2000]
+    # Values beyond 1e15 carry no decimals a float can hold; scaling them would only overflow.
+    probe = probe[np.abs(probe) < 1e15]
+    if probe.size == 0:
+        return 0
     for decimals in range(cap + 1):
         scaled = probe * 10**decimals
         if np.all(np.abs(scaled - np.round(scaled)) <= 1e-6 * np.maximum(1.0, np.abs(scaled))):

@@ -132,7 +132,7 @@ def test_a_real_value_equal_to_a_code_is_not_flagged():
     rng = np.random.default_rng(0)
     values = rng.lognormal(1, 1.5, 1_000_000).round(1)
     q1, q3 = np.quantile(values, [0.25, 0.75])
-    assert (values == 99.0).sum() >= 2 and 99.0 > q3 + 3 * (q3 - q1)
+    assert (values == 99.0).sum() >= 2 and q3 + 3 * (q3 - q1) < 99.0
     assert not narrator.describe(values).quality.has("missing_code")
     with_code = np.append(values, [99.0] * 200)  # the same data with a typed code piled on 99
     assert narrator.describe(with_code).quality.has("missing_code")

@@ -44,9 +44,9 @@ PILE_UP_MIN_COUNT = 3
 HEAPING_RATIO = 2.0  # observed share at round values at least this many times the chance share
 HEAPING_P = 0.001  # and a one-sided binomial test below this
 SUSPECT_CODES = (-9.0, -99.0, -999.0, -9999.0, -99999.0, 99.0, 999.0, 9999.0, 99999.0, 999999.0, -1.0, -8.0)
-CODE_DISTANCE_IQR = 3.0
+CODE_DISTANCE_IQR = 3.0  # a code must sit beyond the far-out fences of the other values
 CODE_NEIGHBOURHOOD = 0.1  # neighbours of a suspected code: within this share of the IQR
-SPIKE_RATIO = 3.0  # a code holds at least this many times its neighbours' typical count  # a code must sit beyond the far-out fences of the other values
+SPIKE_RATIO = 3.0  # a code holds at least this many times its neighbours' typical count
 ROWS_SHOWN = 10
 
 
