@@ -63,6 +63,7 @@ from narrator.findings import Findings
 from narrator.phrasing.narrative import FigureText, Narrative
 from narrator.phrasing.numbers import NumberFormatter
 from narrator.sample import Sample
+from narrator.view import histogram_window
 
 # Okabe & Ito (2008) palette, by their names. Only some are used; the rest are
 # kept so a reader of this module sees the whole set the choice was made from.
@@ -185,6 +186,14 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
         if labels.get("density"):
             _label_curve(fig, ax, grid, curve, labels["density"], avoid=(center.mean, center.median))
     ax.set_ylim(0, top * 1.16 if top > 0 else 1)
+    window = histogram_window(findings)
+    if window is not None:
+        # Show the bulk; the words beside the edge say what lies beyond (narrator.view).
+        ax.set_xlim(_padded(window.low, window.high, 0.01))
+        for key, x, align in (("beyond_high", 0.995, "right"), ("beyond_low", 0.005, "left")):
+            if labels.get(key):
+                ax.text(x, 0.55, labels[key], transform=ax.transAxes, ha=align, va="bottom",
+                        fontproperties=_font(SMALL_FONT_SIZE), color=FLAGGED_COLOUR, zorder=6)
     _mark_center(ax, center.mean, center.median, labels)
     _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=True)
     return fig

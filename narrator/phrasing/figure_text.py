@@ -21,6 +21,7 @@ from __future__ import annotations
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.narrative import FigureText
 from narrator.phrasing.technical import width_text
+from narrator.view import histogram_window
 
 
 def _labels(ctx: WordingContext, key: str, names: tuple[str, ...], **values: str) -> dict[str, str]:
@@ -45,12 +46,25 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
         "median": ctx.exact(findings.center.median),
         "mean": ctx.exact(findings.center.mean),
     }
-    return FigureText(
-        key="histogram",
-        caption=ctx.caption("figures.histogram.caption", **values),
-        alt_text=ctx.text("figures.histogram.alt", **values),
-        labels=_labels(ctx, "histogram", ("x", "y", "mean", "median", "density")),
-    )
+    caption = ctx.caption("figures.histogram.caption", **values)
+    alt_text = ctx.text("figures.histogram.alt", **values)
+    labels = _labels(ctx, "histogram", ("x", "y", "mean", "median", "density"))
+    window = histogram_window(findings)
+    if window is not None:
+        # A few far-out values would squeeze the bulk into a corner: the figure shows the bulk
+        # and says, on the figure and here, what lies beyond its edge.
+        for side, hidden, edge, extreme, field in (
+            ("high", window.hidden_high, window.high, window.highest, "max"),
+            ("low", window.hidden_low, window.low, window.lowest, "min"),
+        ):
+            if not hidden:
+                continue
+            words = {"count": ctx.count(hidden, "value"), field: ctx.memo_recorded(extreme), "edge": ctx.memo(edge)}
+            labels[f"beyond_{side}"] = ctx.text(f"figures.histogram.beyond_{side}", **words)
+            sentence = ctx.text(f"figures.histogram.caption_beyond_{side}", **words)
+            caption = f"{caption} {sentence}"
+            alt_text = f"{alt_text} {sentence}"
+    return FigureText(key="histogram", caption=caption, alt_text=alt_text, labels=labels)
 
 
 def dotplot_text(ctx: WordingContext) -> FigureText | None:
