@@ -33,7 +33,7 @@ EXIT_INTERNAL = 1
 
 def add_reading_options(parser: argparse.ArgumentParser) -> None:
     """Options that say how to read the column and what it means; shared by every command that reads data."""
-    parser.add_argument("file", help="CSV, TSV, Excel (.xlsx) or Parquet file")
+    parser.add_argument("file", help="CSV, TSV, Excel (.xlsx) or Parquet file, or a folder or glob of Parquet files")
     parser.add_argument("--column", required=True, help="column name (or its 1-based position)")
     parser.add_argument("--sheet", help="Excel sheet name (default: the first sheet)")
     parser.add_argument("--unit", help="unit of the values, e.g. days, litres, USD")
@@ -63,13 +63,31 @@ def add_reading_options(parser: argparse.ArgumentParser) -> None:
         "--id-column", metavar="NAME",
         help="a column of record identifiers to show beside flagged values (none are read otherwise)",
     )
+    parser.add_argument(
+        "--engine", choices=("memory", "stream", "dask"),
+        help="memory: read the file whole; stream: read in chunks on this machine (the default for a folder "
+             "or glob of Parquet files); dask: on a Dask cluster (needs --scheduler)",
+    )
+    parser.add_argument("--scheduler", metavar="ADDRESS", help="Dask scheduler address, e.g. tcp://scheduler.example:8786")
+    parser.add_argument("--chunk-rows", type=int, metavar="N", help="rows per chunk for the stream and dask engines")
 
 
 def read_and_describe(args: argparse.Namespace):
     """Read the column the options name and describe it: (sample, findings)."""
     from narrator.data import read_column
     from narrator.engine.describe import describe
+    from narrator.scale.entry import choose_engine, describe_large
 
+    engine = choose_engine(getattr(args, "engine", None), args.file)
+    if engine != "memory":
+        if args.sheet is not None or args.id_column is not None:
+            raise NarratorError("--sheet and --id-column work with the memory engine only")
+        return describe_large(
+            args.file, args.column, engine=engine, scheduler=args.scheduler, chunk_rows=args.chunk_rows,
+            unit=args.unit, decimal_comma=args.decimal_comma, missing=tuple(args.missing),
+            valid_min=args.valid_min, valid_max=args.valid_max, name=args.label, lower_bound=args.lower_bound,
+            upper_bound=args.upper_bound, population=args.population, outlier_rule=args.outlier_rule,
+        )
     options = dict(
         sheet=args.sheet,
         unit=args.unit,
@@ -203,6 +221,10 @@ def command_draft(args: argparse.Namespace) -> int:
 
     refuse_same_file(args.output, args.file)  # before any work, not only at the end
     if args.group_by is not None:
+        from narrator.scale.entry import choose_engine
+
+        if choose_engine(args.engine, args.file) != "memory":
+            raise NarratorError("--group-by works with the memory engine only")
         return _draft_by_group(args)
     sample, found = read_and_describe(args)
     outcome = report_from_findings(

@@ -49,6 +49,10 @@ line is one cell, so an unquoted ``1,5`` survives. A byte-order mark (UTF-8 or
 UTF-16) decides the encoding; otherwise the caller's ``encoding`` is used, or
 UTF-8 is tried and, failing that, cp1252 then latin-1, recorded in
 ``source["encoding_guessed"]``. Files are opened read-only and never changed.
+A text file with no quote character and with as many fields on every line as
+on the header line is split by pyarrow's CSV reader (fast); any other by
+pandas' C parser, which also words the errors. Both give the same cells
+(tests/test_data_readers.py).
 """
 
 from __future__ import annotations
@@ -56,6 +60,7 @@ from __future__ import annotations
 import datetime as _dt
 import decimal as _decimal
 import difflib
+import functools
 import hashlib
 import io
 import math
@@ -155,13 +160,22 @@ def _iso_currency_codes() -> frozenset[str]:
     return frozenset(list_currencies())
 
 
-_CURRENCY_CLASS = "[" + re.escape(_currency_characters()) + "]"
-_ISO_CODES = _iso_currency_codes()
-# "US$", "CA$", "R$": up to three capitals glued to a currency symbol.
-_LEADING_SYMBOL = re.compile(r"([A-Z]{0,3}" + _CURRENCY_CLASS + r")\s*")
-_TRAILING_SYMBOL = re.compile(r"\s*(" + _CURRENCY_CLASS + r")$")
 _LEADING_CODE = re.compile(r"([A-Z]{3})(?![A-Za-z])\s*")
 _TRAILING_CODE = re.compile(r"(?<![A-Za-z])([A-Z]{3})$")
+
+
+@functools.cache
+def _currency_marks() -> tuple[frozenset[str], re.Pattern[str], re.Pattern[str]]:
+    """(ISO 4217 codes, leading-symbol pattern, trailing-symbol pattern), built on first use.
+
+    Only cells that are not plain numbers need them, and the CLDR currency list costs a
+    hundredth of a second to load: a column of plain numbers never pays for it.
+    """
+    currency_class = "[" + re.escape(_currency_characters()) + "]"
+    # "US$", "CA$", "R$": up to three capitals glued to a currency symbol.
+    leading = re.compile(r"([A-Z]{0,3}" + currency_class + r")\s*")
+    trailing = re.compile(r"\s*(" + currency_class + r")$")
+    return _iso_currency_codes(), leading, trailing
 
 
 @dataclass(frozen=True, slots=True)
@@ -183,17 +197,18 @@ def _take_sign(text: str) -> tuple[str, str]:
 
 def _take_currency(text: str) -> tuple[str | None, str, bool]:
     """Peel one currency marker off either end: (marker, rest, was_leading)."""
+    iso_codes, leading_symbol, trailing_symbol = _currency_marks()
     code = _LEADING_CODE.match(text)
-    if code and code.group(1) in _ISO_CODES:
+    if code and code.group(1) in iso_codes:
         return code.group(1), text[code.end():], True
-    symbol = _LEADING_SYMBOL.match(text)
+    symbol = leading_symbol.match(text)
     if symbol:
         return symbol.group(1), text[symbol.end():], True
-    symbol = _TRAILING_SYMBOL.search(text)
+    symbol = trailing_symbol.search(text)
     if symbol:
         return symbol.group(1), text[: symbol.start()].rstrip(), False
     code = _TRAILING_CODE.search(text)
-    if code and code.group(1) in _ISO_CODES:
+    if code and code.group(1) in iso_codes:
         return code.group(1), text[: code.start()].rstrip(), False
     return None, text, False
 
@@ -370,6 +385,40 @@ def _token_text(token: object) -> str:
     return str(token)
 
 
+# pyarrow imports pandas (a fifth of a second of start-up) the first time it converts to or from
+# numpy or Python objects (pa.array, Array.to_numpy, Python scalars as arguments). Text reading needs
+# neither pandas nor those conversions: these three read and build the arrow buffers directly.
+
+
+def _numpy_of(array: pa.Array) -> np.ndarray:
+    """A null-free boolean, integer or float64 arrow array as a numpy array (int64 for integers)."""
+    if array.null_count:
+        raise ValueError("an array with nulls has no plain numpy form")
+    if pa.types.is_boolean(array.type):
+        return _numpy_of(pc.cast(array, pa.uint8())).astype(bool)
+    if pa.types.is_integer(array.type) and array.type != pa.int64():
+        array = pc.cast(array, pa.int64())
+    dtype = np.dtype(np.float64) if pa.types.is_floating(array.type) else np.dtype(np.int64)
+    if array.type not in (pa.float64(), pa.int64()):
+        raise ValueError(f"no numpy form for {array.type}")
+    return np.frombuffer(array.buffers()[1], dtype=dtype, count=len(array), offset=array.offset * dtype.itemsize)
+
+
+def _arrow_mask(mask: np.ndarray) -> pa.Array:
+    """A numpy boolean array as an arrow boolean array (through uint8, built from its buffer)."""
+    as_bytes = np.ascontiguousarray(mask, dtype=np.uint8)
+    return pc.cast(pa.Array.from_buffers(pa.uint8(), as_bytes.size, [None, pa.py_buffer(as_bytes)]), pa.bool_())
+
+
+def _arrow_texts(texts: Sequence[str]) -> pa.Array:
+    """Python strings as an arrow large_string array, built from its offsets and UTF-8 bytes."""
+    encoded = [text.encode("utf-8") for text in texts]
+    offsets = np.zeros(len(encoded) + 1, dtype=np.int64)
+    np.cumsum([len(item) for item in encoded], out=offsets[1:])
+    return pa.Array.from_buffers(pa.large_string(), len(encoded),
+                                 [None, pa.py_buffer(offsets), pa.py_buffer(b"".join(encoded))])
+
+
 def _parse_texts(texts: pa.Array, decimal_comma: bool, missing_keys: set[str]) -> _Cells:
     """Classify text cells; plain numbers go through one vectorized cast, the rest cell by cell."""
     texts = pc.cast(texts, pa.large_string()) if not pa.types.is_large_string(texts.type) else texts
@@ -378,28 +427,47 @@ def _parse_texts(texts: pa.Array, decimal_comma: bool, missing_keys: set[str]) -
     status = np.full(size, _NON_NUMERIC, dtype=np.int8)
     decimals = np.zeros(size, dtype=np.int16)
     stripped = pc.utf8_trim_whitespace(texts)
-    in_tokens = pc.is_in(pc.utf8_lower(stripped), value_set=pa.array(sorted(missing_keys), pa.large_string()))
-    missing = pc.or_kleene(in_tokens, pc.is_null(texts)).to_numpy(zero_copy_only=False)
-    status[missing] = _MISSING
     pattern = _PLAIN_COMMA if decimal_comma else _PLAIN_POINT
-    plain = pc.fill_null(pc.match_substring_regex(stripped, pattern), False).to_numpy(zero_copy_only=False)
-    plain &= ~missing
+    matched = pc.match_substring_regex(stripped, pattern)
+    # null (an absent cell) counts as not plain: Kleene "and" with "is valid" turns null into false
+    plain_cells = pc.and_kleene(matched, pc.is_valid(matched))
+    token_set = _arrow_texts(sorted(missing_keys))
+    if any(re.fullmatch(pattern[1:-1], key) for key in missing_keys):
+        # A token that looks like a plain number ("-99"): every cell is checked against the tokens.
+        missing_cells = pc.or_kleene(pc.is_in(pc.utf8_lower(stripped), value_set=token_set), pc.is_null(texts))
+        missing = _numpy_of(missing_cells)
+        plain_cells = pc.and_kleene(plain_cells, pc.invert(missing_cells))
+        plain = _numpy_of(plain_cells)
+    else:
+        # No token looks like a plain number, so only the other cells can be missing: check those alone.
+        plain = _numpy_of(plain_cells)
+        missing = np.zeros(size, dtype=bool)
+        other_at = np.flatnonzero(~plain)
+        if other_at.size:
+            other = pc.filter(stripped, pc.invert(plain_cells))
+            missing[other_at] = _numpy_of(pc.or_kleene(pc.is_in(pc.utf8_lower(other), value_set=token_set),
+                                                       pc.is_null(other)))
+    status[missing] = _MISSING
     plain_at = np.flatnonzero(plain)
     if plain_at.size:
-        plain_texts = stripped.take(pa.array(plain_at))
+        plain_texts = pc.filter(stripped, plain_cells)
         if decimal_comma:
             plain_texts = pc.replace_substring(plain_texts, ",", ".")
-        values[plain_at] = pc.cast(plain_texts, pa.float64()).to_numpy(zero_copy_only=False)
-        point = pc.find_substring(plain_texts, ".").to_numpy(zero_copy_only=False)
-        length = pc.utf8_length(plain_texts).to_numpy(zero_copy_only=False)
-        decimals[plain_at] = np.minimum(np.where(point >= 0, length - point - 1, 0), MAX_DECIMALS)
-        status[plain_at] = _OK
+        # Plain cells are ASCII, so their length in bytes is their length in characters.
+        point = _numpy_of(pc.find_substring(plain_texts, "."))
+        length = _numpy_of(pc.binary_length(plain_texts))
+        written = np.minimum(np.where(point >= 0, length - point - 1, 0), MAX_DECIMALS)
+        where = slice(None) if plain_at.size == size else plain_at  # a whole column of plain numbers is common
+        values[where] = _numpy_of(pc.cast(plain_texts, pa.float64()))
+        decimals[where] = written
+        status[where] = _OK
     percent_cells = 0
     currencies: set[str] = set()
     ambiguous: list[int] = []
-    rest_at = np.flatnonzero(~plain & ~missing)
-    for position, text in zip(rest_at.tolist(), stripped.take(pa.array(rest_at, pa.int64())).to_pylist(),
-                              strict=True):
+    rest = ~plain & ~missing
+    rest_at = np.flatnonzero(rest)
+    rest_texts = pc.filter(stripped, _arrow_mask(rest)).to_pylist() if rest_at.size else []
+    for position, text in zip(rest_at.tolist(), rest_texts, strict=True):
         parsed = _parse_cell(text, decimal_comma)
         if parsed is None:
             continue
@@ -489,12 +557,13 @@ def _build_sample(cells: _Cells, rows: np.ndarray, name: str, unit: str | None, 
     if options.valid_max is not None:
         status[ok & (values > options.valid_max)] = _IMPOSSIBLE
     keep = status == _OK
+    every_cell_kept = bool(keep.all())  # the common case: plain slices instead of copies through a mask
     exclusions = tuple(
         _exclusion(reason, status, rows, cells.display)
         for reason in EXCLUSION_REASONS
         if np.any(status == _STATUS_OF_REASON[reason])
     )
-    kept_decimals = cells.decimals[keep]
+    kept_decimals = cells.decimals if every_cell_kept else cells.decimals[keep]
     written = int(kept_decimals.max()) if kept_decimals.size and kept_decimals.max() >= 0 else 0
     typed = keep & (cells.decimals < 0)
     guessed = guess_decimals(values[typed]) if typed.any() else 0
@@ -515,8 +584,8 @@ def _build_sample(cells: _Cells, rows: np.ndarray, name: str, unit: str | None, 
         "ambiguous_grouping_rows": [int(row) for row in rows[ambiguous[:ROWS_KEPT]]],
     }
     return Sample(
-        values=np.ascontiguousarray(values[keep], dtype=np.float64),
-        rows=np.ascontiguousarray(rows[keep], dtype=np.int64),
+        values=np.ascontiguousarray(values if every_cell_kept else values[keep], dtype=np.float64),
+        rows=np.array(rows, dtype=np.int64) if every_cell_kept else np.ascontiguousarray(rows[keep], dtype=np.int64),
         name=clean_label(name) or f"column {source['column_position']}",
         unit=None if unit is None else clean_label(unit),
         n_rows=int(values.size),
@@ -675,16 +744,88 @@ def _delimiter(header_line: str, file_format: str) -> str:
 _RAGGED = re.compile(r"Expected (\d+) fields in line (\d+), saw (\d+)")
 
 
-def _read_text_table(path: Path, file_format: str, encoding: str | None, max_rows: int | None = None):
-    """(header list, DataFrame of data rows as strings, source facts); ``max_rows`` data rows at most."""
-    import pandas as pd
+@dataclass(frozen=True, slots=True)
+class _TextTable:
+    """The data rows of a text file (header row and trailing blank rows removed), one text array per column.
 
+    Cells are strings; null where a short row had no cell (the pandas path only).
+    """
+
+    columns: tuple[pa.Array, ...]
+
+    def column(self, index: int) -> pa.Array:
+        return self.columns[index]
+
+    def cells(self, index: int) -> list[object]:
+        return self.columns[index].to_pylist()
+
+
+def _read_text_table(path: Path, file_format: str, encoding: str | None, max_rows: int | None = None):
+    """(header list, :class:`_TextTable` of the data rows, source facts); ``max_rows`` data rows at most.
+
+    Two readers give the same cells: pyarrow's CSV reader, fast, used when the
+    file holds no quote character and every line has as many fields as the
+    header (the only layouts on which it is known to split lines and fields as
+    pandas does); pandas' C parser for everything else, which also words the
+    errors (a line with more fields than the header) and pads short lines.
+    tests/test_data_readers.py compares the two on awkward layouts.
+    """
     raw = _read_bytes(path)
     text, codec, guessed = _decode(raw, encoding, path.name)
     if not text.strip():
         raise NarratorError(f"{path.name}: the file is empty")
     header_line = re.split(r"\r\n|\r|\n", text, maxsplit=1)[0]
     delimiter = _delimiter(header_line, file_format)
+    table = _arrow_text_table(raw, text, codec, header_line.count(delimiter) + 1, delimiter, max_rows)
+    if table is None:
+        table = _pandas_text_table(text, delimiter, max_rows, path, file_format)
+    headers = [cell or "" for cell in (column[0].as_py() if len(column) else None for column in table)]
+    data = [column[1:] for column in table]
+    filled = _last_filled_row(data) + 1
+    source = {
+        "sha256": hashlib.sha256(raw).hexdigest(),
+        "encoding": codec,
+        "encoding_guessed": guessed,
+        "delimiter": None if delimiter == _ONE_COLUMN else delimiter,
+    }
+    return headers, _TextTable(tuple(column[:filled] for column in data)), source
+
+
+def _arrow_text_table(raw: bytes, text: str, codec: str, width: int, delimiter: str,
+                      max_rows: int | None) -> list[pa.Array] | None:
+    """Every row of the file (header first) as text columns by pyarrow's reader; None when pandas must read it."""
+    if '"' in text:  # quoting rules of the two parsers differ on malformed quotes: leave quotes to pandas
+        return None
+    if codec == "utf-8":
+        data = raw
+    elif codec == "utf-8-sig":
+        data = raw[3:]
+    else:
+        data = text.encode("utf-8")
+    import pyarrow.csv as pa_csv
+
+    names = [f"f{k}" for k in range(width)]
+    try:
+        table = pa_csv.read_csv(
+            pa.BufferReader(data),
+            read_options=pa_csv.ReadOptions(column_names=names, use_threads=False, block_size=1 << 22),
+            parse_options=pa_csv.ParseOptions(delimiter=delimiter, quote_char=False, escape_char=False,
+                                              newlines_in_values=False, ignore_empty_lines=False),
+            convert_options=pa_csv.ConvertOptions(column_types=dict.fromkeys(names, pa.string()),
+                                                  strings_can_be_null=False, quoted_strings_can_be_null=False),
+        )
+    except (pa.ArrowInvalid, pa.ArrowException):
+        return None  # a short or long line, or anything else: pandas reads it and words any error
+    if max_rows is not None:
+        table = table.slice(0, max_rows + 1)
+    return [column.combine_chunks() if column.num_chunks != 1 else column.chunk(0) for column in table.columns]
+
+
+def _pandas_text_table(text: str, delimiter: str, max_rows: int | None, path: Path,
+                       file_format: str) -> list[pa.Array]:
+    """Every row of the file (header first) as text columns by pandas' C parser; nulls pad short lines."""
+    import pandas as pd
+
     try:
         frame = pd.read_csv(
             io.StringIO(text),
@@ -708,27 +849,18 @@ def _read_text_table(path: Path, file_format: str, encoding: str | None, max_row
         raise NarratorError(f"{path.name}: cannot be read as {file_format.upper()} ({exc})") from None
     except (pd.errors.EmptyDataError, ValueError, MemoryError) as exc:
         raise NarratorError(f"{path.name}: cannot be read as {file_format.upper()} ({exc})") from None
-    headers = ["" if isinstance(cell, float) else str(cell) for cell in frame.iloc[0].tolist()]
-    data = frame.iloc[1:]
-    data = data.iloc[: _last_filled_row(data) + 1]
-    source = {
-        "sha256": hashlib.sha256(raw).hexdigest(),
-        "encoding": codec,
-        "encoding_guessed": guessed,
-        "delimiter": None if delimiter == _ONE_COLUMN else delimiter,
-    }
-    return headers, data, source
+    return [pa.array(frame.iloc[:, k], type=pa.large_string(), from_pandas=True) for k in range(frame.shape[1])]
 
 
 def _shown_delimiter(delimiter: str) -> str:
     return {"\t": "tab", _ONE_COLUMN: "unit separator"}.get(delimiter, delimiter)
 
 
-def _last_filled_row(data) -> int:
+def _last_filled_row(columns: Sequence[pa.Array]) -> int:
     """Index (0-based) of the last row with any non-blank cell; -1 if none. Scans from the end."""
-    for position in range(len(data) - 1, -1, -1):
-        row = data.iloc[position].tolist()
-        if any(isinstance(cell, str) and cell.strip() for cell in row):
+    size = len(columns[0]) if columns else 0
+    for position in range(size - 1, -1, -1):
+        if any(isinstance(cell, str) and cell.strip() for cell in (column[position].as_py() for column in columns)):
             return position
     return -1
 
@@ -1046,12 +1178,12 @@ def read_column(
     if file_format in ("csv", "tsv"):
         headers, data, facts = _read_text_table(target, file_format, encoding)
         index = _select_column(headers, column, target.name)
-        cells = _text_column_cells(data.iloc[:, index], options)
+        cells = _parse_texts(data.column(index), options.decimal_comma, options.missing_keys)
         facts["sheet"] = None
         ids = None
         if id_column is not None:
             id_index = _select_id_column(headers, id_column, index, target.name)
-            ids = _id_texts(data.iloc[:, id_index].tolist())
+            ids = _id_texts(data.cells(id_index))
     elif file_format == "xlsx":
         headers, index, cells, facts, ids = _read_excel(target, column, sheet, options, id_column)
     else:
@@ -1089,7 +1221,8 @@ def list_numeric_columns(
     columns: list[tuple[str, _Cells]] = []
     if file_format in ("csv", "tsv"):
         headers, data, _facts = _read_text_table(target, file_format, None, max_rows=NUMERIC_PROBE_ROWS)
-        columns = [(header, _text_column_cells(data.iloc[:, k], options)) for k, header in enumerate(headers)]
+        columns = [(header, _parse_texts(data.column(k), options.decimal_comma, options.missing_keys))
+                   for k, header in enumerate(headers)]
     elif file_format == "xlsx":
         workbook = _open_workbook(target, data_only=True)
         try:
@@ -1149,7 +1282,7 @@ def read_labels(
     if file_format in ("csv", "tsv"):
         headers, data, _facts = _read_text_table(target, file_format, encoding)
         index = _select_column(headers, column, target.name)
-        raw: list[object] = data.iloc[:, index].tolist()
+        raw: list[object] = data.cells(index)
     elif file_format == "xlsx":
         workbook = _open_workbook(target, data_only=True)
         try:

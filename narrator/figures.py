@@ -51,9 +51,11 @@ import numpy as np
 from matplotlib import ticker
 from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.container import BarContainer
 from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
 from matplotlib.lines import Line2D
+from matplotlib.patches import Rectangle
 from matplotlib.text import Text
 from matplotlib.transforms import blended_transform_factory
 from PIL import Image
@@ -172,10 +174,7 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     counts = np.asarray(plan.counts, dtype=float)
 
     fig, ax = _single_axes(height_in=3.3)
-    ax.bar(
-        edges[:-1], counts, width=np.diff(edges), align="edge",
-        color=BAR_FILL, edgecolor=BAR_EDGE, linewidth=0.6 if counts.size <= 120 else 0.0, zorder=2,
-    )
+    _add_bars(ax, edges, counts, linewidth=0.6 if counts.size <= 120 else 0.0)
     ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
     top = float(counts.max()) if counts.size else 1.0
     if findings.density is not None and findings.density.grid:
@@ -197,6 +196,26 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     _mark_center(ax, center.mean, center.median, labels)
     _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=True)
     return fig
+
+
+def _add_bars(ax: Axes, edges: np.ndarray, counts: np.ndarray, *, linewidth: float) -> None:
+    """The histogram's bars, as ``ax.bar(edges[:-1], counts, width=np.diff(edges), align="edge")`` adds them.
+
+    The same rectangles, in the same order, with the same colours, zorder, label and sticky
+    bottom edge, in a BarContainer; but the data limits are updated once for all bars, where
+    Axes.bar updates them bar by bar through transform arithmetic (half the time of the whole
+    figure at 150 bars). The histogram sets both view limits itself, so nothing reads them.
+    """
+    bars = []
+    for left, width, height in zip(edges[:-1], np.diff(edges), counts, strict=True):
+        bar = Rectangle((left, 0.0), width, height, facecolor=BAR_FILL, edgecolor=BAR_EDGE, linewidth=linewidth,
+                        label="_nolegend_", zorder=2)
+        bar.sticky_edges.y.append(0.0)
+        ax.add_artist(bar)
+        bars.append(bar)
+    ax.add_container(BarContainer(bars, datavalues=counts, orientation="vertical", label=""))
+    if bars:
+        ax.update_datalim([(float(edges[0]), 0.0), (float(edges[-1]), float(np.max(counts)))])
 
 
 def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:

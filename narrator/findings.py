@@ -276,11 +276,11 @@ class Accuracy:
 
     ``exact`` figures are the same numbers the in-memory engine gives; ``merged`` ones are sums merged
     over chunks, equal to the in-memory ones up to floating-point rounding (``merged_relative_error``);
-    ``approximate`` ones carry their bound.
+    ``approximate`` ones carry their bound. (How many reads of the data it took is not recorded: the
+    sketch's own randomness can, rarely, cost one more read, and the findings must not change with it.)
     """
 
     engine: str  # "stream" or "dask"
-    passes: int  # reads of the data
     exact: tuple[str, ...]
     merged: tuple[str, ...]
     approximate: tuple[ApproximateFigure, ...]
@@ -340,7 +340,18 @@ def loads(text: str) -> Findings:
     return Findings.from_dict(data)
 
 
+_PLAIN_TYPES = (int, str, bool, type(None))
+
+
 def _encode(value: Any) -> Any:
+    # Exact built-in types first: a sidecar holds tens of thousands of flagged values and rows.
+    kind = type(value)
+    if kind is float:
+        return value if math.isfinite(value) else None
+    if kind in _PLAIN_TYPES:
+        return value
+    if kind is tuple or kind is list:
+        return [_encode(item) for item in value]
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
         return {f.name: _encode(getattr(value, f.name)) for f in dataclasses.fields(value)}
     if isinstance(value, float):

@@ -16,7 +16,8 @@ Name                           What it is
 
 Layout (keys are ours; every path is relative to the recipe's folder)::
 
-    [data]       path, sheet, decimal_comma, missing, group_by, privacy_threshold
+    [data]       path, sheet, decimal_comma, missing, group_by, privacy_threshold,
+                 engine (memory, stream, dask), scheduler (a Dask scheduler address)
     [report]     title, organisation, locale, currency, template, generated
     [outputs]    <audience> = "<report path>.docx"   (memo, methods, full)
     [[variables]] column, label, unit, valid_min, valid_max, lower_bound,
@@ -70,7 +71,7 @@ _KIND_WORDS = {
 RECIPE_KEYS: dict[str, dict[str, str]] = {
     "data": {
         "path": "text", "sheet": "sheet", "decimal_comma": "bool", "missing": "texts", "group_by": "text",
-        "privacy_threshold": "whole",
+        "privacy_threshold": "whole", "engine": "text", "scheduler": "text",
     },
     "report": {
         "title": "text", "organisation": "text", "locale": "text", "currency": "text", "template": "text",
@@ -93,6 +94,8 @@ class DataSettings:
     missing: tuple[str | int | float, ...] = ()
     group_by: str | None = None
     privacy_threshold: int = DEFAULT_PRIVACY_THRESHOLD
+    engine: str | None = None  # "memory", "stream" or "dask"; None: stream for a folder or glob
+    scheduler: str | None = None  # Dask scheduler address for engine = "dask"
 
 
 @dataclass(frozen=True, slots=True)
@@ -438,14 +441,28 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
     if threshold < 1:
         raise checker.fail(f"[data] privacy_threshold must be at least 1, not {threshold}",
                            checker.line("data", None, "privacy_threshold"))
+    engine = data_table.get("engine")
+    from narrator.scale.entry import ENGINES, choose_engine
+
+    if engine is not None and engine not in ENGINES:
+        raise checker.fail(f"[data] engine = \"{engine}\" is not one of {', '.join(ENGINES)}",
+                           checker.line("data", None, "engine"))
+    data_path = _recipe_path(folder, data_table["path"])
+    try:
+        large = choose_engine(engine, data_path) != "memory"
+    except NarratorError as exc:
+        raise checker.fail(f"[data] {exc}", checker.line("data", None, "engine")) from None
     data_settings = DataSettings(
-        path=_existing_file(checker, folder, "data", "path", data_table["path"]),
+        # A folder or glob read by the stream or dask engine is checked when it is read.
+        path=data_path if large else _existing_file(checker, folder, "data", "path", data_table["path"]),
         path_text=data_table["path"],
         sheet=data_table.get("sheet"),
         decimal_comma=data_table.get("decimal_comma", False),
         missing=tuple(data_table.get("missing", ())),
         group_by=data_table.get("group_by"),
         privacy_threshold=threshold,
+        engine=engine,
+        scheduler=data_table.get("scheduler"),
     )
 
     report_table = _known(checker, "report", None, _table(checker, data, "report", required=False))
@@ -516,6 +533,11 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
 
     announce = step or (lambda _what: None)
     data = recipe.data
+    from narrator.scale.entry import choose_engine
+
+    engine = choose_engine(data.engine, data.path)
+    if engine != "memory":
+        return _build_large(recipe, engine, announce)
     collection = analyse_file(
         data.path, recipe.variables, sheet=data.sheet, decimal_comma=data.decimal_comma, missing=data.missing,
         group_by=data.group_by, privacy_threshold=data.privacy_threshold, step=announce,
@@ -543,6 +565,37 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
             previous = _previous_findings(output.path)
             outcomes.append(report_from_collection(collection, output.path, audience=output.audience,
                                                    step=announce, previous=previous, **common))
+    return outcomes
+
+
+def _build_large(recipe: Recipe, engine: str, announce: Callable[[str], None]) -> list:
+    """One variable read by the stream or dask engine (narrator.scale), one report per output."""
+    from narrator.report import report_from_findings
+    from narrator.scale.entry import describe_large
+
+    data = recipe.data
+    if len(recipe.variables) != 1 or data.group_by is not None or data.sheet is not None:
+        raise NarratorError(f"[data] engine = \"{engine}\" describes one [[variables]] table, without "
+                            "group_by or sheet")
+    variable = recipe.variables[0]
+    announce(f"reading {data.path_text} with the {engine} engine")
+    sample, findings = describe_large(
+        data.path, variable.column, engine=engine, scheduler=data.scheduler, unit=variable.unit,
+        decimal_comma=data.decimal_comma, missing=data.missing, valid_min=variable.valid_min,
+        valid_max=variable.valid_max, name=variable.label, lower_bound=variable.lower_bound,
+        upper_bound=variable.upper_bound, population=variable.population, outlier_rule=variable.outlier_rule)
+    report = recipe.report
+    outcomes = []
+    for output in recipe.outputs:
+        try:
+            output.path.parent.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise NarratorError(f"cannot make the folder for {output.path_text}: {exc.strerror or exc}") from None
+        announce(f"writing the {output.audience} report")
+        outcomes.append(report_from_findings(
+            sample, findings, output.path, audience=output.audience, input_path=data.path, locale=report.locale,
+            currency=report.currency, title=report.title, organisation=report.organisation,
+            template=report.template, generated_at=report.generated))
     return outcomes
 
 
@@ -596,6 +649,9 @@ def starter_recipe(
         "# group_by = \"site\"            # a column to break the figures down by (site, program, year)",
         f"# privacy_threshold = {DEFAULT_PRIVACY_THRESHOLD}         # groups with fewer values are not shown "
         "(default 10)",
+        "# engine = \"stream\"            # memory, stream (in chunks; the default for a folder of Parquet files)"
+        " or dask",
+        "# scheduler = \"tcp://host:8786\"  # the Dask scheduler's address, for engine = \"dask\"",
         "",
         "[report]",
         "# title = \"...\"                # default: from the variables' names",

@@ -136,3 +136,23 @@ def test_a_real_value_equal_to_a_code_is_not_flagged():
     assert not narrator.describe(values).quality.has("missing_code")
     with_code = np.append(values, [99.0] * 200)  # the same data with a typed code piled on 99
     assert narrator.describe(with_code).quality.has("missing_code")
+
+
+def test_median_of_equal_subnormal_middle_values_is_that_value():
+    # Found by hypothesis (tests/test_engine_properties.py): halving each middle value first sent two
+    # equal subnormals to 0, below the first quartile, and the Bowley skewness refused the quartiles.
+    # numpy.median is the reference for the median and the quartiles.
+    values = np.array([1.0, 5e-324, 5e-324, 5e-324])
+    found = narrator.describe(values)
+    assert found.center.median == float(np.median(values)) == 5e-324
+    assert found.spread.q1 <= found.center.median <= found.spread.q3
+
+
+def test_interval_of_tiny_values_keeps_its_width():
+    # Scale equivariance (a mathematical property): the t interval of 1e-223 * x is 1e-223 times
+    # that of x; squaring such values directly would underflow to a zero width.
+    x = np.arange(1.0, 11.0)
+    tiny = narrator.describe(x * 1e-223).intervals.mean
+    plain = narrator.describe(x).intervals.mean
+    assert tiny.low == pytest.approx(plain.low * 1e-223, rel=1e-12)
+    assert tiny.high == pytest.approx(plain.high * 1e-223, rel=1e-12)

@@ -1,6 +1,6 @@
 """Kernel density estimate of one numeric column, and the peaks it shows.
 
-Pure functions of a 1-D array of finite numbers (numpy and scipy only).
+Pure functions of a 1-D array of finite numbers (numpy, and scipy.optimize for the Sheather-Jones root).
 
 ===========================  =========================================================
 Name                         What it does
@@ -11,6 +11,7 @@ Name                         What it does
 :func:`find_peaks`           prominent peaks of a curve sampled on a grid
 :func:`local_maxima`         every local maximum with its height and prominence
 :func:`standard_units`       an overflow-safe centred and scaled copy of the values
+:func:`next_fast_length`     the FFT length the convolution pads to (5-smooth)
 :class:`BandwidthChoice`     width, rule used, reason code
 :class:`StandardUnits`       centre, unit and the scaled values
 ===========================  =========================================================
@@ -90,7 +91,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import fft as scipy_fft
 
 from narrator.errors import NarratorError
 from narrator.findings import Density
@@ -121,6 +121,7 @@ FINE_STEPS_PER_BANDWIDTH = 32
 FINE_GRID_MIN = 4096
 FINE_GRID_MAX = 2**20
 DEFAULT_GRID_SIZE = 512
+_BLOCK = 1 << 20  # values per block where a step is done block by block to spare memory
 
 PEAK_MIN_PROMINENCE = 0.05
 PEAK_NOISE_Z = 2.0
@@ -223,18 +224,30 @@ def _silverman(n: int, sd_scaled: float, iqr_scaled: float) -> tuple[float, str 
     return 0.0, None
 
 
-def _linear_bin(scaled: np.ndarray, start: float, step: float, size: int) -> np.ndarray:
-    """Linear binning: each value splits its unit weight between the two nearest grid points."""
-    # The same arithmetic as (scaled - start) / step, floor, clip, fraction, done in place: at ten
-    # million values each temporary array is 80 MB.
-    position = scaled - start
+def _linear_bin(scaled: np.ndarray, start: float, step: float, size: int, *, overwrite: bool = False) -> np.ndarray:
+    """Linear binning: each value splits its unit weight between the two nearest grid points.
+
+    ``overwrite=True`` lets the binning use ``scaled`` itself as its work array (its values are lost).
+    """
+    # The same arithmetic as (scaled - start) / step, floor, clip, fraction, 1 - fraction, done in
+    # place and in blocks: at ten million values each temporary array would be 80 MB.
+    if overwrite:
+        position = scaled
+        position -= start
+    else:
+        position = scaled - start
     position /= step
-    index = np.floor(position).astype(np.intp)
+    index = np.empty(position.size, dtype=np.intp)
+    for block in range(0, position.size, _BLOCK):
+        index[block : block + _BLOCK] = np.floor(position[block : block + _BLOCK])
     np.clip(index, 0, size - 2, out=index)
     position -= index  # now the share of the weight that goes to the upper grid point
-    counts = np.bincount(index, weights=1.0 - position, minlength=size)
     index += 1
-    counts += np.bincount(index, weights=position, minlength=size)
+    upper = np.bincount(index, weights=position, minlength=size)
+    index -= 1
+    np.subtract(1.0, position, out=position)  # now the share that goes to the lower grid point
+    counts = np.bincount(index, weights=position, minlength=size)
+    counts += upper
     return counts
 
 
@@ -510,7 +523,7 @@ def estimate_density(
     wanted = math.ceil((fine_stop - fine_start) / (width / FINE_STEPS_PER_BANDWIDTH)) + 1
     fine_size = int(min(max(wanted, FINE_GRID_MIN), FINE_GRID_MAX))
     fine_step = (fine_stop - fine_start) / (fine_size - 1)
-    counts = _linear_bin(scaled, fine_start, fine_step, fine_size)
+    counts = _linear_bin(scaled, fine_start, fine_step, fine_size, overwrite=True)  # scaled is not used again
     half = min(math.ceil(reach / fine_step), fine_size - 1)
     u = np.arange(-half, half + 1) * (fine_step / width)
     kernel = np.exp(-0.5 * u * u) / (math.sqrt(2.0 * math.pi) * n * width)
@@ -635,13 +648,43 @@ def local_maxima(curve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 def _convolve_same(data: np.ndarray, kernel: np.ndarray) -> np.ndarray:
     """scipy.signal.fftconvolve(data, kernel, mode="same") for 1-D float arrays: FFT at the next fast
-    length, product, inverse FFT, then the centred part as long as ``data``."""
+    length, product, inverse FFT, then the centred part as long as ``data``.
+
+    numpy.fft and scipy.fft run the same pocketfft code and give the same bits here; numpy's is used
+    because importing scipy.fft costs a tenth of a second of start-up.
+    """
     full = data.size + kernel.size - 1
-    fast = scipy_fft.next_fast_len(full, True)
-    product = scipy_fft.rfftn(data, [fast], axes=[0]) * scipy_fft.rfftn(kernel, [fast], axes=[0])
-    result = scipy_fft.irfftn(product, [fast], axes=[0])[:full]
+    fast = next_fast_length(full)
+    product = np.fft.rfft(data, fast) * np.fft.rfft(kernel, fast)
+    result = np.fft.irfft(product, fast)[:full]
     start = (full - data.size) // 2
     return result[start : start + data.size].copy()
+
+
+def next_fast_length(target: int) -> int:
+    """The smallest 5-smooth number (2^a 3^b 5^c) at least ``target``: scipy.fft.next_fast_len(target,
+    real=True), the lengths pocketfft's real transforms are fastest at (Temperton 1992's regular numbers).
+
+    >>> next_fast_length(4097), next_fast_length(7)
+    (4320, 8)
+    """
+    if target <= 6 or not target & (target - 1):
+        return target
+    best = 1 << (target - 1).bit_length()  # the next power of two always qualifies
+    power_of_5 = 1
+    while power_of_5 < target:
+        power_of_35 = power_of_5
+        while power_of_35 < target:
+            # the smallest power of two that lifts power_of_35 to the target
+            quotient = -(-target // power_of_35)
+            candidate = (1 << (quotient - 1).bit_length()) * power_of_35
+            if candidate == target:
+                return candidate
+            best = min(best, candidate)
+            power_of_35 *= 3
+        best = min(best, power_of_35)
+        power_of_5 *= 5
+    return min(best, power_of_5)
 
 
 def _peaks_and_prominences(curve: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

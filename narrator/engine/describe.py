@@ -588,14 +588,18 @@ def _intervals(sorted_values, *, population, level, seed, skewness, clearly_skew
     if n < 2 or sorted_values[-1] == sorted_values[0]:
         return Intervals(mean=None, median=None, reason="too_few")
     method, method_reason = intervals.choose_mean_method(n, skewness, clearly_skewed)
+    # In power-of-two scaled units, so squares of tiny values (1e-223) cannot underflow to a zero width.
+    unit_values, factor = scaled(sorted_values)
     try:
-        mean_interval = intervals.mean_interval(sorted_values, level=level, method=method, seed=seed)
+        mean_interval = intervals.mean_interval(unit_values, level=level, method=method, seed=seed)
     except NarratorError:
         if method == "t":
             raise
         # The bootstrap cannot work on degenerate resamples (nearly all values equal): use the t interval.
         method_reason = "bootstrap_failed_t"
-        mean_interval = intervals.mean_interval(sorted_values, level=level, method="t", seed=seed)
+        mean_interval = intervals.mean_interval(unit_values, level=level, method="t", seed=seed)
+    if factor != 1.0:
+        mean_interval = replace(mean_interval, low=mean_interval.low * factor, high=mean_interval.high * factor)
     median_interval = intervals.median_interval(sorted_values, level=level)
     return Intervals(
         mean=mean_interval, median=median_interval, reason="computed", mean_method_reason=method_reason

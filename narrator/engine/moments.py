@@ -161,7 +161,16 @@ def median_sorted(sorted_values: np.ndarray) -> float:
     middle = n // 2
     if n % 2:
         return float(sorted_values[middle])
-    return float(sorted_values[middle - 1] / 2 + sorted_values[middle] / 2)
+    below, above = float(sorted_values[middle - 1]), float(sorted_values[middle])
+    if below == above:
+        return below
+    gap = above - below
+    if math.isfinite(gap):
+        # The same arithmetic as the type 7 quantile at p = 1/2, so the median can never fall
+        # outside [below, above] or below Q1, even for subnormal values (halving each first
+        # would send 5e-324 to 0).
+        return below + 0.5 * gap
+    return below / 2 + above / 2  # the gap overflows only for values near the largest double
 
 
 def median_abs_deviation_sorted(sorted_values: np.ndarray, median: float) -> float:

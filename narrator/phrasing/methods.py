@@ -115,6 +115,15 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
         # The engine took the medcouple on a fixed-seed random subsample (large samples): say so, with both numbers.
         sentences.append(ctx.sentence("methods.medcouple_subsample", ("shape.medcouple_method",),
                                       size=ctx.whole(float(method_parts[1])), seed=method_parts[2]))
+    accuracy = findings.accuracy
+    if accuracy is not None and findings.n > 0:
+        # Data larger than memory (narrator.scale): say what is exact, what is merged, what is approximate.
+        sentences.append(ctx.sentence("methods.scale_exact", ("accuracy.engine", "accuracy.sketch_rank_error"),
+                                      rank_error=fmt.percent(accuracy.sketch_rank_error or 0.0, 2)))
+        for approximate in accuracy.approximate:
+            fences = any(key.startswith("outliers.") for key in approximate.depends)
+            key = "methods.scale_approximate_fences" if fences else "methods.scale_approximate_medcouple"
+            sentences.append(ctx.sentence(key, ("accuracy.approximate",), bound=fmt.fixed(approximate.bound, 3)))
     sentences.append(_outlier_sentence(ctx))
     if findings.outliers is not None and findings.outliers.count > 0:
         sentences.append(ctx.sentence("methods.with_without", ("without_outliers",)))
@@ -162,6 +171,8 @@ def references_used(ctx: WordingContext) -> tuple[str, ...]:
     """Bank keys of the references for the methods this report names, sorted."""
     findings = ctx.findings
     used = {"lang_altman_2013"}
+    if findings.accuracy is not None and findings.n > 0:
+        used.update({"chan_1979", "karnin_2016"})
     if findings.spread is not None:
         used.add(QUANTILE_REFERENCES.get(findings.spread.quantile_method, "hyndman_fan_1996"))
     shape = findings.shape

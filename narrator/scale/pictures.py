@@ -87,7 +87,8 @@ def histogram_layout(
     else:
         raw_scaled, used_rule, note = engine_bins._raw_width(units.scaled, n, rule, sd_scaled, iqr_scaled,
                                                              presorted=True)
-    raw = raw_scaled * units.unit
+    # A width from the rule can pass the largest double when the values span most of it: cap it there.
+    raw = min(raw_scaled * units.unit, float(np.finfo(float).max))
     width = engine_bins._whole_width(raw) if whole else engine_bins.nice_width(raw)
     narrowest = largest * engine_bins.MAGNITUDE_RESOLUTION
     if width < narrowest:

@@ -3,8 +3,9 @@
 Each summary has ``update(values, rows)`` for one chunk (float64 values, finite,
 with their int64 source rows) and ``merge(other)`` for the summary of another
 set of chunks; both change the summary in place and return it. Counts merge
-exactly; floating-point sums are merged in pairs so their error stays at the
-level of one chunk's pairwise sum.
+exactly, in any grouping; a chunk's own sums are numpy's pairwise ones, and each
+merge of floating-point sums adds a few rounding errors (the tests hold merged
+results to 1e-12 relative of the in-memory ones).
 
 ===========================  ======================================================
 Name                         What it keeps
@@ -12,6 +13,8 @@ Name                         What it keeps
 :class:`MomentSummary`       n, mean and centred sums M2, M3, M4 (Chan, Golub &
                              LeVeque 1979; Pebay 2008 for M3 and M4)
 :func:`merge_moments`        the parallel update of two MomentSummary values
+:class:`ScaledMoments`       MomentSummary of x / factor (the engine's overflow guard)
+:func:`row_hash`             SplitMix64 of a row number and a seed (the reservoir's keys)
 :class:`ExtremeSummary`      min and max with their first rows, how often each
                              occurs, the next distinct values inwards
 :class:`QuantileSketch`      KLL sketch (Karnin, Lang & Liberty 2016) from the
@@ -34,6 +37,9 @@ Name                         What it keeps
                              the moments of the values it keeps
 :class:`FarthestValue`       the first row of the largest distance from a centre
 :class:`MeanDistance`        mean absolute distance from a centre
+:class:`ExcludingMoments`    moments of the values other than one value
+:class:`DistanceCounts`      distances from a centre: counts below and above a band,
+                             the distances inside it (the MAD's bracket)
 ===========================  ======================================================
 """
 
@@ -44,6 +50,7 @@ import math
 import numpy as np
 
 from narrator.engine.moments import Moments, central_moments
+from narrator.errors import NarratorError
 
 # The reservoir's hash: SplitMix64 (Steele, Lea & Flood 2014), a bijection of 64-bit integers whose
 # output bits pass standard randomness tests; keying a value by the hash of its row and the seed
@@ -133,20 +140,27 @@ def merge_moments(a: MomentSummary, b: MomentSummary) -> MomentSummary:
     """
     result = MomentSummary()
     if b.n == 0:
-        result.__setstate__(a.__getstate__())
+        MomentSummary.__setstate__(result, MomentSummary.__getstate__(a))
         return result
     if a.n == 0:
-        result.__setstate__(b.__getstate__())
+        MomentSummary.__setstate__(result, MomentSummary.__getstate__(b))
         return result
     na, nb = float(a.n), float(b.n)
     n = na + nb
     delta_raw = b.mean - a.mean
     # A common power-of-two scale: the larger of the two, and large enough for the gap between the means.
+    # A side without spread (one value, or equal values) has no scale of its own and imposes none.
     gap_scale = 2.0 ** math.floor(math.log2(abs(delta_raw))) if delta_raw != 0 else 0.0
-    scale = max(a.scale, b.scale, gap_scale)
-    ra, rb = a.scale / scale, b.scale / scale  # powers of two: exact
-    a2, a3, a4 = a.m2 * ra**2, a.m3 * ra**3, a.m4 * ra**4
-    b2, b3, b4 = b.m2 * rb**2, b.m3 * rb**3, b.m4 * rb**4
+    scale = max(a.scale if a.m2 > 0 else 0.0, b.scale if b.m2 > 0 else 0.0, gap_scale) or 1.0
+
+    def rescaled(side: MomentSummary) -> tuple[float, float, float]:
+        if side.m2 == 0:
+            return 0.0, 0.0, 0.0
+        ratio = side.scale / scale  # a power of two: exact
+        return side.m2 * ratio**2, side.m3 * ratio**3, side.m4 * ratio**4
+
+    a2, a3, a4 = rescaled(a)
+    b2, b3, b4 = rescaled(b)
     d = delta_raw / scale
     result.n = a.n + b.n
     result.mean = a.mean + delta_raw * (nb / n)
@@ -158,23 +172,6 @@ def merge_moments(a: MomentSummary, b: MomentSummary) -> MomentSummary:
         + 6.0 * d * d * (na * na * b2 + nb * nb * a2) / (n * n) + 4.0 * d * (na * b3 - nb * a3) / n
     )
     return result
-
-
-def remove_moments(total: MomentSummary, part: MomentSummary) -> MomentSummary:
-    """Moments of the values in ``total`` but not in ``part`` (the merge solved for one side; M2 only
-    is needed by callers, M3 and M4 are left at 0)."""
-    rest = MomentSummary()
-    rest.n = total.n - part.n
-    if rest.n <= 0:
-        return rest
-    n, np_, nr = float(total.n), float(part.n), float(rest.n)
-    rest.mean = (total.mean * n - part.mean * np_) / nr
-    rest.scale = max(total.scale, part.scale)
-    d = (part.mean - rest.mean) / rest.scale
-    t2 = total.m2 * (total.scale / rest.scale) ** 2
-    p2 = part.m2 * (part.scale / rest.scale) ** 2
-    rest.m2 = max(t2 - p2 - d * d * np_ * nr / n, 0.0)
-    return rest
 
 
 class ScaledMoments(MomentSummary):
@@ -285,7 +282,11 @@ class QuantileSketch:
     __slots__ = ("k", "_sketch")
 
     def __init__(self, k: int) -> None:
-        from datasketches import kll_doubles_sketch
+        try:
+            from datasketches import kll_doubles_sketch
+        except ImportError:
+            raise NarratorError("the stream and dask engines need the package datasketches "
+                                "(pip install datasketches)") from None
 
         self.k = int(k)
         self._sketch = kll_doubles_sketch(self.k)
@@ -529,58 +530,62 @@ class DistinctValues:
 
 
 class PrecisionSummary:
-    """Whether every value is a whole number, and the decimals needed to write every value as recorded
-    (the test of :func:`narrator.sample.guess_decimals`, applied to all values, capped)."""
+    """Whether every value is a whole number, and the decimals needed to write every value as recorded.
 
-    __slots__ = ("whole", "decimals", "cap")
+    :func:`narrator.sample.guess_decimals` takes the smallest d at which every value it looks at fits
+    (|x 10^d - round(x 10^d)| <= 1e-6 max(1, |x 10^d|)), capped. Fitting at d does not imply fitting
+    at d + 1 (a tiny value fits at 0 and not at 2), so the summary keeps, for every d up to the cap,
+    whether all values seen fit: that merges exactly (a logical and), and the answer is the first d
+    where they all do. The in-memory engine looks at up to 2000 evenly spaced sorted values; this
+    looks at all of them, which can only differ when a rare value carries more decimals than those.
+    """
+
+    __slots__ = ("whole", "fits", "cap", "seen")
 
     def __init__(self, cap: int = 6) -> None:
         self.whole = True
-        self.decimals = 0
         self.cap = cap
+        self.fits = np.ones(cap + 1, dtype=bool)
+        self.seen = False  # any value below 1e15 in size (larger ones carry no decimals a float holds)
+
+    @property
+    def decimals(self) -> int:
+        if not self.seen:
+            return 0
+        found = np.flatnonzero(self.fits)
+        return int(found[0]) if found.size else self.cap
 
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> PrecisionSummary:
         if values.size == 0:
             return self
         if self.whole and not bool(np.all(np.floor(values) == values)):
             self.whole = False
-        probe = values
-        for decimals in range(self.decimals, self.cap + 1):
-            times = probe * 10**decimals
-            off = np.abs(times - np.round(times)) > 1e-6 * np.maximum(1.0, np.abs(times))
-            if not off.any():
-                break
-            probe = probe[off]  # values that already fit need no more decimals
-            self.decimals = min(decimals + 1, self.cap)
+        values = values[np.abs(values) < 1e15]
+        if values.size == 0:
+            return self
+        self.seen = True
+        for decimals in np.flatnonzero(self.fits):
+            times = values * 10 ** int(decimals)
+            error = np.abs(times - np.round(times))
+            self.fits[decimals] = bool(np.all(error <= 1e-6 * np.maximum(1.0, np.abs(times))))
         return self
 
     def merge(self, other: PrecisionSummary) -> PrecisionSummary:
         self.whole = self.whole and other.whole
-        self.decimals = max(self.decimals, other.decimals)
+        self.fits &= other.fits
+        self.seen = self.seen or other.seen
         return self
 
     def __getstate__(self):
-        return (self.whole, self.decimals, self.cap)
+        return (self.whole, self.fits, self.cap, self.seen)
 
     def __setstate__(self, state) -> None:
-        self.whole, self.decimals, self.cap = state
+        self.whole, self.fits, self.cap, self.seen = state
 
 
 # ---------------------------------------------------------------------------
 # Later passes: summaries that need figures from an earlier pass
 # ---------------------------------------------------------------------------
-
-
-def _merge_weighted(values_a, counts_a, values_b, counts_b) -> tuple[np.ndarray, np.ndarray]:
-    """Union of two (sorted distinct values, counts) multisets."""
-    if values_b.size == 0:
-        return values_a, counts_a
-    if values_a.size == 0:
-        return values_b, counts_b
-    values, inverse = np.unique(np.concatenate([values_a, values_b]), return_inverse=True)
-    counts = np.bincount(inverse, weights=np.concatenate([counts_a, counts_b]).astype(np.float64),
-                         minlength=values.size)
-    return values, counts.astype(np.int64)
 
 
 class PartitionCounts:
@@ -591,7 +596,7 @@ class PartitionCounts:
     then known exactly.
     """
 
-    __slots__ = ("boundaries", "collect", "gap_counts", "point_counts", "kept_values", "kept_counts")
+    __slots__ = ("boundaries", "collect", "gap_counts", "point_counts", "_kept", "_pending", "_pending_size")
 
     def __init__(self, boundaries: np.ndarray, collect: np.ndarray) -> None:
         self.boundaries = np.asarray(boundaries, dtype=np.float64)
@@ -599,8 +604,38 @@ class PartitionCounts:
         size = self.boundaries.size
         self.gap_counts = np.zeros(size + 1, dtype=np.int64)
         self.point_counts = np.zeros(size, dtype=np.int64)
-        self.kept_values = np.zeros(0)
-        self.kept_counts = np.zeros(0, dtype=np.int64)
+        self._kept = (np.zeros(0), np.zeros(0, dtype=np.int64))
+        # Chunks' kept values wait here and are folded in once they outnumber what is kept, so the
+        # cost stays O(k log k) for k kept values however many chunks there are.
+        self._pending: list[tuple[np.ndarray, np.ndarray]] = []
+        self._pending_size = 0
+
+    def _add_kept(self, values: np.ndarray, counts: np.ndarray) -> None:
+        if values.size == 0:
+            return
+        self._pending.append((values, counts))
+        self._pending_size += values.size
+        if self._pending_size > max(65_536, self._kept[0].size):
+            self._fold()
+
+    def _fold(self) -> None:
+        if self._pending:
+            values = np.concatenate([self._kept[0]] + [v for v, _ in self._pending])
+            counts = np.concatenate([self._kept[1]] + [c for _, c in self._pending])
+            unique, inverse = np.unique(values, return_inverse=True)
+            self._kept = (unique, np.bincount(inverse, weights=counts.astype(np.float64),
+                                              minlength=unique.size).astype(np.int64))
+            self._pending, self._pending_size = [], 0
+
+    @property
+    def kept_values(self) -> np.ndarray:
+        self._fold()
+        return self._kept[0]
+
+    @property
+    def kept_counts(self) -> np.ndarray:
+        self._fold()
+        return self._kept[1]
 
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> PartitionCounts:
         if values.size == 0:
@@ -610,23 +645,21 @@ class PartitionCounts:
         if size:
             at = self.boundaries[np.minimum(gap, size - 1)] == values
             at &= gap < size
+            self.point_counts += np.bincount(gap[at], minlength=size)[:size]
         else:
             at = np.zeros(values.size, dtype=bool)
-        self.point_counts += np.bincount(gap[at], minlength=size)[:size] if size else 0
         in_gap = ~at
         self.gap_counts += np.bincount(gap[in_gap], minlength=size + 1)
         kept = values[in_gap & self.collect[gap]]
         if kept.size:
-            unique, counts = np.unique(kept, return_counts=True)
-            self.kept_values, self.kept_counts = _merge_weighted(self.kept_values, self.kept_counts, unique,
-                                                                 counts)
+            self._add_kept(kept, np.ones(kept.size, dtype=np.int64))
         return self
 
     def merge(self, other: PartitionCounts) -> PartitionCounts:
         self.gap_counts += other.gap_counts
         self.point_counts += other.point_counts
-        self.kept_values, self.kept_counts = _merge_weighted(self.kept_values, self.kept_counts,
-                                                             other.kept_values, other.kept_counts)
+        other._fold()
+        self._add_kept(*other._kept)
         return self
 
     def count_below(self, boundary: float) -> int:
@@ -667,28 +700,30 @@ class PartitionCounts:
         return values[order], counts[order]
 
     def __getstate__(self):
-        return (self.boundaries, self.collect, self.gap_counts, self.point_counts, self.kept_values,
-                self.kept_counts)
+        self._fold()
+        return (self.boundaries, self.collect, self.gap_counts, self.point_counts, self._kept)
 
     def __setstate__(self, state) -> None:
-        (self.boundaries, self.collect, self.gap_counts, self.point_counts, self.kept_values,
-         self.kept_counts) = state
+        self.boundaries, self.collect, self.gap_counts, self.point_counts, self._kept = state
+        self._pending, self._pending_size = [], 0
 
 
 class RangeMean:
-    """Count and mean of the values strictly between ``low`` and ``high`` (a trimmed mean's middle),
-    merged like the mean of :class:`MomentSummary`."""
+    """Count and mean (of x / ``factor``, the engine's scaled units) of the values strictly between
+    ``low`` and ``high`` (a trimmed mean's middle), merged like the mean of :class:`MomentSummary`."""
 
-    __slots__ = ("low", "high", "n", "mean")
+    __slots__ = ("low", "high", "factor", "n", "mean")
 
-    def __init__(self, low: float, high: float) -> None:
-        self.low, self.high = float(low), float(high)
+    def __init__(self, low: float, high: float, factor: float = 1.0) -> None:
+        self.low, self.high, self.factor = float(low), float(high), factor
         self.n = 0
         self.mean = 0.0
 
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> RangeMean:
         inside = values[(values > self.low) & (values < self.high)]
         if inside.size:
+            if self.factor != 1.0:
+                inside = inside / self.factor
             mean = float(np.mean(inside))
             mean += float(np.mean(inside - mean))
             self._add(int(inside.size), mean)
@@ -706,10 +741,10 @@ class RangeMean:
         return self
 
     def __getstate__(self):
-        return (self.low, self.high, self.n, self.mean)
+        return (self.low, self.high, self.factor, self.n, self.mean)
 
     def __setstate__(self, state) -> None:
-        self.low, self.high, self.n, self.mean = state
+        self.low, self.high, self.factor, self.n, self.mean = state
 
 
 class BinCounts:
@@ -875,7 +910,9 @@ class FarthestValue:
 __all__ = [
     "BinCounts",
     "CodeCounts",
+    "DistanceCounts",
     "DistinctValues",
+    "ExcludingMoments",
     "ExtremeSummary",
     "FarthestValue",
     "FlaggedValues",
@@ -891,7 +928,6 @@ __all__ = [
     "ScaledMoments",
     "TailCandidates",
     "merge_moments",
-    "remove_moments",
     "row_hash",
 ]
 
@@ -928,3 +964,79 @@ class MeanDistance:
 
     def __setstate__(self, state) -> None:
         self.centre, self.factor, self.n, self.mean = state
+
+
+class DistanceCounts:
+    """Distances d = |x / factor - centre| (as the in-memory MAD forms them: centre - x below the centre,
+    x - centre at or above it): how many are below ``inner``, the distances in [inner, outer] themselves
+    (distinct values with counts), and how many are above ``outer``."""
+
+    __slots__ = ("centre", "factor", "inner", "outer", "below", "above", "_kept")
+
+    def __init__(self, centre: float, factor: float, inner: float, outer: float) -> None:
+        self.centre, self.factor, self.inner, self.outer = centre, factor, inner, outer
+        self.below = 0
+        self.above = 0
+        self._kept = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> DistanceCounts:
+        if values.size == 0:
+            return self
+        units = values if self.factor == 1.0 else values / self.factor
+        distances = np.where(units < self.centre, self.centre - units, units - self.centre)
+        low = distances < self.inner
+        high = distances > self.outer
+        self.below += int(np.count_nonzero(low))
+        self.above += int(np.count_nonzero(high))
+        self._kept.update(distances[~(low | high)])
+        return self
+
+    def merge(self, other: DistanceCounts) -> DistanceCounts:
+        self.below += other.below
+        self.above += other.above
+        self._kept.merge(other._kept)
+        return self
+
+    def smallest(self, rank: int) -> float | None:
+        """The distance of 0-based rank ``rank`` in ascending order, or None when it was not kept."""
+        if rank < self.below:
+            return None
+        found = self._kept.order_statistic(rank - self.below)
+        return found
+
+    def __getstate__(self):
+        return (self.centre, self.factor, self.inner, self.outer, self.below, self.above, self._kept.__getstate__())
+
+    def __setstate__(self, state) -> None:
+        self.centre, self.factor, self.inner, self.outer, self.below, self.above = state[:6]
+        self._kept = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+        self._kept.__setstate__(state[6])
+
+
+class ExcludingMoments(MomentSummary):
+    """Moments of the values other than one value (the rest of a column beside a suspected code)."""
+
+    __slots__ = ("excluded",)
+
+    def __init__(self, excluded: float) -> None:
+        super().__init__()
+        self.excluded = float(excluded)
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> ExcludingMoments:
+        MomentSummary.merge(self, MomentSummary.of(values[values != self.excluded]))
+        return self
+
+    def merge(self, other: MomentSummary) -> ExcludingMoments:
+        MomentSummary.merge(self, other)
+        return self
+
+    def population_sd(self) -> float:
+        """sqrt(M2 / n), as numpy.std with its default ddof = 0; 0 for no values."""
+        return math.sqrt(self.m2 / self.n) * self.scale if self.n else 0.0
+
+    def __getstate__(self):
+        return (*MomentSummary.__getstate__(self), self.excluded)
+
+    def __setstate__(self, state) -> None:
+        MomentSummary.__setstate__(self, state[:6])
+        self.excluded = state[6]

@@ -7,7 +7,7 @@ it with matplotlib, and put the picture and a table into a Word file with
 python-docx. This script does exactly that, as one whole process, so start-up
 imports and parsing count just as they do for ``narrator draft``.
 
-    /work/venv/bin/python tests/benchmarks/baseline_by_hand.py FILE.csv COLUMN OUT.docx
+    .venv/bin/python tests/benchmarks/baseline_by_hand.py FILE.csv COLUMN OUT.docx
 
 statsmodels' medcouple builds the full n x n kernel matrix (O(n^2) memory), so
 it is run only up to ``MEDCOUPLE_MAX_N`` values and skipped (with a line saying

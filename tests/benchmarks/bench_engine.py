@@ -1,6 +1,6 @@
 """Engine speed: narrator.describe against numpy.sort of the same array, in the same process.
 
-    /work/venv/bin/python tests/benchmarks/bench_engine.py [--runs 5] [--sizes 1e6,1e7]
+    .venv/bin/python tests/benchmarks/bench_engine.py [--runs 5] [--sizes 1e6,1e7]
 
 For each size the two are timed in turn (sort, describe, sort, describe, ...) on
 the same invented lognormal array, so a noisy neighbour slows both alike; the

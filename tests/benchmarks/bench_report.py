@@ -1,6 +1,6 @@
 """End to end: a memo report to .docx by ``narrator draft`` against the same job done by hand.
 
-    /work/venv/bin/python tests/benchmarks/bench_report.py [--runs 3] [--sizes 1e5,1e6]
+    .venv/bin/python tests/benchmarks/bench_report.py [--runs 3] [--sizes 1e5,1e6]
 
 Both run as whole processes from the same CSV file (invented lognormal data
 with a few extremes, fixed seed, two decimals), so start-up imports and

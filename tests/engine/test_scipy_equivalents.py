@@ -34,11 +34,19 @@ def test_distribution_functions_match_scipy_stats_bit_for_bit():
         assert min(1.0, distributions.binomial_sf(k - 1, n, p)) == expected
 
 
-@pytest.mark.parametrize("size", [7, 100, 4096, 5000])
+@pytest.mark.parametrize("size", [7, 100, 4096, 5000, 300_000])
 def test_convolution_matches_scipy_signal(size):
     data = RNG.uniform(size=size)
     kernel = np.exp(-0.5 * np.linspace(-4, 4, 2 * (size // 3) + 1) ** 2)
     assert np.array_equal(density._convolve_same(data, kernel), signal.fftconvolve(data, kernel, mode="same"))
+
+
+def test_fast_length_matches_scipy_fft():
+    # scipy.fft.next_fast_len(target, real=True) is the reference; every length up to 20 000 and some large ones.
+    from scipy import fft
+
+    targets = [*range(1, 20_001), *(int(t) for t in RNG.integers(20_001, 2**26, 2000))]
+    assert [density.next_fast_length(t) for t in targets] == [fft.next_fast_len(t, True) for t in targets]
 
 
 def test_peaks_and_prominences_match_scipy_signal():

@@ -1,0 +1,186 @@
+"""Benchmark: findings for data larger than memory (narrator.scale), streaming and on a Dask cluster.
+
+Not collected by pytest; run by hand on a quiet machine:
+
+    .venv/bin/python tests/benchmarks/bench_scale.py               # 1e8 values, about 800 MB
+    .venv/bin/python tests/benchmarks/bench_scale.py --n 2e6 --memory-n 1e6   # a quick look
+
+It writes invented data once into a temporary folder (kept for the next run; fixed seed, lognormal
+with a few extremes, ``--parts`` Parquet files), then measures in child processes, each with its own
+peak resident memory (``ru_maxrss`` from ``os.wait4``):
+
+1. the stream engine over all ``--n`` values: time and peak memory (target at most 1.5 GB);
+2. at ``--memory-n`` values (small enough for memory): the in-memory engine (``read_column`` of one
+   Parquet file + ``describe``) against the stream engine on the same values in parts: both times,
+   both peaks, and whether the findings agree (exact figures equal; merged sums within 1e-12; the
+   medcouple and what depends on it within its stated bound);
+3. the Dask engine on a ``distributed.LocalCluster`` of ``--workers`` processes over all ``--n``
+   values: time, and whether its findings equal the stream engine's.
+
+Prints one line per measurement with its target and ``met`` / ``NOT MET``; exits 1 if a target is missed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.parquet as pq
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _common import EXTREMES, SEED, run_child  # noqa: E402
+
+STREAM_MEMORY_TARGET_MB = 1536.0
+
+STREAM_CHILD = """
+import sys
+from narrator.findings import dumps
+from narrator.scale import describe_source, open_source
+result = describe_source(open_source(sys.argv[1], "x"))
+open(sys.argv[2], "w", encoding="utf-8").write(dumps(result.findings))
+"""
+
+MEMORY_CHILD = """
+import sys
+from narrator.data import read_column
+from narrator.engine.describe import describe
+from narrator.findings import dumps
+open(sys.argv[2], "w", encoding="utf-8").write(dumps(describe(read_column(sys.argv[1], "x"))))
+"""
+
+DASK_CHILD = """
+import sys
+from distributed import Client, LocalCluster
+from narrator.findings import dumps
+from narrator.scale import describe_source, open_source
+from narrator.scale.distributed import DaskRunner
+if __name__ == "__main__":
+    workers = int(sys.argv[3])
+    with LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=None) as cluster:
+        with Client(cluster) as client:
+            source = open_source(sys.argv[1], "x")
+            result = describe_source(source, runner=DaskRunner(source, client=client))
+    open(sys.argv[2], "w", encoding="utf-8").write(dumps(result.findings))
+"""
+
+
+def _write_data(folder: Path, n: int, parts: int) -> Path:
+    """n lognormal values (log-mean 3, log-SD 0.8) with five extremes, in ``parts`` files; written once."""
+    done = folder / "_complete"
+    if done.exists():
+        return folder
+    folder.mkdir(parents=True, exist_ok=True)
+    sizes = np.full(parts, n // parts)
+    sizes[: n % parts] += 1
+    streams = np.random.SeedSequence(SEED).spawn(parts)
+    for k, (size, stream) in enumerate(zip(sizes, streams, strict=True)):
+        generator = np.random.default_rng(stream)
+        values = generator.lognormal(3.0, 0.8, int(size))
+        if k == parts // 2:
+            values[generator.choice(int(size), len(EXTREMES), replace=False)] = EXTREMES
+        pq.write_table(pa.table({"x": values}), folder / f"part-{k:05d}.parquet")
+    done.write_text("ok\n", encoding="utf-8")
+    return folder
+
+
+def _whole_file(folder: Path) -> Path:
+    """The parts joined into one Parquet file, for the in-memory engine."""
+    target = folder.parent / f"{folder.name}-whole.parquet"
+    if not target.exists():
+        tables = [pq.read_table(path) for path in sorted(folder.glob("part-*.parquet"))]
+        pq.write_table(pa.concat_tables(tables), target)
+    return target
+
+
+def _run(code: str, *args: str) -> tuple[float, float]:
+    return run_child([sys.executable, "-c", code, *args])
+
+
+def _load(path: Path):
+    from narrator.findings import loads
+
+    return loads(path.read_text(encoding="utf-8"))
+
+
+def _agreement(reference, candidate) -> tuple[bool, str]:
+    """Exact agreement, or agreement except where the recorded approximation reaches (within its bound)."""
+    from narrator.scale.agreement import differences
+
+    found = differences(reference, candidate)
+    if not found:
+        return True, "equal"
+    accuracy = candidate.accuracy
+    allowed = tuple(a.figure for a in accuracy.approximate) + tuple(d for a in accuracy.approximate for d in a.depends)
+    outside = [line for line in found if not line.split(":")[0].startswith(allowed)]
+    if outside:
+        return False, f"{len(outside)} differences outside the approximations, first: {outside[0]}"
+    bound = accuracy.approximate[0].bound
+    gap = abs(reference.shape.medcouple - candidate.shape.medcouple)
+    within = gap <= 4 * math.sqrt(2) * bound
+    return within, (f"equal except the medcouple and what depends on it ({len(found)} entries); "
+                    f"medcouple gap {gap:.4f} vs 4 sqrt(2) x SE {4 * math.sqrt(2) * bound:.4f}")
+
+
+def _verdict(ok: bool) -> str:
+    return "met" if ok else "NOT MET"
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    parser.add_argument("--n", type=float, default=1e8)
+    parser.add_argument("--memory-n", type=float, default=1e7)
+    parser.add_argument("--parts", type=int, default=100)
+    parser.add_argument("--workers", type=int, default=2)
+    parser.add_argument("--folder", type=Path, default=Path(tempfile.gettempdir()) / "narrator-bench-scale")
+    parser.add_argument("--skip-dask", action="store_true")
+    args = parser.parse_args(argv)
+    n, memory_n = int(args.n), int(args.memory_n)
+    failed = False
+
+    big = _write_data(args.folder / f"lognormal-{n}-{SEED}", n, args.parts)
+    small = _write_data(args.folder / f"lognormal-{memory_n}-{SEED}", memory_n, max(4, args.parts // 10))
+    small_whole = _whole_file(small)
+    output = Path(tempfile.mkdtemp(prefix="narrator-bench-"))
+    print(f"data: {n:,} values in {args.parts} Parquet files ({n * 8 / 2**20:,.0f} MB of float64); "
+          f"{memory_n:,} values for the in-memory comparison; folder {args.folder}")
+
+    seconds, peak = _run(STREAM_CHILD, str(big), str(output / "stream.json"))
+    ok = peak <= STREAM_MEMORY_TARGET_MB
+    failed |= not ok
+    stream_findings = _load(output / "stream.json")
+    print(f"stream n={n:,}: {seconds:.1f} s, peak {peak:,.0f} MB (target <= {STREAM_MEMORY_TARGET_MB:,.0f} MB) "
+          f"{_verdict(ok)}")
+
+    memory_seconds, memory_peak = _run(MEMORY_CHILD, str(small_whole), str(output / "memory-small.json"))
+    small_seconds, small_peak = _run(STREAM_CHILD, str(small), str(output / "stream-small.json"))
+    agree, detail = _agreement(_load(output / "memory-small.json"), _load(output / "stream-small.json"))
+    failed |= not agree
+    print(f"n={memory_n:,}: in memory {memory_seconds:.1f} s, peak {memory_peak:,.0f} MB; "
+          f"stream {small_seconds:.1f} s, peak {small_peak:,.0f} MB "
+          f"(time ratio {small_seconds / memory_seconds:.2f}); findings agree: {detail} {_verdict(agree)}")
+
+    if not args.skip_dask:
+        try:
+            dask_seconds, dask_peak = _run(DASK_CHILD, str(big), str(output / "dask.json"), str(args.workers))
+        except (RuntimeError, subprocess.SubprocessError) as exc:
+            print(f"dask: failed: {exc}")
+            return 1
+        from narrator.scale.agreement import differences
+
+        found = differences(stream_findings, _load(output / "dask.json"))
+        failed |= bool(found)
+        print(f"dask n={n:,}, {args.workers} workers: {dask_seconds:.1f} s (client process peak {dask_peak:,.0f} MB); "
+              f"findings equal the stream run's: {'yes' if not found else found[:3]} {_verdict(not found)}")
+    print(json.dumps({"output": str(output)}))
+    return 1 if failed else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
