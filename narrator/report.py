@@ -385,7 +385,10 @@ def collection_frame(
     columns = [str((part.sample.source or {}).get("column") or part.sample.name) for part in collection.variables]
     numbers = NumberFormatter(locale)
     if source.get("file"):
-        data_line = bank.format("collection.data_columns", columns=numbers.list(columns), file=str(source["file"]))
+        if len(columns) == 1:  # one variable broken down by groups: "column hours", not "columns hours"
+            data_line = bank.format("report.data_file", column=columns[0], file=str(source["file"]))
+        else:
+            data_line = bank.format("collection.data_columns", columns=numbers.list(columns), file=str(source["file"]))
         details = tuple(line if line != base.details[1 if organisation else 0] else data_line
                         for line in base.details)
     else:
