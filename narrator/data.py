@@ -985,8 +985,8 @@ def _unsaved_formulas(path: Path, sheet_name: str, index: int, blank_rows: set[i
         workbook.close()
 
 
-def _read_excel(path: Path, column: str | int, sheet: str | int | None, options: _Options,
-                id_column: str | int | None = None):
+def _excel_column(path: Path, column: str | int, sheet: str | int | None):
+    """(sheet name, all rows, headers, column index, the column's raw cells) of a workbook."""
     workbook = _open_workbook(path, data_only=True)
     try:
         sheet_name = _choose_sheet(workbook, sheet, path.name)
@@ -998,6 +998,12 @@ def _read_excel(path: Path, column: str | int, sheet: str | int | None, options:
     headers = [_header_text(cell) for cell in rows[0]]
     index = _select_column(headers, column, f"{path.name}, sheet '{sheet_name}'")
     raw = [row[index] if index < len(row) else None for row in rows[1:]]
+    return sheet_name, rows, headers, index, raw
+
+
+def _read_excel(path: Path, column: str | int, sheet: str | int | None, options: _Options,
+                id_column: str | int | None = None):
+    sheet_name, rows, headers, index, raw = _excel_column(path, column, sheet)
     blank = {position for position, cell in enumerate(raw) if cell is None}
     formulas = _unsaved_formulas(path, sheet_name, index, blank) if blank else {}
     cells = _excel_cells(raw, options, formulas)
@@ -1284,17 +1290,7 @@ def read_labels(
         index = _select_column(headers, column, target.name)
         raw: list[object] = data.cells(index)
     elif file_format == "xlsx":
-        workbook = _open_workbook(target, data_only=True)
-        try:
-            sheet_name = _choose_sheet(workbook, sheet, target.name)
-            rows = _excel_rows(workbook, sheet_name)
-        finally:
-            workbook.close()
-        if not rows:
-            raise NarratorError(f"{target.name}: sheet '{sheet_name}' is empty")
-        headers = [_header_text(cell) for cell in rows[0]]
-        index = _select_column(headers, column, f"{target.name}, sheet '{sheet_name}'")
-        raw = [row[index] if index < len(row) else None for row in rows[1:]]
+        _sheet_name, _rows, headers, index, raw = _excel_column(target, column, sheet)
     else:
         parquet = _parquet_file(target)
         positions = _parquet_positions(parquet)

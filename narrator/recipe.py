@@ -542,18 +542,11 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
         data.path, recipe.variables, sheet=data.sheet, decimal_comma=data.decimal_comma, missing=data.missing,
         group_by=data.group_by, privacy_threshold=data.privacy_threshold, step=announce,
     )
-    report = recipe.report
-    common = dict(
-        input_path=data.path, locale=report.locale, currency=report.currency, title=report.title,
-        organisation=report.organisation, template=report.template, generated_at=report.generated,
-    )
+    common = _report_options(recipe)
     single = len(collection.variables) == 1 and collection.group_by is None
     outcomes = []
     for output in recipe.outputs:
-        try:
-            output.path.parent.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise NarratorError(f"cannot make the folder for {output.path_text}: {exc.strerror or exc}") from None
+        _make_folder_for(output)
         announce(f"writing the {output.audience} report")
         if single:
             # One variable, no groups: the same report as "narrator draft", which compares
@@ -584,19 +577,29 @@ def _build_large(recipe: Recipe, engine: str, announce: Callable[[str], None]) -
         decimal_comma=data.decimal_comma, missing=data.missing, valid_min=variable.valid_min,
         valid_max=variable.valid_max, name=variable.label, lower_bound=variable.lower_bound,
         upper_bound=variable.upper_bound, population=variable.population, outlier_rule=variable.outlier_rule)
-    report = recipe.report
+    common = _report_options(recipe)
     outcomes = []
     for output in recipe.outputs:
-        try:
-            output.path.parent.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise NarratorError(f"cannot make the folder for {output.path_text}: {exc.strerror or exc}") from None
+        _make_folder_for(output)
         announce(f"writing the {output.audience} report")
-        outcomes.append(report_from_findings(
-            sample, findings, output.path, audience=output.audience, input_path=data.path, locale=report.locale,
-            currency=report.currency, title=report.title, organisation=report.organisation,
-            template=report.template, generated_at=report.generated))
+        outcomes.append(report_from_findings(sample, findings, output.path, audience=output.audience, **common))
     return outcomes
+
+
+def _report_options(recipe: Recipe) -> dict:
+    """The report settings every output of a recipe shares."""
+    report = recipe.report
+    return dict(
+        input_path=recipe.data.path, locale=report.locale, currency=report.currency, title=report.title,
+        organisation=report.organisation, template=report.template, generated_at=report.generated,
+    )
+
+
+def _make_folder_for(output) -> None:
+    try:
+        output.path.parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise NarratorError(f"cannot make the folder for {output.path_text}: {exc.strerror or exc}") from None
 
 
 # --------------------------------------------------------------------------- starter
