@@ -44,6 +44,9 @@ from narrator.errors import NarratorError
 
 SCHEMA_VERSION = 1
 
+# Flagged values listed per side (low, high) in Outliers; the counts and ranges cover them all.
+LISTED_PER_SIDE = 1000
+
 # Fixed vocabularies. The phrase builder keys its words on these codes.
 SHAPE_LABELS = (
     "symmetric",
@@ -152,14 +155,36 @@ class Outliers:
     count: int
     count_low: int
     count_high: int
-    values: tuple[float, ...]  # flagged values, ascending
-    rows: tuple[int, ...]  # source row numbers of the flagged values, same order
-    far_out_values: tuple[float, ...]
+    # The flagged values listed, ascending: every flagged value when a side has at most
+    # LISTED_PER_SIDE of them, else that side's LISTED_PER_SIDE farthest out (the lowest low
+    # values, the highest high ones), so findings stay small however many values are flagged.
+    # The first ``listed_low`` are low-side values, the rest high-side ones; ties in file order.
+    values: tuple[float, ...]
+    rows: tuple[int, ...]  # source row numbers of the listed values, same order
+    far_out_values: tuple[float, ...]  # the listed values beyond the far fences
     far_out_rows: tuple[int, ...]
     note: str | None = None  # reason code, e.g. "mad_zero_fallback", "not_run_too_few"
-    # Record identifiers of the flagged values, same order; empty unless the
+    # Record identifiers of the listed values, same order; empty unless the
     # reader was asked to carry an id column (privacy by default).
     ids: tuple[str, ...] = ()
+    listed_low: int = 0  # how many of ``values`` are low-side values
+    low_range: tuple[float, float] | None = None  # (lowest, highest) of all low-side flagged values
+    high_range: tuple[float, float] | None = None  # (lowest, highest) of all high-side flagged values
+
+    @property
+    def low_values(self) -> tuple[float, ...]:
+        """The listed low-side values, ascending."""
+        return self.values[: self.listed_low]
+
+    @property
+    def high_values(self) -> tuple[float, ...]:
+        """The listed high-side values, ascending."""
+        return self.values[self.listed_low :]
+
+    @property
+    def complete(self) -> bool:
+        """Whether every flagged value is listed."""
+        return len(self.values) == self.count
 
 
 @dataclass(frozen=True, slots=True)
@@ -344,7 +369,7 @@ _PLAIN_TYPES = (int, str, bool, type(None))
 
 
 def _encode(value: Any) -> Any:
-    # Exact built-in types first: a sidecar holds tens of thousands of flagged values and rows.
+    # Exact built-in types first: a sidecar holds thousands of listed values and rows.
     kind = type(value)
     if kind is float:
         return value if math.isfinite(value) else None

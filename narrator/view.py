@@ -47,15 +47,22 @@ def histogram_window(findings: Findings) -> Window | None:
     if not (cut_high or cut_low):
         return None
     width = plan.width
+    counts = plan.counts
+    # The window ends on bin edges; the bars beyond it are the values not drawn.
+    hidden_low = hidden_high = 0
     if cut_high:
-        high = edges[0] + math.ceil((bulk_high - edges[0]) / width) * width
+        stop = min(math.ceil((bulk_high - edges[0]) / width), len(counts))
+        high = edges[0] + stop * width
+        hidden_high = int(sum(counts[stop:]))
     if cut_low:
-        low = edges[0] + math.floor((bulk_low - edges[0]) / width) * width
+        start = max(math.floor((bulk_low - edges[0]) / width), 0)
+        low = edges[0] + start * width
+        hidden_low = int(sum(counts[:start]))
     return Window(
         low=low,
         high=high,
-        hidden_low=sum(1 for v in outliers.values if v < low) if cut_low else 0,
-        hidden_high=sum(1 for v in outliers.values if v > high) if cut_high else 0,
+        hidden_low=hidden_low,
+        hidden_high=hidden_high,
         lowest=spread.min,
         highest=spread.max,
     )

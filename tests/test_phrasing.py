@@ -349,3 +349,29 @@ def test_tell_prints_the_narrative(tmp_path, capsys):
     assert "Hyndman & Fan (1996)" in capsys.readouterr().out
     assert main(["tell", str(path), "--column", "hours", "--locale", "xx_NOWHERE"]) == 2
     assert "unknown locale" in capsys.readouterr().err
+
+
+def test_long_outlier_lists_show_the_farthest_out_and_words_cover_them_all():
+    # Generated data, checked against a direct numpy computation: more flagged values than the
+    # findings list, on both sides. The table shows the 50 farthest past their fences; the memo's
+    # counts and ranges cover every flagged value, not only the listed ones.
+    import numpy as np
+
+    from narrator.sample import Sample
+
+    rng = np.random.default_rng(8)
+    values = np.concatenate([rng.normal(50, 5, 20_000), rng.uniform(-900, -400, 1500), rng.uniform(400, 700, 3000)])
+    rows = np.arange(2, values.size + 2)
+    findings = describe(Sample(values=values, rows=rows, name="reading"), outlier_rule="tukey")
+    flagged = findings.outliers
+    low, high = values[values < flagged.lower_fence], values[values > flagged.upper_fence]
+    table = narrate(findings, "full").section("outliers").tables[0]
+    assert len(table.rows) == 50 and "50 farthest out of" in table.caption
+    beyond = np.concatenate([flagged.lower_fence - low, high - flagged.upper_fence])
+    expected = np.sort(np.concatenate([low, high])[np.argsort(-beyond, kind="stable")[:50]])
+    shown = [float(row[1].replace(",", "")) for row in table.rows]
+    assert shown == pytest.approx(expected.tolist(), abs=0.06)  # one decimal shown
+    memo = narrate(findings, "memo", locale="en_US").plain_text()
+    assert f"{low.size + high.size:,} values stand out" in memo
+    assert f"{low.size:,} low values ({low.min():,.1f} to {low.max():,.1f})" in memo
+    assert f"{high.size:,} high values ({high.min():,.1f} to {high.max():,.1f})" in memo

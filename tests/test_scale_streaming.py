@@ -290,3 +290,30 @@ def test_any_chunking_gives_the_in_memory_findings(tmp_path_factory, values, par
     memory = describe(read_column(whole, "x"), outlier_rule=rule)
     streamed = describe_source(open_source(folder, "x", chunk_rows=chunk), outlier_rule=rule).findings
     assert differences(memory, streamed) == []
+
+
+def test_many_flagged_values_are_listed_the_same_way_and_counted_in_full(tmp_path):
+    # More flagged values than findings list per side, with ties at the listing's cut: both engines
+    # must list the same farthest-out values with the same rows, and count and span all of them.
+    from narrator.findings import LISTED_PER_SIDE
+
+    rng = np.random.default_rng(SEED + 11)
+    values = np.concatenate([rng.normal(50, 5, 20_000), np.round(rng.uniform(-900, -400, 2500)),
+                             np.round(rng.uniform(400, 900, 3000))])
+    rng.shuffle(values)
+    whole = _write_parts(tmp_path / "many", "x", values, parts=4)
+    memory = describe(read_column(whole, "x"), outlier_rule="tukey")
+    streamed = describe_source(open_source(tmp_path / "many", "x", chunk_rows=777), outlier_rule="tukey").findings
+    assert differences(memory, streamed) == []
+    flagged = memory.outliers
+    low = values[values < flagged.lower_fence]
+    high = values[values > flagged.upper_fence]
+    assert (flagged.count_low, flagged.count_high) == (low.size, high.size)
+    assert low.size > LISTED_PER_SIDE and high.size > LISTED_PER_SIDE
+    assert flagged.listed_low == LISTED_PER_SIDE and len(flagged.values) == 2 * LISTED_PER_SIDE
+    assert not flagged.complete
+    assert flagged.low_range == (low.min(), low.max()) and flagged.high_range == (high.min(), high.max())
+    assert np.array_equal(flagged.low_values, np.sort(low)[:LISTED_PER_SIDE])
+    assert np.array_equal(flagged.high_values, np.sort(high)[-LISTED_PER_SIDE:])
+    assert streamed.outliers.rows == flagged.rows
+    assert memory.without_outliers.n == values.size - low.size - high.size

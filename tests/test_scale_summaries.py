@@ -23,6 +23,7 @@ from narrator.scale.summaries import (
     BinCounts,
     DistinctValues,
     ExtremeSummary,
+    FlaggedValues,
     LinearBinCounts,
     MomentSummary,
     PartitionCounts,
@@ -145,6 +146,30 @@ def test_tail_candidates_are_the_extremes():
     assert np.array_equal(tails.low_values, np.sort(values)[:10])
     assert np.array_equal(tails.high_values, np.sort(values)[::-1][:10])
     assert np.array_equal(values[tails.high_rows - 2], tails.high_values)
+
+
+def test_flagged_values_keep_the_farthest_out_per_side_in_any_chunking():
+    # Checked against numpy directly: counts, ranges and the k farthest out on each side, with ties
+    # (whole numbers repeat) resolved as the in-memory engine lists them (numpy.lexsort order).
+    rng = np.random.default_rng(RNG_SEED + 4)
+    values = np.round(rng.normal(0, 10, 6000))
+    rows = rng.permutation(np.arange(2, 6002))
+    test = ("fences", -12.0, 15.0)
+    whole = FlaggedValues(test, 1.0, k=7).update(values, rows)
+    parts = FlaggedValues(test, 1.0, k=7)
+    for chunk_values, chunk_rows in zip(np.array_split(values, 13), np.array_split(rows, 13), strict=True):
+        parts.merge(pickle.loads(pickle.dumps(FlaggedValues(test, 1.0, k=7).update(chunk_values, chunk_rows))))
+    low, high = values < -12.0, values > 15.0
+    order = np.lexsort((rows, values))
+    low_order, high_order = order[low[order]], order[high[order]]
+    for found in (whole, parts):
+        assert (found.count_low, found.count_high) == (low.sum(), high.sum())
+        assert found.low_max == values[low].max() and found.high_min == values[high].min()
+        assert np.array_equal(found.low_rows, rows[low_order[:7]])
+        assert np.array_equal(found.high_rows, rows[high_order[-7:]])
+        assert np.array_equal(found.low_values, values[low_order[:7]])
+        inside = central_moments(values[~(low | high)])
+        assert found.inside.moments().n == inside.n
 
 
 def test_partition_counts_give_exact_order_statistics():

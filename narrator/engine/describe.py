@@ -324,7 +324,7 @@ def describe(
         mean_shift=without.mean_change,
         sd_without=without.sd,
     )
-    lead_without = _lead_without(remaining, remaining_moments, bool(flagged.values), seed)
+    lead_without = _lead_without(remaining, remaining_moments, flagged.count > 0, seed)
     without = _replace_lead(without, lead_without, lead)
     without = _with_influence(without, sample, sorted_values, mean * factor, n)
 
@@ -403,6 +403,8 @@ def _rescale_outliers(flagged, factor: float):
         far_upper_fence=back(flagged.far_upper_fence),
         values=tuple(v * factor for v in flagged.values),
         far_out_values=tuple(v * factor for v in flagged.far_out_values),
+        low_range=None if flagged.low_range is None else tuple(v * factor for v in flagged.low_range),
+        high_range=None if flagged.high_range is None else tuple(v * factor for v in flagged.high_range),
     )
 
 
@@ -435,31 +437,23 @@ def _all_whole(sorted_values: np.ndarray) -> bool:
 
 
 def _remove_flagged(unit_values: np.ndarray, flagged, factor: float) -> np.ndarray:
-    """Sorted values with the flagged ones taken out (each flagged occurrence once).
+    """Sorted values with the flagged ones taken out: a slice of the sorted values.
 
     Every rule flags a lowest and a highest run of the sorted values (a fence, a score
-    threshold, or the ESD's removal from the ends), so the remaining values are normally a
-    slice, checked here value by value; any other pattern is removed occurrence by occurrence.
+    threshold, or the ESD's removal from the ends), so the flagged counts alone say where
+    the rest begins and ends; the listed extremes are checked against the slice's ends.
     """
-    flagged_values = flagged.values
-    if not flagged_values:
+    if not flagged.count:
         return unit_values
-    targets = np.asarray(flagged_values, dtype=float) / factor
     n = unit_values.size
     low_count, high_count = flagged.count_low, flagged.count_high
-    if (
-        low_count + high_count == targets.size
-        and np.array_equal(targets[:low_count], unit_values[:low_count])
-        and np.array_equal(targets[low_count:], unit_values[n - high_count :])
-    ):
-        return unit_values[low_count : n - high_count]
-    keep = np.ones(n, dtype=bool)
-    # Remove one occurrence per flag; equal flagged values sit side by side in sorted data.
-    values, counts = np.unique(targets, return_counts=True)
-    for value, count in zip(values, counts, strict=True):
-        start = int(np.searchsorted(unit_values, value, side="left"))
-        keep[start : start + int(count)] = False
-    return unit_values[keep]
+    low_listed = np.asarray(flagged.low_values, dtype=float) / factor
+    high_listed = np.asarray(flagged.high_values, dtype=float) / factor
+    ends = np.concatenate([unit_values[: low_listed.size], unit_values[n - high_listed.size :]])
+    if low_count + high_count > n or not np.allclose(ends, np.concatenate([low_listed, high_listed]),
+                                                     rtol=1e-12, atol=0.0):
+        raise NarratorError("internal: the flagged values are not the ends of the sorted values")
+    return unit_values[low_count : n - high_count]
 
 
 def _without_outliers(remaining, moments, factor, mean, median, sd, iqr) -> WithoutOutliers:

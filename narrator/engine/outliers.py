@@ -56,7 +56,7 @@ import numpy as np
 
 from narrator.engine.distributions import t_ppf
 from narrator.errors import NarratorError
-from narrator.findings import OUTLIER_RULES, Outliers
+from narrator.findings import LISTED_PER_SIDE, OUTLIER_RULES, Outliers
 
 MIN_VALUES = 4  # below this, no rule is run
 
@@ -386,9 +386,10 @@ def _two_pass(values: np.ndarray) -> tuple[float, float]:
 
 
 def _result(values, rows, low, high, far, choice, constants, *, fences, note) -> Outliers:
-    flagged = low | high
-    flagged_index = _ascending(values, flagged)
-    far_index = _ascending(values, far & flagged)
+    low_index = _ascending(values, low)
+    high_index = _ascending(values, high)
+    listed = np.concatenate([low_index[:LISTED_PER_SIDE], high_index[max(0, high_index.size - LISTED_PER_SIDE):]])
+    listed_far = listed[far[listed]]
     return Outliers(
         rule=choice["rule"],
         chosen_by=choice["chosen_by"],
@@ -398,15 +399,24 @@ def _result(values, rows, low, high, far, choice, constants, *, fences, note) ->
         upper_fence=_float_or_none(fences[1]),
         far_lower_fence=_float_or_none(fences[2]),
         far_upper_fence=_float_or_none(fences[3]),
-        count=int(flagged.sum()),
-        count_low=int(low.sum()),
-        count_high=int(high.sum()),
-        values=tuple(float(v) for v in values[flagged_index]),
-        rows=tuple(int(r) for r in rows[flagged_index]),
-        far_out_values=tuple(float(v) for v in values[far_index]),
-        far_out_rows=tuple(int(r) for r in rows[far_index]),
+        count=int(low_index.size + high_index.size),
+        count_low=int(low_index.size),
+        count_high=int(high_index.size),
+        values=tuple(float(v) for v in values[listed]),
+        rows=tuple(int(r) for r in rows[listed]),
+        far_out_values=tuple(float(v) for v in values[listed_far]),
+        far_out_rows=tuple(int(r) for r in rows[listed_far]),
         note=note,
+        listed_low=int(min(low_index.size, LISTED_PER_SIDE)),
+        low_range=_span(values, low_index),
+        high_range=_span(values, high_index),
     )
+
+
+def _span(values: np.ndarray, ascending_index: np.ndarray) -> tuple[float, float] | None:
+    if ascending_index.size == 0:
+        return None
+    return float(values[ascending_index[0]]), float(values[ascending_index[-1]])
 
 
 def _ascending(values: np.ndarray, mask: np.ndarray) -> np.ndarray:

@@ -107,14 +107,11 @@ def _why(ctx: WordingContext) -> Sentence | None:
     return ctx.sentence(key, ("center.median",), median=median)
 
 
-def _side_part(ctx: WordingContext, side: str, values: tuple[float, ...]) -> str:
-    """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; values ascending."""
-    if len(values) == 1:
-        span = ctx.memo_recorded(values[0])
-    else:
-        span = ctx.text("format.range", low=ctx.memo_recorded(values[0]), high=ctx.memo_recorded(values[-1]))
-    return ctx.text(f"memo.outliers.side_{side}", ctx.plural(len(values)),
-                    count=_count_word(ctx, len(values), "value"), span=span)
+def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, float]) -> str:
+    """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; span = (lowest, highest)."""
+    low, high = ctx.memo_recorded(span[0]), ctx.memo_recorded(span[1])
+    shown = low if low == high else ctx.text("format.range", low=low, high=high)
+    return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=_count_word(ctx, count, "value"), span=shown)
 
 
 def _count_word(ctx: WordingContext, n: int, noun: str) -> str:
@@ -132,15 +129,13 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
         return [ctx.sentence("memo.outliers.none", ("outliers.count",))]
     values = {
         "outlier_count": ctx.count(flagged.count, "value"),
-        "lowest": ctx.memo_recorded(min(flagged.values)),
-        "highest": ctx.memo_recorded(max(flagged.values)),
+        "lowest": ctx.memo_recorded((flagged.low_range or flagged.high_range)[0]),
+        "highest": ctx.memo_recorded((flagged.high_range or flagged.low_range)[1]),
     }
-    keys = ("outliers.count", "outliers.values")
+    keys = ("outliers.count", "outliers.low_range", "outliers.high_range")
     if flagged.count_low and flagged.count_high:
-        low_values = flagged.values[: flagged.count_low]
-        high_values = flagged.values[flagged.count_low :]
-        values["low_part"] = _side_part(ctx, "low", low_values)
-        values["high_part"] = _side_part(ctx, "high", high_values)
+        values["low_part"] = _side_part(ctx, "low", flagged.count_low, flagged.low_range)
+        values["high_part"] = _side_part(ctx, "high", flagged.count_high, flagged.high_range)
         sentences = [ctx.sentence("memo.outliers.both", keys, **values)]
     else:
         side = "high" if flagged.count_high else "low"

@@ -88,13 +88,13 @@ def outliers_table(ctx: WordingContext) -> Table | None:
     if flagged is None or flagged.count == 0:
         return None
     key = "tables.outliers"
-    upper = flagged.upper_fence
     far = set(zip(flagged.far_out_rows, flagged.far_out_values, strict=False))
     # Identifiers appear only when the reader was asked to carry an id column.
     ids = tuple(flagged.ids) if len(flagged.ids) == len(flagged.rows) else ()
     rows = []
-    for index, (value, row) in enumerate(list(zip(flagged.values, flagged.rows, strict=False))[:OUTLIER_ROWS_SHOWN]):
-        high = value > upper if upper is not None else value > ctx.findings.center.median
+    for index in _farthest_out(flagged, OUTLIER_ROWS_SHOWN):
+        value, row = flagged.values[index], flagged.rows[index]
+        high = index >= flagged.listed_low
         rows.append((
             *((ids[index],) if ids else ()),
             ctx.whole(row),
@@ -104,7 +104,7 @@ def outliers_table(ctx: WordingContext) -> Table | None:
         ))
     rule = ctx.text(f"words.outlier_rule.{flagged.rule}")
     if flagged.count > OUTLIER_ROWS_SHOWN:
-        caption = ctx.caption(f"{key}.caption_first", rule=rule, shown=ctx.whole(OUTLIER_ROWS_SHOWN),
+        caption = ctx.caption(f"{key}.caption_farthest", rule=rule, shown=ctx.whole(OUTLIER_ROWS_SHOWN),
                            total=ctx.whole(flagged.count))
     else:
         caption = ctx.caption(f"{key}.caption", rule=rule)
@@ -117,6 +117,34 @@ def outliers_table(ctx: WordingContext) -> Table | None:
         keys=("outliers.values", "outliers.rows", "outliers.far_out_values", *(("outliers.ids",) if ids else ())),
         align=(*(("left",) if ids else ()), "right", "right", "left", "left"),
     )
+
+
+def _farthest_out(flagged, limit: int) -> list[int]:
+    """Indices into the listed values of the ``limit`` farthest out, ascending by value.
+
+    Each side's listed values run from the farthest out inwards (the low side ascending, the high
+    side descending), so the table takes from both sides in turn, nearest to its fence last.
+    """
+    low = list(range(flagged.listed_low))
+    high = list(range(len(flagged.values) - 1, flagged.listed_low - 1, -1))
+    if len(low) + len(high) <= limit:
+        return low + high[::-1]
+    def beyond(index: int) -> float:  # how far past its fence, in the data's units
+        value = flagged.values[index]
+        if index < flagged.listed_low:
+            return (flagged.lower_fence if flagged.lower_fence is not None else value) - value
+        return value - (flagged.upper_fence if flagged.upper_fence is not None else value)
+
+    chosen, i, j = [], 0, 0
+    while len(chosen) < limit:
+        take_low = j >= len(high) or (i < len(low) and beyond(low[i]) >= beyond(high[j]))
+        if take_low:
+            chosen.append(low[i])
+            i += 1
+        else:
+            chosen.append(high[j])
+            j += 1
+    return sorted(chosen)
 
 
 def with_without_table(ctx: WordingContext) -> Table | None:

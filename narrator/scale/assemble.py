@@ -110,7 +110,6 @@ from narrator.scale.summaries import (
 SKETCH_K = 8192  # normalized rank error about 0.04 % (99 % confidence), about 100 KB
 RESERVOIR_SIZE = robust.MEDCOUPLE_SUBSAMPLE_SIZE
 TAIL_COUNT = 200  # smallest and largest values kept for the figures
-FIGURE_FLAGGED_LIMIT = 20_000  # flagged values the figure sample carries at most
 # Merged sums (moments, means, binned counts) agree with one-pass sums to about this relative error:
 # a few units of 2^-52 per merge level, with a wide allowance (our own stated bound, checked in tests).
 MERGED_RELATIVE_ERROR = 1e-12
@@ -367,10 +366,8 @@ def describe_source(
     fourth = reader.run(fourth_parts) if fourth_parts else None
     if fourth is not None and "order" in fourth.parts:
         statistics.add(fourth["order"])
-    flagged_values = fourth["flagged"].values if test is not None else np.zeros(0)
-    flagged_rows = fourth["flagged"].rows if test is not None else np.zeros(0, dtype=np.int64)
-    flagged = _outliers(rule_choice, constants, fences, note, factor, flagged_values, flagged_rows,
-                        fourth["flagged"] if test is not None else None)
+    flagged_part = fourth["flagged"] if test is not None else None
+    flagged = _outliers(rule_choice, constants, fences, note, factor, flagged_part)
 
     count_low, count_high = flagged.count_low, flagged.count_high
     m = n - count_low - count_high
@@ -385,7 +382,8 @@ def describe_source(
     lead, lead_reasons = choose_lead(clearly_skewed=clearly_skewed,
                                      several_peaks=shape.label in ("bimodal", "multimodal"),
                                      mean_shift=without.mean_change, sd_without=without.sd)
-    lead_without = _lead_without(m, rest_moments, rest_value, flagged, reservoir, factor, whole_reservoir, seed)
+    lead_without = _lead_without(m, rest_moments, rest_value, flagged_part, reservoir, factor, whole_reservoir,
+                                 seed)
     if lead_without is None:
         without = _replace(without, lead_without=lead, lead_would_change=False)
     else:
@@ -455,15 +453,12 @@ def _account(source: ColumnSource, first: Pass, name: str | None, unit: str | No
 
 
 def _figure_sample(account: Sample, first: Pass, flagged: Outliers) -> Sample:
-    """The reservoir, the extreme values and (up to a limit) the flagged values, in row order."""
+    """The reservoir, the extreme values and the listed flagged values, in row order."""
     reservoir: ReservoirSample = first["reservoir"]
     tails: TailCandidates = first["tails"]
     values = np.concatenate([reservoir.values, tails.low_values, tails.high_values,
-                             np.asarray(flagged.values[:FIGURE_FLAGGED_LIMIT // 2] +
-                                        flagged.values[-FIGURE_FLAGGED_LIMIT // 2:], dtype=np.float64)])
-    rows = np.concatenate([reservoir.rows, tails.low_rows, tails.high_rows,
-                           np.asarray(flagged.rows[:FIGURE_FLAGGED_LIMIT // 2] +
-                                      flagged.rows[-FIGURE_FLAGGED_LIMIT // 2:], dtype=np.int64)])
+                             np.asarray(flagged.values, dtype=np.float64)])
+    rows = np.concatenate([reservoir.rows, tails.low_rows, tails.high_rows, np.asarray(flagged.rows, dtype=np.int64)])
     rows, first_at = np.unique(rows, return_index=True)
     return replace(account, values=values[first_at], rows=rows)
 
@@ -615,27 +610,27 @@ def _outlier_test(rule, n, *, q1, median, q3, mad, medcouple, reader: _Reader, f
     return ("score", median, scale, threshold), constants, fences, note
 
 
-def _outliers(choice, constants, fences, note, factor, values, rows, flagged_part) -> Outliers:
+def _outliers(choice, constants, fences, note, factor, part: FlaggedValues | None) -> Outliers:
     def back(value):
         return None if value is None else value * factor
 
-    order = np.lexsort((rows, values))
-    values, rows = values[order], rows[order]
-    if flagged_part is not None and values.size:
-        low, high = flagged_part.sides(values)
-    else:
-        low = high = np.zeros(values.size, dtype=bool)
+    if part is None:
+        part = FlaggedValues(("fences", -math.inf, math.inf), factor)
+    values = np.concatenate([part.low_values, part.high_values])
+    rows = np.concatenate([part.low_rows, part.high_rows])
     far = np.zeros(values.size, dtype=bool)
     if fences[2] is not None:
         units = values / factor
         far = (units < fences[2]) | (units > fences[3])
+    low_range = (float(part.low_values[0]), part.low_max) if part.count_low else None
+    high_range = (part.high_min, float(part.high_values[-1])) if part.count_high else None
     return Outliers(
         rule=choice[0], chosen_by=choice[1], auto_reason=choice[2], constants=constants,
         lower_fence=back(fences[0]), upper_fence=back(fences[1]), far_lower_fence=back(fences[2]),
-        far_upper_fence=back(fences[3]), count=int(values.size), count_low=int(low.sum()),
-        count_high=int(high.sum()), values=tuple(float(v) for v in values), rows=tuple(int(r) for r in rows),
+        far_upper_fence=back(fences[3]), count=part.count_low + part.count_high, count_low=part.count_low,
+        count_high=part.count_high, values=tuple(float(v) for v in values), rows=tuple(int(r) for r in rows),
         far_out_values=tuple(float(v) for v in values[far]), far_out_rows=tuple(int(r) for r in rows[far]),
-        note=note)
+        note=note, listed_low=int(part.low_values.size), low_range=low_range, high_range=high_range)
 
 
 def _rest_ranks(m: int, count_low: int) -> list[int]:
@@ -710,13 +705,15 @@ def _replace(without: WithoutOutliers, **changes) -> WithoutOutliers:
     return replace(without, **changes)
 
 
-def _lead_without(m, moments, value_at, flagged: Outliers, reservoir: ReservoirSample, factor, whole, seed):
+def _lead_without(m, moments, value_at, flagged: FlaggedValues | None, reservoir: ReservoirSample, factor, whole,
+                  seed):
     """The lead the same rule would choose without the flagged values (as the in-memory engine)."""
-    if not flagged.values:
+    if flagged is None or not (flagged.count_low or flagged.count_high):
         return None
     if m < MIN_FOR_SHAPE or value_at(m - 1) == value_at(0):
         return "mean" if m else None
-    keep = ~np.isin(reservoir.rows, np.asarray(flagged.rows, dtype=np.int64))
+    low, high = flagged.sides(reservoir.values)
+    keep = ~(low | high)
     rest = np.sort(reservoir.values[keep]) / factor
     medcouple_value, medcouple_method = _medcouple(rest, whole, seed)
     g1, g1_se = skewness_g1(moments)

@@ -51,6 +51,7 @@ import numpy as np
 
 from narrator.engine.moments import Moments, central_moments
 from narrator.errors import NarratorError
+from narrator.findings import LISTED_PER_SIDE
 
 # The reservoir's hash: SplitMix64 (Steele, Lea & Flood 2014), a bijection of 64-bit integers whose
 # output bits pass standard randomness tests; keying a value by the hash of its row and the seed
@@ -821,20 +822,31 @@ class LinearBinCounts:
 
 
 class FlaggedValues:
-    """Values an outlier rule flags, with their rows, and the moments of the values it keeps.
+    """Values an outlier rule flags: counts, ranges and the farthest out with their rows, per side.
 
     The rule's test runs on x / ``factor`` (the in-memory engine's scaled units), as the engine runs
     it: ``("fences", lower, upper)`` flags x / factor < lower or > upper; ``("score", centre, scale,
-    threshold)`` flags (x / factor - centre) / scale < -threshold or > threshold.
+    threshold)`` flags (x / factor - centre) / scale < -threshold or > threshold. Each side keeps its
+    ``k`` values farthest out (as the in-memory engine lists them: the lowest low values with ties
+    in row order, the highest high values with ties going to the later rows), so memory is bounded
+    however many values are flagged; the moments of the values kept inside are merged as well.
     """
 
-    __slots__ = ("test", "factor", "values", "rows", "inside")
+    __slots__ = ("test", "factor", "k", "low_values", "low_rows", "high_values", "high_rows", "count_low",
+                 "count_high", "low_max", "high_min", "inside")
 
-    def __init__(self, test: tuple, factor: float) -> None:
+    def __init__(self, test: tuple, factor: float, k: int = LISTED_PER_SIDE) -> None:
         self.test = tuple(test)
         self.factor = factor
-        self.values = np.zeros(0)
-        self.rows = np.zeros(0, dtype=np.int64)
+        self.k = int(k)
+        self.low_values = np.zeros(0)
+        self.low_rows = np.zeros(0, dtype=np.int64)
+        self.high_values = np.zeros(0)
+        self.high_rows = np.zeros(0, dtype=np.int64)
+        self.count_low = 0
+        self.count_high = 0
+        self.low_max = -math.inf  # the highest low-side value
+        self.high_min = math.inf  # the lowest high-side value
         self.inside = ScaledMoments(factor)
 
     def sides(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -846,30 +858,51 @@ class FlaggedValues:
         score = (units - centre) / scale
         return score < -threshold, score > threshold
 
+    def _keep(self, low_values, low_rows, high_values, high_rows) -> None:
+        order = np.lexsort((low_rows, low_values))[: self.k]
+        self.low_values, self.low_rows = low_values[order], low_rows[order]
+        order = np.lexsort((-high_rows, -high_values))[: self.k][::-1]
+        self.high_values, self.high_rows = high_values[order], high_rows[order]
+
     def update(self, values: np.ndarray, rows: np.ndarray) -> FlaggedValues:
         low, high = self.sides(values)
         outside = low | high
-        if outside.any():
-            self.values = np.concatenate([self.values, values[outside]])
-            self.rows = np.concatenate([self.rows, rows[outside]])
-            self.inside.update(values[~outside])
-        else:
+        if not outside.any():
             self.inside.update(values)
+            return self
+        self.inside.update(values[~outside])
+        low_values, high_values = values[low], values[high]
+        if low_values.size:
+            self.count_low += int(low_values.size)
+            self.low_max = max(self.low_max, float(low_values.max()))
+        if high_values.size:
+            self.count_high += int(high_values.size)
+            self.high_min = min(self.high_min, float(high_values.min()))
+        self._keep(np.concatenate([self.low_values, low_values]), np.concatenate([self.low_rows, rows[low]]),
+                   np.concatenate([self.high_values, high_values]), np.concatenate([self.high_rows, rows[high]]))
         return self
 
     def merge(self, other: FlaggedValues) -> FlaggedValues:
-        self.values = np.concatenate([self.values, other.values])
-        self.rows = np.concatenate([self.rows, other.rows])
+        self.count_low += other.count_low
+        self.count_high += other.count_high
+        self.low_max = max(self.low_max, other.low_max)
+        self.high_min = min(self.high_min, other.high_min)
+        self._keep(np.concatenate([self.low_values, other.low_values]),
+                   np.concatenate([self.low_rows, other.low_rows]),
+                   np.concatenate([self.high_values, other.high_values]),
+                   np.concatenate([self.high_rows, other.high_rows]))
         self.inside.merge(other.inside)
         return self
 
     def __getstate__(self):
-        return (self.test, self.factor, self.values, self.rows, self.inside.__getstate__())
+        return (self.test, self.factor, self.k, self.low_values, self.low_rows, self.high_values, self.high_rows,
+                self.count_low, self.count_high, self.low_max, self.high_min, self.inside.__getstate__())
 
     def __setstate__(self, state) -> None:
-        self.test, self.factor, self.values, self.rows = state[:4]
+        (self.test, self.factor, self.k, self.low_values, self.low_rows, self.high_values, self.high_rows,
+         self.count_low, self.count_high, self.low_max, self.high_min) = state[:11]
         self.inside = ScaledMoments()
-        self.inside.__setstate__(state[4])
+        self.inside.__setstate__(state[11])
 
 
 class FarthestValue:
