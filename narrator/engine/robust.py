@@ -105,13 +105,16 @@ def medcouple(sorted_values: np.ndarray) -> float:
     that cannot hold the answer. Each round removes at least a quarter of the
     remaining entries, so there are O(log n) rounds. Memory is O(n).
 
-    Cost per round: the paper counts with a sequential two-pointer sweep, O(n)
-    but slow as a Python loop. Here the counts come from one vectorised binary
-    search (the kernel solved for the lower value), checked entry by entry with
-    the kernel itself, and the weighted median from a sort: O(n log n) work per
-    round inside numpy, so O(n log^2 n) in the worst case overall. The result
-    is exact either way: every comparison that decides the answer uses the
-    kernel value itself.
+    Cost per round is O(n): the paper counts with a sequential two-pointer sweep,
+    slow as a Python loop; here the kernel is solved for the lower value, which
+    gives one ascending threshold per row, and the counts come from one linear
+    merge of the thresholds with the lower values (a stable sort of two sorted
+    runs), checked entry by entry with the kernel itself; the weighted median
+    comes from a quickselect (O(n), not a sort). So the medcouple takes
+    O(n log n) time, the same order as the sort before it. Rows where rounding
+    or ties at the median make a count uncertain are bisected, which adds
+    O(log n) per such row. The result is exact: every comparison that decides
+    the answer uses the kernel value itself.
 
     ``sorted_values`` must be finite and sorted ascending. Constant data give 0.
     Values are rescaled by a power of two only when needed, which is exact, so
@@ -237,7 +240,9 @@ class _Kernel:
             return self.count_above(value, low, high, strict=True)
         threshold = self.upper * ((value - 1.0) / (value + 1.0))
         # -lower is ascending; the number of lower values > threshold is the insertion point of -threshold.
-        guess = np.clip(np.searchsorted(-self.lower, -threshold, side="left"), low, high)
+        # upper decreases and the multiplier is negative, so -threshold decreases: reversed, it is
+        # ascending, and the insertion points come from one linear merge.
+        guess = np.clip(_insertion_points(-self.lower, (-threshold)[::-1])[::-1], low, high)
         rows = np.arange(self.rows)
         last_column = self.columns - 1
         left_ok = (guess == low) | (self.at(rows, np.maximum(guess - 1, 0)) > value)
@@ -309,8 +314,51 @@ class _Kernel:
         rows = np.nonzero(left <= right)[0]
         medians = self.at(rows, (left[rows] + right[rows]) // 2)
         weights = right[rows] - left[rows] + 1
-        order = np.argsort(medians, kind="stable")
-        cumulative = np.cumsum(weights[order])
-        # Smallest median whose cumulative weight reaches half the total.
-        position = int(np.searchsorted(2 * cumulative, cumulative[-1], side="left"))
-        return float(medians[order][position])
+        return weighted_lower_median(medians, weights)
+
+
+def weighted_lower_median(values: np.ndarray, weights: np.ndarray) -> float:
+    """The smallest value whose cumulative weight (over values <= it) reaches half the total.
+
+    Quickselect on the values (numpy's introselect finds each pivot), keeping only the side that
+    holds the answer: the sizes halve, so the work is O(n) where sorting would be O(n log n).
+
+    >>> weighted_lower_median(np.array([3.0, 1.0, 2.0]), np.array([1, 1, 5]))
+    2.0
+    """
+    values = np.asarray(values, dtype=np.float64)
+    weights = np.asarray(weights)
+    total = int(weights.sum())
+    below = 0  # weight of the values already known to lie below the answer
+    while values.size > 64:
+        pivot = float(np.partition(values, values.size // 2)[values.size // 2])
+        less = values < pivot
+        weight_less = int(weights[less].sum())
+        if 2 * (below + weight_less) >= total:
+            values, weights = values[less], weights[less]
+            continue
+        equal = values == pivot
+        weight_equal = int(weights[equal].sum())
+        if 2 * (below + weight_less + weight_equal) >= total:
+            return pivot
+        below += weight_less + weight_equal
+        greater = ~(less | equal)
+        values, weights = values[greater], weights[greater]
+    order = np.argsort(values, kind="stable")
+    cumulative = below + np.cumsum(weights[order])
+    position = int(np.searchsorted(2 * cumulative, total, side="left"))
+    return float(values[order][position])
+
+
+def _insertion_points(haystack: np.ndarray, needles: np.ndarray) -> np.ndarray:
+    """``numpy.searchsorted(haystack, needles, side="left")`` for ascending needles, in linear time.
+
+    A stable sort of the needles followed by the haystack puts each needle before the equal
+    haystack values (side "left"); the stable sort (timsort) finds the two ascending runs and
+    merges them in one linear pass. A needle's place in the merge, less the needles before it
+    (its own index, the needles being ascending), is its insertion point.
+    """
+    merged = np.argsort(np.concatenate([needles, haystack]), kind="stable")
+    position = np.empty(merged.size, dtype=np.int64)
+    position[merged] = np.arange(merged.size)
+    return position[: needles.size] - np.arange(needles.size)

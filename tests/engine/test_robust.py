@@ -17,7 +17,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from statsmodels.stats.stattools import medcouple as statsmodels_medcouple
 
-from narrator.engine.robust import bowley_skewness, medcouple
+from narrator.engine.robust import _insertion_points, bowley_skewness, medcouple, weighted_lower_median
 from narrator.errors import NarratorError
 
 _MATRIX_VERSION = (
@@ -151,3 +151,26 @@ def test_bowley_skewness():
         bowley_skewness(3.0, 2.0, 1.0)
     with pytest.raises(NarratorError):
         bowley_skewness(1.0, float("nan"), 3.0)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.tuples(st.integers(-20, 20), st.integers(0, 9)), min_size=1, max_size=400))
+def test_weighted_median_by_selection_equals_the_sorted_definition(pairs):
+    # Reference: the definition computed with numpy's stable sort and cumulative sums.
+    values = np.array([float(v) for v, _ in pairs])
+    weights = np.array([w for _, w in pairs], dtype=np.int64)
+    if weights.sum() == 0:
+        weights[0] = 1
+    order = np.argsort(values, kind="stable")
+    cumulative = np.cumsum(weights[order])
+    expected = values[order][np.searchsorted(2 * cumulative, cumulative[-1], side="left")]
+    assert weighted_lower_median(values, weights) == expected
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.integers(-50, 50), max_size=300), st.lists(st.integers(-60, 60), max_size=300))
+def test_linear_merge_insertion_points_equal_numpy_searchsorted(haystack, needles):
+    # Reference: numpy.searchsorted(side="left"); ties between needles and haystack values included.
+    haystack = np.sort(np.array(haystack, dtype=float))
+    found = np.sort(np.array(needles, dtype=float))
+    assert np.array_equal(_insertion_points(haystack, found), np.searchsorted(haystack, found, side="left"))
