@@ -1,5 +1,5 @@
 """``python -m narrator`` runs the command line."""
 
-from narrator.cli import main
+from narrator.cli import run
 
-raise SystemExit(main())
+run()

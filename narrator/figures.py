@@ -45,7 +45,6 @@ from __future__ import annotations
 import io
 import math
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
 
 import numpy as np
 from matplotlib import ticker
@@ -64,6 +63,7 @@ from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.phrasing.narrative import FigureText, Narrative
 from narrator.phrasing.numbers import NumberFormatter
+from narrator.rendered import RenderedFigure
 from narrator.sample import Sample
 from narrator.view import histogram_window
 
@@ -120,23 +120,6 @@ OPTIONAL_LABEL_KEYS: Mapping[str, tuple[str, ...]] = {
     "with_without": ("x", "y", "flagged", "kept"),  # the value axis takes "x", else "y"
     "bin_sensitivity": (),  # no count axis: the panels show where peaks are, not counts
 }
-
-
-@dataclass(frozen=True, slots=True)
-class RenderedFigure:
-    """One finished figure: PNG bytes, its pixel size, and the texts the report shows with it."""
-
-    key: str
-    png: bytes
-    width_px: int
-    height_px: int
-    caption: str
-    alt_text: str
-
-    @property
-    def aspect(self) -> float:
-        """Height over width, for placing the picture at a chosen width."""
-        return self.height_px / self.width_px
 
 
 # --------------------------------------------------------------------------- public

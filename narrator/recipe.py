@@ -506,7 +506,7 @@ def _previous_findings(report_path: Path):
     a damaged file does not make "what changed" quietly disappear.
     """
     from narrator.findings_set import loads_any
-    from narrator.writer import sidecar_path
+    from narrator.safe_io import sidecar_path
 
     sidecar = sidecar_path(report_path)
     if not sidecar.is_file():

@@ -30,7 +30,6 @@ from babel.dates import format_date
 
 from narrator.changes import baseline_for, compare, findings_pair, sidecar_payload
 from narrator.errors import NarratorError
-from narrator.figures import render_figures
 from narrator.findings import Findings
 from narrator.findings_set import is_set
 from narrator.phrasing import narrate
@@ -38,13 +37,15 @@ from narrator.phrasing.bank import PhraseBank, load_bank
 from narrator.phrasing.changes import changes_section
 from narrator.phrasing.narrative import Narrative
 from narrator.phrasing.numbers import NumberFormatter, parse_locale
+from narrator.safe_io import sidecar_path
 from narrator.sample import Sample
-from narrator.writer import ReportFrame, sidecar_path, write_report
 
 if TYPE_CHECKING:
     from narrator.collection import Collection
-    from narrator.figures import RenderedFigure
+    from narrator.drawing import DrawingHelper
     from narrator.findings_set import FindingsSet
+    from narrator.rendered import RenderedFigure
+    from narrator.writer import ReportFrame
 
 # Reading options kept in Sample.source that a reader needs to read the file
 # the same way again; the other source entries are diagnostics, not settings.
@@ -120,18 +121,24 @@ def report_from_findings(
     template: str | os.PathLike[str] | None = None,
     author: str | None = None,
     generated_at: dt.datetime | None = None,
+    drawing: DrawingHelper | None = None,
 ) -> ReportOutcome:
     """Narrate ``findings`` for the audience, draw the figures, write report and sidecar.
 
     The document's author property is ``author``, else ``organisation``, else
-    empty: never the operating-system user.
+    empty: never the operating-system user. A started :class:`~narrator.drawing.DrawingHelper`
+    draws the figures in its own process (the same figures); without one, or if it fails,
+    they are drawn here.
     """
     moment = generation_time(generated_at)
     narrative = narrate(findings, audience, locale, currency=currency, title=title)
     baseline = _single_baseline(findings, output)
     if baseline is not None:
         narrative = _with_changes_section(narrative, baseline, findings, locale=locale, currency=currency)
-    figures = render_figures(findings, sample, narrative, locale=locale)
+    if drawing is not None:
+        drawing.send(findings, sample, narrative, locale=locale)  # drawn there while the rest is prepared here
+    from narrator.writer import write_report
+
     bank = load_bank(parse_locale(locale).language)
     report_settings = {
         "audience": audience,
@@ -151,10 +158,15 @@ def report_from_findings(
         "author": author or organisation or "",
         "keywords": ", ".join(part for part in (findings.variable.name, audience) if part),
     }
+    sidecar_text = json.dumps(sidecar_payload(findings, baseline), indent=2, ensure_ascii=False, allow_nan=False)
+    figures = drawing.collect() if drawing is not None else None
+    if figures is None:
+        from narrator.figures import render_figures
+
+        figures = render_figures(findings, sample, narrative, locale=locale)
     sidecar = write_report(
         output, narrative, figures, findings=findings, frame=frame, properties=properties,
-        generated_at=moment, template=template, protect=(input_path,),
-        sidecar_text=json.dumps(sidecar_payload(findings, baseline), indent=2, ensure_ascii=False, allow_nan=False),
+        generated_at=moment, template=template, protect=(input_path,), sidecar_text=sidecar_text,
     )
     return ReportOutcome(Path(output), sidecar, findings, narrative, moment)
 
@@ -246,6 +258,8 @@ def report_frame(
         rows.append((bank.format("report.setting", name=name), value))
     rows.append((bank.format("report.generated"), generated_at.strftime("%Y-%m-%dT%H:%M:%SZ")))
 
+    from narrator.writer import ReportFrame
+
     return ReportFrame(
         details=details,
         figure_number=bank.format("report.figure_number", number="{number}"),
@@ -321,6 +335,8 @@ def report_from_collection(
         "keywords": ", ".join(part for part in (*names, collection.group_by, audience) if part),
     }
     announce("writing the report")
+    from narrator.writer import write_report
+
     sidecar = write_report(
         output, narrative, figures, findings=None, frame=frame, properties=properties,
         generated_at=moment, template=template, protect=(input_path,), sidecar_text=dumps_set(findings_set) + "\n",

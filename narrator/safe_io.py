@@ -6,6 +6,7 @@ Name                           What it does
 :func:`atomic_write_bytes`     write bytes through a temporary file + rename
 :func:`atomic_write_text`      the same for text (UTF-8)
 :func:`refuse_same_file`       raise when an output path is one of the inputs
+:func:`sidecar_path`           where the findings sidecar of a report goes
 :data:`PAUSE_ENV`              test hook: seconds to pause before the rename
 =============================  ===============================================
 
@@ -128,3 +129,12 @@ def _sync_folder(folder: Path) -> None:
             os.fsync(descriptor)
         finally:
             os.close(descriptor)
+
+
+def sidecar_path(report_path: str | os.PathLike[str]) -> Path:
+    """Where the findings sidecar of a report goes: beside it, its suffix replaced.
+
+    >>> sidecar_path("out/waits.docx").as_posix()
+    'out/waits.findings.json'
+    """
+    return Path(report_path).with_suffix(".findings.json")

@@ -55,11 +55,11 @@ from docx.shared import Cm, Emu
 
 from narrator import findings as findings_module
 from narrator.errors import NarratorError
-from narrator.figures import RenderedFigure
 from narrator.findings import Findings
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
+from narrator.rendered import RenderedFigure
 from narrator.resources import template_file
-from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file
+from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
 
 STYLE_NAMES = {
     "title": "Title",
@@ -127,15 +127,6 @@ def xml_safe(text: object) -> str:
     """
     value = str(text).replace("\r\n", "\n").replace("\r", "\n")
     return _NOT_XML.sub("", value)
-
-
-def sidecar_path(report_path: str | os.PathLike[str]) -> Path:
-    """Where the findings sidecar of a report goes: beside it, its suffix replaced.
-
-    >>> sidecar_path("out/waits.docx").as_posix()
-    'out/waits.findings.json'
-    """
-    return Path(report_path).with_suffix(".findings.json")
 
 
 def default_template() -> bytes:

@@ -23,19 +23,23 @@ sensitivity and density from counts in :mod:`.pictures`.
 
 from __future__ import annotations
 
-from narrator.scale.assemble import ScaleResult, describe_source
-from narrator.scale.entry import ENGINES, choose_engine, describe_large
-from narrator.scale.sources import ColumnSource, is_large_input, open_source
-from narrator.scale.streaming import StreamRunner
+import importlib
+
+# Each name loads its module on first use (PEP 562), so choosing an engine for one file read in
+# memory costs no import of the passes; Dask loads only when a cluster is asked for.
+_HOMES = {
+    "ScaleResult": "assemble", "describe_source": "assemble",
+    "ENGINES": "entry", "choose_engine": "entry", "describe_large": "entry",
+    "ColumnSource": "sources", "is_large_input": "sources", "open_source": "sources",
+    "StreamRunner": "streaming", "DaskRunner": "distributed",
+}
 
 
 def __getattr__(name: str):
-    # Dask is imported only when a cluster is asked for: it adds seconds to start-up.
-    if name == "DaskRunner":
-        from narrator.scale.distributed import DaskRunner
-
-        return DaskRunner
-    raise AttributeError(name)
+    home = _HOMES.get(name)
+    if home is None:
+        raise AttributeError(f"module 'narrator.scale' has no attribute {name!r}")
+    return getattr(importlib.import_module(f"narrator.scale.{home}"), name)
 
 
 __all__ = ["ENGINES", "ColumnSource", "DaskRunner", "ScaleResult", "StreamRunner", "choose_engine",
