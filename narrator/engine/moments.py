@@ -23,7 +23,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import special
 
 QUANTILE_METHOD = "hyndman-fan-7"
 
@@ -269,5 +268,5 @@ def skewness_test(moments: Moments) -> tuple[float | None, float | None]:
     alpha = math.sqrt(2.0 / (w2 - 1))
     ratio = y / alpha
     z = delta * math.log(ratio + math.sqrt(ratio * ratio + 1))
-    p = float(special.erfc(abs(z) / math.sqrt(2)))
+    p = math.erfc(abs(z) / math.sqrt(2))
     return z, p
