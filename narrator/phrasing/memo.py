@@ -117,7 +117,9 @@ def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, fl
 def _count_word(ctx: WordingContext, n: int, noun: str) -> str:
     """The count alone, spelled out when small, agreeing with the noun's gender (es: "un valor")."""
     bank = ctx.bank
-    return bank.number_word(n, bank.noun(noun).gender) if 0 <= n <= bank.spell_out_max else ctx.whole(n)
+    if 0 <= n <= bank.spell_out_max:
+        return bank.number_word(n, bank.noun(noun).gender)
+    return ctx.fmt.compact(n) if n >= 1_000_000 else ctx.whole(n)  # as NumberFormatter.count words it
 
 
 def _outliers(ctx: WordingContext) -> list[Sentence]:
