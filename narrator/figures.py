@@ -288,6 +288,13 @@ def _draw_with_and_without(
 
     low = float(values.min()) if values.size else 0.0
     high = float(values.max()) if values.size else 1.0
+    window = histogram_window(findings)
+    if window is not None:  # the bulk, as the histogram shows it; the words by the edge say what lies beyond
+        low, high = window.low, window.high
+        for key, x, align in (("beyond_high", 0.995, "right"), ("beyond_low", 0.005, "left")):
+            if labels.get(key):
+                strip.text(x, 0.98, labels[key], transform=strip.transAxes, ha=align, va="top",
+                           fontproperties=_font(SMALL_FONT_SIZE), color=FLAGGED_COLOUR, zorder=6)
     strip.set_xlim(_padded(low, high, 0.03))
     if values.size <= MARKER_LIMIT:
         jitter = _spread_positions(kept.size)

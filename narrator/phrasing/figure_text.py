@@ -49,22 +49,31 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
     caption = ctx.caption("figures.histogram.caption", **values)
     alt_text = ctx.text("figures.histogram.alt", **values)
     labels = _labels(ctx, "histogram", ("x", "y", "mean", "median", "density"))
-    window = histogram_window(findings)
-    if window is not None:
-        # A few far-out values would squeeze the bulk into a corner: the figure shows the bulk
-        # and says, on the figure and here, what lies beyond its edge.
-        for side, hidden, edge, extreme, field in (
-            ("high", window.hidden_high, window.high, window.highest, "max"),
-            ("low", window.hidden_low, window.low, window.lowest, "min"),
-        ):
-            if not hidden:
-                continue
-            words = {"count": ctx.count(hidden, "value"), field: ctx.memo_recorded(extreme), "edge": ctx.memo(edge)}
-            labels[f"beyond_{side}"] = ctx.text(f"figures.histogram.beyond_{side}", **words)
-            sentence = ctx.text(f"figures.histogram.caption_beyond_{side}", **words)
-            caption = f"{caption} {sentence}"
-            alt_text = f"{alt_text} {sentence}"
+    caption, alt_text = _beyond_the_window(ctx, labels, caption, alt_text)
     return FigureText(key="histogram", caption=caption, alt_text=alt_text, labels=labels)
+
+
+def _beyond_the_window(ctx: WordingContext, labels: dict[str, str], caption: str, alt_text: str) -> tuple[str, str]:
+    """Words for a value axis focused on the bulk (narrator.view): labels by the edge, and caption sentences.
+
+    A few far-out values would squeeze the bulk into a corner: the figures with a value axis
+    show the bulk and say, on the figure and in the caption, what lies beyond the edge.
+    """
+    window = histogram_window(ctx.findings)
+    if window is None:
+        return caption, alt_text
+    for side, hidden, edge, extreme, field in (
+        ("high", window.hidden_high, window.high, window.highest, "max"),
+        ("low", window.hidden_low, window.low, window.lowest, "min"),
+    ):
+        if not hidden:
+            continue
+        words = {"count": ctx.count(hidden, "value"), field: ctx.memo_recorded(extreme), "edge": ctx.memo(edge)}
+        labels[f"beyond_{side}"] = ctx.text(f"figures.histogram.beyond_{side}", **words)
+        sentence = ctx.text(f"figures.histogram.caption_beyond_{side}", **words)
+        caption = f"{caption} {sentence}"
+        alt_text = f"{alt_text} {sentence}"
+    return caption, alt_text
 
 
 def dotplot_text(ctx: WordingContext) -> FigureText | None:
@@ -107,12 +116,10 @@ def with_without_text(ctx: WordingContext) -> FigureText | None:
         "mean_without": ctx.exact(without.mean),
         "median_without": ctx.exact(without.median),
     }
-    return FigureText(
-        key="with_without",
-        caption=ctx.caption("figures.with_without.caption", **values),
-        alt_text=ctx.text("figures.with_without.alt", **values),
-        labels=_labels(ctx, "with_without", ("x", "y", "all", "without", "mean", "median")),
-    )
+    labels = _labels(ctx, "with_without", ("x", "y", "all", "without", "mean", "median"))
+    caption, alt_text = _beyond_the_window(ctx, labels, ctx.caption("figures.with_without.caption", **values),
+                                           ctx.text("figures.with_without.alt", **values))
+    return FigureText(key="with_without", caption=caption, alt_text=alt_text, labels=labels)
 
 
 def bin_sensitivity_text(ctx: WordingContext) -> FigureText | None:
