@@ -151,6 +151,9 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
 
     labels = _labels(text, "histogram")
     plan = _require(findings.histogram, "histogram", "a bin plan")
+    # Far-out values would squeeze the bulk: the engine's focused plan bins the bulk at the rule's width.
+    plan = findings.histogram_focus or plan
+    curve_of = findings.density_focus if findings.histogram_focus is not None else findings.density
     center = _require(findings.center, "histogram", "a mean and median")
     numbers = NumberFormatter(locale)
     edges = np.asarray(plan.edges, dtype=float)
@@ -160,11 +163,12 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     _add_bars(ax, edges, counts, linewidth=0.6 if counts.size <= 120 else 0.0)
     ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
     top = float(counts.max()) if counts.size else 1.0
-    if findings.density is not None and findings.density.grid:
-        grid = np.asarray(findings.density.grid, dtype=float)
-        curve = np.asarray(findings.density.values, dtype=float) * findings.n * plan.width
+    if curve_of is not None and curve_of.grid:
+        grid = np.asarray(curve_of.grid, dtype=float)
+        curve = np.asarray(curve_of.values, dtype=float) * findings.n * plan.width
         ax.plot(grid, curve, color=CURVE, linewidth=1.5, zorder=3, solid_capstyle="round")
-        top = max(top, float(np.nanmax(curve)))
+        shown = (grid >= edges[0]) & (grid <= edges[-1])
+        top = max(top, float(np.nanmax(curve[shown] if shown.any() else curve)))
         if labels.get("density"):
             _label_curve(fig, ax, grid, curve, labels["density"], avoid=(center.mean, center.median))
     ax.set_ylim(0, top * 1.16 if top > 0 else 1)
@@ -708,9 +712,10 @@ def _spread_positions(count: int, phase: float = 0.0) -> np.ndarray:
 
 def _density_band(ax: Axes, findings: Findings, kept: np.ndarray) -> None:
     """A mirrored density band (the values' spread) for strips too large to draw one by one."""
-    if findings.density is not None and findings.density.grid:
-        grid = np.asarray(findings.density.grid, dtype=float)
-        height = np.asarray(findings.density.values, dtype=float)
+    curve_of = findings.density_focus or findings.density  # the focused curve when the axis shows the bulk
+    if curve_of is not None and curve_of.grid:
+        grid = np.asarray(curve_of.grid, dtype=float)
+        height = np.asarray(curve_of.values, dtype=float)
     else:
         counts, edges = np.histogram(kept, bins=200)
         grid = (edges[:-1] + edges[1:]) / 2

@@ -236,8 +236,11 @@ class HistogramPlan:
     counts: tuple[int, ...]
     integer_aligned: bool
     # reason code when the plan differs from the plain rule: "iqr_zero_used_scott",
-    # "too_few_for_doane_used_sturges", "bin_cap", "magnitude_resolution", "constant"
+    # "too_few_for_doane_used_sturges", "bin_cap", "magnitude_resolution", "constant"; "focus" for
+    # Findings.histogram_focus
     note: str | None = None
+    below: int = 0  # values below the first edge (only a focused plan leaves any out)
+    above: int = 0  # values at or above the last edge
 
 
 @dataclass(frozen=True, slots=True)
@@ -335,6 +338,12 @@ class Findings:
     provenance: dict[str, Any]
     # Set only by the engines for data larger than memory (narrator.scale); None in memory.
     accuracy: Accuracy | None = None
+    # The histogram figures draw when a few far-out values would squeeze the bulk of the data into
+    # a corner: bins of the rule's width over the bulk only, with the values beyond counted
+    # (narrator.engine.bins.focus_layout). None when every value fits comfortably.
+    histogram_focus: HistogramPlan | None = None
+    # The density curve over the same part of the axis (the same estimate, read on 512 points there).
+    density_focus: Density | None = None
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict; non-finite floats become None."""

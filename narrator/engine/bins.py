@@ -83,6 +83,7 @@ DEFAULT_WIDTH_FACTORS = (0.5, 1.0, 2.0)
 DEFAULT_OFFSETS = (0.0, 0.25, 0.5, 0.75)
 MAX_FINE_DIVISIONS = 64
 MAX_FINE_BINS = 2**24
+STRETCH_LIMIT = 0.5  # far-out values may widen the histogram's axis by at most half of the bulk's range
 
 
 def _as_values(values, what: str) -> np.ndarray:
@@ -212,6 +213,72 @@ def _sorted_ends(array: np.ndarray, what: str) -> tuple[float, float]:
 
 def _first_index(low: float, width: float, shift: float, tolerance: float) -> float:
     return float(math.floor((low - shift) / width + tolerance))
+
+
+def focus_layout(
+    plan: HistogramPlan, *, lowest: float, highest: float, far_lower: float | None, far_upper: float | None
+) -> tuple[float, float, int, float] | None:
+    """(width, first index, bins, shift) of a histogram over the bulk of the data, or None.
+
+    When values beyond the outlier rule's far-out fences would stretch the axis by more than
+    ``STRETCH_LIMIT`` of the bulk's range (the bulk: from the far-out fence, or the extreme value
+    when nothing lies beyond it, on each side), the figures show the bulk only. The full plan's
+    width was widened to keep its bins over the whole range within ``MAX_BINS``; over the bulk the
+    rule's own width is used (``plan.raw_width`` rounded to a nice width, at most ``MAX_BINS`` bins
+    over the bulk, never wider than the full plan's), on the same grid (edges at whole multiples
+    of the width, or half-integers for whole numbers). An edge at a cut side is the first grid
+    edge beyond the fence; on a side that is not cut every value is inside.
+    """
+    far_high = far_upper is not None and highest > far_upper
+    far_low = far_lower is not None and lowest < far_lower
+    if not (far_high or far_low):
+        return None
+    bulk_low = far_lower if far_low else lowest
+    bulk_high = far_upper if far_high else highest
+    bulk = bulk_high - bulk_low
+    if not bulk > 0:
+        return None
+    cut_high = far_high and (highest - bulk_high) > STRETCH_LIMIT * bulk
+    cut_low = far_low and (bulk_low - lowest) > STRETCH_LIMIT * bulk
+    if not (cut_high or cut_low):
+        return None
+    whole = plan.integer_aligned
+    shift = -0.5 if whole else 0.0
+    low_end = bulk_low if cut_low else lowest
+    high_end = bulk_high if cut_high else highest
+    raw = plan.raw_width if plan.raw_width > 0 else plan.width
+    width = _whole_width(raw) if whole else nice_width(raw)
+    if (high_end - low_end) / width > MAX_BINS:
+        width = _nice_at_least((high_end - low_end) / MAX_BINS, whole)
+    narrowest = max(abs(lowest), abs(highest)) * MAGNITUDE_RESOLUTION
+    if width < narrowest:
+        width = _nice_at_least(narrowest, whole)
+    width = min(width, plan.width)
+    first = math.floor((low_end - shift) / width)
+    stop = math.ceil((high_end - shift) / width) if cut_high else math.floor((high_end - shift) / width) + 1
+    return float(width), float(first), max(int(stop - first), 1), shift
+
+
+def focus_edges(layout: tuple[float, float, int, float]) -> np.ndarray:
+    """The edges of a :func:`focus_layout`."""
+    width, first, bins, shift = layout
+    return _edges(first, bins, width, shift)
+
+
+def focus_plan(plan: HistogramPlan, layout, counts: np.ndarray, below: int, above: int) -> HistogramPlan:
+    """The focused plan from its layout and its counts (values in [e_i, e_(i+1)), below, above)."""
+    width, _, _, _ = layout
+    return HistogramPlan(
+        rule=plan.rule, raw_width=plan.raw_width, width=width,
+        edges=tuple(float(e) for e in focus_edges(layout)), counts=tuple(int(c) for c in counts),
+        integer_aligned=plan.integer_aligned, note="focus", below=int(below), above=int(above),
+    )
+
+
+def focus_from_sorted(plan: HistogramPlan, layout, sorted_values: np.ndarray) -> HistogramPlan:
+    """:func:`focus_plan` counted in sorted values by binary search (half-open bins)."""
+    positions = np.searchsorted(sorted_values, focus_edges(layout), side="left")
+    return focus_plan(plan, layout, np.diff(positions), int(positions[0]), int(sorted_values.size - positions[-1]))
 
 
 def _edges(first_index: float, bins: int, width: float, shift: float) -> np.ndarray:

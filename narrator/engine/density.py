@@ -478,8 +478,12 @@ def estimate_density(
     sd: float | None = None,
     iqr: float | None = None,
     presorted: bool = False,
-) -> Density:
+    keep_fine: bool = False,
+) -> Density | tuple[Density, FineDensity]:
     """Gaussian kernel density estimate on a regular grid, with prominent peaks.
+
+    ``keep_fine=True`` returns ``(Density, FineDensity)``: the fine binned estimate as well, from
+    which :func:`curve_between` draws the curve over a part of the axis.
 
     f(t) = (1 / (n h)) sum_i phi((t - x_i) / h), computed by linear binning and
     FFT convolution (Wand 1994; Fan & Marron 1994) in O(n + m log m), reflected
@@ -557,7 +561,7 @@ def estimate_density(
     # Peaks are found in standard units, where f / h cannot underflow for huge magnitudes.
     peak_locations = find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)
     peaks = tuple(float(grid_data[np.searchsorted(grid, location)]) for location in peak_locations)
-    return Density(
+    result = Density(
         kernel="gaussian",
         bandwidth_rule=used_rule,
         bandwidth=float(width * units.unit),
@@ -570,6 +574,36 @@ def estimate_density(
         peaks=peaks,
         bandwidth_note=note,
     )
+    if keep_fine:
+        return result, FineDensity(units.centre, units.unit, fine_start, fine_step, fine_density, lower, upper, reach)
+    return result
+
+
+@dataclass(frozen=True, slots=True)
+class FineDensity:
+    """The fine binned density of :func:`estimate_density`, in standard units (t = (x - centre) / unit)."""
+
+    centre: float
+    unit: float
+    start: float
+    step: float
+    values: np.ndarray
+    lower: float | None  # reflecting bounds, standard units
+    upper: float | None
+    reach: float
+
+
+def curve_between(fine: FineDensity, low: float, high: float, grid_size: int = DEFAULT_GRID_SIZE):
+    """(grid, density) in data units on ``grid_size`` points from ``low`` to ``high``, read from the fine
+    estimate exactly as :func:`estimate_density` reads its own grid (reflections included)."""
+    grid = np.linspace((low - fine.centre) / fine.unit, (high - fine.centre) / fine.unit, grid_size)
+    fine_grid = fine.start + np.arange(fine.values.size) * fine.step
+    density_scaled = np.zeros(grid_size)
+    for sign, shift in _reflection_images(fine.lower, fine.upper, fine.reach):
+        density_scaled += np.interp(shift + sign * grid, fine_grid, fine.values, left=0.0, right=0.0)
+    grid_data = np.maximum.accumulate(np.clip(fine.centre + grid * fine.unit, low, high))
+    grid_data[0], grid_data[-1] = low, high
+    return grid_data, density_scaled / fine.unit
 
 
 def find_peaks(

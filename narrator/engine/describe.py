@@ -287,7 +287,7 @@ def describe(
 
     histogram_plan = None
     sensitivity = None
-    density_estimate = None
+    density_estimate = fine_density = None
     if has_spread:
         histogram_plan = bins.histogram_plan(
             sorted_values, rule=bin_rule, integer_valued=integer_valued, sd=sd * factor, iqr=iqr * factor,
@@ -297,7 +297,7 @@ def describe(
             sensitivity = bins.bin_sensitivity(
                 sorted_values, histogram_plan.width, integer_valued=integer_valued, presorted=True
             )
-        density_estimate = density.estimate_density(
+        density_estimate, fine_density = density.estimate_density(
             sorted_values,
             rule=bandwidth_rule,
             lower_bound=lower_bound,
@@ -305,6 +305,7 @@ def describe(
             sd=sd * factor,
             iqr=iqr * factor,
             presorted=True,
+            keep_fine=True,
         )
 
     shape = classify_shape(
@@ -401,6 +402,13 @@ def describe(
         sorted_values, population=population, level=level, seed=seed, skewness=g1, clearly_skewed=clearly_skewed
     )
     quality, _ = assess_quality(sample, sorted_values, iqr=iqr * factor, decimals=decimals)
+    histogram_focus = None
+    if histogram_plan is not None and flagged is not None:
+        layout = bins.focus_layout(histogram_plan, lowest=float(sorted_values[0]), highest=float(sorted_values[-1]),
+                                   far_lower=flagged.far_lower_fence, far_upper=flagged.far_upper_fence)
+        if layout is not None:
+            histogram_focus = bins.focus_from_sorted(histogram_plan, layout, sorted_values)
+    density_focus = density_focus_of(density_estimate, fine_density, histogram_focus)
     return Findings(
         schema_version=SCHEMA_VERSION,
         variable=variable,
@@ -417,7 +425,19 @@ def describe(
         quality=quality,
         options=options,
         provenance=provenance,
+        histogram_focus=histogram_focus,
+        density_focus=density_focus,
     )
+
+
+def density_focus_of(estimate, fine, focus):
+    """The density curve over the focused histogram's part of the axis (None without a focus)."""
+    if focus is None or estimate is None or fine is None:
+        return None
+    low, high = focus.edges[0], focus.edges[-1]
+    grid, values = density.curve_between(fine, low, high)
+    return replace(estimate, grid=tuple(float(t) for t in grid), values=tuple(float(v) for v in values),
+                   peaks=tuple(p for p in estimate.peaks if low <= p <= high))
 
 
 def _rescale_outliers(flagged, factor: float):

@@ -33,6 +33,7 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
     plan = findings.histogram
     if plan is None or findings.center is None or not plan.counts:
         return None
+    plan = findings.histogram_focus or plan  # the bins the figure draws
     top = max(range(len(plan.counts)), key=lambda i: (plan.counts[i], -i))
     values = {
         "name": ctx.name,

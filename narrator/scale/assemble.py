@@ -41,6 +41,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from narrator.engine import bins as engine_bins
 from narrator.engine import intervals, robust
 from narrator.engine import quality as engine_quality
 from narrator.engine.center import choose_lead, mean_pull
@@ -50,6 +51,7 @@ from narrator.engine.describe import (
     DEFAULT_SEED,
     MAD_NORMAL_SCALE,
     PERCENTILES,
+    density_focus_of,
     library_versions,
 )
 from narrator.engine.distributions import binomial_cdf, binomial_sf, t_ppf
@@ -92,6 +94,7 @@ from narrator.scale.summaries import (
     CodeCounts,
     DistanceCounts,
     DistinctValues,
+    EdgeCounts,
     ExcludingMoments,
     ExtremeSummary,
     FarthestValue,
@@ -337,13 +340,14 @@ def describe_source(
     third = reader.run(parts)
     mad = mad_plan.settle(third["mad"], reader)
 
-    histogram_plan = sensitivity = density_estimate = None
+    histogram_plan = sensitivity = density_estimate = fine_density = None
     if has_spread:
         histogram_plan = pictures.histogram_from_counts(histogram_layout, third["histogram"].counts)
         if sensitivity_layout is not None:
             sensitivity = pictures.sensitivity_from_counts(
                 sensitivity_layout, [third[f"sensitivity{k}"] for k in range(len(sensitivity_layout.counters))])
-        density_estimate = pictures.density_from_counts(density_layout, third["density"].counts)
+        density_estimate, fine_density = pictures.density_from_counts(density_layout, third["density"].counts,
+                                                                      keep_fine=True)
 
     shape = classify_shape(ShapeSignals(
         n=n, skewness=g1, skewness_se=g1_se, skewness_test_z=z, skewness_test_p=p, bowley=bowley,
@@ -363,9 +367,19 @@ def describe_source(
     farthest_needed, farthest = _farthest_plan(extremes, mean * factor, n)
     if farthest_needed:
         fourth_parts["farthest"] = FarthestValue(mean * factor)
+    focus = None
+    if histogram_plan is not None and fences[2] is not None:  # as describe: only far-out fences focus
+        focus = engine_bins.focus_layout(histogram_plan, lowest=low, highest=high, far_lower=fences[2] * factor,
+                                         far_upper=fences[3] * factor)
+        if focus is not None:
+            fourth_parts["focus"] = EdgeCounts(engine_bins.focus_edges(focus))
     fourth = reader.run(fourth_parts) if fourth_parts else None
     if fourth is not None and "order" in fourth.parts:
         statistics.add(fourth["order"])
+    histogram_focus = None
+    if focus is not None:
+        counts = fourth["focus"].counts
+        histogram_focus = engine_bins.focus_plan(histogram_plan, focus, counts[1:-1], int(counts[0]), int(counts[-1]))
     flagged_part = fourth["flagged"] if test is not None else None
     flagged = _outliers(rule_choice, constants, fences, note, factor, flagged_part)
 
@@ -419,7 +433,8 @@ def describe_source(
         spread=spread, shape=shape, outliers=flagged, without_outliers=without, intervals=interval_findings,
         histogram=histogram_plan, density=density_estimate, quality=quality, options=options,
         provenance=provenance,
-        accuracy=_accuracy(runner, first, n, approximate, seed, reservoir_size))
+        accuracy=_accuracy(runner, first, n, approximate, seed, reservoir_size), histogram_focus=histogram_focus,
+        density_focus=density_focus_of(density_estimate, fine_density, histogram_focus))
     return ScaleResult(findings, _figure_sample(account, first, flagged), reader.passes)
 
 
@@ -892,7 +907,8 @@ def _approximations(n, whole, reservoir: ReservoirSample, seed, flagged: Outlier
     depends = ["shape.label", "shape.strength", "shape.evidence", "shape.reasons", "center.lead",
                "center.lead_reasons", "without_outliers.lead_without", "without_outliers.lead_would_change"]
     if flagged.rule == "adjusted":  # the skew-adjusted fences stretch with the medcouple
-        depends = ["outliers", "without_outliers", *depends]
+        # The skew-adjusted fences stretch with the medcouple, and the focused histogram stops at a fence.
+        depends = ["outliers", "without_outliers", "histogram_focus", "density_focus", *depends]
     return (ApproximateFigure(figure="shape.medcouple", method=f"reservoir-subsample:{size}:{seed}",
                               bound=math.sqrt(MEDCOUPLE_VARIANCE_FACTOR / size), bound_kind="standard_error",
                               depends=tuple(depends)),)

@@ -274,8 +274,9 @@ def density_layout(
 
 
 def density_from_counts(layout: DensityLayout, counts: np.ndarray,
-                        grid_size: int = engine_density.DEFAULT_GRID_SIZE) -> Density:
-    """The rest of :func:`narrator.engine.density.estimate_density` once the values are binned."""
+                        grid_size: int = engine_density.DEFAULT_GRID_SIZE, keep_fine: bool = False):
+    """The rest of :func:`narrator.engine.density.estimate_density` once the values are binned
+    (with ``keep_fine``: ``(Density, FineDensity)``, as the engine's)."""
     n, width, unit, centre = layout.n, layout.width, layout.unit, layout.centre
     low, high = layout.low, layout.high
     lower_bound, upper_bound = layout.lower_bound, layout.upper_bound
@@ -311,10 +312,14 @@ def density_from_counts(layout: DensityLayout, counts: np.ndarray,
     density_data = density_scaled / unit
     peak_locations = engine_density.find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)
     peaks = tuple(float(grid_data[np.searchsorted(grid, location)]) for location in peak_locations)
-    return Density(
+    result = Density(
         kernel="gaussian", bandwidth_rule=layout.rule, bandwidth=float(width * unit), method="binned-fft",
         grid=tuple(float(t) for t in grid_data), values=tuple(float(v) for v in density_data),
         lower_bound=None if lower_bound is None else float(lower_bound),
         upper_bound=None if upper_bound is None else float(upper_bound),
         reflected=bool(reflected), peaks=peaks, bandwidth_note=layout.note,
     )
+    if keep_fine:
+        return result, engine_density.FineDensity(centre, unit, fine_start, fine_step, fine_density, lower, upper,
+                                                  reach)
+    return result

@@ -33,6 +33,8 @@ Name                         What it keeps
                              :mod:`narrator.engine.bins`)
 :class:`LinearBinCounts`     linear binning on a fixed grid (Wand 1994), additive
                              over chunks
+:class:`EdgeCounts`          counts in half-open bins between given edges, and
+                             beyond them (the histogram over the bulk)
 :class:`FlaggedValues`       values an outlier rule flags, with their rows, and
                              the moments of the values it keeps
 :class:`FarthestValue`       the first row of the largest distance from a centre
@@ -748,6 +750,33 @@ class RangeMean:
         self.low, self.high, self.factor, self.n, self.mean = state
 
 
+class EdgeCounts:
+    """Counts of values in [e_i, e_(i+1)) for given ascending edges, plus those below the first edge
+    and at or above the last: the half-open bins of :func:`narrator.engine.bins.focus_from_sorted`."""
+
+    __slots__ = ("edges", "counts")
+
+    def __init__(self, edges: np.ndarray) -> None:
+        self.edges = np.asarray(edges, dtype=np.float64)
+        self.counts = np.zeros(self.edges.size + 1, dtype=np.int64)  # below, bins..., above
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> EdgeCounts:
+        if values.size:
+            index = np.searchsorted(self.edges, values, side="right")
+            self.counts += np.bincount(index, minlength=self.counts.size)
+        return self
+
+    def merge(self, other: EdgeCounts) -> EdgeCounts:
+        self.counts += other.counts
+        return self
+
+    def __getstate__(self):
+        return (self.edges, self.counts)
+
+    def __setstate__(self, state) -> None:
+        self.edges, self.counts = state
+
+
 class BinCounts:
     """Counts per bin index floor((x / factor - shift) / width - first + tolerance), clipped to
     0..bins-1: the bin rule of :mod:`narrator.engine.bins`, value by value, so the counts equal the
@@ -948,6 +977,7 @@ __all__ = [
     "ExcludingMoments",
     "ExtremeSummary",
     "FarthestValue",
+    "EdgeCounts",
     "FlaggedValues",
     "LinearBinCounts",
     "MeanDistance",
