@@ -193,8 +193,9 @@ def test_partition_counts_give_exact_order_statistics():
     ordered = np.sort(values)
     for rank in ranks:
         assert statistics(rank) == ordered[rank]
-    # The kept values are few: the brackets are narrow (a few times the rank error each).
-    assert partition.kept_counts.sum() < 0.2 * n
+    # The kept values are few: each bracket spans 2 rank errors on each side of its target, and the
+    # (randomized) sketch may miss by one more at each end: at most 6 rank errors of n per rank.
+    assert partition.kept_counts.sum() <= len(ranks) * 6 * sketch.rank_error * n
     # numpy.quantile(method="linear") is Hyndman-Fan type 7.
     probabilities = [0.05, 0.25, 0.5, 0.75, 0.95]
     assert np.array_equal(type7_quantiles(statistics, n, probabilities),
