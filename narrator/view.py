@@ -2,9 +2,12 @@
 
 When a few far-out values (beyond the outlier rule's far-out fences) would
 stretch the axis so much that the bulk of the data is squeezed into a corner,
-the histogram shows the bulk and says, on the figure and in its caption, how
-many values lie beyond the edge and how far they reach. The figure and its
-words both ask this module, so they always agree.
+the engine bins the bulk at the rule's own width (``Findings.histogram_focus``,
+from :func:`narrator.engine.bins.focus_layout`, with the values beyond counted)
+and reads the density there (``Findings.density_focus``); the histogram and
+the with-and-without view show that part of the axis and say, on the figure
+and in the caption, how many values lie beyond the edge and how far they
+reach. The figures and their words both ask this module, so they always agree.
 """
 
 from __future__ import annotations

@@ -48,7 +48,8 @@ of a bin) counts in the bin the edge opens, so decimal data such as 0.3 land
 in the bin [0.3, 0.4) even though 3 * 0.1 is 0.30000000000000004 in binary.
 
 Visible peaks and bin sensitivity: see :func:`count_visible_peaks` and
-:func:`bin_sensitivity`.
+:func:`bin_sensitivity`. The histogram the figures draw when far-out values
+would squeeze the bulk (``Findings.histogram_focus``): see :func:`focus_layout`.
 """
 
 from __future__ import annotations
