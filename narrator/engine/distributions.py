@@ -27,9 +27,10 @@ Methods:
   beta function by its continued fraction (modified Lentz; Press et al., Numerical Recipes, 6.4).
   ``df`` = 1 and 2 have closed forms. Arrays of quantiles (the generalized ESD test asks for one
   per step) go to scipy.special.stdtrit, imported then.
-* Binomial probabilities: the probability of the term nearest the tail's start by Loader's (2000)
-  saddle-point formula (Stirling's series for the error terms and the deviance ``bd0``), as R's
-  dbinom computes it, accurate to about 1e-15 relative for any n; the tail is the sum of the terms
+* Binomial probabilities: the probability of the term nearest the tail's start, from the
+  definition for n up to 1000 and above that by Loader's (2000) saddle-point formula (Stirling's
+  series for the error terms and the deviance ``bd0``), as R's dbinom computes it, accurate to
+  about 1e-15 relative for any n; the tail is the sum of the terms
   outward from it, each from the one before by the ratio of consecutive terms (a cumulative
   product), until they no longer change the sum. The shorter tail is summed and the other one is
   1 minus it.
@@ -99,21 +100,15 @@ def _t_upper_isf(tail: float, df: float) -> float:
     if tail > 0.25:
         return _t_central(1.0 - 2.0 * tail, df, start)
     # Newton on log P(T > t): quadratic once close; the start is already close except for tiny df.
-    t = start if start > 0 and math.isfinite(start) else z
     log_tail = math.log(tail)
-    for _ in range(100):
-        survival = _t_upper_tail(t, df)
-        density = _t_density(t, df)
+
+    def step(t: float) -> float | None:
+        survival, density = _t_upper_tail(t, df), _t_density(t, df)
         if survival <= 0.0 or density <= 0.0:
-            break
-        step = (math.log(survival) - log_tail) * survival / density
-        new = t + step
-        if new <= 0.0:
-            new = t / 2.0
-        if abs(new - t) <= 4e-16 * abs(new):
-            return new
-        t = new
-    return t
+            return None
+        return t + (math.log(survival) - log_tail) * survival / density
+
+    return _newton(start if start > 0 and math.isfinite(start) else z, step)
 
 
 def _t_central(central: float, df: float, start: float) -> float:
@@ -122,14 +117,24 @@ def _t_central(central: float, df: float, start: float) -> float:
     For a quantile near the median the central probability I_y(1/2, df/2), y = t^2 / (df + t^2),
     is small and computed without cancellation, where the tail would be 1/2 minus it.
     """
-    t = start if start > 0 else 1e-3
-    for _ in range(100):
+    log_beta = _log_beta_half(df / 2.0)
+
+    def step(t: float) -> float | None:
         spread = df + t * t
-        probability = _incomplete_beta(0.5, df / 2.0, t * t / spread, df / spread, _log_beta_half(df / 2.0))
         density = _t_density(t, df)
         if density <= 0.0:
+            return None
+        return t - (_incomplete_beta(0.5, df / 2.0, t * t / spread, df / spread, log_beta) - central) / (2.0 * density)
+
+    return _newton(start if start > 0 else 1e-3, step)
+
+
+def _newton(t: float, step) -> float:
+    """Iterate ``t = step(t)`` on t > 0 (halving a step that would cross 0) until it settles to a few ulps."""
+    for _ in range(100):
+        new = step(t)
+        if new is None:
             break
-        new = t - (probability - central) / (2.0 * density)
         if new <= 0.0:
             new = t / 2.0
         if abs(new - t) <= 4e-16 * abs(new):
@@ -307,8 +312,12 @@ def _lower_tail(k: int, n: int, p: float) -> float:
 
 
 def _binomial_pmf(x: int, n: int, p: float) -> float:
-    """P(B = x) by Loader's (2000) saddle-point formula (R's dbinom_raw)."""
+    """P(B = x): directly for n up to 1000, else by Loader's (2000) saddle-point formula (R's dbinom_raw)."""
     q = 1.0 - p
+    if n <= 1000:  # small n: the definition itself, C(n, x) p^x q^(n - x), unless the powers underflow
+        powers = p**x * q ** (n - x)
+        if powers > 1e-290:
+            return math.comb(n, x) * powers
     if x == 0:
         return math.exp(n * math.log1p(-p)) if n else 1.0
     if x == n:
