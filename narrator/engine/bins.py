@@ -55,6 +55,7 @@ would squeeze the bulk (``Findings.histogram_focus``): see :func:`focus_layout`.
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -301,11 +302,9 @@ def _edges(first_index: float, bins: int, width: float, shift: float) -> np.ndar
 
 
 def _raw_width(
-    scaled: np.ndarray, n: int, rule: str, sd_scaled: float, iqr_scaled: float, *, presorted: bool = False
+    value_range: float, n: int, rule: str, sd_scaled: float, iqr_scaled: float, doane_skewness: float | None
 ) -> tuple[float, str, str | None]:
-    """(raw width in standard units, rule used, reason code) for n values; ``scaled`` holds them in
-    standard units, or only the two ends when they are sorted and the rule needs no more."""
-    value_range = float(scaled[-1] - scaled[0]) if presorted else float(scaled.max() - scaled.min())
+    """(raw width in standard units, rule used, reason code) for n values spanning ``value_range``."""
     if rule == "freedman-diaconis":
         if iqr_scaled > 0:
             return FREEDMAN_DIACONIS_FACTOR * iqr_scaled * n ** (-1.0 / 3.0), rule, None
@@ -313,12 +312,8 @@ def _raw_width(
     if rule == "scott":
         return SCOTT_HISTOGRAM_FACTOR * sd_scaled * n ** (-1.0 / 3.0), rule, None
     if rule == "doane" and n > 2:
-        centred = scaled - scaled.mean()
-        m2 = float(np.mean(centred**2))
-        m3 = float(np.mean(centred**3))
-        g1 = m3 / m2**1.5
         sigma_g1 = math.sqrt(6.0 * (n - 2) / ((n + 1.0) * (n + 3.0)))
-        bins = math.ceil(1.0 + math.log2(n) + math.log2(1.0 + abs(g1) / sigma_g1))
+        bins = math.ceil(1.0 + math.log2(n) + math.log2(1.0 + abs(doane_skewness or 0.0) / sigma_g1))
         return value_range / bins, rule, None
     note = "too_few_for_doane_used_sturges" if rule == "doane" else None
     bins = math.ceil(math.log2(n)) + 1
@@ -327,6 +322,98 @@ def _raw_width(
 
 def _detect_integer(array: np.ndarray) -> bool:
     return bool(np.max(np.abs(array)) < LARGEST_EXACT_INTEGER and np.all(array == np.round(array)))
+
+
+@dataclass(frozen=True, slots=True)
+class HistogramLayout:
+    """A histogram plan before counting: what both engines decide from n, the extremes, SD and IQR."""
+
+    rule: str
+    raw_width: float
+    width: float
+    shift: float
+    first: float
+    tolerance: float
+    bins: int
+    whole: bool
+    note: str | None
+
+
+def histogram_layout(
+    *,
+    n: int,
+    low: float,
+    high: float,
+    rule: str,
+    whole: bool,
+    units,
+    sd_scaled: float | None = None,
+    iqr_scaled: float | None = None,
+    doane_skewness: float | None = None,
+) -> HistogramLayout:
+    """The decisions of :func:`histogram_plan`: raw width by ``rule``, nice width, cap, aligned grid.
+
+    ``units`` are the standard units of the values (:func:`narrator.engine.density.standard_units`:
+    they depend on the extremes alone); ``sd_scaled`` and ``iqr_scaled`` are in them. Doane's rule
+    takes the moment skewness g1 = m3 / m2^1.5 (``doane_skewness``). ``whole``: the data are whole
+    numbers small enough for half-integer edges. The stream engine (narrator.scale) lays out its
+    passes with this same function, so both engines bin alike.
+    """
+    shift = -0.5 if whole else 0.0
+    largest = max(abs(low), abs(high))
+    if not units.has_spread:
+        # One bin (two if the values straddle an edge within floating-point resolution).
+        if whole or low == 0:
+            width = 1.0
+        else:  # 10 % of the value's size, kept above the smallest normal double
+            width = _nice_at_least(max(CONSTANT_WIDTH_SHARE * abs(low), float(np.finfo(float).tiny)), False)
+        tolerance = _edge_tolerance(low, high, width, shift)
+        first = _first_index(low, width, shift, tolerance)
+        bins = int(_bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
+        return HistogramLayout(rule, 0.0, width, shift, first, tolerance, bins, whole, "constant")
+    if not (sd_scaled is not None and sd_scaled > 0 and math.isfinite(sd_scaled) and iqr_scaled is not None
+            and iqr_scaled >= 0 and math.isfinite(iqr_scaled)):
+        raise NarratorError("histogram: sd must be positive and iqr not negative for data with spread")
+    value_range = (high - units.centre) / units.unit - (low - units.centre) / units.unit
+    raw_scaled, used_rule, note = _raw_width(value_range, n, rule, sd_scaled, iqr_scaled, doane_skewness)
+    # A width from the rule can pass the largest double when the values span most of it: cap it there.
+    raw = min(raw_scaled * units.unit, float(np.finfo(float).max))
+    width = _whole_width(raw) if whole else nice_width(raw)
+
+    narrowest = largest * MAGNITUDE_RESOLUTION
+    if width < narrowest:
+        width = _nice_at_least(narrowest, whole)
+        note = "magnitude_resolution"
+    if (high - low) / width > MAX_BINS:
+        width = _nice_at_least((high - low) / MAX_BINS, whole)
+        note = "bin_cap"
+    while True:  # alignment can add a bin: widen step by step until the bins fit
+        tolerance = _edge_tolerance(low, high, width, shift)
+        first = _first_index(low, width, shift, tolerance)
+        bins = int(_bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
+        if bins <= MAX_BINS:
+            break
+        width = _next_wider(width, whole)
+        note = "bin_cap"
+    # Close the last bin when the largest value sits exactly on its upper edge (numpy's
+    # convention), so a percentage of 100 or a ceiling value does not get a bin of its own.
+    if bins > 1 and abs((high - shift) / width - first - (bins - 1)) <= tolerance:
+        bins -= 1
+    bins = max(bins, MIN_BINS)
+    return HistogramLayout(used_rule, float(raw), float(width), shift, first, tolerance, bins, whole, note)
+
+
+def plan_from_counts(layout: HistogramLayout, counts) -> HistogramPlan:
+    """The :class:`HistogramPlan` of a layout and its counts."""
+    return HistogramPlan(
+        rule=layout.rule,
+        raw_width=layout.raw_width,
+        width=layout.width,
+        edges=tuple(float(e) for e in _edges(layout.first, layout.bins, layout.width, layout.shift)),
+        counts=tuple(int(c) for c in counts),
+        integer_aligned=layout.whole,
+        note=layout.note,
+    )
 
 
 def histogram_plan(
@@ -366,86 +453,33 @@ def histogram_plan(
     whole = _detect_integer(array) if integer_valued is None else bool(integer_valued)
     if whole and largest >= LARGEST_EXACT_INTEGER:
         whole = False  # half-integer edges cannot be written down at this size
-    shift = -0.5 if whole else 0.0
 
     if not math.isfinite(high - low):
         raise NarratorError("histogram: the values span more than the largest floating-point number")
     # Sorted data need only their ends in standard units, unless Doane's rule needs every value's moment.
     ends_only = presorted and rule != "doane" and sd is not None and iqr is not None
     units = standard_units(array[[0, -1]] if ends_only else array)
-    if not units.has_spread:
-        # One bin (two if the values straddle an edge within floating-point resolution).
-        if whole or low == 0:
-            width = 1.0
-        else:  # 10 % of the value's size, kept above the smallest normal double
-            width = _nice_at_least(max(CONSTANT_WIDTH_SHARE * abs(low), float(np.finfo(float).tiny)), False)
-        tolerance = _edge_tolerance(low, high, width, shift)
-        first = _first_index(low, width, shift, tolerance)
-        if presorted:
-            bins = int(_bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
-            constant_counts = _sorted_bin_counts(array, width, shift, first, tolerance, bins)
+    sd_scaled = iqr_scaled = skewness = None
+    if units.has_spread:
+        scaled = units.scaled
+        sd_scaled = float(sd) / units.unit if sd is not None else float(np.std(scaled, ddof=1))
+        if iqr is not None:
+            iqr_scaled = float(iqr) / units.unit
         else:
-            index = _bin_index(array, width, shift, first, tolerance)
-            bins = int(index.max()) + 1
-            constant_counts = np.bincount(index)
-        return HistogramPlan(
-            rule=rule,
-            raw_width=0.0,
-            width=width,
-            edges=tuple(float(e) for e in _edges(first, bins, width, shift)),
-            counts=tuple(int(c) for c in constant_counts),
-            integer_aligned=whole,
-            note="constant",
-        )
-    scaled = units.scaled
-    sd_scaled = float(sd) / units.unit if sd is not None else float(np.std(scaled, ddof=1))
-    if iqr is not None:
-        iqr_scaled = float(iqr) / units.unit
-    else:
-        q1, q3 = np.percentile(scaled, [25.0, 75.0])
-        iqr_scaled = float(q3 - q1)
-    if not (sd_scaled > 0 and math.isfinite(sd_scaled) and iqr_scaled >= 0 and math.isfinite(iqr_scaled)):
-        raise NarratorError("histogram: sd must be positive and iqr not negative for data with spread")
-    raw_scaled, used_rule, note = _raw_width(scaled, array.size, rule, sd_scaled, iqr_scaled, presorted=presorted)
-    # A width from the rule can pass the largest double when the values span most of it: cap it there.
-    raw = min(raw_scaled * units.unit, float(np.finfo(float).max))
-    width = _whole_width(raw) if whole else nice_width(raw)
-
-    narrowest = largest * MAGNITUDE_RESOLUTION
-    if width < narrowest:
-        width = _nice_at_least(narrowest, whole)
-        note = "magnitude_resolution"
-    if (high - low) / width > MAX_BINS:
-        width = _nice_at_least((high - low) / MAX_BINS, whole)
-        note = "bin_cap"
-    while True:  # alignment can add a bin: widen step by step until the bins fit
-        tolerance = _edge_tolerance(low, high, width, shift)
-        first = _first_index(low, width, shift, tolerance)
-        bins = int(_bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
-        if bins <= MAX_BINS:
-            break
-        width = _next_wider(width, whole)
-        note = "bin_cap"
-    # Close the last bin when the largest value sits exactly on its upper edge (numpy's
-    # convention), so a percentage of 100 or a ceiling value does not get a bin of its own.
-    if bins > 1 and abs((high - shift) / width - first - (bins - 1)) <= tolerance:
-        bins -= 1
-    bins = max(bins, MIN_BINS)
+            q1, q3 = np.percentile(scaled, [25.0, 75.0])
+            iqr_scaled = float(q3 - q1)
+        if rule == "doane" and array.size > 2:
+            centred = scaled - scaled.mean()
+            skewness = float(np.mean(centred**3)) / float(np.mean(centred**2)) ** 1.5
+    layout = histogram_layout(n=array.size, low=low, high=high, rule=rule, whole=whole, units=units,
+                              sd_scaled=sd_scaled, iqr_scaled=iqr_scaled, doane_skewness=skewness)
     if presorted:
-        counts = _sorted_bin_counts(array, width, shift, first, tolerance, bins)
+        counts = _sorted_bin_counts(array, layout.width, layout.shift, layout.first, layout.tolerance, layout.bins)
     else:
-        index = _bin_index(array, width, shift, first, tolerance)
-        np.clip(index, 0, bins - 1, out=index)
-        counts = np.bincount(index, minlength=bins)
-    return HistogramPlan(
-        rule=used_rule,
-        raw_width=float(raw),
-        width=float(width),
-        edges=tuple(float(e) for e in _edges(first, bins, width, shift)),
-        counts=tuple(int(c) for c in counts),
-        integer_aligned=whole,
-        note=note,
-    )
+        index = _bin_index(array, layout.width, layout.shift, layout.first, layout.tolerance)
+        np.clip(index, 0, layout.bins - 1, out=index)
+        counts = np.bincount(index, minlength=layout.bins)
+    return plan_from_counts(layout, counts)
 
 
 def count_visible_peaks(counts) -> int:

@@ -314,7 +314,7 @@ def describe_source(
         histogram_layout = pictures.histogram_layout(
             n=n, low=low, high=high, sd=sd * factor, iqr=iqr * factor, rule=bin_rule,
             integer_valued=integer_valued, skewness_biased=skewness_biased)
-        parts["histogram"] = histogram_layout.counter()
+        parts["histogram"] = pictures.histogram_counter(histogram_layout)
         if n >= MIN_FOR_SHAPE:
             sensitivity_layout = pictures.sensitivity_layout(low=low, high=high, base_width=histogram_layout.width,
                                                              integer_valued=integer_valued)

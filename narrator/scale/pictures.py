@@ -9,8 +9,9 @@ from those counts with the engine's own helpers and constants, step for step.
 ==============================  ====================================================
 Name                            What it does
 ==============================  ====================================================
-:class:`HistogramLayout`        rule used, widths, first bin, bin count, tolerance
-:func:`histogram_layout`        the plan's decisions without the values
+:class:`HistogramLayout`        rule used, widths, first bin, bin count, tolerance (the engine's)
+:func:`histogram_layout`        the plan's decisions without the values (the engine's function)
+:func:`histogram_counter`       the pass summary that counts into a layout
 :func:`histogram_from_counts`   layout + counts -> HistogramPlan
 :class:`SensitivityLayout`      the fine grid (or the separate grids) of the 3 x 4
 :func:`sensitivity_layout`      ... chosen like :func:`narrator.engine.bins.bin_sensitivity`
@@ -34,94 +35,34 @@ from narrator.errors import NarratorError
 from narrator.findings import BinSensitivity, Density, HistogramPlan
 from narrator.scale.summaries import BinCounts, LinearBinCounts
 
+HistogramLayout = engine_bins.HistogramLayout
 
-@dataclass(frozen=True, slots=True)
-class HistogramLayout:
-    rule: str
-    raw_width: float
-    width: float
-    shift: float
-    first: float
-    tolerance: float
-    bins: int
-    whole: bool
-    note: str | None
 
-    def counter(self) -> BinCounts:
-        return BinCounts(self.width, self.shift, self.first, self.tolerance, self.bins, clip=True)
+def histogram_counter(layout: HistogramLayout) -> BinCounts:
+    """The pass summary that counts values into a histogram layout's bins."""
+    return BinCounts(layout.width, layout.shift, layout.first, layout.tolerance, layout.bins, clip=True)
 
 
 def histogram_layout(
     *, n: int, low: float, high: float, sd: float, iqr: float, rule: str, integer_valued: bool,
     skewness_biased: float | None,
 ) -> HistogramLayout:
-    """The decisions of :func:`narrator.engine.bins.histogram_plan` for sorted data, from n, the extremes,
-    SD and IQR (data units); Doane's rule takes the moment skewness g1 = m3 / m2^1.5 (``skewness_biased``)."""
-    largest = max(abs(low), abs(high))
-    whole = bool(integer_valued)
-    if whole and largest >= engine_bins.LARGEST_EXACT_INTEGER:
-        whole = False
-    shift = -0.5 if whole else 0.0
+    """:func:`narrator.engine.bins.histogram_layout` from n, the extremes, SD and IQR (data units);
+    Doane's rule takes the moment skewness g1 = m3 / m2^1.5 (``skewness_biased``)."""
+    whole = bool(integer_valued) and max(abs(low), abs(high)) < engine_bins.LARGEST_EXACT_INTEGER
     if not math.isfinite(high - low):
         raise NarratorError("histogram: the values span more than the largest floating-point number")
     units = engine_density.standard_units(np.array([low, high]))
-    if not units.has_spread:
-        if whole or low == 0:
-            width = 1.0
-        else:
-            width = engine_bins._nice_at_least(
-                max(engine_bins.CONSTANT_WIDTH_SHARE * abs(low), float(np.finfo(float).tiny)), False)
-        tolerance = engine_bins._edge_tolerance(low, high, width, shift)
-        first = engine_bins._first_index(low, width, shift, tolerance)
-        bins = int(engine_bins._bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
-        return HistogramLayout(rule, 0.0, width, shift, first, tolerance, bins, whole, "constant")
-    sd_scaled = float(sd) / units.unit
-    iqr_scaled = float(iqr) / units.unit
-    if not (sd_scaled > 0 and math.isfinite(sd_scaled) and iqr_scaled >= 0 and math.isfinite(iqr_scaled)):
-        raise NarratorError("histogram: sd must be positive and iqr not negative for data with spread")
-    if rule == "doane" and n > 2:
-        value_range = float(units.scaled[-1] - units.scaled[0])
-        sigma_g1 = math.sqrt(6.0 * (n - 2) / ((n + 1.0) * (n + 3.0)))
-        count = math.ceil(1.0 + math.log2(n) + math.log2(1.0 + abs(skewness_biased or 0.0) / sigma_g1))
-        raw_scaled, used_rule, note = value_range / count, rule, None
-    else:
-        raw_scaled, used_rule, note = engine_bins._raw_width(units.scaled, n, rule, sd_scaled, iqr_scaled,
-                                                             presorted=True)
-    # A width from the rule can pass the largest double when the values span most of it: cap it there.
-    raw = min(raw_scaled * units.unit, float(np.finfo(float).max))
-    width = engine_bins._whole_width(raw) if whole else engine_bins.nice_width(raw)
-    narrowest = largest * engine_bins.MAGNITUDE_RESOLUTION
-    if width < narrowest:
-        width = engine_bins._nice_at_least(narrowest, whole)
-        note = "magnitude_resolution"
-    if (high - low) / width > engine_bins.MAX_BINS:
-        width = engine_bins._nice_at_least((high - low) / engine_bins.MAX_BINS, whole)
-        note = "bin_cap"
-    while True:
-        tolerance = engine_bins._edge_tolerance(low, high, width, shift)
-        first = engine_bins._first_index(low, width, shift, tolerance)
-        bins = int(engine_bins._bin_index(np.array([high]), width, shift, first, tolerance)[0]) + 1
-        if bins <= engine_bins.MAX_BINS:
-            break
-        width = engine_bins._next_wider(width, whole)
-        note = "bin_cap"
-    if bins > 1 and abs((high - shift) / width - first - (bins - 1)) <= tolerance:
-        bins -= 1
-    bins = max(bins, engine_bins.MIN_BINS)
-    return HistogramLayout(used_rule, float(raw), float(width), shift, first, tolerance, bins, whole, note)
+    sd_scaled = iqr_scaled = None
+    if units.has_spread:
+        sd_scaled, iqr_scaled = float(sd) / units.unit, float(iqr) / units.unit
+    return engine_bins.histogram_layout(n=n, low=low, high=high, rule=rule, whole=whole, units=units,
+                                        sd_scaled=sd_scaled, iqr_scaled=iqr_scaled,
+                                        doane_skewness=skewness_biased if rule == "doane" and n > 2 else None)
 
 
 def histogram_from_counts(layout: HistogramLayout, counts: np.ndarray) -> HistogramPlan:
-    edges = engine_bins._edges(layout.first, layout.bins, layout.width, layout.shift)
-    return HistogramPlan(
-        rule=layout.rule,
-        raw_width=layout.raw_width,
-        width=layout.width,
-        edges=tuple(float(e) for e in edges),
-        counts=tuple(int(c) for c in counts),
-        integer_aligned=layout.whole,
-        note=layout.note,
-    )
+    return engine_bins.plan_from_counts(layout, counts)
 
 
 @dataclass(frozen=True, slots=True)
