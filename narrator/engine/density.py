@@ -518,8 +518,6 @@ def estimate_density(
     scaled = units.scaled
     n = scaled.size
     low, high = (float(scaled[0]), float(scaled[-1])) if presorted else (float(scaled.min()), float(scaled.max()))
-    lower = None if lower_bound is None else (lower_bound - units.centre) / units.unit
-    upper = None if upper_bound is None else (upper_bound - units.centre) / units.unit
     reach = KERNEL_REACH_BANDWIDTHS * width
 
     # Fine grid for binning: the unbounded estimate, out to where the kernel vanishes.
@@ -528,6 +526,29 @@ def estimate_density(
     fine_size = int(min(max(wanted, FINE_GRID_MIN), FINE_GRID_MAX))
     fine_step = (fine_stop - fine_start) / (fine_size - 1)
     counts = _linear_bin(scaled, fine_start, fine_step, fine_size, overwrite=True)  # scaled is not used again
+    return density_from_fine_counts(
+        counts, n=n, centre=units.centre, unit=units.unit, width=width, rule=used_rule, note=note, low=low,
+        high=high, fine_start=fine_start, fine_step=fine_step, lower_bound=lower_bound, upper_bound=upper_bound,
+        grid_size=grid_size, keep_fine=keep_fine,
+    )
+
+
+def density_from_fine_counts(
+    counts: np.ndarray, *, n: int, centre: float, unit: float, width: float, rule: str, note: str | None,
+    low: float, high: float, fine_start: float, fine_step: float, lower_bound: float | None,
+    upper_bound: float | None, grid_size: int = DEFAULT_GRID_SIZE, keep_fine: bool = False,
+) -> Density | tuple[Density, FineDensity]:
+    """The rest of :func:`estimate_density` once the values are linearly binned on the fine grid.
+
+    ``counts`` are the fine grid's binned counts (``fine_start`` + k ``fine_step``, standard units
+    t = (x - centre) / unit), ``width`` the bandwidth and ``low``, ``high`` the extremes, all in
+    standard units. The stream engine (narrator.scale) bins chunk by chunk and finishes here, so
+    both engines give the same curve.
+    """
+    fine_size = counts.size
+    lower = None if lower_bound is None else (lower_bound - centre) / unit
+    upper = None if upper_bound is None else (upper_bound - centre) / unit
+    reach = KERNEL_REACH_BANDWIDTHS * width
     half = min(math.ceil(reach / fine_step), fine_size - 1)
     u = np.arange(-half, half + 1) * (fine_step / width)
     kernel = np.exp(-0.5 * u * u) / (math.sqrt(2.0 * math.pi) * n * width)
@@ -535,15 +556,13 @@ def estimate_density(
     np.maximum(fine_density, 0.0, out=fine_density)  # FFT round-off leaves tiny negatives far out
     fine_grid = fine_start + np.arange(fine_size) * fine_step
 
-    # Output grid: data +- 3h, clipped at the bounds; reflect the kernel there. Without a bound,
-    # keep the grid inside the float range (data near +-1.8e308), written so nothing overflows.
     largest = float(np.finfo(float).max)
     out_low = low - GRID_MARGIN_BANDWIDTHS * width
     out_high = high + GRID_MARGIN_BANDWIDTHS * width
     clipped_low = lower is not None and out_low <= lower
     clipped_high = upper is not None and out_high >= upper
-    out_low = lower if clipped_low else max(out_low, -largest / units.unit - units.centre / units.unit)
-    out_high = upper if clipped_high else min(out_high, largest / units.unit - units.centre / units.unit)
+    out_low = lower if clipped_low else max(out_low, -largest / unit - centre / unit)
+    out_high = upper if clipped_high else min(out_high, largest / unit - centre / unit)
     grid = np.linspace(out_low, out_high, grid_size)
     density_scaled = np.zeros(grid_size)
     for sign, shift in _reflection_images(lower, upper, reach):
@@ -551,20 +570,19 @@ def estimate_density(
     reflected = (lower is not None and low - lower < reach) or (upper is not None and upper - high < reach)
 
     with np.errstate(over="ignore"):  # a rounding step past the largest double is clipped just below
-        grid_data = np.clip(units.centre + grid * units.unit, -largest, largest)
+        grid_data = np.clip(centre + grid * unit, -largest, largest)
     if clipped_low:
         grid_data[0] = lower_bound  # exactly the bound, not a rounding of it
     if clipped_high:
         grid_data[-1] = upper_bound
     grid_data = np.maximum.accumulate(grid_data)  # rounding in data units must not reverse the order
-    density_data = density_scaled / units.unit
-    # Peaks are found in standard units, where f / h cannot underflow for huge magnitudes.
+    density_data = density_scaled / unit
     peak_locations = find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)
     peaks = tuple(float(grid_data[np.searchsorted(grid, location)]) for location in peak_locations)
     result = Density(
         kernel="gaussian",
-        bandwidth_rule=used_rule,
-        bandwidth=float(width * units.unit),
+        bandwidth_rule=rule,
+        bandwidth=float(width * unit),
         method="binned-fft",
         grid=tuple(float(t) for t in grid_data),
         values=tuple(float(v) for v in density_data),
@@ -575,7 +593,7 @@ def estimate_density(
         bandwidth_note=note,
     )
     if keep_fine:
-        return result, FineDensity(units.centre, units.unit, fine_start, fine_step, fine_density, lower, upper, reach)
+        return result, FineDensity(centre, unit, fine_start, fine_step, fine_density, lower, upper, reach)
     return result
 
 

@@ -32,7 +32,7 @@ import numpy as np
 from narrator.engine import bins as engine_bins
 from narrator.engine import density as engine_density
 from narrator.errors import NarratorError
-from narrator.findings import BinSensitivity, Density, HistogramPlan
+from narrator.findings import BinSensitivity, HistogramPlan
 from narrator.scale.summaries import BinCounts, LinearBinCounts
 
 HistogramLayout = engine_bins.HistogramLayout
@@ -217,50 +217,10 @@ def density_layout(
 def density_from_counts(layout: DensityLayout, counts: np.ndarray,
                         grid_size: int = engine_density.DEFAULT_GRID_SIZE, keep_fine: bool = False):
     """The rest of :func:`narrator.engine.density.estimate_density` once the values are binned
-    (with ``keep_fine``: ``(Density, FineDensity)``, as the engine's)."""
-    n, width, unit, centre = layout.n, layout.width, layout.unit, layout.centre
-    low, high = layout.low, layout.high
-    lower_bound, upper_bound = layout.lower_bound, layout.upper_bound
-    lower = None if lower_bound is None else (lower_bound - centre) / unit
-    upper = None if upper_bound is None else (upper_bound - centre) / unit
-    reach = engine_density.KERNEL_REACH_BANDWIDTHS * width
-    fine_step, fine_size, fine_start = layout.fine_step, layout.fine_size, layout.fine_start
-    half = min(math.ceil(reach / fine_step), fine_size - 1)
-    u = np.arange(-half, half + 1) * (fine_step / width)
-    kernel = np.exp(-0.5 * u * u) / (math.sqrt(2.0 * math.pi) * n * width)
-    fine_density = engine_density._convolve_same(counts, kernel)
-    np.maximum(fine_density, 0.0, out=fine_density)
-    fine_grid = fine_start + np.arange(fine_size) * fine_step
-    largest = float(np.finfo(float).max)
-    out_low = low - engine_density.GRID_MARGIN_BANDWIDTHS * width
-    out_high = high + engine_density.GRID_MARGIN_BANDWIDTHS * width
-    clipped_low = lower is not None and out_low <= lower
-    clipped_high = upper is not None and out_high >= upper
-    out_low = lower if clipped_low else max(out_low, -largest / unit - centre / unit)
-    out_high = upper if clipped_high else min(out_high, largest / unit - centre / unit)
-    grid = np.linspace(out_low, out_high, grid_size)
-    density_scaled = np.zeros(grid_size)
-    for sign, shift in engine_density._reflection_images(lower, upper, reach):
-        density_scaled += np.interp(shift + sign * grid, fine_grid, fine_density, left=0.0, right=0.0)
-    reflected = (lower is not None and low - lower < reach) or (upper is not None and upper - high < reach)
-    with np.errstate(over="ignore"):
-        grid_data = np.clip(centre + grid * unit, -largest, largest)
-    if clipped_low:
-        grid_data[0] = lower_bound
-    if clipped_high:
-        grid_data[-1] = upper_bound
-    grid_data = np.maximum.accumulate(grid_data)
-    density_data = density_scaled / unit
-    peak_locations = engine_density.find_peaks(grid, density_scaled, sample_size=n, bandwidth=width)
-    peaks = tuple(float(grid_data[np.searchsorted(grid, location)]) for location in peak_locations)
-    result = Density(
-        kernel="gaussian", bandwidth_rule=layout.rule, bandwidth=float(width * unit), method="binned-fft",
-        grid=tuple(float(t) for t in grid_data), values=tuple(float(v) for v in density_data),
-        lower_bound=None if lower_bound is None else float(lower_bound),
-        upper_bound=None if upper_bound is None else float(upper_bound),
-        reflected=bool(reflected), peaks=peaks, bandwidth_note=layout.note,
-    )
-    if keep_fine:
-        return result, engine_density.FineDensity(centre, unit, fine_start, fine_step, fine_density, lower, upper,
-                                                  reach)
-    return result
+    (:func:`narrator.engine.density.density_from_fine_counts`, the engine's own; with ``keep_fine``:
+    ``(Density, FineDensity)``)."""
+    return engine_density.density_from_fine_counts(
+        np.asarray(counts, dtype=np.float64), n=layout.n, centre=layout.centre, unit=layout.unit,
+        width=layout.width, rule=layout.rule, note=layout.note, low=layout.low, high=layout.high,
+        fine_start=layout.fine_start, fine_step=layout.fine_step, lower_bound=layout.lower_bound,
+        upper_bound=layout.upper_bound, grid_size=grid_size, keep_fine=keep_fine)
