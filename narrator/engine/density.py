@@ -359,7 +359,7 @@ def _sheather_jones(scaled: np.ndarray, sd_scaled: float, iqr_scaled: float) -> 
     return root if math.isfinite(equation(root)) else None
 
 
-def _floored(units: StandardUnits, width: float, rule: str, note: str | None) -> tuple[float, str, str | None]:
+def floored_bandwidth(units: StandardUnits, width: float, rule: str, note: str | None) -> tuple[float, str, str | None]:
     """Widen a bandwidth narrower than range / MAX_RANGE_IN_BANDWIDTHS (see the module docstring)."""
     floor = float(units.scaled.max() - units.scaled.min()) / MAX_RANGE_IN_BANDWIDTHS
     if units.has_spread and width < floor:
@@ -371,7 +371,7 @@ def _choose_scaled(
     units: StandardUnits, rule: str, sd: float | None, iqr: float | None
 ) -> tuple[float, str, str | None]:
     """(width in standard units, rule used, reason code), floored."""
-    return _floored(units, *_choose_unfloored(units, rule, sd, iqr))
+    return floored_bandwidth(units, *_choose_unfloored(units, rule, sd, iqr))
 
 
 def _choose_unfloored(
@@ -384,19 +384,40 @@ def _choose_unfloored(
     sd_scaled, iqr_scaled = _sd_and_iqr(scaled, sd, iqr, units.unit)
     if not units.has_spread or (sd_scaled == 0 and iqr_scaled == 0):
         return _degenerate_width(units), rule, "constant_fixed_width"
-    if rule == "scott":
-        if sd_scaled > 0:
-            return SCOTT_FACTOR * sd_scaled * n ** -0.2, rule, None
-        width, _ = _silverman(n, sd_scaled, iqr_scaled)
-        return width, "silverman", "sd_zero_used_silverman"
     if rule == "sheather-jones":
         width = _sheather_jones(scaled, sd_scaled, iqr_scaled)
         if width is not None and math.isfinite(width) and width > 0:
             return width, rule, ("iqr_zero_used_sd" if iqr_scaled == 0 else None)
         width, _ = _silverman(n, sd_scaled, iqr_scaled)
         return width, "silverman", "sheather_jones_failed_used_silverman"
+    return rule_bandwidth(units, n, rule, sd_scaled, iqr_scaled)
+
+
+def rule_bandwidth(
+    units: StandardUnits, n: int, rule: str, sd_scaled: float, iqr_scaled: float
+) -> tuple[float, str, str | None]:
+    """(width, rule used, reason code) by Silverman's or Scott's rule in standard units, before the
+    floor: they need only n, the SD and the IQR, so the stream engine (narrator.scale) calls this too."""
+    if not units.has_spread or (sd_scaled == 0 and iqr_scaled == 0):
+        return _degenerate_width(units), rule, "constant_fixed_width"
+    if rule == "scott":
+        if sd_scaled > 0:
+            return SCOTT_FACTOR * sd_scaled * n ** -0.2, rule, None
+        width, _ = _silverman(n, sd_scaled, iqr_scaled)
+        return width, "silverman", "sd_zero_used_silverman"
     width, note = _silverman(n, sd_scaled, iqr_scaled)
     return width, rule, note
+
+
+def fine_grid(low: float, high: float, width: float) -> tuple[float, float, int]:
+    """(start, step, size) of the fine binning grid for extremes ``low``, ``high`` and bandwidth
+    ``width`` (standard units): out to where the kernel vanishes, FINE_STEPS_PER_BANDWIDTH steps a
+    bandwidth, between FINE_GRID_MIN and FINE_GRID_MAX points."""
+    reach = KERNEL_REACH_BANDWIDTHS * width
+    fine_start, fine_stop = low - reach, high + reach
+    wanted = math.ceil((fine_stop - fine_start) / (width / FINE_STEPS_PER_BANDWIDTH)) + 1
+    fine_size = int(min(max(wanted, FINE_GRID_MIN), FINE_GRID_MAX))
+    return fine_start, (fine_stop - fine_start) / (fine_size - 1), fine_size
 
 
 def choose_bandwidth(
@@ -513,18 +534,13 @@ def estimate_density(
     else:
         if not (math.isfinite(bandwidth) and bandwidth > 0):
             raise NarratorError("density: the bandwidth must be a positive number")
-        width, used_rule, note = _floored(units, bandwidth / units.unit, "user", None)
+        width, used_rule, note = floored_bandwidth(units, bandwidth / units.unit, "user", None)
 
     scaled = units.scaled
     n = scaled.size
     low, high = (float(scaled[0]), float(scaled[-1])) if presorted else (float(scaled.min()), float(scaled.max()))
-    reach = KERNEL_REACH_BANDWIDTHS * width
-
     # Fine grid for binning: the unbounded estimate, out to where the kernel vanishes.
-    fine_start, fine_stop = low - reach, high + reach
-    wanted = math.ceil((fine_stop - fine_start) / (width / FINE_STEPS_PER_BANDWIDTH)) + 1
-    fine_size = int(min(max(wanted, FINE_GRID_MIN), FINE_GRID_MAX))
-    fine_step = (fine_stop - fine_start) / (fine_size - 1)
+    fine_start, fine_step, fine_size = fine_grid(low, high, width)
     counts = _linear_bin(scaled, fine_start, fine_step, fine_size, overwrite=True)  # scaled is not used again
     return density_from_fine_counts(
         counts, n=n, centre=units.centre, unit=units.unit, width=width, rule=used_rule, note=note, low=low,

@@ -181,35 +181,15 @@ def density_layout(
                             "memory use 'silverman' or 'scott'")
     ends = np.array([low, high])
     engine_density._check_bounds(ends, lower_bound, upper_bound)
-    centre = low / 2.0 + high / 2.0
-    half_range = high / 2.0 - low / 2.0
-    has_spread = half_range >= engine_density.SMALLEST_SPREAD
-    unit = half_range if has_spread else (
-        max(abs(centre), engine_density.SMALLEST_SPREAD) if centre != 0.0 else 1.0)
-    units = engine_density.StandardUnits(centre=centre, unit=unit, scaled=(ends - centre) / unit,
-                                         has_spread=has_spread)
+    units = engine_density.standard_units(ends)  # they depend on the extremes alone
+    centre, unit, has_spread = units.centre, units.unit, units.has_spread
     low_s, high_s = float(units.scaled[0]), float(units.scaled[1])
     sd_scaled, iqr_scaled = float(sd) / unit, float(iqr) / unit
     if not (math.isfinite(sd_scaled) and math.isfinite(iqr_scaled)) or sd_scaled < 0 or iqr_scaled < 0:
         raise NarratorError("bandwidth: sd and iqr must be finite and not negative")
-    used, note = rule, None
-    if not has_spread or (sd_scaled == 0 and iqr_scaled == 0):
-        width, note = engine_density._degenerate_width(units), "constant_fixed_width"
-    elif rule == "scott" and sd_scaled > 0:
-        width = engine_density.SCOTT_FACTOR * sd_scaled * n ** -0.2
-    elif rule == "scott":
-        width, _ = engine_density._silverman(n, sd_scaled, iqr_scaled)
-        used, note = "silverman", "sd_zero_used_silverman"
-    else:
-        width, note = engine_density._silverman(n, sd_scaled, iqr_scaled)
-    floor = (high_s - low_s) / engine_density.MAX_RANGE_IN_BANDWIDTHS
-    if has_spread and width < floor:
-        width, note = floor, "bandwidth_floor"
-    reach = engine_density.KERNEL_REACH_BANDWIDTHS * width
-    fine_start, fine_stop = low_s - reach, high_s + reach
-    wanted = math.ceil((fine_stop - fine_start) / (width / engine_density.FINE_STEPS_PER_BANDWIDTH)) + 1
-    fine_size = int(min(max(wanted, engine_density.FINE_GRID_MIN), engine_density.FINE_GRID_MAX))
-    fine_step = (fine_stop - fine_start) / (fine_size - 1)
+    width, used, note = engine_density.floored_bandwidth(
+        units, *engine_density.rule_bandwidth(units, n, rule, sd_scaled, iqr_scaled))
+    fine_start, fine_step, fine_size = engine_density.fine_grid(low_s, high_s, width)
     return DensityLayout(n, centre, unit, has_spread, low_s, high_s, width, used, note, fine_start, fine_step,
                          fine_size, lower_bound, upper_bound)
 
