@@ -553,6 +553,111 @@ def _counts_direct(array: np.ndarray, width: float, shift: float) -> np.ndarray:
     return np.bincount(index - index.min())
 
 
+@dataclass(frozen=True, slots=True)
+class SensitivityGrid:
+    """The grids :func:`bin_sensitivity` counts into: one fine grid, or one per width x offset.
+
+    Each grid is (width, shift, first index, tolerance, bins) in units of ``factor`` (a power of two
+    near the data's size when values or widths are huge or tiny, 1 otherwise).
+    """
+
+    base_width: float
+    widths: tuple[float, ...]  # data units, as reported
+    scaled_widths: tuple[float, ...]
+    offsets: tuple[float, ...]
+    factor: float
+    fine: tuple[float, int] | None  # (step, period) of the shared fine grid, or None
+    grids: tuple[tuple[float, float, float, float, int], ...]
+
+
+def sensitivity_grid(
+    low: float,
+    high: float,
+    base_width: float,
+    *,
+    width_factors: tuple[float, ...] = DEFAULT_WIDTH_FACTORS,
+    offsets: tuple[float, ...] = DEFAULT_OFFSETS,
+    integer_valued: bool = False,
+) -> SensitivityGrid:
+    """The grids of :func:`bin_sensitivity` for values from ``low`` to ``high`` (both engines lay out
+    their counting with this, so they count alike)."""
+    if not (math.isfinite(base_width) and base_width > 0):
+        raise NarratorError(f"bin sensitivity: base width must be a positive number, not {base_width!r}")
+    if not width_factors or any(not (math.isfinite(f) and f > 0) for f in width_factors):
+        raise NarratorError("bin sensitivity: width factors must be positive numbers")
+    if not offsets or any(not (math.isfinite(o) and 0 <= o < 1) for o in offsets):
+        raise NarratorError("bin sensitivity: offsets must be fractions in [0, 1)")
+    largest_value = max(abs(low), abs(high))
+    whole = bool(integer_valued) and largest_value < LARGEST_EXACT_INTEGER
+    # Work in units of a power of two near the data's size when values or widths are huge or tiny:
+    # the division is exact, so multiples of a width stay multiples, and nothing overflows.
+    size_log2 = max(
+        math.log2(largest_value) if largest_value > 0 else -math.inf,
+        math.log2(base_width) + math.log2(max(width_factors)),
+    )
+    factor = 1.0 if -100 < size_log2 < 100 else math.ldexp(1.0, min(math.floor(size_log2), 1023))
+    if whole:
+        scaled_widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
+    else:
+        scaled_widths = tuple(float((base_width / factor) * f) for f in width_factors)
+    # Reported in data units; a width past the largest double (values near 1.8e308) reads as that.
+    widths = tuple(min(w * factor, float(np.finfo(float).max)) for w in scaled_widths)
+    shift = (-0.5 if whole else 0.0) / factor
+    low, high = (low / factor, high / factor) if factor != 1.0 else (low, high)
+    plan = _fine_resolution(scaled_widths, offsets)
+    grids = []
+    if plan is not None:
+        step, period = plan
+        # In steps: a whole number of periods, at least one period below the data.
+        origin = (math.floor((low - shift) / (step * period)) - 1) * period
+        fine_bins = (high - shift) / step - origin + 2
+        if fine_bins > MAX_FINE_BINS:
+            raise NarratorError(
+                f"bin sensitivity: a width of {min(widths):g} is too narrow"
+                f" for values spanning {(high - low) * factor:g}"
+            )
+        tolerance = _edge_tolerance(low, high, step, shift)
+        last = int(_bin_index(np.array([high]), step, shift, float(origin), tolerance)[0])
+        grids.append((step, shift, float(origin), tolerance, last + 1))
+    else:
+        for w in scaled_widths:
+            for o in offsets:
+                w_shift = shift + o * w
+                tolerance = _edge_tolerance(low, high, w, w_shift)
+                first = _first_index(low, w, w_shift, tolerance)
+                last = int(_bin_index(np.array([high]), w, w_shift, first, tolerance)[0])
+                grids.append((w, w_shift, first, tolerance, last + 1))
+    return SensitivityGrid(float(base_width), widths, scaled_widths, tuple(float(o) for o in offsets), factor,
+                           plan, tuple(grids))
+
+
+def sensitivity_from_counts(grid: SensitivityGrid, counts) -> BinSensitivity:
+    """Visible peaks at every width x offset from the counts in ``grid.grids`` (in that order)."""
+    peak_counts: list[tuple[int, ...]] = []
+    if grid.fine is not None:
+        step, _ = grid.fine
+        fine_counts = np.asarray(counts[0])
+        for w in grid.scaled_widths:
+            steps_per_bin = round(w / step)
+            row = []
+            for o in grid.offsets:
+                # Fine bins before the offset are empty: the origin sits a whole period below the data.
+                shifted = fine_counts[round(o * w / step):]
+                padding = (-shifted.size) % steps_per_bin
+                coarse = np.concatenate((shifted, np.zeros(padding, dtype=shifted.dtype)))
+                row.append(count_visible_peaks(coarse.reshape(-1, steps_per_bin).sum(axis=1)))
+            peak_counts.append(tuple(row))
+    else:
+        columns = len(grid.offsets)
+        for i in range(len(grid.scaled_widths)):
+            peak_counts.append(tuple(count_visible_peaks(counts[i * columns + j]) for j in range(columns)))
+    flat = [count for row in peak_counts for count in row]
+    return BinSensitivity(
+        base_width=grid.base_width, widths=grid.widths, offsets=grid.offsets, peak_counts=tuple(peak_counts),
+        sensitive=len(set(flat)) > 1, min_peaks=min(flat), max_peaks=max(flat),
+    )
+
+
 def bin_sensitivity(
     values,
     base_width: float,
@@ -584,77 +689,22 @@ def bin_sensitivity(
     """
     if presorted:
         array = np.asarray(values, dtype=float).ravel()
-        _sorted_ends(array, "bin sensitivity")
+        low, high = _sorted_ends(array, "bin sensitivity")
     else:
         array = _as_values(values, "bin sensitivity")
-    if not (math.isfinite(base_width) and base_width > 0):
-        raise NarratorError(f"bin sensitivity: base width must be a positive number, not {base_width!r}")
-    if not width_factors or any(not (math.isfinite(f) and f > 0) for f in width_factors):
-        raise NarratorError("bin sensitivity: width factors must be positive numbers")
-    if not offsets or any(not (math.isfinite(o) and 0 <= o < 1) for o in offsets):
-        raise NarratorError("bin sensitivity: offsets must be fractions in [0, 1)")
-    largest_value = max(abs(float(array[0])), abs(float(array[-1]))) if presorted else float(np.max(np.abs(array)))
-    whole = bool(integer_valued) and largest_value < LARGEST_EXACT_INTEGER
-    # Work in units of a power of two near the data's size when values or widths are huge or tiny:
-    # the division is exact, so multiples of a width stay multiples, and nothing overflows.
-    size_log2 = max(
-        math.log2(largest_value) if largest_value > 0 else -math.inf,
-        math.log2(base_width) + math.log2(max(width_factors)),
-    )
-    factor = 1.0 if -100 < size_log2 < 100 else math.ldexp(1.0, min(math.floor(size_log2), 1023))
-    if factor != 1.0:
-        array = array / factor
-    if whole:
-        scaled_widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
-    else:
-        scaled_widths = tuple(float((base_width / factor) * f) for f in width_factors)
-    # Reported in data units; a width past the largest double (values near 1.8e308) reads as that.
-    widths = tuple(min(w * factor, float(np.finfo(float).max)) for w in scaled_widths)
-    shift = (-0.5 if whole else 0.0) / factor
-    low, high = (float(array[0]), float(array[-1])) if presorted else (float(array.min()), float(array.max()))
-
-    plan = _fine_resolution(scaled_widths, offsets)
-    peak_counts: list[tuple[int, ...]] = []
-    if plan is not None:
-        step, period = plan
-        # In steps: a whole number of periods, at least one period below the data.
-        origin = (math.floor((low - shift) / (step * period)) - 1) * period
-        fine_bins = (high - shift) / step - origin + 2
-        if fine_bins > MAX_FINE_BINS:
-            raise NarratorError(
-                f"bin sensitivity: a width of {min(widths):g} is too narrow"
-                f" for values spanning {(high - low) * factor:g}"
-            )
-        fine_tolerance = _edge_tolerance(low, high, step, shift)
-        last_fine = int(_bin_index(np.array([high]), step, shift, float(origin), fine_tolerance)[0])
-        if presorted and (last_fine + 1) * math.log2(array.size + 1) < array.size:
-            fine_counts = _sorted_bin_counts(array, step, shift, float(origin), fine_tolerance, last_fine + 1)
+        low, high = float(array.min()), float(array.max())
+    grid = sensitivity_grid(low, high, base_width, width_factors=width_factors, offsets=offsets,
+                            integer_valued=integer_valued)
+    if grid.factor != 1.0:
+        array = array / grid.factor
+    counts = []
+    for width, shift, first, tolerance, bins in grid.grids:
+        if presorted and bins * math.log2(array.size + 1) < array.size:
+            counts.append(_sorted_bin_counts(array, width, shift, first, tolerance, bins))
         else:
-            fine_counts = np.bincount(_bin_index(array, step, shift, float(origin), fine_tolerance))
-        for w in scaled_widths:
-            steps_per_bin = round(w / step)
-            row = []
-            for o in offsets:
-                offset_steps = round(o * w / step)
-                # Fine bins before the offset are empty: the origin sits a whole period below the data.
-                shifted = fine_counts[offset_steps:]
-                padding = (-shifted.size) % steps_per_bin
-                coarse = np.concatenate((shifted, np.zeros(padding, dtype=shifted.dtype)))
-                row.append(count_visible_peaks(coarse.reshape(-1, steps_per_bin).sum(axis=1)))
-            peak_counts.append(tuple(row))
-    else:
-        for w in scaled_widths:
-            peak_counts.append(
-                tuple(count_visible_peaks(_counts_direct(array, w, shift + o * w)) for o in offsets)
-            )
+            index = _bin_index(array, width, shift, first, tolerance)
+            np.clip(index, 0, bins - 1, out=index)
+            counts.append(np.bincount(index, minlength=bins))
+    return sensitivity_from_counts(grid, counts)
 
-    flat = [count for row in peak_counts for count in row]
-    return BinSensitivity(
-        base_width=float(base_width),
-        widths=widths,
-        offsets=tuple(float(o) for o in offsets),
-        peak_counts=tuple(peak_counts),
-        sensitive=len(set(flat)) > 1,
-        min_peaks=min(flat),
-        max_peaks=max(flat),
-    )
+

@@ -1,10 +1,10 @@
 """The histogram plan, the bin-sensitivity grid and the kernel density estimate from counts made in a pass.
 
 The in-memory engine (:mod:`narrator.engine.bins`, :mod:`narrator.engine.density`) reads the sorted
-values; here the same decisions are taken from the figures an earlier pass gave (n, smallest and
-largest value, SD, IQR, skewness), the grids are laid out, a later pass counts the values into them
-(:class:`~.summaries.BinCounts`, :class:`~.summaries.LinearBinCounts`), and the results are finished
-from those counts with the engine's own helpers and constants, step for step.
+values; here the same decisions are taken, by the engine's own public layout functions, from the
+figures an earlier pass gave (n, smallest and largest value, SD, IQR, skewness); a later pass counts
+the values into the grids (:class:`~.summaries.BinCounts`, :class:`~.summaries.LinearBinCounts`),
+and the engine's own "from counts" functions finish the results. Nothing is decided twice.
 
 ==============================  ====================================================
 Name                            What it does
@@ -14,7 +14,7 @@ Name                            What it does
 :func:`histogram_counter`       the pass summary that counts into a layout
 :func:`histogram_from_counts`   layout + counts -> HistogramPlan
 :class:`SensitivityLayout`      the fine grid (or the separate grids) of the 3 x 4
-:func:`sensitivity_layout`      ... chosen like :func:`narrator.engine.bins.bin_sensitivity`
+:func:`sensitivity_layout`      ... by :func:`narrator.engine.bins.sensitivity_grid`
 :func:`sensitivity_from_counts` fine counts -> BinSensitivity
 :class:`DensityLayout`          standard units, bandwidth, fine binning grid
 :func:`density_layout`          bandwidth by Silverman's or Scott's rule, grid
@@ -67,14 +67,8 @@ def histogram_from_counts(layout: HistogramLayout, counts: np.ndarray) -> Histog
 
 @dataclass(frozen=True, slots=True)
 class SensitivityLayout:
-    base_width: float
-    widths: tuple[float, ...]  # data units, as reported
-    scaled_widths: tuple[float, ...]
-    offsets: tuple[float, ...]
-    factor: float
-    shift: float
-    fine: tuple[float, int] | None  # (step, period) of the shared fine grid, or None
-    counters: tuple[BinCounts, ...]  # one fine counter, or one per width x offset
+    grid: engine_bins.SensitivityGrid
+    counters: tuple[BinCounts, ...]  # one per grid of ``grid.grids``, in order
 
 
 def sensitivity_layout(
@@ -82,71 +76,17 @@ def sensitivity_layout(
     width_factors: tuple[float, ...] = engine_bins.DEFAULT_WIDTH_FACTORS,
     offsets: tuple[float, ...] = engine_bins.DEFAULT_OFFSETS,
 ) -> SensitivityLayout:
-    """The grids :func:`narrator.engine.bins.bin_sensitivity` counts into, for data spanning [low, high]."""
-    largest_value = max(abs(low), abs(high))
-    whole = bool(integer_valued) and largest_value < engine_bins.LARGEST_EXACT_INTEGER
-    size_log2 = max(math.log2(largest_value) if largest_value > 0 else -math.inf,
-                    math.log2(base_width) + math.log2(max(width_factors)))
-    factor = 1.0 if -100 < size_log2 < 100 else math.ldexp(1.0, min(math.floor(size_log2), 1023))
-    if whole:
-        scaled_widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
-    else:
-        scaled_widths = tuple(float((base_width / factor) * f) for f in width_factors)
-    widths = tuple(min(w * factor, float(np.finfo(float).max)) for w in scaled_widths)
-    shift = (-0.5 if whole else 0.0) / factor
-    low_s, high_s = low / factor, high / factor
-    plan = engine_bins._fine_resolution(scaled_widths, offsets)
-    counters: list[BinCounts] = []
-    if plan is not None:
-        step, period = plan
-        origin = (math.floor((low_s - shift) / (step * period)) - 1) * period
-        fine_bins = (high_s - shift) / step - origin + 2
-        if fine_bins > engine_bins.MAX_FINE_BINS:
-            raise NarratorError(f"bin sensitivity: a width of {min(widths):g} is too narrow"
-                                f" for values spanning {(high_s - low_s) * factor:g}")
-        tolerance = engine_bins._edge_tolerance(low_s, high_s, step, shift)
-        last = int(engine_bins._bin_index(np.array([high_s]), step, shift, float(origin), tolerance)[0])
-        counters.append(_scaled_counter(step, shift, float(origin), tolerance, last + 1, factor))
-    else:
-        for w in scaled_widths:
-            for o in offsets:
-                w_shift = shift + o * w
-                tolerance = engine_bins._edge_tolerance(low_s, high_s, w, w_shift)
-                first = engine_bins._first_index(low_s, w, w_shift, tolerance)
-                last = int(engine_bins._bin_index(np.array([high_s]), w, w_shift, first, tolerance)[0])
-                counters.append(_scaled_counter(w, w_shift, first, tolerance, last + 1, factor))
-    return SensitivityLayout(float(base_width), widths, scaled_widths, tuple(float(o) for o in offsets), factor,
-                             shift, plan, tuple(counters))
-
-
-def _scaled_counter(width, shift, first, tolerance, bins, factor) -> BinCounts:
-    return BinCounts(width, shift, first, tolerance, bins, clip=True, factor=factor)
+    """The grids :func:`narrator.engine.bins.bin_sensitivity` counts into (the engine's
+    :func:`~narrator.engine.bins.sensitivity_grid`), with a pass summary for each."""
+    grid = engine_bins.sensitivity_grid(low, high, base_width, width_factors=width_factors, offsets=offsets,
+                                        integer_valued=integer_valued)
+    counters = tuple(BinCounts(width, shift, first, tolerance, bins, clip=True, factor=grid.factor)
+                     for width, shift, first, tolerance, bins in grid.grids)
+    return SensitivityLayout(grid, counters)
 
 
 def sensitivity_from_counts(layout: SensitivityLayout, counters) -> BinSensitivity:
-    peak_counts: list[tuple[int, ...]] = []
-    if layout.fine is not None:
-        step, _ = layout.fine
-        fine_counts = counters[0].counts
-        for w in layout.scaled_widths:
-            steps_per_bin = round(w / step)
-            row = []
-            for o in layout.offsets:
-                shifted = fine_counts[round(o * w / step):]
-                padding = (-shifted.size) % steps_per_bin
-                coarse = np.concatenate((shifted, np.zeros(padding, dtype=shifted.dtype)))
-                row.append(engine_bins.count_visible_peaks(coarse.reshape(-1, steps_per_bin).sum(axis=1)))
-            peak_counts.append(tuple(row))
-    else:
-        columns = len(layout.offsets)
-        for i in range(len(layout.scaled_widths)):
-            peak_counts.append(tuple(engine_bins.count_visible_peaks(counters[i * columns + j].counts)
-                                     for j in range(columns)))
-    flat = [count for row in peak_counts for count in row]
-    return BinSensitivity(
-        base_width=layout.base_width, widths=layout.widths, offsets=layout.offsets,
-        peak_counts=tuple(peak_counts), sensitive=len(set(flat)) > 1, min_peaks=min(flat), max_peaks=max(flat),
-    )
+    return engine_bins.sensitivity_from_counts(layout.grid, [counter.counts for counter in counters])
 
 
 @dataclass(frozen=True, slots=True)
