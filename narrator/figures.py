@@ -153,7 +153,7 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     plan = _require(findings.histogram, "histogram", "a bin plan")
     # Far-out values would squeeze the bulk: the engine's focused plan bins the bulk at the rule's width.
     plan = findings.histogram_focus or plan
-    curve_of = findings.density_focus if findings.histogram_focus is not None else findings.density
+    curve_of = findings.density_focus or findings.density  # the focused curve comes with the focused plan
     center = _require(findings.center, "histogram", "a mean and median")
     numbers = NumberFormatter(locale)
     edges = np.asarray(plan.edges, dtype=float)

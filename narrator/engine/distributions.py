@@ -227,13 +227,7 @@ def binomial_cdf(k: float, n: int, p: float) -> float:
     >>> binomial_cdf(1, 4, 0.5)
     0.3125
     """
-    k = math.floor(k)
-    if k < 0:
-        return 0.0
-    if k >= n:
-        return 1.0
-    lower, upper = _binomial_tails(k, int(n), float(p))
-    return lower
+    return _tails_at(k, n, p)[0]
 
 
 def binomial_sf(k: float, n: int, p: float) -> float:
@@ -242,13 +236,17 @@ def binomial_sf(k: float, n: int, p: float) -> float:
     >>> binomial_sf(2, 4, 0.5)
     0.3125
     """
+    return _tails_at(k, n, p)[1]
+
+
+def _tails_at(k: float, n: int, p: float) -> tuple[float, float]:
+    """(P(B <= k), P(B > k)) for any k: k is floored, and outside 0..n-1 the tails are 0 and 1."""
     k = math.floor(k)
     if k < 0:
-        return 1.0
+        return 0.0, 1.0
     if k >= n:
-        return 0.0
-    lower, upper = _binomial_tails(k, int(n), float(p))
-    return upper
+        return 1.0, 0.0
+    return _binomial_tails(k, int(n), float(p))
 
 
 def binomial_ppf(q: float, n: int, p: float) -> float:

@@ -111,15 +111,8 @@ def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, fl
     """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; span = (lowest, highest)."""
     low, high = ctx.memo_recorded(span[0]), ctx.memo_recorded(span[1])
     shown = low if low == high else ctx.text("format.range", low=low, high=high)
-    return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=_count_word(ctx, count, "value"), span=shown)
-
-
-def _count_word(ctx: WordingContext, n: int, noun: str) -> str:
-    """The count alone, spelled out when small, agreeing with the noun's gender (es: "un valor")."""
-    bank = ctx.bank
-    if 0 <= n <= bank.spell_out_max:
-        return bank.number_word(n, bank.noun(noun).gender)
-    return ctx.fmt.compact(n) if n >= 1_000_000 else ctx.whole(n)  # as NumberFormatter.count words it
+    number = ctx.fmt.count_number(count, "value")
+    return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=number, span=shown)
 
 
 def _outliers(ctx: WordingContext) -> list[Sentence]:

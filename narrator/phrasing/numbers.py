@@ -309,17 +309,20 @@ class NumberFormatter:
         (by CLDR plural category) come from the phrase bank.
         """
         n = int(n)
+        noun = self.bank.noun(noun_key)
+        word = noun.forms.get(self.locale.plural_form(n), noun.forms["other"])
+        return self.bank.format("format.count", number=self.count_number(n, noun_key, spell_out=spell_out), noun=word)
+
+    def count_number(self, n: int, noun_key: str, *, spell_out: bool = True) -> str:
+        """The number part of :meth:`count`: spelled out when small (agreeing with the noun's
+        gender), "3.5 million" from a million up, else the whole number."""
+        n = int(n)
         bank = self.bank
-        noun = bank.noun(noun_key)
-        category = self.locale.plural_form(n)
-        word = noun.forms.get(category, noun.forms["other"])
         if spell_out and 0 <= n <= bank.spell_out_max:
-            number = bank.number_word(n, noun.gender)
-        elif abs(n) >= 1_000_000:
-            number = self.compact(n)
-        else:
-            number = self.fixed(n, 0)
-        return bank.format("format.count", number=number, noun=word)
+            return bank.number_word(n, bank.noun(noun_key).gender)
+        if abs(n) >= 1_000_000:
+            return self.compact(n)
+        return self.fixed(n, 0)
 
     def list(self, items: Sequence[str], style: str = "standard") -> str:
         """Items joined by the locale's CLDR list pattern: "a, b, and c" (en_US), "a, b y c" (es)."""
