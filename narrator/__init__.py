@@ -13,7 +13,7 @@ Name                What it is
 from narrator.engine.describe import describe
 from narrator.errors import NarratorError
 from narrator.findings import Findings
-from narrator.sample import Sample
+from narrator.reading.sample import Sample
 
 __version__ = "0.1.0"
 

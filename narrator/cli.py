@@ -74,8 +74,8 @@ def add_reading_options(parser: argparse.ArgumentParser) -> None:
 
 def read_and_describe(args: argparse.Namespace):
     """Read the column the options name and describe it: (sample, findings)."""
-    from narrator.data import read_column
     from narrator.engine.describe import describe
+    from narrator.reading.columns import read_column
     from narrator.scale.entry import choose_engine, describe_large
 
     engine = choose_engine(getattr(args, "engine", None), args.file)
@@ -226,9 +226,9 @@ def command_draft(args: argparse.Namespace) -> int:
         if choose_engine(args.engine, args.file) != "memory":
             raise NarratorError("--group-by works with the memory engine only")
         return _draft_by_group(args)
-    from narrator.drawing import DrawingHelper, worth_a_helper
+    from narrator.figures.helper_process import DrawingHelper, worth_a_helper
 
-    # A large input: a helper process loads the plotting library while this one reads (narrator.drawing).
+    # A large input: a helper process loads the plotting library while this one reads (narrator.figures.helper_process).
     helper = DrawingHelper.start() if worth_a_helper(args.file) else None
     try:
         sample, found = read_and_describe(args)
@@ -245,7 +245,7 @@ def command_draft(args: argparse.Namespace) -> int:
 
 
 def _draft_by_group(args: argparse.Namespace) -> int:
-    from narrator.collection import VariableRequest, analyse_file
+    from narrator.groups.analysis import VariableRequest, analyse_file
     from narrator.progress import progress_for
     from narrator.report import report_from_collection
 
@@ -312,9 +312,9 @@ def command_demo(args: argparse.Namespace) -> int:
 
 
 def command_compare(args: argparse.Namespace) -> int:
-    from narrator.changes import compare, read_sidecar
-    from narrator.phrasing.changes import changes_section
+    from narrator.history.changes import compare, read_sidecar
     from narrator.phrasing.narrative import Narrative
+    from narrator.phrasing.what_changed import changes_section
 
     old, _ = read_sidecar(args.old)
     new, _ = read_sidecar(args.new)

@@ -50,9 +50,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from narrator.collection import DEFAULT_PRIVACY_THRESHOLD, VariableRequest
 from narrator.errors import NarratorError
 from narrator.findings import OUTLIER_RULES
+from narrator.groups.analysis import DEFAULT_PRIVACY_THRESHOLD, VariableRequest
 
 AUDIENCE_NAMES = ("memo", "methods", "full")  # as narrator.phrasing.planner.AUDIENCES
 
@@ -501,11 +501,11 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
 def _previous_findings(report_path: Path):
     """The findings of the previous build of ``report_path`` (its sidecar), or None when there is none.
 
-    Either sidecar kind is read (:func:`narrator.findings_set.loads_any`); a
+    Either sidecar kind is read (:func:`narrator.history.sidecar.loads_any`); a
     sidecar that cannot be read is an error rather than silently ignored, so
     a damaged file does not make "what changed" quietly disappear.
     """
-    from narrator.findings_set import loads_any
+    from narrator.history.sidecar import loads_any
     from narrator.safe_io import sidecar_path
 
     sidecar = sidecar_path(report_path)
@@ -528,7 +528,7 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
     give the overview-and-parts report of
     :func:`narrator.report.report_from_collection`.
     """
-    from narrator.collection import analyse_file
+    from narrator.groups.analysis import analyse_file
     from narrator.report import report_from_collection, report_from_findings
 
     announce = step or (lambda _what: None)
@@ -619,12 +619,12 @@ def starter_recipe(
 ) -> str:
     """The text of a starter recipe for ``data_file``, with a comment on every key.
 
-    The numeric columns found (:func:`narrator.data.list_numeric_columns`) are
+    The numeric columns found (:func:`narrator.reading.columns.list_numeric_columns`) are
     listed: the first as an active ``[[variables]]`` table, the others as
     commented-out tables to keep or delete. ``path`` is written relative to
     the folder the recipe will be in.
     """
-    from narrator.data import list_numeric_columns
+    from narrator.reading.columns import list_numeric_columns
 
     columns = list_numeric_columns(data_file, sheet=sheet, decimal_comma=decimal_comma)
     data_path = Path(data_file).resolve()

@@ -28,23 +28,23 @@ from typing import TYPE_CHECKING, Any
 
 from babel.dates import format_date
 
-from narrator.changes import baseline_for, compare, findings_pair, sidecar_payload
 from narrator.errors import NarratorError
 from narrator.findings import Findings
-from narrator.findings_set import is_set
+from narrator.history.changes import baseline_for, compare, findings_pair, sidecar_payload
+from narrator.history.sidecar import is_set
 from narrator.phrasing import narrate
 from narrator.phrasing.bank import PhraseBank, load_bank
-from narrator.phrasing.changes import changes_section
 from narrator.phrasing.narrative import Narrative
 from narrator.phrasing.numbers import NumberFormatter, parse_locale
+from narrator.phrasing.what_changed import changes_section
+from narrator.reading.sample import Sample
 from narrator.safe_io import sidecar_path
-from narrator.sample import Sample
 
 if TYPE_CHECKING:
-    from narrator.collection import Collection
-    from narrator.drawing import DrawingHelper
-    from narrator.findings_set import FindingsSet
-    from narrator.rendered import RenderedFigure
+    from narrator.figures.helper_process import DrawingHelper
+    from narrator.figures.rendered import RenderedFigure
+    from narrator.groups.analysis import Collection
+    from narrator.history.sidecar import FindingsSet
     from narrator.writer import ReportFrame
 
 # Reading options kept in Sample.source that a reader needs to read the file
@@ -94,13 +94,13 @@ def build_report(
 ) -> ReportOutcome:
     """Read ``column`` of the file at ``path``, describe it and write the report to ``output``.
 
-    ``read_options`` go to :func:`narrator.data.read_column`, ``describe_options``
+    ``read_options`` go to :func:`narrator.reading.columns.read_column`, ``describe_options``
     to :func:`narrator.engine.describe.describe`, and ``report_options`` to
     :func:`report_from_findings` (audience, locale, currency, title,
     organisation, template, author, generated_at).
     """
-    from narrator.data import read_column
     from narrator.engine.describe import describe
+    from narrator.reading.columns import read_column
 
     sample = read_column(path, column, **dict(read_options or {}))
     findings = describe(sample, **dict(describe_options or {}))
@@ -126,7 +126,7 @@ def report_from_findings(
     """Narrate ``findings`` for the audience, draw the figures, write report and sidecar.
 
     The document's author property is ``author``, else ``organisation``, else
-    empty: never the operating-system user. A started :class:`~narrator.drawing.DrawingHelper`
+    empty: never the operating-system user. A started :class:`~narrator.figures.helper_process.DrawingHelper`
     draws the figures in its own process (the same figures); without one, or if it fails,
     they are drawn here.
     """
@@ -161,7 +161,7 @@ def report_from_findings(
     sidecar_text = json.dumps(sidecar_payload(findings, baseline), indent=2, ensure_ascii=False, allow_nan=False)
     figures = drawing.collect() if drawing is not None else None
     if figures is None:
-        from narrator.figures import render_figures
+        from narrator.figures.charts import render_figures
 
         figures = render_figures(findings, sample, narrative, locale=locale)
     sidecar = write_report(
@@ -296,21 +296,21 @@ def report_from_collection(
 ) -> ReportOutcome:
     """One report on several variables and/or groups: overview, a part per variable, the set sidecar.
 
-    The narrative comes from :func:`narrator.phrasing.collection.narrate_set`;
+    The narrative comes from :func:`narrator.phrasing.sets.narrate_set`;
     each variable's figures are drawn from its own findings and sample, the
     side-by-side group figure from the shown groups only. The sidecar is the
-    findings set (:mod:`narrator.findings_set`). ``ReportOutcome.findings`` is
+    findings set (:mod:`narrator.history.sidecar`). ``ReportOutcome.findings`` is
     the first variable's overall findings.
 
     ``previous`` is the findings set of the last build of this report (its
     sidecar). Each variable is matched with the previous variable of the same
     name; the build it is compared with follows
-    :func:`narrator.changes.baseline_for` (unchanged data keep the last
+    :func:`narrator.history.changes.baseline_for` (unchanged data keep the last
     comparison, so a rebuild gives the same text), and its part of the report
     gets a "what changed" section.
     """
-    from narrator.findings_set import dumps_set
-    from narrator.phrasing.collection import SetOptions, narrate_set
+    from narrator.history.sidecar import dumps_set
+    from narrator.phrasing.sets import SetOptions, narrate_set
 
     announce = step or (lambda _what: None)
     moment = generation_time(generated_at)
@@ -345,7 +345,7 @@ def report_from_collection(
 
 
 def _baselines(collection: Collection, previous: FindingsSet | None) -> list[Findings | None]:
-    from narrator.changes import baseline_for
+    from narrator.history.changes import baseline_for
 
     if previous is None:
         return []
@@ -358,8 +358,8 @@ def _baselines(collection: Collection, previous: FindingsSet | None) -> list[Fin
 
 
 def _collection_figures(collection: Collection, narrative: Narrative, *, locale: str) -> list[RenderedFigure]:
-    from narrator.figures import DRAWERS
-    from narrator.group_figure import group_rows
+    from narrator.figures.charts import DRAWERS
+    from narrator.figures.group_chart import group_rows
 
     rendered = []
     for text in narrative.figures:

@@ -55,9 +55,9 @@ from docx.shared import Cm, Emu
 
 from narrator import findings as findings_module
 from narrator.errors import NarratorError
+from narrator.figures.rendered import RenderedFigure
 from narrator.findings import Findings
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
-from narrator.rendered import RenderedFigure
 from narrator.resources import template_file
 from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
 

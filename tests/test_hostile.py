@@ -17,7 +17,7 @@ import pytest
 
 import narrator
 from narrator.phrasing.bank import load_bank
-from narrator.sample import LABEL_LENGTH, clean_label
+from narrator.reading.sample import LABEL_LENGTH, clean_label
 from narrator.writer import xml_safe
 
 PACKAGE = Path(narrator.__file__).parent

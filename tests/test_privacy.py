@@ -16,8 +16,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from narrator.data import read_column
 from narrator.engine.describe import describe
+from narrator.reading.columns import read_column
 
 SEED = 11
 

@@ -1,7 +1,9 @@
 """The README's two set-up commands, run as a new user runs them: a fresh copy, a fresh virtual environment.
 
 Slow (it installs the package twice), but it runs in CI: it is what proves
-the README. The inner test run skips this file, or it would recurse.
+the README. Inside the fresh environment the test command runs only the tests
+marked ``smoke`` (tests/conftest.py): the outer run has already run the rest
+in this checkout, and this file is skipped there, or it would recurse.
 """
 
 import os
@@ -63,4 +65,6 @@ def test_test_command_in_a_fresh_environment(tmp_path):
     result = run_readme("test", folder)
     tail = result.stdout[-3000:] + result.stderr[-2000:]
     assert result.returncode == 0, tail
-    assert " passed" in result.stdout and " failed" not in result.stdout.splitlines()[-1]
+    last = result.stdout.strip().splitlines()[-1]
+    assert " passed" in last and " failed" not in last, tail
+    assert " deselected" in last, "the inner run should run only the smoke set: " + last

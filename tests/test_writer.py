@@ -28,7 +28,7 @@ from docx.shared import Pt, RGBColor
 from narrator import findings as findings_module
 from narrator import writer
 from narrator.errors import NarratorError
-from narrator.figures import RenderedFigure
+from narrator.figures.charts import RenderedFigure
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence, Table
 from narrator.report import build_report
 from narrator.safe_io import PAUSE_ENV

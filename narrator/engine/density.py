@@ -81,7 +81,7 @@ sample two-peaked up to 84 % of the time (isolated tail values), 10 % alone
 up to 65 %; with the noise test added it was at most 9 % (Sheather-Jones
 width, 100 lognormal values) and at most 1 % with Silverman's rule, while a
 90/10 mixture of normals 4 SD apart was still found in 98 of 100 samples of
-300. tests/test_density.py repeats a smaller version. The shape rule also asks a second signal to agree before
+300. tests/engine/test_density.py repeats a smaller version. The shape rule also asks a second signal to agree before
 reporting two peaks.
 """
 

@@ -59,7 +59,7 @@ from narrator.findings import (
     Variable,
     WithoutOutliers,
 )
-from narrator.sample import Exclusion, Sample, clean_label, guess_decimals
+from narrator.reading.sample import Exclusion, Sample, clean_label, guess_decimals
 
 DEFAULT_SEED = 20261201
 MAD_NORMAL_SCALE = 1.482602218505602  # 1 / Phi^-1(3/4), as scipy.stats.median_abs_deviation(scale="normal")
@@ -192,8 +192,8 @@ def describe(
 ) -> Findings:
     """Compute every finding about one numeric variable.
 
-    ``values_or_sample`` is a :class:`~narrator.sample.Sample` (from
-    :func:`narrator.data.read_column`) or anything numpy turns into a 1-D float
+    ``values_or_sample`` is a :class:`~narrator.reading.sample.Sample` (from
+    :func:`narrator.reading.columns.read_column`) or anything numpy turns into a 1-D float
     array. Non-finite values are left out and counted. ``lower_bound`` and
     ``upper_bound`` are bounds the quantity cannot cross (0 for a wait); the
     density is reflected there. ``valid_min``/``valid_max`` declare the valid
@@ -201,7 +201,7 @@ def describe(
     ``population=True`` says the rows are the whole population: no intervals.
 
     >>> f = describe([2, 4, 4, 4, 5, 5, 7, 9])
-    >>> f.center.mean, f.center.median, f.spread.sd == np.std([2, 4, 4, 4, 5, 5, 7, 9], ddof=1)
+    >>> f.center.mean, f.center.median, bool(f.spread.sd == np.std([2, 4, 4, 4, 5, 5, 7, 9], ddof=1))
     (5.0, 4.5, True)
     """
     _check_options(outlier_rule, level, bin_rule, bandwidth_rule, lower_bound, upper_bound)

@@ -33,7 +33,7 @@ import numpy as np
 
 from narrator.engine.distributions import binomial_sf
 from narrator.findings import Quality, QualityFlag
-from narrator.sample import Sample
+from narrator.reading.sample import Sample
 
 MIN_FOR_SHAPE = 8  # below this no shape claim (D'Agostino's test needs n >= 8)
 MIN_FOR_CONFIDENT = 20  # below this the text hedges

@@ -18,10 +18,10 @@ keys: ``x``, ``y`` and legend words (``mean``, ``median``, ``density``,
 
 from __future__ import annotations
 
+from narrator.engine.window import histogram_window
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.narrative import FigureText
 from narrator.phrasing.technical import width_text
-from narrator.view import histogram_window
 
 
 def _labels(ctx: WordingContext, key: str, names: tuple[str, ...], **values: str) -> dict[str, str]:
@@ -55,7 +55,7 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
 
 
 def _beyond_the_window(ctx: WordingContext, labels: dict[str, str], caption: str, alt_text: str) -> tuple[str, str]:
-    """Words for a value axis focused on the bulk (narrator.view): labels by the edge, and caption sentences.
+    """Words for a value axis focused on the bulk (narrator.engine.window): labels by the edge, and caption sentences.
 
     A few far-out values would squeeze the bulk into a corner: the figures with a value axis
     show the bulk and say, on the figure and in the caption, what lies beyond the edge.

@@ -18,7 +18,7 @@ Name                             What it is
 
 The mergeable summaries themselves are in :mod:`.summaries`, the exact order
 statistics in sketch brackets in :mod:`.ranks`, and the histogram, bin
-sensitivity and density from counts in :mod:`.pictures`.
+sensitivity and density from counts in :mod:`.layouts`.
 """
 
 from __future__ import annotations

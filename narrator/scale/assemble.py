@@ -76,8 +76,8 @@ from narrator.findings import (
     Variable,
     WithoutOutliers,
 )
-from narrator.sample import Sample, clean_label
-from narrator.scale import pictures
+from narrator.reading.sample import Sample, clean_label
+from narrator.scale import layouts
 from narrator.scale.ranks import (
     BRACKET_MARGIN,
     OrderStatistics,
@@ -311,16 +311,16 @@ def describe_source(
     histogram_layout = sensitivity_layout = density_layout = None
     if has_spread:
         skewness_biased = moments.s3 / moments.s2**1.5 if moments.s2 > 0 else None
-        histogram_layout = pictures.histogram_layout(
+        histogram_layout = layouts.histogram_layout(
             n=n, low=low, high=high, sd=sd * factor, iqr=iqr * factor, rule=bin_rule,
             integer_valued=integer_valued, skewness_biased=skewness_biased)
-        parts["histogram"] = pictures.histogram_counter(histogram_layout)
+        parts["histogram"] = layouts.histogram_counter(histogram_layout)
         if n >= MIN_FOR_SHAPE:
-            sensitivity_layout = pictures.sensitivity_layout(low=low, high=high, base_width=histogram_layout.width,
+            sensitivity_layout = layouts.sensitivity_layout(low=low, high=high, base_width=histogram_layout.width,
                                                              integer_valued=integer_valued)
             for k, counter in enumerate(sensitivity_layout.counters):
                 parts[f"sensitivity{k}"] = counter
-        density_layout = pictures.density_layout(n=n, low=low, high=high, sd=sd * factor, iqr=iqr * factor,
+        density_layout = layouts.density_layout(n=n, low=low, high=high, sd=sd * factor, iqr=iqr * factor,
                                                  rule=bandwidth_rule, lower_bound=lower_bound,
                                                  upper_bound=upper_bound)
         parts["density"] = density_layout.counter()
@@ -342,11 +342,11 @@ def describe_source(
 
     histogram_plan = sensitivity = density_estimate = fine_density = None
     if has_spread:
-        histogram_plan = pictures.histogram_from_counts(histogram_layout, third["histogram"].counts)
+        histogram_plan = layouts.histogram_from_counts(histogram_layout, third["histogram"].counts)
         if sensitivity_layout is not None:
-            sensitivity = pictures.sensitivity_from_counts(
+            sensitivity = layouts.sensitivity_from_counts(
                 sensitivity_layout, [third[f"sensitivity{k}"] for k in range(len(sensitivity_layout.counters))])
-        density_estimate, fine_density = pictures.density_from_counts(density_layout, third["density"].counts,
+        density_estimate, fine_density = layouts.density_from_counts(density_layout, third["density"].counts,
                                                                       keep_fine=True)
 
     shape = classify_shape(ShapeSignals(

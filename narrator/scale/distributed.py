@@ -40,7 +40,7 @@ def _arrow_column(frame):
 
 def _fill(frame, offset: int, empty: Pass, source: ColumnSource) -> Pass:
     """One partition's summaries: the partition read in chunks, as the streaming reader reads a file."""
-    from narrator import data as reading
+    from narrator.reading import columns as reading
 
     plan = empty.empty_copy()  # a worker may hand the same deserialized plan to several partitions
     array = _arrow_column(frame)

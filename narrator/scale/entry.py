@@ -17,7 +17,7 @@ from collections.abc import Iterable
 
 from narrator.errors import NarratorError
 from narrator.findings import Findings
-from narrator.sample import Sample
+from narrator.reading.sample import Sample
 
 ENGINES = ("memory", "stream", "dask")
 

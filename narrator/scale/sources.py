@@ -1,5 +1,5 @@
 """Where the values come from when they do not fit in memory: a folder or glob of Parquet files, or a
-large CSV/TSV file, read in chunks with the cell rules of :mod:`narrator.data`.
+large CSV/TSV file, read in chunks with the cell rules of :mod:`narrator.reading.columns`.
 
 ==========================  ====================================================
 Name                        What it is
@@ -14,7 +14,7 @@ Name                        What it is
 :data:`DEFAULT_CHUNK_ROWS`  rows per chunk (about 8 MB of float64 values)
 ==========================  ====================================================
 
-Rows are numbered as :func:`narrator.data.read_column` numbers them, counted
+Rows are numbered as :func:`narrator.reading.columns.read_column` numbers them, counted
 across the files in name order: the first data row of the first file is row 2
 (as if a header row came first), and each later file continues the count.
 Each chunk's cells go through the same classification (missing tokens, text
@@ -32,9 +32,9 @@ from pathlib import Path
 
 import numpy as np
 
-from narrator import data as reading
 from narrator.errors import NarratorError
-from narrator.sample import Exclusion, Sample
+from narrator.reading import columns as reading
+from narrator.reading.sample import Exclusion, Sample
 
 DEFAULT_CHUNK_ROWS = 1 << 20
 ROWS_KEPT = reading.ROWS_KEPT
@@ -75,7 +75,7 @@ class ColumnSource:
     label: str  # what the report calls the input: a folder, pattern or file name (never the full path)
     column_name: str
     column_index: int  # 0-based among the data columns
-    options: object  # narrator.data reading options
+    options: object  # narrator.reading.columns reading options
     unit: str | None = None
     chunk_rows: int = DEFAULT_CHUNK_ROWS
     encoding: str | None = None
@@ -193,7 +193,7 @@ def open_source(
 ) -> ColumnSource:
     """A :class:`ColumnSource` for a Parquet file, folder or glob, or one CSV/TSV file.
 
-    The reading options mean what they mean for :func:`narrator.data.read_column`. Text files are read
+    The reading options mean what they mean for :func:`narrator.reading.columns.read_column`. Text files are read
     in the declared ``encoding`` (UTF-8 when none is given; a byte-order mark decides when present):
     guessing a fallback codec would need the whole file first.
     """

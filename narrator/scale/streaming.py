@@ -19,7 +19,7 @@ import copy
 
 import numpy as np
 
-from narrator.sample import Sample
+from narrator.reading.sample import Sample
 from narrator.scale.sources import ColumnSource, ReadingSummary
 
 

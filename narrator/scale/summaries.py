@@ -535,7 +535,7 @@ class DistinctValues:
 class PrecisionSummary:
     """Whether every value is a whole number, and the decimals needed to write every value as recorded.
 
-    :func:`narrator.sample.guess_decimals` takes the smallest d at which every value it looks at fits
+    :func:`narrator.reading.sample.guess_decimals` takes the smallest d at which every value it looks at fits
     (|x 10^d - round(x 10^d)| <= 1e-6 max(1, |x 10^d|)), capped. Fitting at d does not imply fitting
     at d + 1 (a tiny value fits at 0 and not at 2), so the summary keeps, for every d up to the cap,
     whether all values seen fit: that merges exactly (a logical and), and the answer is the first d

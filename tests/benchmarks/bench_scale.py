@@ -35,6 +35,7 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # tests/, for helpers.agreement
 from _common import EXTREMES, SEED, run_child  # noqa: E402
 
 STREAM_MEMORY_TARGET_MB = 1536.0
@@ -49,7 +50,7 @@ open(sys.argv[2], "w", encoding="utf-8").write(dumps(result.findings))
 
 MEMORY_CHILD = """
 import sys
-from narrator.data import read_column
+from narrator.reading.columns import read_column
 from narrator.engine.describe import describe
 from narrator.findings import dumps
 open(sys.argv[2], "w", encoding="utf-8").write(dumps(describe(read_column(sys.argv[1], "x"))))
@@ -111,7 +112,7 @@ def _load(path: Path):
 
 def _agreement(reference, candidate) -> tuple[bool, str]:
     """Exact agreement, or agreement except where the recorded approximation reaches (within its bound)."""
-    from narrator.scale.agreement import differences
+    from helpers.agreement import differences
 
     found = differences(reference, candidate)
     if not found:
@@ -172,7 +173,7 @@ def main(argv: list[str] | None = None) -> int:
         except (RuntimeError, subprocess.SubprocessError) as exc:
             print(f"dask: failed: {exc}")
             return 1
-        from narrator.scale.agreement import differences
+        from helpers.agreement import differences
 
         found = differences(stream_findings, _load(output / "dask.json"))
         failed |= bool(found)

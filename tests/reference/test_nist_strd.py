@@ -11,6 +11,8 @@ import pytest
 
 from narrator.engine.moments import central_moments
 
+pytestmark = pytest.mark.smoke  # also run inside the README's fresh environment (tests/conftest.py)
+
 
 def numacc1():
     # NIST StRD NumAcc1: 3 values, certified mean 10000002, SD 1.

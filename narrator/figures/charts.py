@@ -1,0 +1,787 @@
+"""Figures: the pictures a report carries, as PNG bytes with caption and alt text.
+
+==================================  ===============================================
+Name                                What it draws
+==================================  ===============================================
+:class:`RenderedFigure`             one finished picture (PNG bytes, size, texts)
+:func:`render_figures`              every figure the narrative asks for, in order
+:func:`histogram`                   the engine's bin plan, density curve, mean and median
+:func:`dot_plot`                    one dot per value, stacked in the plan's bins
+:func:`with_and_without`            where flagged values sit; how mean and median move
+:func:`bin_sensitivity_panel`       small multiples over the bin widths and offsets tried
+:class:`LocaleTickFormatter`        axis tick labels through the report's number formatter
+:data:`PALETTE`                     the colours used, from Okabe & Ito (2008)
+==================================  ===============================================
+
+Words on a figure (axis titles, the words "mean" and "median", row names) come
+from :attr:`FigureText.labels`, which the phrase builder fills from the phrase
+bank; numbers on the axes go through :class:`narrator.phrasing.numbers.
+NumberFormatter`, so a German report shows ``1.000`` where an English one shows
+``1,000``. The label keys each figure reads are listed in :data:`LABEL_KEYS`.
+
+Design choices, and why:
+
+* Mean and median differ by line style (solid vs dashed), by marker shape and
+  by a direct text label, never by colour alone, so the figure survives
+  grey-scale printing and colour-blind readers.
+* Colours come from the palette of Okabe & Ito (2008, "Color universal design",
+  J*Fly), chosen to stay distinct under the common colour-vision deficiencies.
+* The object-oriented matplotlib API (``Figure`` + ``FigureCanvasAgg``) is used
+  without pyplot: no global figure state, safe from several threads, no display.
+* Every style property is set explicitly rather than read from rcParams, so a
+  user's matplotlibrc cannot change a report, and the PNG bytes are stable
+  (no "Software" or date chunk is written).
+* Beyond :data:`MARKER_LIMIT` values no figure draws one marker per value; the
+  with-and-without view then shows a density band and at most
+  :data:`FLAGGED_DRAW_LIMIT` flagged values.
+
+The stacked dot plot follows Wilkinson (1999, "Dot plots", The American
+Statistician 53), with stacks at the histogram plan's bins (the "histodot"
+variant) so the dot plot and the histogram agree on where values fall.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from collections.abc import Callable, Mapping, Sequence
+
+import numpy as np
+from matplotlib import ticker
+from matplotlib.axes import Axes
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.container import BarContainer
+from matplotlib.figure import Figure
+from matplotlib.font_manager import FontProperties
+from matplotlib.lines import Line2D
+from matplotlib.patches import Rectangle
+from matplotlib.text import Text
+from matplotlib.transforms import blended_transform_factory
+from PIL import Image
+
+from narrator.engine.window import histogram_window
+from narrator.errors import NarratorError
+from narrator.figures.rendered import RenderedFigure
+from narrator.findings import Findings
+from narrator.phrasing.narrative import FigureText, Narrative
+from narrator.phrasing.numbers import NumberFormatter
+from narrator.reading.sample import Sample
+
+# Okabe & Ito (2008) palette, by their names. Only some are used; the rest are
+# kept so a reader of this module sees the whole set the choice was made from.
+PALETTE = {
+    "black": "#000000",
+    "orange": "#E69F00",
+    "sky_blue": "#56B4E9",
+    "bluish_green": "#009E73",
+    "yellow": "#F0E442",
+    "blue": "#0072B2",
+    "vermillion": "#D55E00",
+    "reddish_purple": "#CC79A7",
+}
+BAR_FILL = "#CFE3EE"  # sky blue mixed with white, so lines drawn over the bars stay readable
+BAR_EDGE = "#FFFFFF"
+CURVE = PALETTE["blue"]
+MEAN_COLOUR = PALETTE["vermillion"]
+MEDIAN_COLOUR = PALETTE["black"]
+FLAGGED_COLOUR = PALETTE["vermillion"]
+KEPT_COLOUR = PALETTE["blue"]
+AXIS_GREY = "#555555"
+GRID_GREY = "#E4E4E4"
+MEAN_STYLE = "-"
+MEDIAN_STYLE = (0, (5, 2.5))  # long dashes: distinct from the solid mean line in print
+
+FONT_FAMILY = "DejaVu Sans"  # ships with matplotlib, so every machine draws the same glyphs
+FONT_SIZE = 8.5
+SMALL_FONT_SIZE = 7.5
+DPI = 180
+# 15.2 cm wide fits the text block of A4 and US Letter pages with 2.5 cm margins.
+PAGE_WIDTH_IN = 6.0
+
+# Margins around a single plot, in inches: room for tick labels and axis titles.
+_LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN = 0.75, 0.2, 0.55, 0.15
+
+MARKER_LIMIT = 5_000  # beyond this, no marker per value
+FLAGGED_DRAW_LIMIT = 400
+DOT_PLOT_LIMIT = 1_000  # a dot plot of more values is unreadable; the histogram serves
+MAX_PANEL_BINS = 400
+
+# Label keys each figure needs (a missing one is an error: a figure must not go
+# out with unlabelled marks) and those it uses when given.
+LABEL_KEYS: Mapping[str, tuple[str, ...]] = {
+    "histogram": ("x", "y", "mean", "median"),
+    "dotplot": ("x", "mean", "median"),
+    "with_without": ("mean", "median", "all", "without"),
+    "bin_sensitivity": ("x",),  # plus width_<i> and offset_<j> for every width and offset
+}
+OPTIONAL_LABEL_KEYS: Mapping[str, tuple[str, ...]] = {
+    "histogram": ("density",),
+    "dotplot": ("y", "flagged", "kept"),
+    "with_without": ("x", "y", "flagged", "kept"),  # the value axis takes "x", else "y"
+    "bin_sensitivity": (),  # no count axis: the panels show where peaks are, not counts
+}
+
+
+# --------------------------------------------------------------------------- public
+
+
+def render_figures(
+    findings: Findings, sample: Sample, narrative: Narrative, *, locale: str
+) -> list[RenderedFigure]:
+    """Render every figure the narrative carries a text for, in the narrative's order.
+
+    ``narrative.figures`` holds one :class:`FigureText` per figure the document
+    plan wants; its ``key`` picks the drawing function (see :data:`DRAWERS`).
+    """
+    rendered = []
+    for text in narrative.figures:
+        drawer = DRAWERS.get(text.key)
+        if drawer is None:
+            known = ", ".join(sorted(DRAWERS))
+            raise NarratorError(f"figure {text.key!r} is not one narrator draws (known: {known})")
+        rendered.append(drawer(findings, sample, text, locale=locale))
+    return rendered
+
+
+# --------------------------------------------------------------------------- drawing
+# Each _draw_* builds the matplotlib Figure; the public functions below render it.
+
+
+def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:
+
+    labels = _labels(text, "histogram")
+    plan = _require(findings.histogram, "histogram", "a bin plan")
+    # Far-out values would squeeze the bulk: the engine's focused plan bins the bulk at the rule's width.
+    plan = findings.histogram_focus or plan
+    curve_of = findings.density_focus or findings.density  # the focused curve comes with the focused plan
+    center = _require(findings.center, "histogram", "a mean and median")
+    numbers = NumberFormatter(locale)
+    edges = np.asarray(plan.edges, dtype=float)
+    counts = np.asarray(plan.counts, dtype=float)
+
+    fig, ax = _single_axes(height_in=3.3)
+    _add_bars(ax, edges, counts, linewidth=0.6 if counts.size <= 120 else 0.0)
+    ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
+    top = float(counts.max()) if counts.size else 1.0
+    if curve_of is not None and curve_of.grid:
+        grid = np.asarray(curve_of.grid, dtype=float)
+        curve = np.asarray(curve_of.values, dtype=float) * findings.n * plan.width
+        ax.plot(grid, curve, color=CURVE, linewidth=1.5, zorder=3, solid_capstyle="round")
+        shown = (grid >= edges[0]) & (grid <= edges[-1])
+        top = max(top, float(np.nanmax(curve[shown] if shown.any() else curve)))
+        if labels.get("density"):
+            _label_curve(fig, ax, grid, curve, labels["density"], avoid=(center.mean, center.median))
+    ax.set_ylim(0, top * 1.16 if top > 0 else 1)
+    window = histogram_window(findings)
+    if window is not None:
+        # Show the bulk; the words beside the edge say what lies beyond (narrator.engine.window).
+        ax.set_xlim(_padded(window.low, window.high, 0.01))
+        for key, x, align in (("beyond_high", 0.995, "right"), ("beyond_low", 0.005, "left")):
+            if labels.get(key):
+                ax.text(x, 0.55, labels[key], transform=ax.transAxes, ha=align, va="bottom",
+                        fontproperties=_font(SMALL_FONT_SIZE), color=FLAGGED_COLOUR, zorder=6)
+    _mark_center(ax, center.mean, center.median, labels)
+    _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=True)
+    return fig
+
+
+def _add_bars(ax: Axes, edges: np.ndarray, counts: np.ndarray, *, linewidth: float) -> None:
+    """The histogram's bars, as ``ax.bar(edges[:-1], counts, width=np.diff(edges), align="edge")`` adds them.
+
+    The same rectangles, in the same order, with the same colours, zorder, label and sticky
+    bottom edge, in a BarContainer; but the data limits are updated once for all bars, where
+    Axes.bar updates them bar by bar through transform arithmetic (half the time of the whole
+    figure at 150 bars). The histogram sets both view limits itself, so nothing reads them.
+    """
+    bars = []
+    for left, width, height in zip(edges[:-1], np.diff(edges), counts, strict=True):
+        bar = Rectangle((left, 0.0), width, height, facecolor=BAR_FILL, edgecolor=BAR_EDGE, linewidth=linewidth,
+                        label="_nolegend_", zorder=2)
+        bar.sticky_edges.y.append(0.0)
+        ax.add_artist(bar)
+        bars.append(bar)
+    ax.add_container(BarContainer(bars, datavalues=counts, orientation="vertical", label=""))
+    if bars:
+        ax.update_datalim([(float(edges[0]), 0.0), (float(edges[-1]), float(np.max(counts)))])
+
+
+def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:
+
+    labels = _labels(text, "dotplot")
+    plan = _require(findings.histogram, "dotplot", "a bin plan")
+    center = _require(findings.center, "dotplot", "a mean and median")
+    values = np.asarray(sample.values, dtype=float)
+    if values.size > DOT_PLOT_LIMIT:
+        raise NarratorError(
+            f"a dot plot of {values.size} values would be unreadable (limit {DOT_PLOT_LIMIT}); "
+            "use the histogram"
+        )
+    numbers = NumberFormatter(locale)
+    plan_edges = np.asarray(plan.edges, dtype=float)
+    x_low, x_high = _padded(plan_edges[0], plan_edges[-1], 0.01)
+    axes_width_pt = (PAGE_WIDTH_IN - _LEFT_IN - _RIGHT_IN) * 72.0
+    points_per_unit = axes_width_pt / (x_high - x_low)
+    # At most 3 inches tall; 20 % of the axes height stays free for the mean and median labels.
+    tallest_room_pt = 0.8 * (3.0 - _BOTTOM_IN - _TOP_IN) * 72.0
+    width, index = _dot_bins(
+        values, plan_edges, plan.width, points_per_unit, tallest_room_pt,
+        integer_aligned=plan.integer_aligned,
+    )
+    centers = plan_edges[0] + (np.arange(index.max() + 1 if index.size else 1) + 0.5) * width
+    stack_height = np.bincount(index, minlength=centers.size)
+    tallest = int(stack_height.max()) if values.size else 1
+    diameter_pt = min(width * points_per_unit, tallest_room_pt / max(tallest, 1))
+    # Shrink the figure to the tallest stack, so short stacks leave no empty band.
+    axes_height_pt = max(tallest * diameter_pt / 0.8, 72.0)
+    fig, ax = _single_axes(height_in=axes_height_pt / 72.0 + _BOTTOM_IN + _TOP_IN)
+    ax.set_xlim(x_low, x_high)
+    ax.set_ylim(0, axes_height_pt)  # y in points, so dots stay round
+    order = np.lexsort((values, index))  # within a stack, smaller values at the bottom
+    level = np.empty(values.size, dtype=float)
+    seen: dict[int, int] = {}
+    for position in order:
+        bin_index = int(index[position])
+        level[position] = seen.get(bin_index, 0)
+        seen[bin_index] = seen.get(bin_index, 0) + 1
+    flagged = _flagged_mask(findings, sample)
+    x_dots, y_dots = centers[index], (level + 0.5) * diameter_pt
+    ax.scatter(
+        x_dots[~flagged], y_dots[~flagged], s=(0.86 * diameter_pt) ** 2, marker="o",
+        facecolor=BAR_FILL, edgecolor=CURVE, linewidth=0.7, zorder=3, label=labels.get("kept") or None,
+    )
+    if flagged.any():
+        # Flagged values: filled triangles, so shape and fill (not only colour) set them apart.
+        ax.scatter(
+            x_dots[flagged], y_dots[flagged], s=(1.0 * diameter_pt) ** 2, marker="^",
+            facecolor=FLAGGED_COLOUR, edgecolor=PALETTE["black"], linewidth=0.4, zorder=3,
+            label=labels.get("flagged") or None,
+        )
+        if labels.get("flagged"):
+            _legend(ax, loc="upper right")
+    _mark_center(ax, center.mean, center.median, labels)
+    _finish_axes(ax, numbers, labels["x"], labels.get("y", ""), integer_y=False)
+    # Count ticks: a stack of k dots reaches k * diameter.
+    step = _nice_count_step(tallest)
+    ticks = np.arange(0, tallest + 1, step)
+    ax.yaxis.set_major_locator(ticker.FixedLocator(ticks * diameter_pt))
+    ax.yaxis.set_major_formatter(
+        ticker.FixedFormatter([numbers.fixed(float(t), 0) for t in ticks])
+    )
+    return fig
+
+
+def _draw_with_and_without(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> Figure:
+
+    labels = _labels(text, "with_without")
+    value_axis = labels.get("x") or labels.get("y") or ""
+    center = _require(findings.center, "with_without", "a mean and median")
+    without = findings.without_outliers
+    numbers = NumberFormatter(locale)
+    values = np.asarray(sample.values, dtype=float)
+    flagged_mask = _flagged_mask(findings, sample)
+    flagged = np.sort(values[flagged_mask])
+    kept = values[~flagged_mask]
+
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.0), dpi=DPI, facecolor="white")
+    FigureCanvasAgg(fig)
+    left, right = 1.55 / PAGE_WIDTH_IN, 0.25 / PAGE_WIDTH_IN
+    strip = fig.add_axes((left, 0.54, 1 - left - right, 0.36))
+    rows = fig.add_axes((left, 0.19, 1 - left - right, 0.29), sharex=strip)
+
+    low = float(values.min()) if values.size else 0.0
+    high = float(values.max()) if values.size else 1.0
+    window = histogram_window(findings)
+    if window is not None:  # the bulk, as the histogram shows it; the words by the edge say what lies beyond
+        low, high = window.low, window.high
+        for key, x, align in (("beyond_high", 0.995, "right"), ("beyond_low", 0.005, "left")):
+            if labels.get(key):
+                strip.text(x, 0.98, labels[key], transform=strip.transAxes, ha=align, va="top",
+                           fontproperties=_font(SMALL_FONT_SIZE), color=FLAGGED_COLOUR, zorder=6)
+    strip.set_xlim(_padded(low, high, 0.03))
+    if values.size <= MARKER_LIMIT:
+        jitter = _spread_positions(kept.size)
+        strip.scatter(
+            kept, jitter, s=16, marker="o", facecolor="none", edgecolor=KEPT_COLOUR,
+            linewidth=0.8, zorder=3, label=labels.get("kept") or None,
+        )
+    else:
+        _density_band(strip, findings, kept)
+        if labels.get("kept"):
+            strip.add_line(Line2D([], [], color=BAR_FILL, linewidth=6, label=labels["kept"]))
+    drawn = flagged
+    if flagged.size > FLAGGED_DRAW_LIMIT:
+        drawn = flagged[np.linspace(0, flagged.size - 1, FLAGGED_DRAW_LIMIT).round().astype(int)]
+    strip.scatter(
+        drawn, _spread_positions(drawn.size, phase=0.37), s=30 if drawn.size <= 100 else 14, marker="^",
+        facecolor=FLAGGED_COLOUR, edgecolor=PALETTE["black"], linewidth=0.5, zorder=4,
+        label=labels.get("flagged") or None,
+    )
+    strip.set_ylim(-0.12, 1.12)
+    strip.set_yticks([])
+    for side in ("top", "right", "left", "bottom"):
+        strip.spines[side].set_visible(False)
+    strip.tick_params(axis="x", labelbottom=False, length=0)
+    if labels.get("flagged") or labels.get("kept"):
+        _legend(strip, loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2)
+
+    with_row, without_row = 1.0, 0.0
+    mean_without = without.mean if without is not None and without.mean is not None else center.mean
+    median_without = (
+        without.median if without is not None and without.median is not None else center.median
+    )
+    for start, end, marker, colour, face in (
+        (center.mean, mean_without, "D", MEAN_COLOUR, MEAN_COLOUR),
+        (center.median, median_without, "s", MEDIAN_COLOUR, "white"),
+    ):
+        rows.plot([start, end], [with_row, without_row], color=GRID_GREY, linewidth=1.2, zorder=2)
+        rows.scatter(
+            [start, end], [with_row, without_row], s=38, marker=marker, facecolor=face,
+            edgecolor=colour, linewidth=1.2, zorder=3,
+        )
+    # Direct labels on the upper row, pushed apart so they never overlap.
+    mean_left = center.mean < center.median
+    for x, word, colour, to_left in (
+        (center.mean, labels["mean"], MEAN_COLOUR, mean_left),
+        (center.median, labels["median"], MEDIAN_COLOUR, not mean_left),
+    ):
+        rows.annotate(
+            word, (x, with_row), xytext=(-7 if to_left else 7, 6), textcoords="offset points",
+            ha="right" if to_left else "left", va="bottom", color=colour,
+            fontproperties=_font(SMALL_FONT_SIZE),
+        )
+    rows.set_ylim(-0.6, 1.75)
+    rows.set_yticks([with_row, without_row], [labels["all"], labels["without"]])
+    rows.tick_params(axis="y", length=0, labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY)
+    rows.grid(axis="x", color=GRID_GREY, linewidth=0.6)
+    rows.set_axisbelow(True)
+    for side in ("top", "right", "left"):
+        rows.spines[side].set_visible(False)
+    _style_x(rows, numbers, value_axis)
+    return fig
+
+
+def _draw_bin_sensitivity(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> Figure:
+
+    labels = _labels(text, "bin_sensitivity")
+    sensitivity = _require(findings.shape.bin_sensitivity, "bin_sensitivity", "bin sensitivity results")
+    numbers = NumberFormatter(locale)
+    values = np.asarray(sample.values, dtype=float)
+    if values.size == 0:
+        raise NarratorError("figure 'bin_sensitivity' needs values to draw")
+    widths, offsets = sensitivity.widths, sensitivity.offsets
+    n_rows, n_cols = len(widths), len(offsets)
+    missing = [f"width_{i}" for i in range(n_rows) if not labels.get(f"width_{i}")]
+    missing += [f"offset_{j}" for j in range(n_cols) if not labels.get(f"offset_{j}")]
+    if missing:
+        raise NarratorError(
+            f"figure 'bin_sensitivity': the phrase bank gave no label for {', '.join(missing)}"
+        )
+    panel_height = 0.95
+    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.75 + panel_height * n_rows), dpi=DPI, facecolor="white")
+    FigureCanvasAgg(fig)
+    grid = fig.subplots(n_rows, n_cols, sharex=True, squeeze=False)
+    fig.subplots_adjust(
+        left=1.0 / PAGE_WIDTH_IN, right=0.99, top=1 - 0.3 / fig.get_figheight(),
+        bottom=0.5 / fig.get_figheight(), wspace=0.1, hspace=0.35,
+    )
+    low, high = float(values.min()), float(values.max())
+    plan = findings.histogram
+    whole = findings.variable.integer_valued or (plan is not None and plan.integer_aligned)
+    for row, width in enumerate(widths):
+        for col, offset in enumerate(offsets):
+            ax: Axes = grid[row][col]
+            edges = _offset_edges(low, high, width, offset, half_unit=whole)
+            counts, _ = np.histogram(values, bins=edges)
+            ax.stairs(counts, edges, fill=True, color=BAR_FILL, linewidth=0)
+            ax.stairs(counts, edges, fill=False, color=CURVE, linewidth=0.6)
+            if row == 0:
+                ax.set_title(
+                    labels[f"offset_{col}"],
+                    fontproperties=_font(SMALL_FONT_SIZE - 0.5), pad=4, loc="left",
+                )
+            if col == 0:
+                # Row titles in the left margin, level with the middle of the row.
+                ax.annotate(
+                    labels[f"width_{row}"],
+                    (0, 0.5), xycoords="axes fraction", xytext=(-6, 0), textcoords="offset points",
+                    ha="right", va="center", fontproperties=_font(SMALL_FONT_SIZE - 0.5),
+                )
+            ax.set_yticks([])
+            for side in ("top", "right", "left"):
+                ax.spines[side].set_visible(False)
+            ax.spines["bottom"].set_color(AXIS_GREY)
+            ax.tick_params(
+                axis="x", labelsize=SMALL_FONT_SIZE - 1, labelfontfamily=FONT_FAMILY,
+                colors=AXIS_GREY, length=2,
+            )
+            ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=3, steps=[1, 2, 2.5, 5, 10]))
+            ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
+    grid[0][0].set_xlim(_padded(low, high, 0.02))
+    fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / PAGE_WIDTH_IN)
+    return fig
+
+
+# --------------------------------------------------------------------------- rendering
+
+
+def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+    """Histogram with the engine's bin plan, its density curve, and mean and median lines.
+
+    Bars are the plan's counts (``findings.histogram``); the kernel density
+    estimate (``findings.density``, reflected at a declared bound per Schuster
+    1985) is scaled to counts as ``density * n * bin width`` so both share the
+    count axis. ``sample`` is not read; it is accepted so every drawer has one
+    signature.
+    """
+    return _render(_draw_histogram(findings, sample, text, locale=locale), text)
+
+
+def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+    """Stacked dot plot: one dot per value, stacked within bins aligned to the engine's plan.
+
+    Wilkinson (1999) dot plot, "histodot" form: the dots of a bin are stacked
+    upward at the bin's centre, so the height of a stack is its count and the
+    dot diameter equals the bin width. The bins are the plan's own
+    (``findings.histogram``) or, when the tallest stack would not fit the
+    figure, the plan's bins split into 2, 4, 5, 10... equal parts, so every
+    dot-plot bin lies inside one histogram bin and the two pictures agree.
+    """
+    return _render(_draw_dot_plot(findings, sample, text, locale=locale), text)
+
+
+def with_and_without(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> RenderedFigure:
+    """Where the flagged values sit, and how the mean and median move without them.
+
+    Top: every value as a strip, the flagged ones (``findings.outliers``) drawn
+    as filled triangles and the others as open circles, so shape and fill both
+    tell them apart. Above :data:`MARKER_LIMIT` values the others are drawn as
+    a density band instead, and at most :data:`FLAGGED_DRAW_LIMIT` flagged
+    values, evenly spread over their sorted order. Bottom: two rows, with all
+    values and without the flagged ones, each showing the mean (diamond) and
+    the median (square), joined across rows to show the move.
+    """
+    return _render(_draw_with_and_without(findings, sample, text, locale=locale), text)
+
+
+def bin_sensitivity_panel(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+) -> RenderedFigure:
+    """Small multiples of the histogram at each bin width and offset the engine tried.
+
+    Rows are the widths of ``findings.shape.bin_sensitivity``, columns its
+    offsets (fractions of a bin by which the edges move, as the engine placed
+    them: edges at ``(j + offset) * width``, less half a unit for whole-number
+    data). Row ``i`` is titled with label ``width_<i>``, column ``j`` with
+    ``offset_<j>`` (worded and formatted by the phrase builder). Counts are not
+    labelled: each panel is about where the peaks are, and heights differ.
+    """
+    return _render(_draw_bin_sensitivity(findings, sample, text, locale=locale), text)
+
+
+DRAWERS: Mapping[str, Callable[..., RenderedFigure]] = {
+    "histogram": histogram,
+    "dotplot": dot_plot,
+    "with_without": with_and_without,
+    "bin_sensitivity": bin_sensitivity_panel,
+}
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+class LocaleTickFormatter(ticker.Formatter):
+    """Tick labels through the report's number formatter, all ticks of an axis with one precision."""
+
+    def __init__(self, numbers: NumberFormatter) -> None:
+        self._numbers = numbers
+        self._decimals = 0
+
+    def set_locs(self, locs: Sequence[float]) -> None:
+        self._decimals = _decimals_for(locs)
+
+    def __call__(self, x: float, pos: int | None = None) -> str:
+        if abs(x) < 1e-12:
+            x = 0.0  # never print "-0"
+        return self._numbers.fixed(float(x), self._decimals)
+
+
+def _decimals_for(locs: Sequence[float]) -> int:
+    """Fewest decimals (up to 6) that write every tick exactly."""
+    finite = [float(v) for v in locs if math.isfinite(v)]
+    for decimals in range(7):
+        if all(abs(v - round(v, decimals)) <= 1e-9 * max(1.0, abs(v)) for v in finite):
+            return decimals
+    return 6
+
+
+def _legend(ax: Axes, **placement) -> None:
+    legend = ax.legend(
+        frameon=False, prop=_font(SMALL_FONT_SIZE), handletextpad=0.3, columnspacing=1.4,
+        borderaxespad=0.1, **placement,
+    )
+    for legend_text in legend.get_texts():
+        legend_text.set_color(PALETTE["black"])
+
+
+def _label_curve(
+    fig: Figure, ax: Axes, grid: np.ndarray, curve: np.ndarray, word: str, *, avoid: Sequence[float]
+) -> None:
+    """Name the density curve directly, where the curve has fallen to half its height.
+
+    Tries the right flank (text to the right), then the left flank (text to the
+    left), and takes the first place where the words stay inside the axes and
+    cross neither the mean nor the median line. When none fits, a one-entry
+    key in the upper right corner names the curve instead.
+    """
+    peak = int(np.nanargmax(curve))
+    half = 0.5 * float(curve[peak])
+    x_low, x_high = ax.get_xlim()
+    axes_width_pt, _ = _axes_size_points(fig, ax)
+    text_span = (len(word) * SMALL_FONT_SIZE * 0.6 + 8) * (x_high - x_low) / axes_width_pt
+    right_side = np.nonzero(curve[peak:] <= half)[0]
+    left_side = np.nonzero(curve[: peak + 1] <= half)[0]
+    candidates = []
+    if right_side.size:
+        candidates.append((peak + int(right_side[0]), False))
+    if left_side.size:
+        candidates.append((int(left_side[-1]), True))
+    for index, to_left in candidates:
+        x = float(grid[index])
+        start, end = (x - text_span, x) if to_left else (x, x + text_span)
+        if start < x_low or end > x_high or any(start <= line <= end for line in avoid):
+            continue
+        ax.annotate(
+            word, (x, float(curve[index])), xytext=(-6 if to_left else 6, 4), textcoords="offset points",
+            ha="right" if to_left else "left", va="bottom", color=CURVE,
+            fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
+            bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},
+        )
+        return
+    ax.add_line(Line2D([], [], color=CURVE, linewidth=1.5, label=word))
+    _legend(ax, loc="upper right", bbox_to_anchor=(1.0, 0.9))
+
+
+def _labels(text: FigureText, figure: str) -> Mapping[str, str]:
+    missing = [key for key in LABEL_KEYS[figure] if not text.labels.get(key)]
+    if missing:
+        raise NarratorError(
+            f"figure {figure!r}: the phrase bank gave no label for {', '.join(missing)}"
+        )
+    return text.labels
+
+
+def _require(value, figure: str, what: str):
+    if value is None:
+        raise NarratorError(f"figure {figure!r} needs {what}, and the findings have none")
+    return value
+
+
+def _font(size: float = FONT_SIZE) -> FontProperties:
+    return FontProperties(family=FONT_FAMILY, size=size)
+
+
+def _single_axes(*, height_in: float) -> tuple[Figure, Axes]:
+    """A page-wide figure with one axes at fixed margins (in inches, so sizes are predictable)."""
+    fig = Figure(figsize=(PAGE_WIDTH_IN, height_in), dpi=DPI, facecolor="white")
+    FigureCanvasAgg(fig)
+    left, right, bottom, top = _LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN
+    ax = fig.add_axes((
+        left / PAGE_WIDTH_IN, bottom / height_in,
+        1 - (left + right) / PAGE_WIDTH_IN, 1 - (bottom + top) / height_in,
+    ))
+    return fig, ax
+
+
+def _axes_size_points(fig: Figure, ax: Axes) -> tuple[float, float]:
+    position = ax.get_position()
+    return (
+        position.width * fig.get_figwidth() * 72.0,
+        position.height * fig.get_figheight() * 72.0,
+    )
+
+
+def _finish_axes(
+    ax: Axes, numbers: NumberFormatter, x_label: str, y_label: str, *, integer_y: bool
+) -> None:
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
+    ax.spines["left"].set_color(AXIS_GREY)
+    ax.grid(axis="y", color=GRID_GREY, linewidth=0.6)
+    ax.set_axisbelow(True)
+    ax.yaxis.set_major_locator(ticker.MaxNLocator(nbins=5, integer=integer_y, steps=[1, 2, 2.5, 5, 10]))
+    ax.yaxis.set_major_formatter(LocaleTickFormatter(numbers))
+    ax.tick_params(
+        axis="y", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
+        labelcolor=PALETTE["black"], length=3,
+    )
+    ax.set_ylabel(y_label, fontproperties=_font(FONT_SIZE))
+    _style_x(ax, numbers, x_label)
+
+
+def _style_x(ax: Axes, numbers: NumberFormatter, x_label: str) -> None:
+    ax.spines["bottom"].set_color(AXIS_GREY)
+    ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=8, steps=[1, 2, 2.5, 5, 10]))
+    ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
+    ax.tick_params(
+        axis="x", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
+        labelcolor=PALETTE["black"], length=3,
+    )
+    ax.set_xlabel(x_label, fontproperties=_font(FONT_SIZE))
+
+
+def _mark_center(ax: Axes, mean: float, median: float, labels: Mapping[str, str]) -> None:
+    """Vertical mean (solid) and median (dashed) lines with direct labels on opposite sides."""
+    ax.axvline(mean, color=MEAN_COLOUR, linestyle=MEAN_STYLE, linewidth=1.6, zorder=4)
+    ax.axvline(median, color=MEDIAN_COLOUR, linestyle=MEDIAN_STYLE, linewidth=1.4, zorder=4)
+    at_top = blended_transform_factory(ax.transData, ax.transAxes)
+    mean_left = mean < median
+    for x, word, colour, to_left in (
+        (mean, labels["mean"], MEAN_COLOUR, mean_left),
+        (median, labels["median"], MEDIAN_COLOUR, not mean_left),
+    ):
+        ax.annotate(
+            word, (x, 0.985), xycoords=at_top, xytext=(-4 if to_left else 4, 0),
+            textcoords="offset points", ha="right" if to_left else "left", va="top",
+            color=colour, fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
+            bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},
+        )
+
+
+def _dot_bins(
+    values: np.ndarray,
+    plan_edges: np.ndarray,
+    plan_width: float,
+    points_per_unit: float,
+    room_pt: float,
+    *,
+    integer_aligned: bool,
+) -> tuple[float, np.ndarray]:
+    """The widest split of the plan's bin width whose tallest stack of dots fits ``room_pt``.
+
+    Returns the bin width and each value's bin index (bins counted from the
+    plan's first edge, right-open as in numpy.histogram, the last one closed).
+    Whole-number data keep whole-number bins, so no stack sits between two
+    possible values. When no split fits, the narrowest allowed one is returned
+    and the caller shrinks the dots.
+    """
+    start, stop = float(plan_edges[0]), float(plan_edges[-1])
+    splits = [
+        parts for parts in (1, 2, 4, 5, 10, 20, 25, 50, 100)
+        if not integer_aligned or float(plan_width / parts).is_integer()
+    ]
+    for parts in splits:
+        width = plan_width / parts
+        last = max(0, math.ceil((stop - start) / width - 1e-9) - 1)
+        index = np.clip(np.floor((values - start) / width).astype(np.int64), 0, last)
+        tallest = int(np.bincount(index).max()) if values.size else 1
+        if tallest * width * points_per_unit <= room_pt:
+            return width, index
+    return width, index
+
+
+def _padded(low: float, high: float, share: float) -> tuple[float, float]:
+    span = high - low
+    if not span > 0:
+        span = abs(low) if low else 1.0
+    return low - share * span, high + share * span
+
+
+def _nice_count_step(tallest: int) -> int:
+    for step in (1, 2, 5, 10, 20, 25, 50, 100, 200, 250, 500):
+        if tallest / step <= 6:
+            return step
+    return 1000
+
+
+def _spread_positions(count: int, phase: float = 0.0) -> np.ndarray:
+    """Vertical positions in [0, 1] for a strip, spread by the golden-ratio sequence.
+
+    A low-discrepancy sequence (Weyl's equidistribution) separates
+    neighbouring points as random jitter would, but with no random numbers, so
+    the picture is the same on every run.
+    """
+    golden = (math.sqrt(5) - 1) / 2
+    return ((np.arange(count) * golden + phase) % 1.0) * 0.9 + 0.05
+
+
+def _density_band(ax: Axes, findings: Findings, kept: np.ndarray) -> None:
+    """A mirrored density band (the values' spread) for strips too large to draw one by one."""
+    curve_of = findings.density_focus or findings.density  # the focused curve when the axis shows the bulk
+    if curve_of is not None and curve_of.grid:
+        grid = np.asarray(curve_of.grid, dtype=float)
+        height = np.asarray(curve_of.values, dtype=float)
+    else:
+        counts, edges = np.histogram(kept, bins=200)
+        grid = (edges[:-1] + edges[1:]) / 2
+        height = counts.astype(float)
+    peak = float(height.max()) if height.size and height.max() > 0 else 1.0
+    half = 0.45 * height / peak
+    ax.fill_between(grid, 0.5 - half, 0.5 + half, color=BAR_FILL, linewidth=0, zorder=2)
+    ax.plot(grid, 0.5 + half, color=CURVE, linewidth=0.8, zorder=3)
+    ax.plot(grid, 0.5 - half, color=CURVE, linewidth=0.8, zorder=3)
+
+
+def _flagged_mask(findings: Findings, sample: Sample) -> np.ndarray:
+    values = np.asarray(sample.values, dtype=float)
+    outliers = findings.outliers
+    if outliers is None or outliers.count == 0:
+        return np.zeros(values.size, dtype=bool)
+    if outliers.rows and len(outliers.rows) == outliers.count:
+        return np.isin(np.asarray(sample.rows), np.asarray(outliers.rows))
+    # Rows not recorded for every flagged value: fall back to the fences.
+    mask = np.zeros(values.size, dtype=bool)
+    if outliers.lower_fence is not None:
+        mask |= values < outliers.lower_fence
+    if outliers.upper_fence is not None:
+        mask |= values > outliers.upper_fence
+    return mask
+
+
+def _offset_edges(low: float, high: float, width: float, offset: float, *, half_unit: bool) -> np.ndarray:
+    """Bin edges ``(j + offset) * width`` (less 0.5 for whole-number data) covering [low, high].
+
+    The same placement as :func:`narrator.engine.bins.bin_sensitivity`, so each
+    panel is the histogram whose peaks the engine counted.
+    """
+    if not width > 0:
+        raise NarratorError(f"bin width must be positive, not {width}")
+    shift = offset * width - (0.5 if half_unit else 0.0)
+    start = math.floor((low - shift) / width) * width + shift
+    count = max(1, math.ceil((high - start) / width + 1e-9))
+    if count > MAX_PANEL_BINS:
+        count = MAX_PANEL_BINS
+        width = (high - start) / count
+    edges = start + width * np.arange(count + 1)
+    if edges[-1] <= high:  # numpy's last bin is closed; make sure the maximum is inside it
+        edges = np.append(edges, edges[-1] + width)
+    return edges
+
+
+def _render(fig: Figure, text: FigureText) -> RenderedFigure:
+    canvas = fig.canvas
+    # Words on a figure can come from the data (a column named "$x$ and $y$"):
+    # they are drawn as written, never read as mathtext markup.
+    for artist in fig.findobj(Text):
+        artist.set_parse_math(False)
+    canvas.draw()
+    rgba = np.asarray(canvas.buffer_rgba())
+    # Opaque RGB on white: no alpha channel (which PDF converters split into a
+    # second "soft mask" image), and no text chunks (no software name, no
+    # time), so the same figure gives the same bytes.
+    buffer = io.BytesIO()
+    Image.fromarray(np.ascontiguousarray(rgba[..., :3])).save(buffer, format="PNG", dpi=(DPI, DPI))
+    height_px, width_px = rgba.shape[:2]
+    return RenderedFigure(
+        key=text.key,
+        png=buffer.getvalue(),
+        width_px=int(width_px),
+        height_px=int(height_px),
+        caption=text.caption,
+        alt_text=text.alt_text,
+    )

