@@ -40,13 +40,13 @@ def _arrow_column(frame):
 
 def _fill(frame, offset: int, empty: Pass, source: ColumnSource) -> Pass:
     """One partition's summaries: the partition read in chunks, as the streaming reader reads a file."""
-    from narrator.reading import columns as reading
+    from narrator.reading.parquet import parquet_cells
 
     plan = empty.empty_copy()  # a worker may hand the same deserialized plan to several partitions
     array = _arrow_column(frame)
     for start in range(0, len(array), source.chunk_rows):
         part = array.slice(start, source.chunk_rows)
-        plan.feed(source.sample_of(reading._parquet_cells(part, source.options), offset + start))
+        plan.feed(source.sample_of(parquet_cells(part, source.options), offset + start))
     return plan
 
 

@@ -68,12 +68,7 @@ def describe_large(
         raise NarratorError(f"describe_large runs the stream or dask engine, not {engine!r}")
     reading = dict(unit=unit, decimal_comma=decimal_comma, missing=tuple(missing), valid_min=valid_min,
                    valid_max=valid_max, chunk_rows=chunk_rows or DEFAULT_CHUNK_ROWS)
-    try:
-        source = open_source(path, column, **reading)
-    except NarratorError:
-        if not (isinstance(column, str) and column.isdigit()):
-            raise
-        source = open_source(path, int(column), **reading)
+    source = open_source(path, column, **reading)
     runner = None
     if engine == "dask":
         from narrator.scale.distributed import DaskRunner

@@ -1,5 +1,5 @@
 """Where the values come from when they do not fit in memory: a folder or glob of Parquet files, or a
-large CSV/TSV file, read in chunks with the cell rules of :mod:`narrator.reading.columns`.
+large CSV/TSV file, read in chunks with the cell rules of :mod:`narrator.reading.cells`.
 
 ==========================  ====================================================
 Name                        What it is
@@ -18,7 +18,9 @@ Rows are numbered as :func:`narrator.reading.columns.read_column` numbers them, 
 across the files in name order: the first data row of the first file is row 2
 (as if a header row came first), and each later file continues the count.
 Each chunk's cells go through the same classification (missing tokens, text
-parsing, non-finite values, the valid range) as a whole file read in memory.
+parsing, non-finite values, the valid range) as a whole file read in memory,
+and a text file through the same reader (:mod:`narrator.reading.text_files`):
+the same codec, delimiter, header, row checks and limits.
 """
 
 from __future__ import annotations
@@ -33,12 +35,13 @@ from pathlib import Path
 import numpy as np
 
 from narrator.errors import NarratorError
-from narrator.reading import columns as reading
+from narrator.reading import parquet
+from narrator.reading.cells import EXAMPLES_KEPT, EXCLUSION_REASONS, ROWS_KEPT, CellRules, build_sample, cell_rules
+from narrator.reading.files import check_file, file_sha256, select_column, shown_name
 from narrator.reading.sample import Exclusion, Sample
+from narrator.reading.text_files import TextLayout, text_column_cells, text_layout
 
 DEFAULT_CHUNK_ROWS = 1 << 20
-ROWS_KEPT = reading.ROWS_KEPT
-EXAMPLES_KEPT = reading.EXAMPLES_KEPT
 _PARQUET_SUFFIXES = (".parquet", ".pq")
 _TEXT_FORMATS = {".csv": "csv", ".tsv": "tsv", ".tab": "tsv"}
 
@@ -75,12 +78,13 @@ class ColumnSource:
     label: str  # what the report calls the input: a folder, pattern or file name (never the full path)
     column_name: str
     column_index: int  # 0-based among the data columns
-    options: object  # narrator.reading.columns reading options
+    options: CellRules  # the cell rules (narrator.reading.cells)
     unit: str | None = None
     chunk_rows: int = DEFAULT_CHUNK_ROWS
     encoding: str | None = None
     delimiter: str | None = None
     facts: dict = field(default_factory=dict)
+    layout: TextLayout | None = None  # a text file's codec, delimiter and header (narrator.reading.text_files)
 
     def chunks(self) -> Iterator[Sample]:
         """One Sample per chunk, rows numbered across the whole input."""
@@ -94,71 +98,49 @@ class ColumnSource:
             yield from self._text_chunks()
 
     def parquet_file_chunks(self, path: Path, offset: int) -> Iterator[Sample]:
-        parquet = reading._parquet_file(path)
-        self._check_column(parquet, path)
-        name = parquet.schema_arrow.names[reading._parquet_positions(parquet)[self.column_index]]
+        opened = parquet.open_parquet(path)
+        self._check_column(opened, path)
+        name = opened.schema_arrow.names[parquet.data_columns(opened)[0][self.column_index]]
         try:
-            for batch in parquet.iter_batches(batch_size=self.chunk_rows, columns=[name]):
-                yield self.sample_of(reading._parquet_cells(batch.column(0), self.options), offset)
+            for batch in opened.iter_batches(batch_size=self.chunk_rows, columns=[name]):
+                yield self.sample_of(parquet.parquet_cells(batch.column(0), self.options), offset)
                 offset += batch.num_rows
         except Exception as exc:  # pyarrow raises several kinds for a damaged file
-            if isinstance(exc, NarratorError):
+            if isinstance(exc, NarratorError | MemoryError):
                 raise
-            raise NarratorError(f"{path.name}: column '{name}' cannot be read ({exc})") from None
+            raise NarratorError(f"{shown_name(path.name)}: column '{shown_name(name)}' cannot be read "
+                                f"({shown_name(' '.join(str(exc).split()), 120)})") from None
 
     def parquet_rows(self, path: Path) -> int:
-        return int(reading._parquet_file(path).metadata.num_rows)
+        return int(parquet.open_parquet(path).metadata.num_rows)
 
-    def _check_column(self, parquet, path: Path) -> None:
-        positions = reading._parquet_positions(parquet)
-        headers = [parquet.schema_arrow.names[k] for k in positions]
-        index = reading._select_column(headers, self.column_name, path.name)
+    def _check_column(self, opened, path: Path) -> None:
+        _positions, headers = parquet.data_columns(opened)
+        index = select_column(headers, self.column_name, shown_name(path.name))
         if index != self.column_index:
-            raise NarratorError(f"{path.name}: column '{self.column_name}' is column {index + 1} here but "
-                                f"column {self.column_index + 1} in the first file; the files must share a layout")
+            raise NarratorError(f"{shown_name(path.name)}: column '{shown_name(self.column_name)}' is column "
+                                f"{index + 1} here but column {self.column_index + 1} in the first file; the files "
+                                "must share a layout")
 
     def sample_of(self, cells, offset: int) -> Sample:
         """A chunk's cells as a Sample; row numbers start at ``offset`` + 2."""
         rows = np.arange(offset + 2, offset + 2 + cells.values.size, dtype=np.int64)
         source = {"column_position": self.column_index + 1}
-        return reading._build_sample(cells, rows, self.column_name, self.unit, self.options, source)
+        return build_sample(cells, rows, self.column_name, self.unit, self.options, source)
 
     def _text_chunks(self) -> Iterator[Sample]:
-        import pandas as pd
-
-        path = self.paths[0]
-        try:
-            reader = pd.read_csv(path, sep=self.delimiter, header=None, dtype=str, keep_default_na=False,
-                                 na_values=[], skip_blank_lines=False, chunksize=self.chunk_rows,
-                                 encoding=self.encoding, engine="c", skiprows=1)
-            offset = 0
-            pending: list = []  # blank rows held back: blank rows at the very end are not data rows
-            for frame in reader:
-                filled = frame.fillna("").apply(lambda column: column.str.strip().ne("")).any(axis=1).to_numpy()
-                cells_frame = frame.iloc[:, self.column_index] if self.column_index < frame.shape[1] else \
-                    pd.Series([""] * len(frame), dtype=object)
-                column = list(pending) + cells_frame.tolist()
-                filled_all = np.concatenate([np.zeros(len(pending), dtype=bool), filled])
-                last = int(np.flatnonzero(filled_all)[-1]) if filled_all.any() else -1
-                emit, pending = column[: last + 1], column[last + 1 :]
-                if emit:
-                    series = pd.Series(emit, dtype=object)
-                    cells = reading._text_column_cells(series, self.options)
-                    yield self.sample_of(cells, offset)
-                    offset += len(emit)
-        except UnicodeDecodeError as exc:
-            raise NarratorError(f"{path.name}: the file cannot be read as {self.encoding or 'utf-8'} ({exc.reason}); "
-                                f"give the file's encoding") from None
-        except pd.errors.ParserError as exc:
-            raise NarratorError(f"{path.name}: cannot be read as {self.kind.upper()} ({exc})") from None
+        offset = 0
+        for cells in text_column_cells(self.layout, self.column_index, self.options, chunk_rows=self.chunk_rows):
+            yield self.sample_of(cells, offset)
+            offset += len(cells)
 
     def input_sha256(self) -> str:
         """SHA-256 of the input: of the file itself, or of the list of (name, SHA-256) of every file."""
         if len(self.paths) == 1 and self.kind != "parquet":
-            return reading.file_sha256(self.paths[0])
+            return file_sha256(self.paths[0])
         digest = hashlib.sha256()
         for path in self.paths:
-            digest.update(f"{path.name}\t{reading.file_sha256(path)}\n".encode())
+            digest.update(f"{path.name}\t{file_sha256(path)}\n".encode())
         return digest.hexdigest()
 
     def provenance(self) -> dict:
@@ -173,8 +155,8 @@ class ColumnSource:
             "sha256": self.input_sha256(),
             "sheet": None,
             "encoding": self.encoding,
-            "encoding_guessed": False,
-            "delimiter": None if self.delimiter in (None, reading._ONE_COLUMN) else self.delimiter,
+            "encoding_guessed": self.layout.encoding_guessed if self.layout is not None else False,
+            "delimiter": self.layout.shown_delimiter if self.layout is not None else None,
             **self.facts,
         }
 
@@ -193,9 +175,9 @@ def open_source(
 ) -> ColumnSource:
     """A :class:`ColumnSource` for a Parquet file, folder or glob, or one CSV/TSV file.
 
-    The reading options mean what they mean for :func:`narrator.reading.columns.read_column`. Text files are read
-    in the declared ``encoding`` (UTF-8 when none is given; a byte-order mark decides when present):
-    guessing a fallback codec would need the whole file first.
+    The reading options mean what they mean for :func:`narrator.reading.columns.read_column`, and a
+    text file's codec, delimiter and header are decided as they are there
+    (:func:`narrator.reading.text_files.text_layout`), from the start of the file.
     """
     text = os.fspath(path)
     if isinstance(chunk_rows, bool) or not isinstance(chunk_rows, int) or chunk_rows < 1:
@@ -204,39 +186,20 @@ def open_source(
     label = Path(text).name or text
     if suffix in _TEXT_FORMATS and not glob.has_magic(text):
         target = Path(text)
-        options = reading._options(decimal_comma, missing, valid_min, valid_max, target.name)
-        reading._check_file(target)
-        with open(target, "rb") as handle:
-            start = handle.read(1 << 16)
-        if start.startswith(b"\xef\xbb\xbf"):
-            codec = "utf-8-sig"
-        elif start.startswith((b"\xff\xfe", b"\xfe\xff")):
-            codec = "utf-16"
-        else:
-            codec = encoding or "utf-8"
-        try:
-            head = start.decode(codec, errors="ignore") if codec != "utf-16" else start.decode(codec, "ignore")
-        except LookupError:
-            raise NarratorError(f"{target.name}: unknown text encoding '{codec}'") from None
-        head = head.removeprefix("\ufeff")
-        if not head.strip():
-            raise NarratorError(f"{target.name}: the file is empty")
-        header_line = head.splitlines()[0] if head.splitlines() else ""
-        file_format = _TEXT_FORMATS[suffix]
-        delimiter = reading._delimiter(header_line, file_format)
-        import csv
-
-        headers = next(csv.reader([header_line], delimiter=delimiter))
-        index = reading._select_column(headers, column, target.name)
-        return ColumnSource(kind=file_format, paths=(target,), label=label, column_name=headers[index],
+        name = shown_name(target.name)
+        options = cell_rules(decimal_comma, missing, valid_min, valid_max, name)
+        check_file(target)
+        layout = text_layout(target, _TEXT_FORMATS[suffix], encoding)
+        index = select_column(list(layout.headers), column, name)
+        return ColumnSource(kind=layout.file_format, paths=(target,), label=label, column_name=layout.headers[index],
                             column_index=index, options=options, unit=unit, chunk_rows=chunk_rows,
-                            encoding=codec, delimiter=delimiter)
+                            encoding=layout.encoding, delimiter=layout.delimiter, layout=layout)
+    if encoding is not None:
+        raise NarratorError(f"{shown_name(label)}: an encoding can only be given for a text file (CSV, TSV)")
     paths = _parquet_paths(text)
-    options = reading._options(decimal_comma, missing, valid_min, valid_max, label)
-    first = reading._parquet_file(paths[0])
-    positions = reading._parquet_positions(first)
-    headers = [first.schema_arrow.names[k] for k in positions]
-    index = reading._select_column(headers, column, paths[0].name)
+    options = cell_rules(decimal_comma, missing, valid_min, valid_max, shown_name(label))
+    _positions, headers = parquet.data_columns(parquet.open_parquet(paths[0]))
+    index = select_column(headers, column, shown_name(paths[0].name))
     return ColumnSource(kind="parquet", paths=paths, label=label, column_name=headers[index], column_index=index,
                         options=options, unit=unit, chunk_rows=chunk_rows)
 
@@ -304,7 +267,7 @@ class ReadingSummary:
         """Exclusions in the reader's order, the declared bounds' exclusions joined to "impossible"
         the way the in-memory engine joins them (reading's rows and examples first)."""
         found = []
-        for reason in reading.EXCLUSION_REASONS:
+        for reason in EXCLUSION_REASONS:
             entry = self.exclusions.get(reason)
             if entry is None and not (reason == "impossible" and self.bound_exclusion[0]):
                 continue

@@ -20,7 +20,8 @@ from hypothesis import strategies as st
 
 import narrator
 from narrator.errors import NarratorError
-from narrator.reading.columns import parse_number, read_column
+from narrator.reading.cells import parse_number
+from narrator.reading.columns import read_column
 
 SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
