@@ -13,13 +13,19 @@ Command        What it does
 
 Every command reports bad input as one line, ``narrator: <message>``, and
 exits with status 2; no traceback reaches the user (set ``NARRATOR_DEBUG=1``
-to see one for an internal error).
+to see one for an internal error). Messages are one line, with terminal
+control characters escaped and long names cut; running out of memory is said
+to be that, with the stream engine suggested. A build that ignored something
+the user should know (a damaged previous sidecar) says it once on stderr as
+``narrator: note: <what>`` and still exits 0.
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
+import re
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -34,9 +40,14 @@ EXIT_INTERNAL = 1
 def add_reading_options(parser: argparse.ArgumentParser) -> None:
     """Options that say how to read the column and what it means; shared by every command that reads data."""
     parser.add_argument("file", help="CSV, TSV, Excel (.xlsx) or Parquet file, or a folder or glob of Parquet files")
-    parser.add_argument("--column", required=True, help="column name (or its 1-based position)")
-    parser.add_argument("--sheet", help="Excel sheet name (default: the first sheet)")
-    parser.add_argument("--unit", help="unit of the values, e.g. days, litres, USD")
+    parser.add_argument("--column", required=True,
+                        help="column header, or its 1-based position; a header that is a number wins "
+                             "(in a file with columns site,1,x, --column 1 is the column named 1)")
+    parser.add_argument("--sheet", help="Excel sheet name, or its position (default: the first sheet)")
+    parser.add_argument("--encoding", metavar="CODEC",
+                        help="text encoding of a CSV/TSV file, e.g. cp1252, latin-1, utf-16 (default: a byte-order "
+                             "mark decides, else UTF-8, cp1252 or latin-1 is detected from the start of the file)")
+    parser.add_argument("--unit", help="unit of the values, e.g. days, litres, USD (nothing later changes it)")
     parser.add_argument("--label", help="how the report names the variable (default: the column name)")
     parser.add_argument("--valid-min", type=float, help="smallest possible value; smaller ones are impossible")
     parser.add_argument("--valid-max", type=float, help="largest possible value; larger ones are impossible")
@@ -72,49 +83,26 @@ def add_reading_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--chunk-rows", type=int, metavar="N", help="rows per chunk for the stream and dask engines")
 
 
+def request_from_arguments(args: argparse.Namespace):
+    """The :class:`~narrator.request.ColumnRequest` the reading options of a command describe."""
+    from dataclasses import fields
+
+    from narrator.request import ColumnRequest, ReadingOptions, VariableRequest
+
+    def taken(kind) -> dict:
+        return {item.name: getattr(args, item.name) for item in fields(kind) if hasattr(args, item.name)}
+
+    reading = taken(ReadingOptions)
+    reading["missing"] = tuple(reading.get("missing") or ())
+    return ColumnRequest(path=args.file, variable=VariableRequest(**taken(VariableRequest)),
+                         reading=ReadingOptions(**reading), id_column=args.id_column)
+
+
 def read_and_describe(args: argparse.Namespace):
     """Read the column the options name and describe it: (sample, findings)."""
-    from narrator.engine.describe import describe
-    from narrator.reading.columns import read_column
-    from narrator.scale.entry import choose_engine, describe_large
+    from narrator.request import describe_request
 
-    engine = choose_engine(getattr(args, "engine", None), args.file)
-    if engine != "memory":
-        if args.sheet is not None or args.id_column is not None:
-            raise NarratorError("--sheet and --id-column work with the memory engine only")
-        return describe_large(
-            args.file, args.column, engine=engine, scheduler=args.scheduler, chunk_rows=args.chunk_rows,
-            unit=args.unit, decimal_comma=args.decimal_comma, missing=tuple(args.missing),
-            valid_min=args.valid_min, valid_max=args.valid_max, name=args.label, lower_bound=args.lower_bound,
-            upper_bound=args.upper_bound, population=args.population, outlier_rule=args.outlier_rule,
-        )
-    options = dict(
-        sheet=args.sheet,
-        unit=args.unit,
-        decimal_comma=args.decimal_comma,
-        missing=tuple(args.missing),
-        valid_min=args.valid_min,
-        valid_max=args.valid_max,
-        id_column=args.id_column,
-    )
-    try:
-        sample = read_column(args.file, args.column, **options)
-    except NarratorError:
-        # A column literally named "3" wins; otherwise digits mean a 1-based position.
-        if not args.column.isdigit():
-            raise
-        sample = read_column(args.file, int(args.column), **options)
-    findings = describe(
-        sample,
-        name=args.label,
-        valid_min=args.valid_min,
-        valid_max=args.valid_max,
-        lower_bound=args.lower_bound,
-        upper_bound=args.upper_bound,
-        population=args.population,
-        outlier_rule=args.outlier_rule,
-    )
-    return sample, findings
+    return describe_request(request_from_arguments(args))
 
 
 def _number(value) -> str:
@@ -221,52 +209,63 @@ def command_draft(args: argparse.Namespace) -> int:
 
     refuse_same_file(args.output, args.file)  # before any work, not only at the end
     if args.group_by is not None:
-        from narrator.scale.entry import choose_engine
-
-        if choose_engine(args.engine, args.file) != "memory":
-            raise NarratorError("--group-by works with the memory engine only")
         return _draft_by_group(args)
     from narrator.figures.helper_process import DrawingHelper, worth_a_helper
 
     # A large input: a helper process loads the plotting library while this one reads (narrator.figures.helper_process).
+    from narrator.request import naming_the_input
+    from narrator.safe_io import check_output
+
+    check_output(args.output, protect=(args.file, args.template), force=args.force)
     helper = DrawingHelper.start() if worth_a_helper(args.file) else None
     try:
+        request = request_from_arguments(args)
         sample, found = read_and_describe(args)
-        outcome = report_from_findings(
-            sample, found, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
-            currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
-            author=args.author, drawing=helper,
-        )
+        with naming_the_input(request):
+            outcome = report_from_findings(
+                sample, found, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
+                currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
+                author=args.author, drawing=helper, force=args.force,
+            )
     finally:
         if helper is not None:
             helper.close()
+    _say_notes([outcome])
     sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
     return 0
 
 
+def _say_notes(outcomes) -> None:
+    for outcome in outcomes:
+        for note in outcome.notes:
+            sys.stderr.write(f"narrator: note: {one_line(note)}\n")
+
+
 def _draft_by_group(args: argparse.Namespace) -> int:
-    from narrator.groups.analysis import VariableRequest, analyse_file
+    from narrator.groups.analysis import analyse_file
     from narrator.progress import progress_for
     from narrator.report import report_from_collection
+    from narrator.request import engine_for, naming_the_input
+    from narrator.safe_io import check_output
 
-    request = VariableRequest(
-        column=int(args.column) if args.column.isdigit() else args.column, label=args.label, unit=args.unit,
-        valid_min=args.valid_min, valid_max=args.valid_max, lower_bound=args.lower_bound,
-        upper_bound=args.upper_bound, population=args.population, outlier_rule=args.outlier_rule,
-    )
+    request = request_from_arguments(args)
+    engine_for(request, group_by=args.group_by)
+    check_output(args.output, protect=(args.file, args.template), force=args.force)
     progress = progress_for(None, quiet=args.quiet)
     try:
         collection = analyse_file(
-            args.file, [request], sheet=args.sheet, decimal_comma=args.decimal_comma, missing=tuple(args.missing),
-            group_by=args.group_by, privacy_threshold=args.privacy_threshold, step=progress.step,
+            args.file, [request.variable], reading=request.reading, group_by=args.group_by,
+            privacy_threshold=args.privacy_threshold, step=progress.step,
         )
-        outcome = report_from_collection(
-            collection, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
-            currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
-            author=args.author, step=progress.step,
-        )
+        with naming_the_input(request):
+            outcome = report_from_collection(
+                collection, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
+                currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
+                author=args.author, step=progress.step, force=args.force,
+            )
     finally:
         progress.finish()
+    _say_notes([outcome])
     sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
     return 0
 
@@ -274,9 +273,8 @@ def _draft_by_group(args: argparse.Namespace) -> int:
 def command_recipe(args: argparse.Namespace) -> int:
     from narrator.recipe import write_starter_recipe
 
-    sheet = int(args.sheet) if args.sheet is not None and args.sheet.isdigit() else args.sheet
-    written = write_starter_recipe(args.file, args.output, sheet=sheet, decimal_comma=args.decimal_comma,
-                                   force=args.force)
+    written = write_starter_recipe(args.file, args.output, sheet=args.sheet, decimal_comma=args.decimal_comma,
+                                   encoding=args.encoding, force=args.force)
     sys.stdout.write(f"wrote {written}\n")
     return 0
 
@@ -288,9 +286,10 @@ def command_redraft(args: argparse.Namespace) -> int:
     recipe = load_recipe(args.recipe)
     progress = progress_for(None, quiet=args.quiet)
     try:
-        outcomes = build_recipe(recipe, step=progress.step)
+        outcomes = build_recipe(recipe, step=progress.step, force=args.force)
     finally:
         progress.finish()
+    _say_notes(outcomes)
     for outcome in outcomes:
         sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
     return 0
@@ -305,6 +304,7 @@ def command_demo(args: argparse.Namespace) -> int:
         outcomes = run_demo(Path(args.output), step=progress.step)
     finally:
         progress.finish()
+    _say_notes(outcomes)
     sys.stdout.write(f"{INVENTED}\n")
     for outcome in outcomes:
         sys.stdout.write(f"wrote {outcome.report}\n")
@@ -312,12 +312,13 @@ def command_demo(args: argparse.Namespace) -> int:
 
 
 def command_compare(args: argparse.Namespace) -> int:
-    from narrator.history.changes import compare, read_sidecar
+    from narrator.history.changes import compare
+    from narrator.history.sidecar import read_findings_file
     from narrator.phrasing.narrative import Narrative
     from narrator.phrasing.what_changed import changes_section
 
-    old, _ = read_sidecar(args.old)
-    new, _ = read_sidecar(args.new)
+    old = read_findings_file(args.old).variables[0].findings
+    new = read_findings_file(args.new).variables[0].findings
     section = changes_section(compare(old, new), old, new, locale=args.locale, currency=args.currency)
     narrative = Narrative(audience="changes", locale=args.locale, language=args.locale.split("_")[0],
                           title=section.title, sections=(section,))
@@ -362,6 +363,8 @@ def build_parser() -> argparse.ArgumentParser:
     draft.add_argument("--privacy-threshold", type=int, default=10, metavar="N",
                        help="with --group-by, groups with fewer than N values are not shown (default: 10)")
     draft.add_argument("--quiet", action="store_true", help="show no progress line")
+    draft.add_argument("--force", action="store_true",
+                       help="replace the output even when it is not a report narrator wrote")
     draft.set_defaults(handler=command_draft)
 
     recipe = commands.add_parser("recipe", help="write a starter report recipe (TOML) for a data file")
@@ -370,17 +373,21 @@ def build_parser() -> argparse.ArgumentParser:
     recipe.add_argument("--sheet", help="Excel sheet name or position (default: the first sheet)")
     recipe.add_argument("--decimal-comma", action="store_true",
                         help="numbers are written with a decimal comma (1.234,5)")
+    recipe.add_argument("--encoding", metavar="CODEC", help="text encoding of a CSV/TSV file (default: detected)")
     recipe.add_argument("--force", action="store_true", help="replace the recipe file if it exists")
     recipe.set_defaults(handler=command_recipe)
 
     redraft = commands.add_parser("redraft", help="build every report a recipe names")
     redraft.add_argument("recipe", metavar="RECIPE.toml", help="the report recipe")
     redraft.add_argument("--quiet", action="store_true", help="show no progress line")
+    redraft.add_argument("--force", action="store_true",
+                         help="replace the recipe's outputs even when one is not a report narrator wrote")
     redraft.set_defaults(handler=command_redraft)
 
     demo = commands.add_parser("demo", help="write example reports from invented data that ships with narrator")
     demo.add_argument("-o", "--output", default="narrator-demo", metavar="FOLDER",
-                      help="folder for the example data, recipes and reports (default: narrator-demo)")
+                      help="a new or empty folder (or one the demo wrote) for the example data, recipes and "
+                           "reports (default: narrator-demo)")
     demo.add_argument("--quiet", action="store_true", help="show no progress line")
     demo.set_defaults(handler=command_demo)
 
@@ -399,14 +406,63 @@ def _version() -> str:
     return f"narrator {__version__}"
 
 
+MESSAGE_LENGTH = 2000  # characters of one message line before it is cut
+
+
+def one_line(message: str) -> str:
+    """A message as one safe line: line breaks become spaces, control characters are escaped, long text is cut.
+
+    >>> print(one_line("bad" + chr(10) + "header " + chr(27) + "[2J"))
+    bad header \\u001b[2J
+    """
+    text = re.sub(r"\s*[\r\n\u2028\u2029\x0b\x0c\x85]+\s*", " ", message.strip())
+    text = "".join(ch if ch.isprintable() else f"\\u{ord(ch):04x}" for ch in text[: MESSAGE_LENGTH + 1])
+    return text if len(text) <= MESSAGE_LENGTH else text[: MESSAGE_LENGTH - 1] + "\u2026"
+
+
+def _plotting_cache() -> None:
+    """Point matplotlib at a temporary cache folder when the usual one cannot be written.
+
+    matplotlib would otherwise make one itself and print a warning before narrator's own
+    line (a home folder that is read-only, or none at all).
+    """
+    if os.environ.get("MPLCONFIGDIR"):
+        return
+    home = os.environ.get("XDG_CONFIG_HOME") or os.path.join(os.path.expanduser("~"), ".config")
+    usual = os.path.join(home, "matplotlib")
+    try:
+        os.makedirs(usual, exist_ok=True)
+        writable = os.access(usual, os.W_OK)
+    except OSError:
+        writable = False
+    if not writable:
+        from narrator.safe_io import temporary_folder
+
+        with contextlib.suppress(OSError):
+            os.environ["MPLCONFIGDIR"] = str(temporary_folder("matplotlib"))
+
+
+def _input_of(args: argparse.Namespace) -> str:
+    from narrator.reading.files import shown_name
+
+    given = getattr(args, "file", None) or getattr(args, "recipe", None)
+    return f" {shown_name(os.path.basename(os.fspath(given)) or given)}" if given else ""
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     handler: Callable[[argparse.Namespace], int] = args.handler
+    _plotting_cache()
     try:
         return handler(args)
     except NarratorError as exc:
-        sys.stderr.write(f"narrator: {exc}\n")
+        sys.stderr.write(f"narrator: {one_line(str(exc))}\n")
+        return EXIT_BAD_INPUT
+    except MemoryError:
+        sys.stderr.write(f"narrator: out of memory while reading or describing{_input_of(args)}; the stream engine "
+                         "(--engine stream, or engine = \"stream\" in a recipe) reads a CSV, TSV or Parquet input "
+                         "in chunks with bounded memory\n")
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         sys.stderr.write("narrator: interrupted\n")
@@ -415,13 +471,13 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 0
     except OSError as exc:
         where = f" {os.path.basename(exc.filename)}:" if getattr(exc, "filename", None) else ""
-        sys.stderr.write(f"narrator:{where} {exc.strerror or exc}\n")
+        sys.stderr.write(f"narrator:{one_line(where)} {one_line(exc.strerror or str(exc))}\n")
         return EXIT_BAD_INPUT
     except Exception as exc:  # an internal error: one line, not a traceback
         if os.environ.get("NARRATOR_DEBUG"):
             raise
         sys.stderr.write(
-            f"narrator: internal error ({type(exc).__name__}: {exc}); "
+            f"narrator: internal error ({type(exc).__name__}: {one_line(str(exc))[:300]}); "
             "please report it; set NARRATOR_DEBUG=1 to see details\n"
         )
         return EXIT_INTERNAL

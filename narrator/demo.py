@@ -33,6 +33,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from narrator.errors import NarratorError
 from narrator.resources import template_file
 from narrator.safe_io import atomic_write_bytes
 
@@ -190,9 +191,30 @@ def write_examples(folder: Path) -> list[Path]:
     return written
 
 
+DEMO_MARK = "narrator-demo.txt"  # the file that marks a folder the demo wrote
+
+
+def _demo_folder(folder: Path) -> None:
+    """Make ``folder`` for the demo, or refuse it: the demo replaces files only in its own folders."""
+    if folder.exists() and not folder.is_dir():
+        raise NarratorError(f"{folder}: is a file, not a folder; choose a new or empty folder for the demo")
+    if folder.is_dir() and any(folder.iterdir()) and not (folder / DEMO_MARK).is_file():
+        raise NarratorError(f"{folder} is not empty and is not a folder the demo wrote; choose a new or empty "
+                            "folder, so no file of yours is replaced")
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise NarratorError(f"cannot make the folder {folder}: {exc.strerror or exc}") from None
+    atomic_write_bytes(folder / DEMO_MARK, (
+        f"{INVENTED}.\nThese files were written by 'narrator demo'; running it again on this folder replaces "
+        "them.\n").encode())
+
+
 def run_demo(folder: Path, *, step=None) -> list:
     """Write the examples into ``folder`` and build every report their recipes name.
 
+    ``folder`` must be new, empty, or a folder the demo wrote before (it holds
+    :data:`DEMO_MARK`); any other folder is refused, so no file of the user's is replaced.
     The housing scenario is built twice: on October's data, then on the
     November refresh, so its reports carry the "what changed" section.
     Returns the report outcomes in build order.
@@ -200,6 +222,7 @@ def run_demo(folder: Path, *, step=None) -> list:
     from narrator.recipe import build_recipe, load_recipe
 
     folder = Path(folder)
+    _demo_folder(folder)
     write_examples(folder)
     outcomes = []
     for name in RECIPES:

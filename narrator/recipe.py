@@ -16,7 +16,7 @@ Name                           What it is
 
 Layout (keys are ours; every path is relative to the recipe's folder)::
 
-    [data]       path, sheet, decimal_comma, missing, group_by, privacy_threshold,
+    [data]       path, sheet, decimal_comma, missing, encoding, group_by, privacy_threshold,
                  engine (memory, stream, dask), scheduler (a Dask scheduler address)
     [report]     title, organisation, locale, currency, template, generated
     [outputs]    <audience> = "<report path>.docx"   (memo, methods, full)
@@ -52,7 +52,8 @@ from typing import Any
 
 from narrator.errors import NarratorError
 from narrator.findings import OUTLIER_RULES
-from narrator.groups.analysis import DEFAULT_PRIVACY_THRESHOLD, VariableRequest
+from narrator.groups.analysis import DEFAULT_PRIVACY_THRESHOLD
+from narrator.request import ColumnRequest, ReadingOptions, VariableRequest
 
 AUDIENCE_NAMES = ("memo", "methods", "full")  # as narrator.phrasing.planner.AUDIENCES
 
@@ -70,8 +71,8 @@ _KIND_WORDS = {
 
 RECIPE_KEYS: dict[str, dict[str, str]] = {
     "data": {
-        "path": "text", "sheet": "sheet", "decimal_comma": "bool", "missing": "texts", "group_by": "text",
-        "privacy_threshold": "whole", "engine": "text", "scheduler": "text",
+        "path": "text", "sheet": "sheet", "decimal_comma": "bool", "missing": "texts", "encoding": "text",
+        "group_by": "text", "privacy_threshold": "whole", "engine": "text", "scheduler": "text",
     },
     "report": {
         "title": "text", "organisation": "text", "locale": "text", "currency": "text", "template": "text",
@@ -96,6 +97,13 @@ class DataSettings:
     privacy_threshold: int = DEFAULT_PRIVACY_THRESHOLD
     engine: str | None = None  # "memory", "stream" or "dask"; None: stream for a folder or glob
     scheduler: str | None = None  # Dask scheduler address for engine = "dask"
+    encoding: str | None = None  # a text file's encoding; None: detected
+
+    @property
+    def reading(self) -> ReadingOptions:
+        """How the data file is read, as :mod:`narrator.request` takes it."""
+        return ReadingOptions(sheet=self.sheet, decimal_comma=self.decimal_comma, missing=self.missing,
+                              encoding=self.encoding, engine=self.engine, scheduler=self.scheduler)
 
 
 @dataclass(frozen=True, slots=True)
@@ -374,7 +382,26 @@ def _variable(checker: _Checker, entry: int, values: Any) -> VariableRequest:
     )
 
 
-def _outputs(checker: _Checker, folder: Path, values: dict[str, Any]) -> tuple[Output, ...]:
+def _output_path(folder: Path, text: str) -> Path:
+    # Absolute, but links not followed: a report replaces a link, never the file it points to.
+    path = Path(text).expanduser()
+    return Path(os.path.abspath(path if path.is_absolute() else folder / path))
+
+
+def _same_file(output: Path, other: Path) -> bool:
+    """Whether the report at ``output`` or its sidecar would be ``other`` (links and hard links followed)."""
+    from narrator.safe_io import refuse_same_file, sidecar_path
+
+    for candidate in (output, sidecar_path(output)):
+        try:
+            refuse_same_file(candidate, other)
+        except NarratorError:
+            return True
+    return False
+
+
+def _outputs(checker: _Checker, folder: Path, values: dict[str, Any],
+             protected: dict[str, Path | None]) -> tuple[Output, ...]:
     if not values:
         raise checker.fail("[outputs] names no report; add a line such as full = \"report.docx\"",
                            checker.line("outputs", None, None))
@@ -389,9 +416,13 @@ def _outputs(checker: _Checker, folder: Path, values: dict[str, Any]) -> tuple[O
         if not isinstance(text, str) or not text.strip():
             raise checker.fail(f"[outputs] {audience} must be a report path in quotes, such as \"report.docx\", "
                                f"not {json.dumps(text, default=str)} ({_kind_of(text)})", line)
+        path = _output_path(folder, text)
+        for what, other in protected.items():
+            if other is not None and _same_file(path, other):
+                raise checker.fail(f"[outputs] {audience} = \"{text}\" is {what}; a report must not replace it",
+                                   line)
         if Path(text).suffix.lower() != ".docx":
             raise checker.fail(f"[outputs] {audience} = \"{text}\" must end in .docx", line)
-        path = _recipe_path(folder, text)
         key = os.path.normcase(os.path.abspath(path))
         if key in seen:
             raise checker.fail(f"[outputs] {audience} and {seen[key]} name the same report \"{text}\"", line)
@@ -426,6 +457,9 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise NarratorError(f"{name}: not valid TOML: {exc}") from None
+    except RecursionError:
+        raise NarratorError(f"{name}: arrays or tables are nested too deeply for a recipe (a recipe needs at most "
+                            "two levels)") from None
     checker = _Checker(name, _KeyLines(text))
     for key in data:
         if key not in TOP_LEVEL:
@@ -463,6 +497,7 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         privacy_threshold=threshold,
         engine=engine,
         scheduler=data_table.get("scheduler"),
+        encoding=data_table.get("encoding"),
     )
 
     report_table = _known(checker, "report", None, _table(checker, data, "report", required=False))
@@ -477,7 +512,8 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         generated=_generated(checker, report_table.get("generated")),
     )
 
-    outputs = _outputs(checker, folder, _table(checker, data, "outputs", required=True))
+    protected = {"this recipe": source, "the data file": data_settings.path, "the template": report_settings.template}
+    outputs = _outputs(checker, folder, _table(checker, data, "outputs", required=True), protected)
     entries = data.get("variables")
     if entries is None:
         raise checker.fail("the recipe needs at least one [[variables]] table with a column", None)
@@ -488,101 +524,57 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         raise checker.fail("'variables' must hold one or more [[variables]] tables",
                            checker.line("variables", None, None))
     variables = tuple(_variable(checker, entry, values) for entry, values in enumerate(entries))
-    for output in outputs:
-        if output.path.resolve() == data_settings.path.resolve():
-            raise checker.fail(f"[outputs] {output.audience} is the data file itself",
-                               checker.line("outputs", None, output.audience))
     return Recipe(source=source, data=data_settings, report=report_settings, outputs=outputs, variables=variables)
 
 
 # --------------------------------------------------------------------------- building
 
 
-def _previous_findings(report_path: Path):
-    """The findings of the previous build of ``report_path`` (its sidecar), or None when there is none.
-
-    Either sidecar kind is read (:func:`narrator.history.sidecar.loads_any`); a
-    sidecar that cannot be read is an error rather than silently ignored, so
-    a damaged file does not make "what changed" quietly disappear.
-    """
-    from narrator.history.sidecar import loads_any
-    from narrator.safe_io import sidecar_path
-
-    sidecar = sidecar_path(report_path)
-    if not sidecar.is_file():
-        return None
-    try:
-        return loads_any(sidecar.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError) as exc:
-        raise NarratorError(f"{sidecar}: the previous findings cannot be read ({exc})") from None
-    except NarratorError as exc:
-        raise NarratorError(f"{sidecar}: the previous findings cannot be read ({exc})") from None
-
-
-def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -> list:
+def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None, force: bool = False) -> list:
     """Build every output the recipe names; return one :class:`narrator.report.ReportOutcome` per output.
 
     The data are read and described once; each audience gets its own report
     and sidecar. A recipe with one variable and no grouping column gives the
     same report as ``narrator draft``; several variables or a grouping column
     give the overview-and-parts report of
-    :func:`narrator.report.report_from_collection`.
+    :func:`narrator.report.report_from_collection`. Every variable is one
+    :class:`~narrator.request.ColumnRequest`; :func:`narrator.request.engine_for`
+    chooses the engine and checks its limits. ``force`` is the consent to replace an
+    existing output that is not a narrator report.
     """
     from narrator.groups.analysis import analyse_file
     from narrator.report import report_from_collection, report_from_findings
+    from narrator.request import describe_request, engine_for
+    from narrator.safe_io import check_output
 
     announce = step or (lambda _what: None)
     data = recipe.data
-    from narrator.scale.entry import choose_engine
-
-    engine = choose_engine(data.engine, data.path)
-    if engine != "memory":
-        return _build_large(recipe, engine, announce)
-    collection = analyse_file(
-        data.path, recipe.variables, sheet=data.sheet, decimal_comma=data.decimal_comma, missing=data.missing,
-        group_by=data.group_by, privacy_threshold=data.privacy_threshold, step=announce,
-    )
+    first = ColumnRequest(data.path, recipe.variables[0], data.reading)
+    engine = engine_for(first, group_by=data.group_by, variables=len(recipe.variables))
     common = _report_options(recipe)
-    single = len(collection.variables) == 1 and collection.group_by is None
+    common["force"] = force
+    for output in recipe.outputs:  # every output checked before any work, not only at its turn
+        check_output(output.path, protect=(common["input_path"], common["template"], recipe.source), force=force)
+    single = len(recipe.variables) == 1 and data.group_by is None
+    if engine != "memory" or single:
+        # One variable, no groups: the same report as "narrator draft", which compares
+        # itself with the previous build's sidecar.
+        announce(f"reading {data.path_text}" + (f" with the {engine} engine" if engine != "memory" else ""))
+        sample, findings = describe_request(first)
+        outcomes = []
+        for output in recipe.outputs:
+            _make_folder_for(output)
+            announce(f"writing the {output.audience} report")
+            outcomes.append(report_from_findings(sample, findings, output.path, audience=output.audience, **common))
+        return outcomes
+    collection = analyse_file(data.path, recipe.variables, reading=data.reading, group_by=data.group_by,
+                              privacy_threshold=data.privacy_threshold, step=announce)
     outcomes = []
     for output in recipe.outputs:
         _make_folder_for(output)
         announce(f"writing the {output.audience} report")
-        if single:
-            # One variable, no groups: the same report as "narrator draft", which compares
-            # itself with the previous build's sidecar.
-            part = collection.variables[0]
-            outcomes.append(report_from_findings(part.sample, part.findings, output.path,
-                                                 audience=output.audience, **common))
-        else:
-            previous = _previous_findings(output.path)
-            outcomes.append(report_from_collection(collection, output.path, audience=output.audience,
-                                                   step=announce, previous=previous, **common))
-    return outcomes
-
-
-def _build_large(recipe: Recipe, engine: str, announce: Callable[[str], None]) -> list:
-    """One variable read by the stream or dask engine (narrator.scale), one report per output."""
-    from narrator.report import report_from_findings
-    from narrator.scale.entry import describe_large
-
-    data = recipe.data
-    if len(recipe.variables) != 1 or data.group_by is not None or data.sheet is not None:
-        raise NarratorError(f"[data] engine = \"{engine}\" describes one [[variables]] table, without "
-                            "group_by or sheet")
-    variable = recipe.variables[0]
-    announce(f"reading {data.path_text} with the {engine} engine")
-    sample, findings = describe_large(
-        data.path, variable.column, engine=engine, scheduler=data.scheduler, unit=variable.unit,
-        decimal_comma=data.decimal_comma, missing=data.missing, valid_min=variable.valid_min,
-        valid_max=variable.valid_max, name=variable.label, lower_bound=variable.lower_bound,
-        upper_bound=variable.upper_bound, population=variable.population, outlier_rule=variable.outlier_rule)
-    common = _report_options(recipe)
-    outcomes = []
-    for output in recipe.outputs:
-        _make_folder_for(output)
-        announce(f"writing the {output.audience} report")
-        outcomes.append(report_from_findings(sample, findings, output.path, audience=output.audience, **common))
+        outcomes.append(report_from_collection(collection, output.path, audience=output.audience,
+                                               step=announce, **common))
     return outcomes
 
 
@@ -592,6 +584,7 @@ def _report_options(recipe: Recipe) -> dict:
     return dict(
         input_path=recipe.data.path, locale=report.locale, currency=report.currency, title=report.title,
         organisation=report.organisation, template=report.template, generated_at=report.generated,
+        protect=(recipe.source,),
     )
 
 
@@ -616,6 +609,7 @@ def starter_recipe(
     *,
     sheet: str | int | None = None,
     decimal_comma: bool = False,
+    encoding: str | None = None,
 ) -> str:
     """The text of a starter recipe for ``data_file``, with a comment on every key.
 
@@ -626,7 +620,7 @@ def starter_recipe(
     """
     from narrator.reading.columns import list_numeric_columns
 
-    columns = list_numeric_columns(data_file, sheet=sheet, decimal_comma=decimal_comma)
+    columns = list_numeric_columns(data_file, sheet=sheet, decimal_comma=decimal_comma, encoding=encoding)
     data_path = Path(data_file).resolve()
     folder = Path(recipe_path).resolve().parent
     try:
@@ -649,6 +643,8 @@ def starter_recipe(
     lines += [
         f"decimal_comma = {'true' if decimal_comma else 'false'}  # true when numbers are written 1.234,5",
         "missing = []                   # extra cell texts that mean missing, e.g. [\"-99\", \"not recorded\"]",
+        (f"encoding = {_toml_text(encoding)}" if encoding else "# encoding = \"cp1252\"")
+        + "          # a CSV/TSV file's text encoding (default: detected from the start of the file)",
         "# group_by = \"site\"            # a column to break the figures down by (site, program, year)",
         f"# privacy_threshold = {DEFAULT_PRIVACY_THRESHOLD}         # groups with fewer values are not shown "
         "(default 10)",
@@ -698,6 +694,7 @@ def write_starter_recipe(
     *,
     sheet: str | int | None = None,
     decimal_comma: bool = False,
+    encoding: str | None = None,
     force: bool = False,
 ) -> Path:
     """Write :func:`starter_recipe` to ``recipe_path`` atomically; refuse an existing file unless ``force``."""
@@ -709,5 +706,6 @@ def write_starter_recipe(
         raise NarratorError(f"{target} already exists; choose another name or add --force to replace it")
     if target.suffix.lower() != ".toml":
         raise NarratorError(f"{target}: a recipe file name must end in .toml")
-    atomic_write_text(target, starter_recipe(data_file, target, sheet=sheet, decimal_comma=decimal_comma))
+    atomic_write_text(target, starter_recipe(data_file, target, sheet=sheet, decimal_comma=decimal_comma,
+                                             encoding=encoding))
     return target

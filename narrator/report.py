@@ -13,7 +13,12 @@ Name                           What it does
 =============================  ================================================
 
 The command line (``narrator draft``) and the recipe runner both call these,
-so a report made either way is the same report.
+so a report made either way is the same report. A build holds its output's
+lock from reading the previous pair to committing the new one
+(:mod:`narrator.safe_io`), first finishing or removing what a killed build
+left; the previous findings are read by the sidecar policy
+(:func:`narrator.history.sidecar.previous_build`), and a previous sidecar that
+was ignored becomes one of the outcome's ``notes``.
 """
 
 from __future__ import annotations
@@ -30,15 +35,16 @@ from babel.dates import format_date
 
 from narrator.errors import NarratorError
 from narrator.findings import Findings
-from narrator.history.changes import baseline_for, compare, findings_pair, sidecar_payload
-from narrator.history.sidecar import is_set
+from narrator.history.changes import baseline_for, compare
+from narrator.history.sidecar import Previous, previous_build, set_sidecar, single_sidecar
 from narrator.phrasing import narrate
 from narrator.phrasing.bank import PhraseBank, load_bank
 from narrator.phrasing.narrative import Narrative
 from narrator.phrasing.numbers import NumberFormatter, parse_locale
 from narrator.phrasing.what_changed import changes_section
 from narrator.reading.sample import Sample
-from narrator.safe_io import sidecar_path
+from narrator.request import ReadingOptions
+from narrator.safe_io import check_output, clean_stale, output_lock
 
 if TYPE_CHECKING:
     from narrator.figures.helper_process import DrawingHelper
@@ -59,6 +65,7 @@ class ReportOutcome:
     findings: Findings
     narrative: Narrative
     generated_at: dt.datetime
+    notes: tuple[str, ...] = ()  # things the user should be told once, such as a previous sidecar ignored
 
 
 def generation_time(pinned: dt.datetime | None = None) -> dt.datetime:
@@ -88,22 +95,22 @@ def build_report(
     column: str | int,
     output: str | os.PathLike[str],
     *,
-    read_options: Mapping[str, Any] | None = None,
-    describe_options: Mapping[str, Any] | None = None,
+    reading: ReadingOptions | None = None,
+    variable: Mapping[str, Any] | None = None,
     **report_options: Any,
 ) -> ReportOutcome:
     """Read ``column`` of the file at ``path``, describe it and write the report to ``output``.
 
-    ``read_options`` go to :func:`narrator.reading.columns.read_column`, ``describe_options``
-    to :func:`narrator.engine.describe.describe`, and ``report_options`` to
-    :func:`report_from_findings` (audience, locale, currency, title,
-    organisation, template, author, generated_at).
+    ``reading`` says how the file is read and ``variable`` holds the other fields of a
+    :class:`~narrator.request.VariableRequest` (label, unit, bounds...); the request is served
+    by :func:`narrator.request.describe_request`. ``report_options`` go to
+    :func:`report_from_findings` (audience, locale, currency, title, organisation, template,
+    author, generated_at, force).
     """
-    from narrator.engine.describe import describe
-    from narrator.reading.columns import read_column
+    from narrator.request import ColumnRequest, VariableRequest, describe_request
 
-    sample = read_column(path, column, **dict(read_options or {}))
-    findings = describe(sample, **dict(describe_options or {}))
+    request = ColumnRequest(path, VariableRequest(column, **dict(variable or {})), reading or ReadingOptions())
+    sample, findings = describe_request(request)
     return report_from_findings(sample, findings, output, input_path=path, **report_options)
 
 
@@ -122,74 +129,77 @@ def report_from_findings(
     author: str | None = None,
     generated_at: dt.datetime | None = None,
     drawing: DrawingHelper | None = None,
+    protect: tuple[str | os.PathLike[str] | None, ...] = (),
+    force: bool = False,
 ) -> ReportOutcome:
-    """Narrate ``findings`` for the audience, draw the figures, write report and sidecar.
+    """Narrate ``findings`` for the audience, draw the figures, write report and sidecar as one pair.
 
     The document's author property is ``author``, else ``organisation``, else
     empty: never the operating-system user. A started :class:`~narrator.figures.helper_process.DrawingHelper`
     draws the figures in its own process (the same figures); without one, or if it fails,
-    they are drawn here.
+    they are drawn here. ``protect`` names inputs besides ``input_path`` and the template that
+    must never be written (a recipe); ``force`` is the consent to replace an existing file that
+    is not a narrator report.
     """
-    moment = generation_time(generated_at)
-    narrative = narrate(findings, audience, locale, currency=currency, title=title)
-    baseline = _single_baseline(findings, output)
-    if baseline is not None:
-        narrative = _with_changes_section(narrative, baseline, findings, locale=locale, currency=currency)
-    if drawing is not None:
-        drawing.send(findings, sample, narrative, locale=locale)  # drawn there while the rest is prepared here
-    from narrator.writer import write_report
+    inputs = (input_path, template, *protect)
+    check_output(output, protect=inputs, force=force)
+    with output_lock(output):
+        clean_stale(output)
+        moment = generation_time(generated_at)
+        narrative = narrate(findings, audience, locale, currency=currency, title=title)
+        previous = previous_build(output)
+        baseline = _single_baseline(findings, previous)
+        if baseline is not None:
+            narrative = _with_changes_section(narrative, baseline, findings, locale=locale, currency=currency)
+        if drawing is not None:
+            drawing.send(findings, sample, narrative, locale=locale)  # drawn there while the rest is prepared here
+        from narrator.writer import write_report
 
-    bank = load_bank(parse_locale(locale).language)
-    report_settings = {
-        "audience": audience,
-        "locale": locale,
-        "currency": currency,
-        "title": title,
-        "organisation": organisation,
-        "template": Path(template).name if template is not None else None,
-    }
-    frame = report_frame(
-        bank, findings, sample, locale=locale, organisation=organisation, generated_at=moment,
-        settings=report_settings,
-    )
-    properties = {
-        "title": narrative.title,
-        "subject": frame.details[1] if organisation else frame.details[0],
-        "author": author or organisation or "",
-        "keywords": ", ".join(part for part in (findings.variable.name, audience) if part),
-    }
-    sidecar_text = json.dumps(sidecar_payload(findings, baseline), indent=2, ensure_ascii=False, allow_nan=False)
-    figures = drawing.collect() if drawing is not None else None
-    if figures is None:
-        from narrator.figures.charts import render_figures
+        bank = load_bank(parse_locale(locale).language)
+        report_settings = {
+            "audience": audience,
+            "locale": locale,
+            "currency": currency,
+            "title": title,
+            "organisation": organisation,
+            "template": Path(template).name if template is not None else None,
+        }
+        frame = report_frame(
+            bank, findings, sample, locale=locale, organisation=organisation, generated_at=moment,
+            settings=report_settings,
+        )
+        properties = {
+            "title": narrative.title,
+            "subject": frame.details[1] if organisation else frame.details[0],
+            "author": author or organisation or "",
+            "keywords": ", ".join(part for part in (findings.variable.name, audience) if part),
+        }
+        figures = drawing.collect() if drawing is not None else None
+        if figures is None:
+            from narrator.figures.charts import render_figures
 
-        figures = render_figures(findings, sample, narrative, locale=locale)
-    sidecar = write_report(
-        output, narrative, figures, findings=findings, frame=frame, properties=properties,
-        generated_at=moment, template=template, protect=(input_path,), sidecar_text=sidecar_text,
-    )
-    return ReportOutcome(Path(output), sidecar, findings, narrative, moment)
+            figures = render_figures(findings, sample, narrative, locale=locale)
+        sidecar = write_report(
+            output, narrative, figures, frame=frame, properties=properties, generated_at=moment,
+            template=template, protect=(input_path, *protect), sidecar=single_sidecar(findings, baseline),
+            force=force,
+        )
+    notes = (previous.note,) if previous.note else ()
+    return ReportOutcome(Path(output), sidecar, findings, narrative, moment, notes)
 
 
-def _single_baseline(findings: Findings, output: str | os.PathLike[str]) -> Findings | None:
-    """The earlier findings this build is compared with, from the sidecar of the previous build, if any.
+def _single_baseline(findings: Findings, previous: Previous) -> Findings | None:
+    """The earlier findings this build is compared with, from the previous build's sidecar, if any.
 
-    A previous sidecar of another kind (a report on several variables) is not
-    comparable with a single-variable build: no comparison, rather than a wrong one.
+    A previous sidecar of another kind (a report on several variables) or on another
+    variable is not comparable with this build: no comparison, rather than a wrong one.
     """
-    previous_path = sidecar_path(Path(output))
-    if not previous_path.is_file():
+    if previous.findings_set is None or not previous.single:
         return None
-    try:
-        data = json.loads(previous_path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise NarratorError(f"{previous_path.name}: the previous findings cannot be read ({exc})") from None
-    if is_set(data):
+    earlier = previous.findings_set.variables[0]
+    if earlier.findings.variable.name != findings.variable.name:
         return None
-    previous, previous_baseline = findings_pair(data, previous_path.name)
-    if previous.variable.name != findings.variable.name:
-        return None
-    return baseline_for(findings, previous, previous_baseline)
+    return baseline_for(findings, earlier.findings, earlier.baseline)
 
 
 def _with_changes_section(
@@ -292,7 +302,8 @@ def report_from_collection(
     author: str | None = None,
     generated_at: dt.datetime | None = None,
     step: Callable[[str], None] | None = None,
-    previous: FindingsSet | None = None,
+    protect: tuple[str | os.PathLike[str] | None, ...] = (),
+    force: bool = False,
 ) -> ReportOutcome:
     """One report on several variables and/or groups: overview, a part per variable, the set sidecar.
 
@@ -302,51 +313,54 @@ def report_from_collection(
     findings set (:mod:`narrator.history.sidecar`). ``ReportOutcome.findings`` is
     the first variable's overall findings.
 
-    ``previous`` is the findings set of the last build of this report (its
-    sidecar). Each variable is matched with the previous variable of the same
-    name; the build it is compared with follows
-    :func:`narrator.history.changes.baseline_for` (unchanged data keep the last
-    comparison, so a rebuild gives the same text), and its part of the report
-    gets a "what changed" section.
+    The previous build of this report (its sidecar, of either kind) is read by the sidecar
+    policy. Each variable is matched with the previous variable of the same name; the build
+    it is compared with follows :func:`narrator.history.changes.baseline_for` (unchanged data
+    keep the last comparison, so a rebuild gives the same text), and its part of the report
+    gets a "what changed" section. ``protect`` and ``force`` are those of
+    :func:`report_from_findings`.
     """
-    from narrator.history.sidecar import dumps_set
     from narrator.phrasing.sets import SetOptions, narrate_set
 
     announce = step or (lambda _what: None)
-    moment = generation_time(generated_at)
-    findings_set = collection.findings_set(_baselines(collection, previous))
-    narrative = narrate_set(findings_set, SetOptions(audience=audience, locale=locale, currency=currency,
-                                                     title=title))
-    announce("drawing the figures")
-    figures = _collection_figures(collection, narrative, locale=locale)
-    bank = load_bank(parse_locale(locale).language)
-    settings = {
-        "audience": audience, "locale": locale, "currency": currency, "title": title,
-        "organisation": organisation, "template": Path(template).name if template is not None else None,
-        "group_by": collection.group_by, "privacy_threshold": collection.privacy_threshold,
-    }
-    frame = collection_frame(bank, collection, locale=locale, organisation=organisation, generated_at=moment,
-                             settings=settings)
-    names = [part.findings.variable.name for part in collection.variables]
-    properties = {
-        "title": narrative.title,
-        "subject": frame.details[1] if organisation else frame.details[0],
-        "author": author or organisation or "",
-        "keywords": ", ".join(part for part in (*names, collection.group_by, audience) if part),
-    }
-    announce("writing the report")
-    from narrator.writer import write_report
+    inputs = (input_path, template, *protect)
+    check_output(output, protect=inputs, force=force)
+    with output_lock(output):
+        clean_stale(output)
+        moment = generation_time(generated_at)
+        previous = previous_build(output)
+        findings_set = collection.findings_set(_baselines(collection, previous.findings_set))
+        narrative = narrate_set(findings_set, SetOptions(audience=audience, locale=locale, currency=currency,
+                                                         title=title))
+        announce("drawing the figures")
+        figures = _collection_figures(collection, narrative, locale=locale)
+        bank = load_bank(parse_locale(locale).language)
+        settings = {
+            "audience": audience, "locale": locale, "currency": currency, "title": title,
+            "organisation": organisation, "template": Path(template).name if template is not None else None,
+            "group_by": collection.group_by, "privacy_threshold": collection.privacy_threshold,
+        }
+        frame = collection_frame(bank, collection, locale=locale, organisation=organisation, generated_at=moment,
+                                 settings=settings)
+        names = [part.findings.variable.name for part in collection.variables]
+        properties = {
+            "title": narrative.title,
+            "subject": frame.details[1] if organisation else frame.details[0],
+            "author": author or organisation or "",
+            "keywords": ", ".join(part for part in (*names, collection.group_by, audience) if part),
+        }
+        announce("writing the report")
+        from narrator.writer import write_report
 
-    sidecar = write_report(
-        output, narrative, figures, findings=None, frame=frame, properties=properties,
-        generated_at=moment, template=template, protect=(input_path,), sidecar_text=dumps_set(findings_set) + "\n",
-    )
-    return ReportOutcome(Path(output), sidecar, collection.variables[0].findings, narrative, moment)
+        sidecar = write_report(
+            output, narrative, figures, frame=frame, properties=properties, generated_at=moment,
+            template=template, protect=(input_path, *protect), sidecar=set_sidecar(findings_set), force=force,
+        )
+    notes = (previous.note,) if previous.note else ()
+    return ReportOutcome(Path(output), sidecar, collection.variables[0].findings, narrative, moment, notes)
 
 
 def _baselines(collection: Collection, previous: FindingsSet | None) -> list[Findings | None]:
-    from narrator.history.changes import baseline_for
-
     if previous is None:
         return []
     earlier = {item.findings.variable.name: item for item in previous.variables}

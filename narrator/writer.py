@@ -28,9 +28,13 @@ two-column table.
 A user's own .docx can stand in for the style base (``template=``): its body is
 cleared, its styles, page setup, headers and footers are kept, and any style a
 report needs that it lacks is copied from the default base, so the report takes
-the user's branding without breaking. Document properties are all set from
-the caller's values; none is left from the template, the library or the
-operating-system user.
+the user's branding without breaking. Nothing else of the template travels:
+its comments, custom XML data, glossary, macros, thumbnail, document variables,
+mail-merge source and attached-template path are dropped, and every property
+part is written fresh: core properties from the caller's values, extended
+properties naming only the application, and custom properties holding only
+the mark by which narrator knows its own reports. None is left from the
+template, the library or the operating-system user.
 """
 
 from __future__ import annotations
@@ -44,6 +48,7 @@ import zipfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import docx
 from docx.enum.table import WD_TABLE_ALIGNMENT
@@ -53,13 +58,11 @@ from docx.oxml import OxmlElement
 from docx.oxml.ns import qn
 from docx.shared import Cm, Emu
 
-from narrator import findings as findings_module
 from narrator.errors import NarratorError
 from narrator.figures.rendered import RenderedFigure
-from narrator.findings import Findings
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
 from narrator.resources import template_file
-from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
+from narrator.safe_io import REPORT_MARK, check_output, commit_report_pair
 
 STYLE_NAMES = {
     "title": "Title",
@@ -139,46 +142,26 @@ def write_report(
     narrative: Narrative,
     figures: Sequence[RenderedFigure],
     *,
-    findings: Findings | None,
     frame: ReportFrame,
     properties: Mapping[str, str],
     generated_at: dt.datetime,
+    sidecar: Mapping[str, Any],
     template: str | os.PathLike[str] | None = None,
     protect: Sequence[str | os.PathLike[str] | None] = (),
-    sidecar_text: str | None = None,
+    force: bool = False,
 ) -> Path:
-    """Write the report to ``path`` and the findings sidecar beside it; return the sidecar path.
+    """Write the report to ``path`` and ``sidecar`` (JSON-ready data) beside it, as one pair; the sidecar's path.
 
-    The sidecar holds ``findings`` as JSON, or ``sidecar_text`` when given
-    (a report on several variables or groups writes its findings set that way).
-
-    Both files are written atomically (:func:`narrator.safe_io.atomic_write_bytes`):
-    a failure leaves any previous report untouched. ``protect`` names files
-    that must never be overwritten (the input data): writing over one raises
-    :class:`NarratorError`, as does a report path ending in ``.findings.json``.
+    The pair is committed by :func:`narrator.safe_io.commit_report_pair`: the output rules
+    are checked (``protect`` names the inputs, which are never written; ``force`` is the
+    consent to replace a file that is not a narrator report), and a reader sees either the
+    previous pair or this one. The template is protected too.
     """
-    target = Path(path)
-    sidecar = sidecar_path(target)
-    if target.name.lower().endswith(".findings.json"):
-        raise NarratorError(
-            f"refusing to write the report to {target}: that name is for the findings sidecar"
-        )
-    if target.is_dir():
-        raise NarratorError(f"cannot write the report to {target}: it is a folder")
-    refuse_same_file(target, *protect)
-    refuse_same_file(sidecar, *protect)
-    if template is not None:
-        refuse_same_file(target, template)
+    target = check_output(path, protect=(*protect, template), force=force)  # before the work, not only after
     data = build_document(
         narrative, figures, frame=frame, properties=properties, generated_at=generated_at, template=template
     )
-    atomic_write_bytes(target, data)
-    if sidecar_text is None:
-        if findings is None:
-            raise NarratorError("a report needs findings or a sidecar text for its findings sidecar")
-        sidecar_text = findings_module.dumps(findings) + "\n"
-    atomic_write_text(sidecar, sidecar_text)
-    return sidecar
+    return commit_report_pair(target, data, sidecar, protect=(*protect, template), force=force)
 
 
 def build_document(
@@ -211,7 +194,7 @@ def build_document(
         _add_appendix(document, frame)
 
     _set_properties(document, properties, generated_at, narrative.locale)
-    _drop_thumbnail(document)
+    _keep_only_the_template_look(document)
     buffer = io.BytesIO()
     document.save(buffer)
     return _stable_zip(buffer.getvalue(), generated_at)
@@ -537,12 +520,99 @@ def _property_text(value: object) -> str:
     return text if len(text) <= PROPERTY_LENGTH else text[: PROPERTY_LENGTH - 1] + "\u2026"
 
 
-def _drop_thumbnail(document) -> None:
-    # A template's page preview would show the template, not the report.
-    package = document.part.package
+# What a report keeps from its base document: the parts that make its look. Everything else a
+# user's template may carry (comments and their authors, custom XML data, glossary entries,
+# macros, a thumbnail, extended and custom properties, mail-merge sources, document variables,
+# the path of an attached template) is dropped, so none of it travels into a report.
+_KEPT_PART_TYPES = frozenset({
+    RT.STYLES, RT.NUMBERING, RT.THEME, RT.FONT_TABLE, RT.SETTINGS, RT.WEB_SETTINGS, RT.HEADER, RT.FOOTER,
+    RT.FOOTNOTES, RT.ENDNOTES, RT.IMAGE, RT.HYPERLINK,
+    "http://schemas.microsoft.com/office/2007/relationships/stylesWithEffects",
+})
+_KEPT_PACKAGE_TYPES = frozenset({RT.OFFICE_DOCUMENT, RT.CORE_PROPERTIES})
+_SETTINGS_DROPPED = ("w:attachedTemplate", "w:docVars", "w:mailMerge", "w:rsids", "w:documentProtection",
+                     "w:writeProtection", "w:removePersonalInformation")
+_NOTE_SEPARATORS = frozenset({"separator", "continuationSeparator", "continuationNotice"})
+# Extended and custom properties, written fresh for every report (ECMA-376 Part 1, 22.2 and 22.3;
+# FMTID_UserDefinedProperties is the format id of user-defined custom properties).
+_EXTENDED_PROPERTIES = (
+    b'<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+    b'<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/extended-properties" '
+    b'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
+    b"<Application>narrator</Application></Properties>"
+)
+_CUSTOM_PROPERTIES = (
+    '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+    '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties" '
+    'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
+    '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="2" name="' + REPORT_MARK + '">'
+    "<vt:lpwstr>1</vt:lpwstr></property></Properties>"
+).encode("utf-8")
+
+
+def _keep_only_the_template_look(document) -> None:
+    """Drop every part and setting of the base that is not styles, page set-up, headers or footers.
+
+    Then the package gets fresh extended properties and custom properties holding only
+    the mark by which narrator knows its own reports (:data:`narrator.safe_io.REPORT_MARK`).
+    """
+    from docx.opc.constants import CONTENT_TYPE as CT
+    from docx.opc.packuri import PackURI
+    from docx.opc.part import Part
+
+    part = document.part
+    for rel_id, rel in list(part.rels.items()):
+        if rel.reltype not in _KEPT_PART_TYPES:
+            del part.rels[rel_id]
+    for related in list(part.rels.values()):
+        if related.is_external:
+            continue
+        if related.reltype == RT.SETTINGS:
+            _clean_settings(related.target_part)
+        elif related.reltype in (RT.FOOTNOTES, RT.ENDNOTES):
+            _keep_only_separators(related.target_part)
+    package = part.package
     for rel_id, rel in list(package.rels.items()):
-        if rel.reltype == RT.THUMBNAIL:
+        if rel.reltype not in _KEPT_PACKAGE_TYPES:
             del package.rels[rel_id]
+    package.relate_to(Part(PackURI("/docProps/app.xml"), CT.OFC_EXTENDED_PROPERTIES, _EXTENDED_PROPERTIES, package),
+                      RT.EXTENDED_PROPERTIES)
+    package.relate_to(Part(PackURI("/docProps/custom.xml"), CT.OFC_CUSTOM_PROPERTIES, _CUSTOM_PROPERTIES, package),
+                      RT.CUSTOM_PROPERTIES)
+
+
+def _edit_xml(part, edit) -> None:
+    """Apply ``edit`` to the XML of ``part``, whether python-docx keeps it parsed or as bytes."""
+    from docx.oxml import parse_xml
+    from lxml import etree
+
+    element = getattr(part, "_element", None)
+    if element is not None:
+        edit(element)
+        return
+    element = parse_xml(part.blob)
+    edit(element)
+    part._blob = etree.tostring(element, xml_declaration=True, encoding="UTF-8", standalone=True)
+
+
+def _clean_settings(part) -> None:
+    def edit(settings) -> None:
+        for tag in _SETTINGS_DROPPED:
+            for element in settings.findall(qn(tag)):
+                settings.remove(element)
+
+    _edit_xml(part, edit)
+    for rel_id in list(part.rels):  # the attached template, a mail-merge source: paths of files
+        del part.rels[rel_id]
+
+
+def _keep_only_separators(part) -> None:
+    def edit(notes) -> None:
+        for note in list(notes):
+            if note.get(qn("w:type")) not in _NOTE_SEPARATORS:
+                notes.remove(note)
+
+    _edit_xml(part, edit)
 
 
 def _stable_zip(data: bytes, moment: dt.datetime) -> bytes:

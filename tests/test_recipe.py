@@ -173,7 +173,8 @@ def test_a_recipe_value_is_never_run(project, tmp_path):
 
 def test_recipe_keys_table_lists_the_schema():
     assert set(RECIPE_KEYS["data"]) == {
-        "path", "sheet", "decimal_comma", "missing", "group_by", "privacy_threshold", "engine", "scheduler",
+        "path", "sheet", "decimal_comma", "missing", "encoding", "group_by", "privacy_threshold", "engine",
+        "scheduler",
     }
     assert set(RECIPE_KEYS["report"]) == {"title", "organisation", "locale", "currency", "template", "generated"}
 

@@ -9,20 +9,19 @@ from __future__ import annotations
 import contextlib
 import getpass
 import hashlib
-import json
 import os
 import signal
 import socket
 import subprocess
 import sys
-import time
 import zipfile
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-from narrator.safe_io import PAUSE_ENV
+from narrator.errors import NarratorError
+from narrator.safe_io import PAUSE_ENV, PAUSE_POINTS, atomic_write_bytes, output_lock, read_report_pair
 
 SEED = 6
 
@@ -86,32 +85,123 @@ def test_no_local_path_user_or_host_in_the_document_or_sidecar(shop):
             assert secret not in text, f"{secret!r} found in {name}"
 
 
-def test_killing_during_the_sidecar_save_keeps_the_previous_sidecar(shop):
-    report, sidecar = shop / "report.docx", shop / "report.findings.json"
+def _pair_on_disk(folder: Path) -> tuple[str, int | None]:
+    """What a reader finds beside report.docx: the pair's state and, when whole, the sidecar's n."""
+    reading = read_report_pair(folder / "report.docx")
+    return reading.state, (reading.data or {}).get("n")
+
+
+def _paused_build(folder: Path, point: str) -> subprocess.Popen:
+    process = subprocess.Popen(
+        [sys.executable, "-m", "narrator", "draft", "turnaround.csv", "--column", "hours", "-o", "report.docx"],
+        cwd=folder, env={**os.environ, PAUSE_ENV: point}, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
+        text=True,
+    )
+    line = process.stderr.readline()  # the build says where it stopped
+    assert line.strip() == f"paused at {point}", (point, line, process.poll())
+    return process
+
+
+@pytest.mark.slow
+def test_a_reader_finds_the_old_pair_or_the_new_pair_when_a_build_is_killed_anywhere(shop):
+    # Generated data (fixed seed): 60 rows first, then 80; the sidecar's n tells the builds apart.
     first = narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "report.docx", cwd=shop)
     assert first.returncode == 0, first.stderr
-    old_report, old_sidecar = report.read_bytes(), sidecar.read_bytes()
-    # A different time makes different bytes, so the moment the report is replaced can be seen.
-    process = subprocess.Popen(
-        [sys.executable, "-m", "narrator", "draft", "turnaround.csv", "--column", "hours", "-o", "report.docx",
-         "--title", "Second version"],
-        cwd=shop, env={**os.environ, PAUSE_ENV: "3"}, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
-    )
-    try:
-        deadline = time.monotonic() + 120
-        while report.read_bytes() == old_report:  # the report is replaced after its own pause
-            assert process.poll() is None, "the draft ended before the report was replaced"
-            assert time.monotonic() < deadline
-            time.sleep(0.05)
-        time.sleep(0.5)  # now inside the sidecar's pause, before its rename
+    rng = np.random.default_rng(SEED + 1)
+    hours = rng.lognormal(2.0, 0.6, 80).round(1)
+    versions = {size: "ticket,hours\n" + "".join(f"T-{k},{v}\n" for k, v in enumerate(hours[:size]))
+                for size in (70, 80)}
+    for number, point in enumerate(PAUSE_POINTS):
+        size = (80, 70)[number % 2]
+        (shop / "turnaround.csv").write_text(versions[size], encoding="utf-8")
+        before = _pair_on_disk(shop)
+        assert before[0] == "ok" and before[1] != size, point
+        process = _paused_build(shop, point)
         os.kill(process.pid, signal.SIGKILL)
-    finally:
         process.wait(timeout=60)
-    assert process.returncode == -signal.SIGKILL
-    assert sidecar.read_bytes() == old_sidecar
-    json.loads(sidecar.read_text(encoding="utf-8"))
-    with zipfile.ZipFile(report) as archive:  # the new report is whole
-        assert archive.testzip() is None
+        process.stderr.close()
+        state, n = _pair_on_disk(shop)
+        assert state == "ok" and n in (before[1], size), (point, state, n)
+        with zipfile.ZipFile(shop / "report.docx") as archive:
+            assert archive.testzip() is None
+        # The next build finishes or cleans what the killed one left, and leaves only the pair.
+        again = narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "report.docx", cwd=shop)
+        assert again.returncode == 0 and again.stderr == "", (point, again.stderr)
+        assert sorted(path.name for path in shop.iterdir()) == ["report.docx", "report.findings.json",
+                                                                 "turnaround.csv"], point
+        assert _pair_on_disk(shop) == ("ok", size)
+
+
+def test_the_pause_points_are_ten_and_each_is_reached(shop):
+    assert len(PAUSE_POINTS) == 10 and len(set(PAUSE_POINTS)) == 10
+    narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "report.docx", cwd=shop)
+    for point in ("previous-read", "report-committed"):
+        process = _paused_build(shop, point)
+        process.kill()
+        process.wait(timeout=60)
+        process.stderr.close()
+
+
+def test_a_second_build_of_the_same_output_waits_then_refuses_with_one_line(shop):
+    process = _paused_build(shop, "locked")
+    try:
+        refused = pytest.raises(NarratorError, match=r"report\.docx: another narrator build is writing this report")
+        with refused, output_lock(shop / "report.docx", wait=0.3):
+            pass
+    finally:
+        process.kill()
+        process.wait(timeout=60)
+        process.stderr.close()
+    with output_lock(shop / "report.docx", wait=5):  # a killed holder's lock is free again
+        pass
+    assert not (shop / ".report.docx.narrator-lock").exists()
+
+
+def test_two_builds_at_once_give_one_whole_pair(shop):
+    runs = [subprocess.Popen([sys.executable, "-m", "narrator", "draft", "turnaround.csv", "--column", "hours",
+                              "-o", "report.docx", "--title", title], cwd=shop, stdout=subprocess.PIPE,
+                             stderr=subprocess.PIPE, text=True) for title in ("First", "Second")]
+    for run in runs:
+        _out, err = run.communicate(timeout=300)
+        assert run.returncode == 0, err
+    assert _pair_on_disk(shop)[0] == "ok"
+
+
+def test_a_sidecar_that_is_not_its_reports_is_ignored_and_said_so(shop):
+    assert narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "a.docx", cwd=shop).returncode == 0
+    assert narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "b.docx", "--title", "B",
+                        cwd=shop).returncode == 0
+    (shop / "a.findings.json").write_bytes((shop / "b.findings.json").read_bytes())  # b's sidecar beside a
+    assert read_report_pair(shop / "a.docx").state == "mismatch"
+    result = narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "a.docx", cwd=shop)
+    assert result.returncode == 0
+    assert result.stderr.splitlines() == [
+        "narrator: note: the previous findings a.findings.json were ignored: they belong to another version of "
+        "a.docx"]
+    assert read_report_pair(shop / "a.docx").state == "ok"
+
+
+def test_writers_replace_a_link_and_never_write_through_it(shop):
+    elsewhere = shop / "elsewhere"
+    elsewhere.mkdir()
+    kept = elsewhere / "kept.docx"
+    assert narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", str(kept), cwd=shop).returncode == 0
+    before, sidecar_before = kept.read_bytes(), (elsewhere / "kept.findings.json").read_bytes()
+    (shop / "link.docx").symlink_to(kept)
+    (shop / "recipe.toml").write_text('[data]\npath = "turnaround.csv"\n[outputs]\nmemo = "link.docx"\n'
+                                      '[[variables]]\ncolumn = "hours"\n', encoding="utf-8")
+    for args in (("draft", "turnaround.csv", "--column", "hours", "-o", "link.docx", "--title", "New"),
+                 ("redraft", "recipe.toml", "--quiet")):
+        (shop / "link.docx").unlink(missing_ok=True)
+        (shop / "link.docx").symlink_to(kept)
+        result = narrator_cli(*args, cwd=shop)
+        assert result.returncode == 0, result.stderr
+        assert not (shop / "link.docx").is_symlink() and kept.read_bytes() == before, args
+        assert (elsewhere / "kept.findings.json").read_bytes() == sidecar_before
+        assert (shop / "link.findings.json").is_file()
+    (shop / "one-link").symlink_to(kept)  # the single-file writer too
+    atomic_write_bytes(shop / "one-link", b"new")
+    assert kept.read_bytes() == before and (shop / "one-link").read_bytes() == b"new"
 
 
 def test_an_unwritable_output_folder_fails_cleanly_and_writes_nothing(shop):

@@ -47,7 +47,7 @@ def rivers_csv(tmp_path_factory) -> Path:
 def full_report(rivers_csv, tmp_path_factory):
     out = tmp_path_factory.mktemp("report") / "rivers.docx"
     outcome = build_report(
-        rivers_csv, "dat", out, read_options={"unit": "miles"}, audience="full",
+        rivers_csv, "dat", out, variable={"unit": "miles"}, audience="full",
         organisation="Invented Watershed Trust", author="A. Analyst", generated_at=PINNED,
     )
     return outcome
@@ -181,7 +181,7 @@ def write_small(path, narrative=None, **kwargs):
 
     found = describe([3.0, 4.0, 4.0, 5.0, 6.0, 4.0, 3.0, 8.0, 4.0, 5.0, 2.0, 30.0])  # invented
     return writer.write_report(
-        path, narrative or small_narrative(), [], findings=found,
+        path, narrative or small_narrative(), [], sidecar=found.to_dict(),
         frame=writer.ReportFrame(details=("Invented Org",)), properties={"title": "t", "author": "me"},
         generated_at=PINNED, **kwargs,
     )
@@ -263,7 +263,7 @@ def test_a_failed_save_keeps_the_previous_report(tmp_path):
 
     with pytest.raises(Exception):  # noqa: B017 - python-docx's own error for an unreadable image
         writer.write_report(
-            target, narrative, [broken], findings=describe([1.0, 2.0, 3.0]), frame=writer.ReportFrame(),
+            target, narrative, [broken], sidecar=describe([1.0, 2.0, 3.0]).to_dict(), frame=writer.ReportFrame(),
             properties={}, generated_at=PINNED,
         )
     assert target.read_bytes() == before
@@ -282,7 +282,7 @@ def test_killing_the_writer_mid_save_leaves_the_previous_report_intact(tmp_path,
                      generated_at=dt.datetime(2027, 1, 1, tzinfo=dt.UTC))
         """
     )
-    env = {**os.environ, PAUSE_ENV: "60"}
+    env = {**os.environ, PAUSE_ENV: "report-temp-written"}
     process = subprocess.Popen([sys.executable, "-c", script], env=env)
     try:
         deadline = time.monotonic() + 120
@@ -300,9 +300,9 @@ def test_killing_the_writer_mid_save_leaves_the_previous_report_intact(tmp_path,
             process.wait()
     assert target.read_bytes() == before
     docx.Document(str(target))  # still a whole, readable report
-    for leftover in tmp_path.glob("*.tmp"):
-        leftover.unlink()
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["report.docx", "report.findings.json"]
+    assert list(tmp_path.glob(".report.docx.narrator-*.tmp"))  # the killed build's temporary report is left...
+    build_report(rivers_csv, "dat", target, audience="memo", generated_at=PINNED)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["report.docx", "report.findings.json"]  # ...until now
 
 
 def test_draft_command_writes_report_and_sidecar(tmp_path, rivers_csv):

@@ -113,6 +113,10 @@ def _as_sample(values_or_sample, name: str | None, unit: str | None) -> Sample:
     unit = None if unit is None else clean_label(unit) or None
     if isinstance(values_or_sample, Sample):
         sample = values_or_sample
+        if unit is not None and sample.unit is not None and sample.unit != unit:
+            # The unit is said once (narrator.request): a later stage never silently overrides it.
+            raise NarratorError(f"the unit was given twice: '{sample.unit}' when the values were read and "
+                                f"'{unit}' when they were described; give it once")
         if unit is not None and sample.unit != unit:
             sample = replace(sample, unit=unit)
         if name is not None and sample.name != name:

@@ -3,7 +3,7 @@
 =============================  ================================================
 Name                           What it is
 =============================  ================================================
-:class:`VariableRequest`       one variable to read and describe, as declared
+:class:`VariableRequest`       one variable to read and describe (:mod:`narrator.request`)
 :class:`GroupPart`             one shown group of one variable: sample, findings
 :class:`VariablePart`          one variable: overall sample and findings, groups
 :class:`Collection`            every variable of one report
@@ -37,23 +37,9 @@ from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
 from narrator.reading.sample import Sample
+from narrator.request import ColumnRequest, ReadingOptions, VariableRequest, describe_options, read_sample
 
 DEFAULT_PRIVACY_THRESHOLD = 10
-
-
-@dataclass(frozen=True, slots=True)
-class VariableRequest:
-    """One variable as a recipe or the command line declares it (see :func:`describe`)."""
-
-    column: str | int
-    label: str | None = None
-    unit: str | None = None
-    valid_min: float | None = None
-    valid_max: float | None = None
-    lower_bound: float | None = None
-    upper_bound: float | None = None
-    population: bool = False
-    outlier_rule: str | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -183,52 +169,48 @@ def analyse_file(
     path: str | os.PathLike[str],
     variables: Sequence[VariableRequest],
     *,
-    sheet: str | int | None = None,
-    decimal_comma: bool = False,
-    missing: Sequence[object] = (),
+    reading: ReadingOptions | None = None,
     group_by: str | None = None,
     privacy_threshold: int = DEFAULT_PRIVACY_THRESHOLD,
     step: Callable[[str], None] | None = None,
 ) -> Collection:
-    """Read every variable of ``path``, split by ``group_by`` when given, and describe each part.
+    """Read every variable of ``path`` the way ``reading`` says, split by ``group_by`` when given, describe each part.
 
-    ``step`` is called with a short description before each piece of work
-    (for a progress display). Each group is described with the variable's own
-    settings (bounds, valid range, outlier rule), so groups and the whole are
-    judged the same way.
+    Every variable is one :class:`~narrator.request.ColumnRequest` read by the memory engine
+    (:func:`narrator.request.engine_for` refuses another one with grouping or several variables).
+    ``step`` is called with a short description before each piece of work (for a progress
+    display). Each group is described with the variable's own settings (bounds, valid range,
+    outlier rule), so groups and the whole are judged the same way.
     """
     from narrator.engine.describe import describe
-    from narrator.reading.columns import read_column, read_labels
+    from narrator.reading.columns import read_labels
+    from narrator.request import engine_for
 
+    reading = reading or ReadingOptions()
     if not variables:
         raise NarratorError("a report needs at least one variable")
     if isinstance(privacy_threshold, bool) or not isinstance(privacy_threshold, int) or privacy_threshold < 1:
         raise NarratorError(f"the privacy threshold must be a whole number of at least 1, not {privacy_threshold!r}")
+    requests = [ColumnRequest(path, variable, reading) for variable in variables]
+    engine_for(requests[0], group_by=group_by, variables=len(requests))
     announce = step or (lambda _what: None)
     samples = []
-    for request in variables:
-        announce(f"reading {request.column}")
-        samples.append(read_column(
-            path, request.column, sheet=sheet, unit=request.unit, decimal_comma=decimal_comma,
-            missing=tuple(missing), valid_min=request.valid_min, valid_max=request.valid_max,
-        ))
+    for request in requests:
+        announce(f"reading {request.variable.column}")
+        samples.append(read_sample(request))
     labels: tuple[str | None, ...] = ()
     group_column = None
     suppressed: frozenset[str] = frozenset()
     if group_by is not None:
         announce(f"reading {group_by}")
-        group_column, labels = read_labels(path, group_by, sheet=sheet, missing=tuple(missing))
+        group_column, labels = read_labels(path, group_by, sheet=reading.sheet, missing=reading.missing,
+                                           encoding=reading.encoding)
         # Impossible values are excluded before counting, as describe() would exclude them.
         counted = [_within_bounds(sample, request) for sample, request in zip(samples, variables, strict=True)]
         suppressed = suppressed_labels(counted, labels, privacy_threshold)
 
     def run(sample: Sample, request: VariableRequest) -> Findings:
-        # Limits as floats, so the findings (and their JSON) are the same whether 0 or 0.0 was given.
-        limits = {key: None if value is None else float(value) for key, value in (
-            ("valid_min", request.valid_min), ("valid_max", request.valid_max),
-            ("lower_bound", request.lower_bound), ("upper_bound", request.upper_bound))}
-        return describe(sample, name=request.label, population=request.population,
-                        outlier_rule=request.outlier_rule, **limits)
+        return describe(sample, **describe_options(request))
 
     parts = []
     for sample, request in zip(samples, variables, strict=True):

@@ -6,8 +6,6 @@ Name                           What it is
 :func:`compare`                old and new Findings -> :class:`Changes`
 :func:`same_findings`          do two builds give the same figures?
 :func:`baseline_for`           which earlier findings a new build is compared with
-:func:`sidecar_payload`        the sidecar JSON: findings plus the baseline
-:func:`read_sidecar`           a sidecar file -> (findings, baseline)
 :class:`Change`                one compared quantity and whether it is worth saying
 :class:`Changes`               every comparison, and "little changed" when none is
 =============================  ==================================================
@@ -28,7 +26,7 @@ text through the reason codes):
 * **shape**: any change of label or strength; **lead**: any change of measure.
 
 Regeneration: a rebuild on unchanged data must give the same text. So the
-sidecar keeps, beside the new findings, the findings it was compared with
+sidecar (:mod:`narrator.history.sidecar`) keeps, beside the new findings, the findings it was compared with
 (the *baseline*). When the data have not changed since the last build, the
 new build keeps the last build's baseline, and the "what changed" text is
 the same as last time; when they have, the last build becomes the baseline.
@@ -39,16 +37,13 @@ from __future__ import annotations
 import json
 import math
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
-from narrator.errors import NarratorError
 from narrator.findings import Findings
 
 POPULATION_SHARE = 0.1
 SPREAD_SHARE = 0.10
 COUNT_SHARE = 0.05
-SIDECAR_BASELINE_KEY = "baseline"
 
 
 @dataclass(frozen=True, slots=True)
@@ -146,29 +141,6 @@ def same_findings(a: Findings, b: Findings) -> bool:
     return json.dumps(_comparable(a), sort_keys=True) == json.dumps(_comparable(b), sort_keys=True)
 
 
-def read_sidecar(path: Path) -> tuple[Findings, Findings | None]:
-    """A single-variable sidecar -> (its findings, the baseline it was compared with, if any)."""
-    try:
-        data = json.loads(Path(path).read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise NarratorError(f"{Path(path).name}: no such findings file") from None
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise NarratorError(f"{Path(path).name}: not a readable findings file ({exc})") from None
-    return findings_pair(data, Path(path).name)
-
-
-def findings_pair(data: Any, where: str) -> tuple[Findings, Findings | None]:
-    if not isinstance(data, dict):
-        raise NarratorError(f"{where}: a findings file holds a JSON object")
-    try:
-        current = Findings.from_dict(data)
-        baseline_data = data.get(SIDECAR_BASELINE_KEY)
-        baseline = Findings.from_dict(baseline_data) if isinstance(baseline_data, dict) else None
-    except NarratorError as exc:
-        raise NarratorError(f"{where}: {exc}") from None
-    return current, baseline
-
-
 def baseline_for(new: Findings, previous: Findings | None, previous_baseline: Findings | None) -> Findings | None:
     """The findings a new build is compared with.
 
@@ -180,12 +152,3 @@ def baseline_for(new: Findings, previous: Findings | None, previous_baseline: Fi
     if same_findings(previous, new):
         return previous_baseline
     return previous
-
-
-def sidecar_payload(findings: Findings, baseline: Findings | None) -> dict:
-    data = findings.to_dict()
-    if baseline is not None:
-        baseline_data = baseline.to_dict()
-        baseline_data.pop(SIDECAR_BASELINE_KEY, None)
-        data[SIDECAR_BASELINE_KEY] = baseline_data
-    return data

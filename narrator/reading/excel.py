@@ -129,7 +129,11 @@ def open_workbook(path: Path, data_only: bool = True):
 
 
 def choose_sheet(workbook, sheet: str | int | None, file_name: str) -> str:
-    """The name of the sheet ``sheet`` names (a name, loosely matched, or a 1-based position); the first by default."""
+    """The name of the sheet ``sheet`` names; the first by default.
+
+    A name (exact, then ignoring case and runs of spaces) wins; a whole number, or digits
+    that match no sheet name, are a 1-based position (the column rule, for sheets).
+    """
     names = list(workbook.sheetnames)
     listed = ", ".join(f"'{shown_name(name)}'" for name in names[:20])
     if sheet is None:
@@ -145,6 +149,8 @@ def choose_sheet(workbook, sheet: str | int | None, file_name: str) -> str:
             chosen = exact[0]
         elif len(near) == 1:
             chosen = near[0]
+        elif str(sheet).isascii() and str(sheet).isdigit():  # as for columns: digits no name matches are a position
+            return choose_sheet(workbook, int(sheet), file_name)
         else:
             raise NarratorError(f"{file_name}: no sheet named '{shown_name(sheet)}'; sheets are: {listed}")
     if not hasattr(workbook[chosen], "iter_rows"):

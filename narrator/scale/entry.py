@@ -1,4 +1,4 @@
-"""The door the command line and recipes use to the engines for data larger than memory.
+"""The door to the engines for data larger than memory (:mod:`narrator.request` uses it).
 
 =========================  ======================================================
 Name                       What it does
@@ -50,13 +50,14 @@ def describe_large(
     missing: Iterable[object] = (),
     valid_min: float | None = None,
     valid_max: float | None = None,
+    encoding: str | None = None,
     **describe_options,
 ) -> tuple[Sample, Findings]:
     """Describe one column of a Parquet file, folder or glob (or a CSV/TSV file, streaming only).
 
     ``engine`` is ``"stream"`` (this machine, in chunks) or ``"dask"`` (a Dask cluster at
-    ``scheduler``, or the given ``client``). A ``column`` of digits that is not a header means a
-    1-based position, as on the command line. ``describe_options`` are those of
+    ``scheduler``, or the given ``client``). The column is chosen by the column rule of
+    :func:`narrator.reading.files.select_column`. ``describe_options`` are those of
     :func:`narrator.engine.describe.describe` (name, bounds, rules...).
     Returns the Sample the figures are drawn from (a fixed-seed reservoir with the extreme and
     flagged values) and the findings.
@@ -67,7 +68,7 @@ def describe_large(
     if engine not in ("stream", "dask"):
         raise NarratorError(f"describe_large runs the stream or dask engine, not {engine!r}")
     reading = dict(unit=unit, decimal_comma=decimal_comma, missing=tuple(missing), valid_min=valid_min,
-                   valid_max=valid_max, chunk_rows=chunk_rows or DEFAULT_CHUNK_ROWS)
+                   valid_max=valid_max, encoding=encoding, chunk_rows=chunk_rows or DEFAULT_CHUNK_ROWS)
     source = open_source(path, column, **reading)
     runner = None
     if engine == "dask":

