@@ -389,6 +389,8 @@ class EntryError:
     ratio_to_median: float | None
     suggested: float | None = None  # the value with the decimal point moved, when that lands among the rest
     shift_digits: int | None = None  # how many places the point moved (negative: to the right)
+    # "probable", or "possible" when the bulk of the data leans towards the value (a long tail can hold it)
+    strength: str = "probable"
 
 
 @dataclass(frozen=True, slots=True)
@@ -547,6 +549,16 @@ class Findings:
                 f"findings schema version {version!r} is not supported (expected {SCHEMA_VERSION})"
             )
         return _decode(cls, data, "findings")
+
+
+def encode_part(value: Any) -> Any:
+    """Any findings dataclass (or tuple of them) as JSON-ready data, as :meth:`Findings.to_dict` writes it."""
+    return _encode(value)
+
+
+def decode_part(kind: Any, data: Any, where: str) -> Any:
+    """JSON-ready data back into ``kind`` (a findings dataclass or type hint); ``where`` names it in errors."""
+    return _decode(kind, data, where)
 
 
 def dumps(findings: Findings) -> str:

@@ -11,7 +11,9 @@ The steps, in order, each in its own module:
 5. outliers by the chosen or automatic rule (:mod:`.outliers`);
 6. with and without the flagged values; the lead measure (:mod:`.center`);
 7. intervals (:mod:`.intervals`), unless the rows are the whole population;
-8. data-quality flags (:mod:`.quality`).
+8. data-quality flags (:mod:`.quality`);
+9. what a memo leads with: clusters, unusual values and entry errors, concentration of the
+   total (:mod:`.decision`).
 
 Speed: the one sort is the only O(n log n) step. On this project's machines
 numpy's sort (vectorised, x86-simd-sort) beats ``np.partition`` at more than one
@@ -33,6 +35,7 @@ import numpy as np
 
 from narrator.engine import bins, density, intervals, outliers, robust
 from narrator.engine.center import choose_lead, mean_pull
+from narrator.engine.decision import add_decision_findings
 from narrator.engine.moments import (
     QUANTILE_METHOD,
     central_moments,
@@ -138,6 +141,7 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
         return sample
     count = int(outside.sum())
     new_rows = tuple(int(r) for r in sample.rows[outside][:10])
+    new_values = tuple(float(v) for v in sample.values[outside][:10])
     new_examples = tuple(f"{float(v):g}" for v in sample.values[outside][:5])
     exclusions = []
     merged = False
@@ -148,11 +152,12 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
                 exclusion.count + count,
                 (exclusion.rows + new_rows)[:10],
                 (exclusion.examples + new_examples)[:5],
+                (exclusion.values + new_values)[:10],
             )
             merged = True
         exclusions.append(exclusion)
     if not merged:
-        exclusions.append(Exclusion("impossible", count, new_rows, new_examples))
+        exclusions.append(Exclusion("impossible", count, new_rows, new_examples, new_values))
     keep = ~outside
     ids = None if sample.ids is None else sample.ids[keep]
     return replace(sample, values=sample.values[keep], rows=sample.rows[keep], exclusions=tuple(exclusions),
@@ -247,7 +252,7 @@ def describe(
 
     if n == 0:
         quality, _ = assess_quality(sample, sorted_values, iqr=None, decimals=0)
-        return Findings(
+        return add_decision_findings(Findings(
             schema_version=SCHEMA_VERSION,
             variable=variable,
             n=0,
@@ -263,7 +268,7 @@ def describe(
             quality=quality,
             options=options,
             provenance=provenance,
-        )
+        ), sorted_values)
 
     # Work in power-of-two scaled units so values near 1e308 cannot overflow; scale back at the end.
     unit_values, factor = scaled(
@@ -409,7 +414,7 @@ def describe(
         if layout is not None:
             histogram_focus = bins.focus_from_sorted(histogram_plan, layout, sorted_values)
     density_focus = density_focus_of(density_estimate, fine_density, histogram_focus)
-    return Findings(
+    return add_decision_findings(Findings(
         schema_version=SCHEMA_VERSION,
         variable=variable,
         n=n,
@@ -427,7 +432,7 @@ def describe(
         provenance=provenance,
         histogram_focus=histogram_focus,
         density_focus=density_focus,
-    )
+    ), sorted_values)
 
 
 def density_focus_of(estimate, fine, focus):

@@ -70,7 +70,10 @@ verdict                when
 =====================  ===========================================================
 
 0.2 and 0.5 are Cohen's (1988, *Statistical Power Analysis for the Behavioral Sciences*, 2nd
-ed.) "small" and "medium" standardized differences (from memory; common practice). Asking
+ed.) "small" and "medium" standardized differences (from memory; common practice). Both bounds
+get half the unit the values are recorded in (half a day for whole days; ``Variable.decimals``):
+rounding alone can move a shift between values recorded that coarsely by that much, and the
+interval's limits of such values are whole or half units (our rule). Asking
 the interval to exclude a medium difference before saying "about the same" is the logic of
 equivalence testing (Schuirmann 1987, *J. Pharmacokinetics and Biopharmaceutics* 15) with a
 95 % interval in place of the usual 90 %, so it errs towards "unclear". For a whole population
@@ -295,6 +298,7 @@ class Side:
     sd: float
     iqr: float
     lead_value: float | None
+    decimals: int = 0  # decimals the values are recorded with
 
     @classmethod
     def of_group(cls, values, findings: Findings, lead: str) -> Side:
@@ -302,18 +306,18 @@ class Side:
         spread = findings.spread
         return cls(np.asarray(values, dtype=float), spread.sd if spread is not None else math.nan,
                    spread.iqr if spread is not None else math.nan,
-                   None if findings.center is None else getattr(findings.center, lead))
+                   None if findings.center is None else getattr(findings.center, lead), findings.variable.decimals)
 
     @classmethod
-    def of_values(cls, values, lead: str) -> Side:
+    def of_values(cls, values, lead: str, decimals: int = 0) -> Side:
         """Pooled values (the others of a group that stands apart), figured as the engine figures them."""
         ordered = np.sort(np.asarray(values, dtype=float))
         if ordered.size == 0:
-            return cls(ordered, math.nan, math.nan, None)
+            return cls(ordered, math.nan, math.nan, None, decimals)
         q1, q3 = (float(v) for v in quantiles_sorted(ordered, [0.25, 0.75]))
         moments = central_moments(ordered)
         lead_value = median_sorted(ordered) if lead == "median" else moments.mean
-        return cls(ordered, moments.sd, q3 - q1, float(lead_value))
+        return cls(ordered, moments.sd, q3 - q1, float(lead_value), decimals)
 
 
 def compare_two(first: Side, second: Side, *, lead: str, level: float, population: bool) -> Difference:
@@ -347,8 +351,10 @@ def compare_two(first: Side, second: Side, *, lead: str, level: float, populatio
         else:
             verdict = "unclear"
     else:
-        small_bound = SMALL_EFFECT * scale
-        ruled_out = RULED_OUT_EFFECT * scale
+        # Values recorded in whole units cannot show a difference finer than rounding: half a unit is added.
+        rounding = 0.5 * 10.0 ** -max(first.decimals, second.decimals)
+        small_bound = SMALL_EFFECT * scale + rounding
+        ruled_out = RULED_OUT_EFFECT * scale + rounding
         small = abs(shift) <= small_bound
         if interval_reason == "population":
             verdict = "alike" if small else "different"
@@ -420,7 +426,8 @@ def compare_groups(groups: Sequence[tuple[str, np.ndarray, Findings]], *, lead: 
     for label in stand_apart:
         own = dict(sides)[label]
         others = [(other, side) for other, side in sides if other != label]
-        rest = Side.of_values(np.concatenate([side.values for _, side in others]), lead)
+        rest = Side.of_values(np.concatenate([side.values for _, side in others]), lead,
+                              max(side.decimals for _, side in others))
         versus_rest.append(GroupVersusRest(label, tuple(other for other, _ in others), compare_two(
             rest, own, lead=lead, level=adjusted, population=population)))
     return GroupComparison(

@@ -45,6 +45,7 @@ from narrator.engine import bins as engine_bins
 from narrator.engine import intervals, robust
 from narrator.engine import quality as engine_quality
 from narrator.engine.center import choose_lead, mean_pull
+from narrator.engine.decision import add_decision_findings
 from narrator.engine.describe import (
     BANDWIDTH_RULES,
     BIN_RULES,
@@ -259,7 +260,7 @@ def describe_source(
             intervals=Intervals(mean=None, median=None, reason="too_few"), histogram=None, density=None,
             quality=quality, options=options, provenance=provenance,
             accuracy=_accuracy(runner, first, n, (), seed, reservoir_size))
-        return ScaleResult(findings, account, reader.passes)
+        return ScaleResult(add_decision_findings(findings, np.zeros(0)), account, reader.passes)
 
     low, high = extremes.low, extremes.high
     _, factor = scaled(np.array([low, high]), largest=max(abs(low), abs(high)))
@@ -435,6 +436,8 @@ def describe_source(
         provenance=provenance,
         accuracy=_accuracy(runner, first, n, approximate, seed, reservoir_size), histogram_focus=histogram_focus,
         density_focus=density_focus_of(density_estimate, fine_density, histogram_focus))
+    # With every value in the fixed-seed sample the memo's findings are the in-memory ones; else not computed.
+    findings = add_decision_findings(findings, np.sort(reservoir.values) if whole_reservoir else None)
     return ScaleResult(findings, _figure_sample(account, first, flagged), reader.passes)
 
 
@@ -903,9 +906,11 @@ def _approximations(n, whole, reservoir: ReservoirSample, seed, flagged: Outlier
     if whole or n < 3:
         return ()
     size = int(reservoir.values.size)
-    # The shape judgement weighs the medcouple's sign; the lead follows the shape.
+    # The shape judgement weighs the medcouple's sign; the lead follows the shape, and so does what stands
+    # out (narrator.engine.entry_errors reads the shape and the fences).
     depends = ["shape.label", "shape.strength", "shape.evidence", "shape.reasons", "center.lead",
-               "center.lead_reasons", "without_outliers.lead_without", "without_outliers.lead_would_change"]
+               "center.lead_reasons", "without_outliers.lead_without", "without_outliers.lead_would_change",
+               "unusual"]
     if flagged.rule == "adjusted":  # the skew-adjusted fences stretch with the medcouple
         # The skew-adjusted fences stretch with the medcouple, and the focused histogram stops at a fence.
         depends = ["outliers", "without_outliers", "histogram_focus", "density_focus", *depends]
