@@ -114,6 +114,11 @@ def read_and_describe(args: argparse.Namespace):
         population=args.population,
         outlier_rule=args.outlier_rule,
     )
+    if findings.clusters is not None and findings.clusters.count >= 2:
+        from narrator.groups.analysis import separation_in_file
+
+        findings = separation_in_file(findings, sample, args.file, sheet=args.sheet, decimal_comma=args.decimal_comma,
+                                      missing=tuple(args.missing))
     return sample, findings
 
 

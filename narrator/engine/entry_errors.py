@@ -27,8 +27,9 @@ of a skewed distribution as Tukey's rule flags of a normal one (Hubert & Vanderv
   least twice the expected one (our thresholds: a one-sided binomial test at a strict level,
   and a size that matters).
 
-Tukey's fences chosen by hand for data whose bulk is skewed (|medcouple| > ``ROBUST_NEAR_ZERO``)
-do not fit its shape: no value is then said to stand out (reason ``rule_ignores_skew``). The
+Tukey's fences chosen by hand for clearly skewed data (where the automatic choice is the
+skew-adjusted rule) do not fit its shape: no value is then said to stand out (reason
+``rule_ignores_skew``). The
 modified z-score has no far-out band (``no_far_band``); the generalized ESD test already judges
 against the size of the sample, so its flagged values are the ones that stand out.
 
@@ -57,7 +58,7 @@ import math
 from statistics import NormalDist
 
 from narrator.engine.distributions import binomial_sf
-from narrator.engine.shape import ROBUST_NEAR_ZERO
+from narrator.engine.shape import ROBUST_NEAR_ZERO, is_clearly_skewed
 from narrator.findings import EntryError, Findings, Unusual
 
 _Z75 = NormalDist().inv_cdf(0.75)
@@ -120,8 +121,7 @@ def unusual_values(findings: Findings) -> Unusual:
         expected = n * FAR_RATE
         surprising = count > 0 and binomial_sf(count - 1, n, FAR_RATE) < SURPRISE_P
         reason = "computed"
-        medcouple = findings.shape.medcouple
-        if rule == "tukey" and medcouple is not None and abs(medcouple) > ROBUST_NEAR_ZERO:
+        if rule == "tukey" and flagged.chosen_by == "user" and is_clearly_skewed(findings.shape):
             surprising, reason = False, "rule_ignores_skew"
         inner_expected = n * INNER_RATE
         excess_p = binomial_sf(flagged.count - 1, n, INNER_RATE) if flagged.count else 1.0

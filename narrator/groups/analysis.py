@@ -14,6 +14,7 @@ Name                           What it is
 :func:`compare_parts`          the shown groups of one variable compared pair by pair
 :func:`cluster_separation`     whether one categorical column separates the clusters
 :func:`check_separation`       the file's categorical columns checked against the clusters
+:func:`separation_in_file`     the same for a report on one column of a file
 :data:`DEFAULT_PRIVACY_THRESHOLD` groups with fewer values are suppressed
 =============================  ================================================
 
@@ -367,6 +368,17 @@ def check_separation(findings: Findings, sample: Sample, columns: Sequence[tuple
     checked = tuple(cluster_separation(sample, clusters.cuts, column, labels, privacy_threshold)
                     for column, labels in columns)
     return replace(findings, clusters=replace(clusters, separation=checked, separation_checked=True))
+
+
+def separation_in_file(findings: Findings, sample: Sample, path: str | os.PathLike[str], *,
+                       sheet: str | int | None = None, decimal_comma: bool = False, missing: Sequence[object] = (),
+                       privacy_threshold: int = DEFAULT_PRIVACY_THRESHOLD) -> Findings:
+    """For a report on one column of ``path``: the clusters checked against the file's text columns."""
+    if findings.clusters is None or findings.clusters.count < 2:
+        return findings
+    column = sample.source.get("column")
+    columns = _label_columns(path, sheet, decimal_comma, missing, None, (), [column] if column else [])
+    return check_separation(findings, sample, columns, privacy_threshold)
 
 
 def _label_columns(path, sheet, decimal_comma, missing, group_column, group_labels,

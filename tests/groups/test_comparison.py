@@ -12,6 +12,7 @@ in location about 4.0, 95 % interval about -0.1 to 8.5.
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import numpy as np
@@ -125,3 +126,13 @@ def test_one_cluster_checks_no_column(tmp_path):
     collection = analyse_file(_inspections(tmp_path), [VariableRequest("days", lower_bound=0)])
     clusters = collection.variables[0].findings.clusters
     assert clusters.count == 1 and not clusters.separation_checked and clusters.separation == ()
+
+
+def test_one_column_report_checks_the_file_too(tmp_path, capsys):
+    from narrator.cli import main
+
+    path = _contacts(tmp_path)
+    assert main(["facts", str(path), "--column", "minutes", "--lower-bound", "0", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    separation = {item["column"]: item for item in data["clusters"]["separation"]}
+    assert separation["channel"]["separates"] and not separation["site"]["separates"]
