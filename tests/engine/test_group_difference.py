@@ -182,3 +182,30 @@ def test_population_has_no_interval():
 def test_too_many_groups_are_not_compared():
     groups = _groups([(f"g{k:02d}", 10.0, 12) for k in range(gd.MAX_GROUPS + 1)])
     assert gd.compare_groups(groups, lead="median").reason == "too_many_groups"
+
+
+def test_selection_with_the_larger_side_first(monkeypatch):
+    monkeypatch.setattr(gd, "DIRECT_PAIRS", 0)
+    monkeypatch.setattr(gd, "_GATHER", 40)
+    rng = np.random.default_rng(4)
+    x, y = np.round(rng.normal(0, 3, 400), 2), np.round(rng.normal(1, 3, 90), 2)
+    every = np.sort((y[None, :] - x[:, None]).ravel())
+    ranks = [1, 17, every.size // 2, every.size]
+    assert gd.pairwise_difference_ranks(x, y, ranks) == tuple(every[r - 1] for r in ranks)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.floats(-1e6, 1e6, allow_nan=False, allow_subnormal=False), min_size=1, max_size=25),
+       st.lists(st.floats(-1e6, 1e6, allow_nan=False, allow_subnormal=False), min_size=1, max_size=25),
+       st.integers(1, 10**6))
+def test_bisection_path_matches_brute_force_on_any_floats(first, second, salt):
+    x, y = np.array(first, float), np.array(second, float)
+    every = np.sort((y[None, :] - x[:, None]).ravel())
+    ranks = sorted({1, every.size, 1 + salt % every.size, (every.size + 1) // 2})
+    old = (gd.DIRECT_PAIRS, gd._GATHER)
+    gd.DIRECT_PAIRS, gd._GATHER = 0, 1
+    try:
+        found = gd.pairwise_difference_ranks(x, y, ranks)
+    finally:
+        gd.DIRECT_PAIRS, gd._GATHER = old
+    assert found == tuple(every[r - 1] for r in ranks)
