@@ -177,23 +177,35 @@ def _positions_above(x: np.ndarray, y: np.ndarray, t: float) -> np.ndarray:
         hi = np.where(active & ~at_most, mid, hi)
 
 
+def _largest_at_most(x: np.ndarray, y: np.ndarray, counts: np.ndarray) -> float:
+    """The largest difference among those counted in ``counts`` (each row's first counts[i] columns)."""
+    rows = np.flatnonzero(counts > 0)
+    return float((y[counts[rows] - 1] - x[rows]).max())
+
+
+def _smallest_above(x: np.ndarray, y: np.ndarray, counts: np.ndarray) -> float:
+    """The smallest difference not counted in ``counts``."""
+    rows = np.flatnonzero(counts < y.size)
+    return float((y[counts[rows]] - x[rows]).min())
+
+
 def _select(x: np.ndarray, y: np.ndarray, rank: int) -> float:
     """The rank-th smallest y[j] - x[i] (x, y ascending): bisection on the floats, then a direct look.
 
-    Invariant: at most rank - 1 differences are <= low, at least rank are <= high. Each step halves
-    the floats between them (at most 64 steps); once few differences lie between, they are formed
-    and partitioned.
+    Invariant: the differences counted in ``below_low`` are fewer than ``rank``, ``next_up`` is the
+    smallest difference not counted there, at least ``rank`` differences are <= ``high``, and
+    ``high`` is itself a difference. Each step halves the floats between next_up and high (at most
+    64 steps) and snaps the bounds to differences, so ties end it at once; once few differences
+    lie between the bounds, they are formed and partitioned.
     """
-    low = float(y[0] - x[-1])  # the smallest difference
-    high = float(y[-1] - x[0])  # the largest
-    below_low = np.zeros(x.size, dtype=np.int64)  # nothing is <= a float just under the smallest
-    low = _from_key(_ordered_key(low) - 1)
+    below_low = np.zeros(x.size, dtype=np.int64)  # nothing is <= a float just under the smallest difference
     below_high = np.full(x.size, y.size, dtype=np.int64)
+    high = float(y[-1] - x[0])  # the largest difference
+    next_up = float(y[0] - x[-1])  # the smallest difference not counted in below_low
     while True:
-        remaining = int((below_high - below_low).sum())
-        low_key, high_key = _ordered_key(low), _ordered_key(high)
-        if high_key - low_key <= 1:
+        if next_up == high:
             return high
+        remaining = int((below_high - below_low).sum())
         if remaining <= _GATHER:
             lengths = below_high - below_low
             live = np.flatnonzero(lengths)
@@ -205,12 +217,13 @@ def _select(x: np.ndarray, y: np.ndarray, rank: int) -> float:
             position = rank - int(below_low.sum()) - 1
             candidates.partition(position)
             return float(candidates[position])
-        middle = _from_key((low_key + high_key) // 2)
+        middle = _from_key((_ordered_key(next_up) + _ordered_key(high)) // 2)
         counts = _positions_above(x, y, middle)
         if int(counts.sum()) >= rank:
-            high, below_high = middle, counts
+            high, below_high = _largest_at_most(x, y, counts), counts
         else:
-            low, below_low = middle, counts
+            below_low = counts
+            next_up = _smallest_above(x, y, counts)
 
 
 def mann_whitney_cdf(m: int, n: int) -> np.ndarray:
