@@ -22,7 +22,9 @@ the rows are described as they are.
 
 Computed for any column whose values are all at least 0 with a positive total; whether the
 memo speaks of it is decided by the document plan (money only). Everything is exact sums of
-the sorted values (numpy's pairwise summation).
+the sorted values: the total by numpy's pairwise summation, the Lorenz curve by one running sum
+(of the values divided by the largest when a partial sum could overflow), the top shares by
+running sums of the largest values.
 """
 
 from __future__ import annotations
@@ -37,8 +39,19 @@ TOP_COUNTS = (1, 3, 10)  # "the few largest"
 LORENZ_SHARES = (0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9)
 
 
+def _lorenz_ordinates(x: np.ndarray) -> np.ndarray:
+    """L_1, ..., L_n = 1: the share of the total held by the lowest i values (L_0 = 0 is left out)."""
+    # Divided by the largest value first when a partial sum could overflow.
+    cumulative = np.cumsum(x if float(x[-1]) * x.size < 1e300 else x / x[-1])
+    cumulative /= cumulative[-1]
+    return cumulative
+
+
 def gini(sorted_values) -> float:
     """The Gini coefficient of ascending non-negative values with a positive total.
+
+    Computed as 1 - (2 sum_{i=1..n} L_i - 1) / n, the trapezoid area under the Lorenz curve,
+    which equals the mean-difference definition in the module docstring.
 
     >>> gini([0.0, 0.0, 0.0, 1.0])  # one holds everything: (n - 1) / n
     0.75
@@ -46,11 +59,12 @@ def gini(sorted_values) -> float:
     0.0
     """
     x = np.asarray(sorted_values, dtype=float)
-    x = x / x[-1]  # the coefficient does not change with the unit; this keeps sum i x_(i) finite
-    n = x.size
-    total = float(x.sum())
-    ranks = np.arange(1, n + 1, dtype=float)
-    value = 2.0 * float(np.dot(ranks, x)) / (n * total) - (n + 1.0) / n
+    return _gini_from(_lorenz_ordinates(x))
+
+
+def _gini_from(ordinates: np.ndarray) -> float:
+    n = ordinates.size
+    value = 1.0 - (2.0 * float(ordinates.sum()) - 1.0) / n
     return min(max(value, 0.0), 1.0)
 
 
@@ -60,10 +74,22 @@ def lorenz_points(sorted_values, shares=LORENZ_SHARES) -> tuple[float, ...]:
     >>> lorenz_points([1.0, 1.0, 2.0, 4.0], [0.5])
     (0.25,)
     """
-    x = np.asarray(sorted_values, dtype=float)
-    n = x.size
-    cumulative = np.concatenate(([0.0], np.cumsum(x))) / float(x.sum())
-    return tuple(float(np.interp(p * n, np.arange(n + 1), cumulative)) for p in shares)
+    return _lorenz_at(_lorenz_ordinates(np.asarray(sorted_values, dtype=float)), shares)
+
+
+def _lorenz_at(ordinates: np.ndarray, shares) -> tuple[float, ...]:
+    n = ordinates.size
+
+    def ordinate(i: int) -> float:
+        return 0.0 if i == 0 else float(ordinates[i - 1])
+
+    points = []
+    for p in shares:
+        position = p * n
+        k = min(int(math.floor(position)), n - 1)
+        fraction = position - k
+        points.append(ordinate(k) + fraction * (ordinate(k + 1) - ordinate(k)))
+    return tuple(points)
 
 
 def not_computed_reason(sorted_values) -> str | None:
@@ -93,15 +119,17 @@ def concentration(sorted_values) -> Concentration | None:
         return None
     n = int(x.size)
     total = float(x.sum())
-    suffix = np.cumsum(x[::-1])  # suffix[k - 1]: the sum of the k largest values
+    percent = max(1, math.ceil(n / 100))
+    tenth = max(1, math.ceil(n / 10))
+    largest = max(tenth, *TOP_COUNTS)
+    suffix = np.cumsum(x[::-1][:largest])  # suffix[k - 1]: the sum of the k largest values
 
     def top(k: int) -> float:
         return float(suffix[min(k, n) - 1]) / total
 
-    percent = max(1, math.ceil(n / 100))
-    tenth = max(1, math.ceil(n / 10))
+    ordinates = _lorenz_ordinates(x)
     return Concentration(
         total=total, n=n, top_percent_count=percent, top_percent_share=top(percent), top_tenth_count=tenth,
         top_tenth_share=top(tenth), top_counts=tuple((k, top(k)) for k in TOP_COUNTS if k < n),
-        gini=gini(x), lorenz=lorenz_points(x),
+        gini=_gini_from(ordinates), lorenz=_lorenz_at(ordinates, LORENZ_SHARES),
     )
