@@ -469,7 +469,7 @@ def _reflection_images(lower: float | None, upper: float | None, reach: float) -
     return images
 
 
-def _check_bounds(array: np.ndarray, lower_bound: float | None, upper_bound: float | None) -> None:
+def check_bounds(array: np.ndarray, lower_bound: float | None, upper_bound: float | None) -> None:
     if lower_bound is not None:
         if not math.isfinite(lower_bound):
             raise NarratorError("density: the lower bound must be a finite number")
@@ -527,7 +527,7 @@ def estimate_density(
         ends = array
     if not isinstance(grid_size, int | np.integer) or grid_size < 2:
         raise NarratorError("density: grid_size must be a whole number of at least 2")
-    _check_bounds(ends, lower_bound, upper_bound)
+    check_bounds(ends, lower_bound, upper_bound)
     units = _standard_units(array, presorted=presorted)
     if bandwidth is None:
         width, used_rule, note = _choose_scaled(units, rule, sd, iqr)

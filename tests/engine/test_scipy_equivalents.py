@@ -109,7 +109,7 @@ def test_sorted_shortcuts_match_full_passes():
         assert median_abs_deviation_sorted(values, middle) == float(np.median(np.abs(values - middle)))
         if n >= 2:
             expected = np.quantile(values, [0.25, 0.75])
-            got = quality._linear_quantiles(lambda i, v=values: v[i], n, [0.25, 0.75])
+            got = quality.linear_quantiles(lambda i, v=values: v[i], n, [0.25, 0.75])
             assert np.array_equal(got, expected)
         width = float(RNG.choice([0.5, 1.0, 0.3]))
         tolerance = bins._edge_tolerance(values[0], values[-1], width, 0.0)
