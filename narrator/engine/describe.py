@@ -22,6 +22,7 @@ values as a slice. tests/benchmarks/ measures it.
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 import re
@@ -68,11 +69,17 @@ def library_versions() -> dict[str, str]:
 
     Most come from the names of the ``<name>-<version>.dist-info`` folders on the import path,
     read in one listing per folder (importlib.metadata opens each package's metadata, tens of
-    milliseconds for these seven); any other kind of installation is asked the usual way.
+    milliseconds for these seven); any other kind of installation is asked the usual way. The
+    answer is kept for the import path as it stands (a process describing many columns asks once).
     """
+    return dict(_versions_on(tuple(sys.path)))
+
+
+@functools.lru_cache(maxsize=4)
+def _versions_on(path: tuple[str, ...]) -> tuple[tuple[str, str], ...]:
     wanted = {_normalized(name): name for name in ("narrator", *LIBRARIES)}
     versions: dict[str, str] = {}
-    for folder in sys.path:
+    for folder in path:
         try:
             entries = os.listdir(folder or ".")
         except OSError:
@@ -92,7 +99,7 @@ def library_versions() -> dict[str, str]:
                 versions[name] = metadata.version(name)
             except metadata.PackageNotFoundError:
                 continue
-    return {name: versions[name] for name in ("narrator", *LIBRARIES) if name in versions}
+    return tuple((name, versions[name]) for name in ("narrator", *LIBRARIES) if name in versions)
 
 
 def _normalized(project: str) -> str:

@@ -67,7 +67,7 @@ from narrator.engine.moments import (
     skewness_g1,
     skewness_test,
 )
-from narrator.engine.shape import MIN_FOR_SHAPE, ShapeSignals, classify_shape, is_clearly_skewed
+from narrator.engine.shape import MIN_FOR_SHAPE, ROBUST_NEAR_ZERO, ShapeSignals, classify_shape, is_clearly_skewed
 from narrator.errors import NarratorError
 from narrator.findings import (
     LISTED_PER_SIDE,
@@ -476,11 +476,21 @@ def lead_without(any_flagged: bool, m: int, moments: Moments | None, rest_at: Ca
     if m < MIN_FOR_SHAPE or rest_at(m - 1) == rest_at(0):
         return "mean" if m else None
     q1, median, q3 = (float(v) for v in quantiles_at(rest_at, m, [0.25, 0.5, 0.75], factor))
-    value, method = medcouple()
-    shape = shape_of(m, moments, q1, median, q3, value, method, None, None, True)
-    lead, _ = choose_lead(clearly_skewed=is_clearly_skewed(shape), several_peaks=False, mean_shift=None,
-                          sd_without=None)
+
+    def clearly_skewed(value: float, method: str = "exact") -> bool:
+        return is_clearly_skewed(shape_of(m, moments, q1, median, q3, value, method, None, None, True))
+
+    # The shape rule reads the medcouple's sign and whether it is near zero: when every kind of
+    # medcouple gives the same answer, the answer does not depend on it and it is not computed.
+    answers = {clearly_skewed(value) for value in _MEDCOUPLE_KINDS}
+    skewed = answers.pop() if len(answers) == 1 else clearly_skewed(*medcouple())
+    lead, _ = choose_lead(clearly_skewed=skewed, several_peaks=False, mean_shift=None, sd_without=None)
     return lead
+
+
+# One medcouple of each kind the shape rule tells apart: zero, near zero either way (below
+# narrator.engine.shape.ROBUST_NEAR_ZERO in size), clearly either way.
+_MEDCOUPLE_KINDS = (0.0, ROBUST_NEAR_ZERO / 2, -ROBUST_NEAR_ZERO / 2, 5 * ROBUST_NEAR_ZERO, -5 * ROBUST_NEAR_ZERO)
 
 
 @dataclass(frozen=True, slots=True)
