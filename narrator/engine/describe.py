@@ -246,20 +246,17 @@ def describe(
     shape = rules.shape_of(n, moments, q1, median, q3, medcouple_value, medcouple_method, density_estimate,
                            sensitivity, has_spread)
 
-    flagged = outliers.detect_outliers(
-        sample.values,
-        sample.rows,
-        rule=outlier_rule,
-        q1=q1,
-        median=median,
-        q3=q3,
-        medcouple=medcouple_value if medcouple_value is not None else 0.0,
-        skew_clear=is_clearly_skewed(shape),
-        mad=mad,
-        mean=mean,
-        sd=sd,
-        factor=factor,
-    )
+    medcouple_or_zero = medcouple_value if medcouple_value is not None else 0.0
+    if outlier_rule == "esd":
+        flagged = outliers.detect_outliers(
+            sample.values, sample.rows, rule=outlier_rule, q1=q1, median=median, q3=q3, medcouple=medcouple_or_zero,
+            skew_clear=is_clearly_skewed(shape), mad=mad, mean=mean, sd=sd, factor=factor)
+    else:
+        test = rules.outlier_test(
+            rules.rule_choice(outlier_rule, is_clearly_skewed(shape)), n, q1=q1, median=median, q3=q3, mad=mad,
+            medcouple=medcouple_or_zero,
+            mean_absolute_deviation=lambda: float(np.mean(np.abs(unit_values - median))))
+        flagged = outliers.flag_sorted(test, sample.values, sample.rows, sorted_values, factor)
     if sample.ids is not None and flagged.rows:
         # Rows are in file order, so each flagged row is found by bisection.
         where = np.searchsorted(sample.rows, np.asarray(flagged.rows, dtype=np.int64))

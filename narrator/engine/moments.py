@@ -167,7 +167,15 @@ def two_pass_mean(values: np.ndarray) -> float:
     if values.size == 0:
         return math.nan
     mean = float(np.mean(values))
-    return mean + float(np.mean(values - mean))
+    if values.size <= _BLOCK:
+        return mean + float(np.mean(values - mean))
+    # The residuals block by block in one buffer (no array the size of the data).
+    work = np.empty(_BLOCK)
+    residuals = []
+    for start in range(0, values.size, _BLOCK):
+        block = values[start : start + _BLOCK]
+        residuals.append(float(np.sum(np.subtract(block, mean, out=work[: block.size]))))
+    return mean + float(np.sum(residuals)) / values.size
 
 
 def quantiles_sorted(sorted_values: np.ndarray, probabilities) -> np.ndarray:

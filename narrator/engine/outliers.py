@@ -129,6 +129,49 @@ def detect_outliers(
     return _result(values, rows, *test.sides(units), test, factor)
 
 
+def flag_sorted(test: OutlierTest, values: np.ndarray, rows: np.ndarray, sorted_values: np.ndarray,
+                factor: float = 1.0) -> Outliers:
+    """What :func:`detect_outliers` finds for a fence or score rule (``test`` from
+    :func:`narrator.engine.rules.outlier_test`), read from the values sorted ascending.
+
+    Every such rule flags a lowest and a highest run of the sorted values (the test is monotone in
+    the value), so the counts come from binary searches that apply the test itself to single sorted
+    values, and only the listed values are looked for among the values in file order (``values``,
+    with their ``rows``), ties in file order as there.
+    """
+    n = sorted_values.size
+
+    def flagged_side(position: int, side: int) -> bool:
+        unit = np.array([sorted_values[position]]) / factor if factor != 1.0 else sorted_values[position : position + 1]
+        return bool(test.sides(unit)[side][0])
+
+    count_low = _run_where(n, lambda k: flagged_side(k, 0))
+    count_high = _run_where(n - count_low, lambda k: flagged_side(n - 1 - k, 1))
+    listed_low, listed_high = min(count_low, LISTED_PER_SIDE), min(count_high, LISTED_PER_SIDE)
+    low_index = high_index = np.zeros(0, dtype=np.intp)
+    if listed_low:
+        low_index = _ascending(values, values <= sorted_values[listed_low - 1])[:listed_low]
+    if listed_high:
+        high_index = _ascending(values, values >= sorted_values[n - listed_high])[-listed_high:]
+    return rules.outliers_found(
+        test, factor, low_values=values[low_index], low_rows=rows[low_index], high_values=values[high_index],
+        high_rows=rows[high_index], count_low=count_low, count_high=count_high,
+        low_range=(sorted_values[0], sorted_values[count_low - 1]) if count_low else None,
+        high_range=(sorted_values[n - count_high], sorted_values[-1]) if count_high else None)
+
+
+def _run_where(length: int, holds) -> int:
+    """How many of the positions 0, 1, ... a test ``holds`` for before it first fails (it holds on a prefix)."""
+    low, high = 0, length
+    while low < high:
+        middle = (low + high) // 2
+        if holds(middle):
+            low = middle + 1
+        else:
+            high = middle
+    return low
+
+
 def esd_critical_values(n: int, max_outliers: int, alpha: float = 0.05) -> np.ndarray:
     """Rosner's (1983) critical values lambda_1..lambda_r for n observations.
 
