@@ -389,7 +389,7 @@ class EntryError:
     ratio_to_median: float | None
     suggested: float | None = None  # the value with the decimal point moved, when that lands among the rest
     shift_digits: int | None = None  # how many places the point moved (negative: to the right)
-    # "probable", or "possible" when the bulk of the data leans towards the value (a long tail can hold it)
+    # "probable", or "possible" when no shape could be fitted to judge how unusual the value is
     strength: str = "probable"
 
 
@@ -397,14 +397,14 @@ class EntryError:
 class Unusual:
     """Values that are surprising for the shape the data have (narrator.engine.entry_errors).
 
-    ``values``/``rows`` are the values beyond the far-out fences of ``fence_rule`` that are more than
-    the shape predicts for this many values (empty when a sample this large would show them anyway);
-    the full outlier list stays in :class:`Outliers`. ``excess`` says whether more values lie beyond
-    the inner fences than the rule's design rate predicts.
+    ``values``/``rows`` are the values beyond the far-out fences of ``fence_rule`` that a shape
+    fitted to the quartiles (``fitted_shape``) makes unlikely in a sample of this size; the full
+    outlier list stays in :class:`Outliers`. ``excess`` says whether more values lie beyond the
+    inner fences than the fitted shape predicts.
     """
 
     fence_rule: str | None
-    reason: str  # "computed", "no_far_band", "not_run"
+    reason: str  # "computed", "no_far_band", "no_fitted_shape", "rule_ignores_skew", "not_run"
     far_lower_fence: float | None = None
     far_upper_fence: float | None = None
     count_far_out: int = 0
@@ -420,6 +420,7 @@ class Unusual:
     entry_errors: tuple[EntryError, ...] = ()
     entry_error_count: int = 0
     entry_error_reason: str = "none_found"  # "none_found", "found", "many", "not_positive", "not_checked"
+    fitted_shape: str | None = None  # "normal" or "lognormal": the shape the values are judged against
 
 
 @dataclass(frozen=True, slots=True)

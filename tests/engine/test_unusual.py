@@ -58,11 +58,27 @@ def test_clean_readings_give_no_entry_error_and_no_excess(seed):
 
 
 @pytest.mark.parametrize("seed", range(10))
-def test_large_gifts_in_skewed_money_are_at_most_possible_errors(seed):
-    gifts = np.round(np.random.default_rng(seed).lognormal(3.5, 1.2, 3000), 2)
-    found = describe(gifts, lower_bound=0)
-    assert found.outliers.rule == "adjusted"
-    assert all(error.strength == "possible" for error in found.unusual.entry_errors)
+def test_large_gifts_in_skewed_money_are_not_errors(seed):
+    # Lognormal gifts: the large ones are what the fitted lognormal shape predicts.
+    gifts = np.round(np.random.default_rng(seed).lognormal(4.0, 1.5, 2000), 2)
+    unusual = describe(gifts, lower_bound=0).unusual
+    assert unusual.fitted_shape == "lognormal"
+    assert unusual.entry_errors == () and not unusual.excess
+
+
+def test_a_gift_typed_with_two_extra_zeros_is_found_in_skewed_money():
+    gifts = np.round(np.random.default_rng(3).lognormal(4.0, 1.0, 2000), 2)
+    gifts[99] = 54.75 * 1000  # 54.75 typed as 54750
+    (error,) = describe(gifts, lower_bound=0).unusual.entry_errors
+    assert (error.value, error.row, error.strength) == (54750.0, 100, "probable")
+    assert "decimal_shift" in error.reasons
+
+
+def test_normal_fit_with_tukey_fences_gives_the_normal_rates():
+    unusual = describe(_readings(8, 1000)).unusual
+    assert unusual.fitted_shape == "normal" and unusual.fence_rule == "tukey"
+    assert unusual.expected_beyond_fences == pytest.approx(1000 * entry_errors.INNER_RATE, rel=1e-9)
+    assert unusual.expected_far_out == pytest.approx(1000 * entry_errors.FAR_RATE, rel=1e-9)
 
 
 def test_more_values_beyond_the_fences_than_the_shape_predicts():
