@@ -129,3 +129,15 @@ def test_impossible_values_are_kept_with_their_values(tmp_path):
     by_engine = describe(np.array([5.0, -2.0, 7.0, 9.0]), lower_bound=0)
     assert by_engine.quality.get("impossible").values == (-2.0,)
     assert by_engine.quality.get("impossible").rows == (2,)
+
+
+@pytest.mark.parametrize(("name", "draw"), [
+    ("normal", lambda rng: rng.normal(50, 10, 2000)),
+    ("lognormal", lambda rng: rng.lognormal(3, 1, 2000)),
+    ("gamma", lambda rng: rng.gamma(2, 10, 2000)),
+])
+def test_clean_samples_rarely_have_a_value_that_stands_out(name, draw):
+    # By construction a clean sample shows a value that stands out about 5 % of the time (SURPRISE_P);
+    # the quartile fit adds noise, so at most 6 of 60 generated samples (fixed seeds) may.
+    standing = sum(bool(describe(draw(np.random.default_rng(seed))).unusual.values) for seed in range(60))
+    assert standing <= 6, (name, standing)
