@@ -39,7 +39,6 @@ import copy
 import datetime as dt
 import io
 import os
-import re
 import zipfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -60,6 +59,7 @@ from narrator.findings import Findings
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
 from narrator.resources import template_file
 from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
+from narrator.xmltext import xml_safe
 
 STYLE_NAMES = {
     "title": "Title",
@@ -91,11 +91,6 @@ _A4 = (Cm(21.0), Cm(29.7))
 _MARGIN = Cm(2.5)
 MAX_FIGURE_WIDTH = Cm(15.2)
 
-# XML 1.0 (section 2.2) allows tab, newline, carriage return and the ranges
-# below; everything else (C0 controls, lone surrogates, U+FFFE/U+FFFF) is removed.
-_NOT_XML = re.compile("[^\t\n\r\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
-
-
 @dataclass(frozen=True, slots=True)
 class ReportFrame:
     """The words around the narrative, already taken from the phrase bank and formatted.
@@ -113,20 +108,6 @@ class ReportFrame:
     appendix_intro: str | None = None
     appendix_header: tuple[str, str] | None = None
     appendix_rows: tuple[tuple[str, str], ...] = ()
-
-
-def xml_safe(text: object) -> str:
-    """``text`` as a string with every character XML 1.0 cannot hold removed.
-
-    Keeps tab and newline (python-docx writes them as ``w:tab`` and ``w:br``);
-    a carriage return becomes a newline. The allowed set is the ``Char``
-    production of the XML 1.0 recommendation (W3C 2008, section 2.2).
-
-    >>> xml_safe("a\\x00b\\x1bc\\td")
-    'abc\\td'
-    """
-    value = str(text).replace("\r\n", "\n").replace("\r", "\n")
-    return _NOT_XML.sub("", value)
 
 
 def default_template() -> bytes:
