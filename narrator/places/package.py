@@ -166,7 +166,9 @@ class _Part:
         try:
             self.root = etree.fromstring(data, _PARSER)
         except etree.XMLSyntaxError as exc:
-            raise NarratorError(f"{where} is not well-formed XML ({exc}); the file is damaged") from None
+            line, column = exc.position
+            raise NarratorError(f"{where} is not well-formed XML (line {line}, column {column}); the file is "
+                                "damaged") from None
         self.elements = list(self.root.iter(etree.Element))
         try:
             spans = _spans(data)
@@ -1045,12 +1047,23 @@ class _PackageEditor:
             markers = find_markers(full)
             if not markers:
                 continue
-            if next(paragraph.iterancestors(_w("sdt")), None) is not None:
-                refused += [RefusedMarker(part_name, full[m.start:m.end], "it is already inside a content control")
-                            for m in markers]
-                continue
             if next(paragraph.iterancestors(_w("del")), None) is not None:
                 continue  # deleted text in the tracked changes: not a place
+            free = []
+            for marker in markers:
+                enclosing = _enclosing_control(paragraph, full, marker)
+                if enclosing is None:
+                    free.append(marker)
+                    continue
+                tag, _ = convert(marker.tag_text)
+                tag_element = enclosing.find(f"{_w('sdtPr')}/{_w('tag')}")
+                own = tag_element.get(_w("val")) if tag_element is not None else None
+                if tag is None or own is None or convert(own)[0] != tag:  # inside its own place: already marked
+                    refused.append(RefusedMarker(part_name, full[marker.start:marker.end],
+                                                 "it is inside another content control"))
+            markers = free
+            if not markers:
+                continue
             decided = [(marker, *convert(marker.tag_text)) for marker in markers]
             for marker, tag, reason in decided:
                 if tag is None:
@@ -1318,6 +1331,17 @@ class _Images:
 
 
 # --------------------------------------------------------------------------- markers into controls
+
+
+def _enclosing_control(paragraph, full: str, marker):
+    """The content control a marker's text sits in (in the paragraph or around it), or None."""
+    position = 0
+    for element in paragraph.iter(_w("t")):
+        length = len(element.text or "")
+        if position + length > marker.start:
+            return next(element.iterancestors(_w("sdt")), None)
+        position += length
+    return None
 
 
 def _sdt_tags(prefix: bytes, tag: str, number: int) -> tuple[bytes, bytes]:

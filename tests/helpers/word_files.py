@@ -55,7 +55,8 @@ def inline_control(tag: str | None, text: str, *, control_id: int, alias: str | 
                    placeholder: bool = False, style: str | None = None, extra: str = "") -> str:
     """A content control inside a line of text (run level)."""
     shown = run(text, style="PlaceholderText" if placeholder else style)
-    return f"<w:sdt>{_properties(tag, control_id, alias, placeholder, extra)}<w:sdtContent>{shown}</w:sdtContent></w:sdt>"
+    properties = _properties(tag, control_id, alias, placeholder, extra)
+    return f"<w:sdt>{properties}<w:sdtContent>{shown}</w:sdtContent></w:sdt>"
 
 
 def block_control(tag: str | None, *paragraphs: str, control_id: int, alias: str | None = None,
@@ -106,9 +107,12 @@ STYLES = f"""{DECLARATION}<w:styles {NAMESPACES}>
 <w:style w:type="character" w:styleId="CommentReference"><w:name w:val="annotation reference"/>
 <w:rPr><w:sz w:val="16"/></w:rPr></w:style>
 <w:style w:type="table" w:styleId="TableGrid"><w:name w:val="Table Grid"/><w:tblPr><w:tblBorders>
-<w:top w:val="single" w:sz="4" w:space="0" w:color="auto"/><w:left w:val="single" w:sz="4" w:space="0" w:color="auto"/>
-<w:bottom w:val="single" w:sz="4" w:space="0" w:color="auto"/><w:right w:val="single" w:sz="4" w:space="0" w:color="auto"/>
-<w:insideH w:val="single" w:sz="4" w:space="0" w:color="auto"/><w:insideV w:val="single" w:sz="4" w:space="0" w:color="auto"/>
+<w:top w:val="single" w:sz="4" w:space="0" w:color="auto"/>
+<w:left w:val="single" w:sz="4" w:space="0" w:color="auto"/>
+<w:bottom w:val="single" w:sz="4" w:space="0" w:color="auto"/>
+<w:right w:val="single" w:sz="4" w:space="0" w:color="auto"/>
+<w:insideH w:val="single" w:sz="4" w:space="0" w:color="auto"/>
+<w:insideV w:val="single" w:sz="4" w:space="0" w:color="auto"/>
 </w:tblBorders></w:tblPr></w:style>
 </w:styles>"""
 
@@ -118,10 +122,12 @@ NUMBERING = f"""{DECLARATION}<w:numbering {NAMESPACES}><w:abstractNum w:abstract
 <w:num w:numId="1"><w:abstractNumId w:val="0"/></w:num></w:numbering>"""
 
 SETTINGS = f"""{DECLARATION}<w:settings {NAMESPACES}><w:zoom w:percent="100"/><w:trackRevisions/>
-<w:defaultTabStop w:val="720"/><w:compat><w:compatSetting w:name="compatibilityMode" w:uri="http://schemas.microsoft.com/office/word" w:val="15"/></w:compat></w:settings>"""
+<w:defaultTabStop w:val="720"/><w:compat><w:compatSetting w:name="compatibilityMode"
+w:uri="http://schemas.microsoft.com/office/word" w:val="15"/></w:compat></w:settings>"""
 
-COMMENTS = f"""{DECLARATION}<w:comments {NAMESPACES}><w:comment w:id="0" w:author="Reviewer" w:date="2026-10-02T10:00:00Z"
-w:initials="RV"><w:p><w:r><w:t>Please check this figure against the ledger.</w:t></w:r></w:p></w:comment></w:comments>"""
+COMMENTS = f"""{DECLARATION}<w:comments {NAMESPACES}>
+<w:comment w:id="0" w:author="Reviewer" w:date="2026-10-02T10:00:00Z" w:initials="RV">
+<w:p><w:r><w:t>Please check this figure against the ledger.</w:t></w:r></w:p></w:comment></w:comments>"""
 
 
 def header_xml(*content: str) -> str:
