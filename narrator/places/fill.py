@@ -6,6 +6,7 @@ Name                           What it is
 :func:`fill_document`          fill every marked place of a .docx; write it and its sidecar
 :func:`mark_document`          turn typed ``[narrator:...]`` markers into places
 :func:`single_collection`      one described column as the collection a fill reads
+:func:`marker_tag`             a typed marker's tag text -> (canonical tag, None) or (None, why not)
 :class:`FillOutcome`           what a fill did, place by place
 :class:`MarkOutcome`           what marking did, marker by marker
 :class:`PlaceNote`             one place (or control) and what happened to it
@@ -64,9 +65,14 @@ class PlaceNote:
 class FillOutcome:
     document: Path  # the document written (or that would have been)
     sidecar: Path
-    written: bool  # whether any file was written
+    wrote_document: bool
+    wrote_sidecar: bool
     notes: tuple[PlaceNote, ...]
     touched: tuple[str, ...] = ()  # package parts changed, added or removed
+
+    @property
+    def written(self) -> bool:
+        return self.wrote_document or self.wrote_sidecar
 
     def count(self, state: str) -> int:
         return sum(1 for note in self.notes if note.state == state)
@@ -80,12 +86,16 @@ class FillOutcome:
         filled, same = self.count("filled"), self.count("unchanged")
         places = filled + same
         noun = "place" if places == 1 else "places"
-        if self.written:
+        if self.wrote_document:
             head = (f"filled {places} {noun} in {self.document.name} ({filled} changed, {same} as before); "
                     f"wrote {self.document} and {self.sidecar}")
-        else:
+        elif self.wrote_sidecar:
+            head = f"{self.document.name}: no place's words changed; wrote only {self.sidecar} (the new findings)"
+        elif places:
             head = (f"{self.document.name}: {places} {noun}, each already holding the current words; "
                     "nothing written")
+        else:
+            head = f"{self.document.name}: no place filled; nothing written"
         lines = [head]
         for note in self.notes:
             where = f"{note.tag!r} ({note.part}, control {note.index + 1})"
@@ -93,6 +103,8 @@ class FillOutcome:
                 lines.append(f"kept {where}: edited by hand since the last fill; add --replace-edits to fill it")
             elif note.state in ("refused", "unknown"):
                 lines.append(f"left {where} alone: {note.reason}")
+            elif note.state == "note":
+                lines.append(note.reason)
         foreign = [note for note in self.notes if note.state == "foreign"]
         if foreign:
             names = ", ".join(repr(note.tag) if note.tag else "(no tag)" for note in foreign[:8])
@@ -339,7 +351,7 @@ def fill_document(
     ordered = tuple(notes[control.ref] for control in controls if control.ref in notes)
     if ignored_note:
         ordered += (PlaceNote("", 0, sidecar.name, "note", ignored_note),)
-    return FillOutcome(target, sidecar, document_changed or sidecar_changed, ordered,
+    return FillOutcome(target, sidecar, document_changed, document_changed or sidecar_changed, ordered,
                        result.changed + result.added + result.removed)
 
 
@@ -438,6 +450,22 @@ def _commit(document: Path, data: bytes | None, sidecar: Path, sidecar_text: str
 # --------------------------------------------------------------------------- marking
 
 
+def marker_tag(marker_text: str) -> tuple[str | None, str | None]:
+    """What a typed marker becomes: ``(canonical tag, None)``, or ``(None, the reason)`` when it is faulty.
+
+    >>> marker_tag("narrator: Median")
+    ('narrator:median', None)
+    >>> marker_tag("narrator:mediam")[1]
+    "unknown target 'mediam'; did you mean 'median'?"
+    """
+    parsed = parse_tag(marker_text)
+    if isinstance(parsed, Tag):
+        return parsed.text, None
+    if isinstance(parsed, TagProblem):
+        return None, parsed.reason
+    return None, "not a tag of narrator's"
+
+
 def mark_document(
     document: str | os.PathLike[str],
     *,
@@ -456,16 +484,7 @@ def mark_document(
     target = Path(output) if output is not None else source
     _check_paths(source, target, ())
     package = WordPackage.read(source)
-
-    def convert(marker_text: str) -> tuple[str | None, str | None]:
-        parsed = parse_tag(marker_text)
-        if isinstance(parsed, Tag):
-            return parsed.text, None
-        if isinstance(parsed, TagProblem):
-            return None, parsed.reason
-        return None, "not a tag of narrator's"
-
-    result = package.mark(convert, moment=generation_time(generated_at))
+    result = package.mark(marker_tag, moment=generation_time(generated_at))
     made = tuple((place.part, place.tag, place.level) for place in result.made)
     refused = tuple((item.part, item.marker, item.reason) for item in result.refused)
     if result.data is None and not refused and not made:

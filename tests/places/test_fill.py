@@ -520,3 +520,17 @@ def test_a_refresh_changes_exactly_the_places_whose_values_changed(tmp_path, dat
     assert changed == expected
     assert f"({expected} changed, {11 - expected} as before)" in out
     assert 0 < expected < 11  # the data chosen move some places and not others
+
+
+def test_when_every_place_is_kept_only_the_sidecar_follows_the_new_data(tmp_path, data_files, capsys, pinned):
+    document = tmp_path / "one.docx"
+    document.write_bytes(docx_bytes(paragraph("Median: ", inline_control("narrator:median", "x", control_id=9))))
+    assert fill(document, data_files / "rivers.csv")[0] == 0
+    document.write_bytes(_edit_place(document.read_bytes(), "narrator:median", "our own words"))
+    edited = document.read_bytes()
+    capsys.readouterr()
+    code, out, _ = fill(document, data_files / "huron.csv", "--column", "value", capsys=capsys)
+    assert code == 0 and document.read_bytes() == edited
+    assert out.startswith(f"one.docx: no place's words changed; wrote only {document.with_suffix('.findings.json')}")
+    assert "kept 'narrator:median'" in out
+    assert sidecar_findings(document)["variables"][0]["findings"]["n"] == 98
