@@ -173,8 +173,12 @@ def describe_request(request: ColumnRequest, *, client=None) -> tuple[Sample, Fi
     with naming_the_input(request):
         if engine == "memory":
             from narrator.engine.describe import describe
+            from narrator.groups.analysis import separation_in_file
 
-            return (sample := read_sample(request)), describe(sample, **options)
+            sample = read_sample(request)
+            found = describe(sample, **options)
+            # Clusters are checked against the file's text columns (narrator.groups.analysis).
+            return sample, separation_in_file(found, sample, request.path, reading=request.reading)
         from narrator.scale.entry import describe_large
 
         reading = request.reading

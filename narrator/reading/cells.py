@@ -671,7 +671,8 @@ def format_number(value: float | int) -> str:
 # ---------------------------------------------------------------------------
 
 
-def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Callable[[int], str]) -> Exclusion:
+def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Callable[[int], str],
+               values: np.ndarray) -> Exclusion:
     positions = np.flatnonzero(status == _STATUS_OF_REASON[reason])
     examples: list[str] = []
     for position in positions[:EXAMPLE_POSITIONS].tolist():  # enough to find a few distinct texts
@@ -685,6 +686,7 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
         count=int(positions.size),
         rows=tuple(int(row) for row in rows[positions[:ROWS_KEPT]]),
         examples=tuple(examples),
+        values=tuple(float(v) for v in values[positions[:ROWS_KEPT]]) if reason == "impossible" else (),
     )
 
 
@@ -715,7 +717,7 @@ def build_sample(cells: Cells, rows: np.ndarray, name: str, unit: str | None, ru
     keep = status == CELL_OK
     every_cell_kept = bool(keep.all())  # the common case: plain slices instead of copies through a mask
     exclusions = tuple(
-        _exclusion(reason, status, rows, cells.display)
+        _exclusion(reason, status, rows, cells.display, values)
         for reason in EXCLUSION_REASONS
         if np.any(status == _STATUS_OF_REASON[reason])
     )

@@ -6,6 +6,7 @@ Name                          What it does
 :func:`read_column`           one column -> Sample, with every left-out cell
                               accounted for
 :func:`list_numeric_columns`  headers of the columns that mostly hold numbers
+:func:`list_label_columns`    headers of the columns that hold text labels
 :func:`read_labels`           one column as text labels (a grouping column)
 :data:`NUMERIC_PROBE_ROWS`    rows :func:`list_numeric_columns` looks at
 ============================  ==================================================
@@ -45,7 +46,7 @@ from narrator.reading.cells import (
 from narrator.reading.files import check_file, file_format, file_sha256, loose, select_column, shown_name
 from narrator.reading.sample import Sample, clean_label
 
-__all__ = ["NUMERIC_PROBE_ROWS", "list_numeric_columns", "read_column", "read_labels"]
+__all__ = ["NUMERIC_PROBE_ROWS", "list_label_columns", "list_numeric_columns", "read_column", "read_labels"]
 
 NUMERIC_PROBE_ROWS = 10_000  # list_numeric_columns looks at this many data rows (fewer in a very wide file)
 _PROBE_CELLS = 2_000_000  # ... and at most this many cells in all
@@ -205,19 +206,9 @@ def _read_parquet(path: Path, column, rules, id_column):
     return headers, index, parquet.parquet_cells(array, rules), facts, ids, id_header
 
 
-def list_numeric_columns(
-    path: str | os.PathLike[str], *, sheet: str | int | None = None, decimal_comma: bool = False,
-    encoding: str | None = None,
-) -> list[str]:
-    """Headers, in file order, of the columns where more than half of the non-missing cells are numbers.
-
-    Only the first :data:`NUMERIC_PROBE_ROWS` data rows are looked at (and at most two
-    million cells in all, so a very wide file gets fewer rows), so the answer is quick on
-    large files. Typed numeric cells (Excel numbers, Parquet integer, float and decimal
-    columns) count as numbers; text is read with
-    :func:`~narrator.reading.cells.parse_number` under the declared ``decimal_comma``.
-    A column with no header is listed as "" and can be chosen by position.
-    """
+def _probe_columns(path: str | os.PathLike[str], sheet: str | int | None, decimal_comma: bool,
+                   encoding: str | None) -> list[tuple[str, Cells]]:
+    """(header, cells of the first data rows) for every column, in file order (see :func:`list_numeric_columns`)."""
     target = Path(path)
     name = shown_name(target.name)
     kind = file_format(target)
@@ -251,13 +242,42 @@ def list_numeric_columns(
         for position, header in zip(positions, names, strict=True):
             array = head.column(position) if head is not None else pa.array([], schema.field(position).type)
             columns.append((header, parquet.parquet_cells(array, rules)))
-    numeric = []
-    for header, cells in columns:
-        present = cells.status != CELL_MISSING
-        numbers_found = (cells.status == CELL_OK) & np.isfinite(cells.values)
-        if numbers_found.any() and numbers_found.sum() * 2 > present.sum():
-            numeric.append(header)
-    return numeric
+    return columns
+
+
+def _mostly_numbers(cells: Cells) -> bool:
+    present = cells.status != CELL_MISSING
+    numbers_found = (cells.status == CELL_OK) & np.isfinite(cells.values)
+    return bool(numbers_found.any() and numbers_found.sum() * 2 > present.sum())
+
+
+def list_numeric_columns(
+    path: str | os.PathLike[str], *, sheet: str | int | None = None, decimal_comma: bool = False,
+    encoding: str | None = None,
+) -> list[str]:
+    """Headers, in file order, of the columns where more than half of the non-missing cells are numbers.
+
+    Only the first :data:`NUMERIC_PROBE_ROWS` data rows are looked at (and at most two
+    million cells in all, so a very wide file gets fewer rows), so the answer is quick on
+    large files. Typed numeric cells (Excel numbers, Parquet integer, float and decimal
+    columns) count as numbers; text is read with
+    :func:`~narrator.reading.cells.parse_number` under the declared ``decimal_comma``.
+    A column with no header is listed as "" and can be chosen by position.
+    """
+    return [header for header, cells in _probe_columns(path, sheet, decimal_comma, encoding)
+            if _mostly_numbers(cells)]
+
+
+def list_label_columns(
+    path: str | os.PathLike[str], *, sheet: str | int | None = None, decimal_comma: bool = False,
+    encoding: str | None = None,
+) -> list[str]:
+    """Headers, in file order, of the columns that hold text labels: some cell is filled and at most
+    half of the filled cells are numbers (the complement of :func:`list_numeric_columns` among
+    columns that are not empty), on the same first data rows.
+    """
+    return [header for header, cells in _probe_columns(path, sheet, decimal_comma, encoding)
+            if bool((cells.status != CELL_MISSING).any()) and not _mostly_numbers(cells)]
 
 
 def read_labels(

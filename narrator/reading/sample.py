@@ -62,6 +62,8 @@ class Exclusion:
     count: int
     rows: tuple[int, ...] = ()  # first source rows (spreadsheet numbering: header is row 1)
     examples: tuple[str, ...] = ()  # first offending cell texts, already made printable
+    # For values left out as impossible: the values of ``rows``, same order (empty for other reasons).
+    values: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -102,6 +104,9 @@ class Sample:
         """A Sample from numbers already in memory; non-finite values are excluded and counted."""
         array = np.asarray(values, dtype=float).ravel()
         rows = np.arange(1, array.size + 1, dtype=np.int64)
+        if bool(np.isfinite(array).all()):  # the usual case: one check, and a copy instead of a selection
+            return cls(values=array.copy(), rows=rows, name=name, unit=unit, n_rows=int(array.size),
+                       exclusions=(), decimals=guess_decimals(array))
         nan_mask = np.isnan(array)
         inf_mask = np.isinf(array)
         keep = ~(nan_mask | inf_mask)
