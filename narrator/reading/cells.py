@@ -350,11 +350,12 @@ class Cells:
 
     values: np.ndarray  # float64; NaN where the cell holds no number
     status: np.ndarray  # int8 status code per cell
-    decimals: np.ndarray  # int16 decimals written; -1 for typed cells (guessed from the value)
+    decimals: np.ndarray  # int8 decimals written (at most 6); -1 for typed cells (guessed from the value)
     display: Callable[[int], str]  # the cell as written, for examples
     percent_cells: int = 0
     currencies: frozenset[str] = frozenset()
     ambiguous: np.ndarray | None = None  # positions of cells like "1,234": the other convention differs
+    shown: dict[int, str] | None = None  # the texts kept by kept_examples, by position
 
     def __len__(self) -> int:
         return int(self.values.size)
@@ -365,8 +366,9 @@ class Cells:
         An exclusion shows texts from its first :data:`EXAMPLE_POSITIONS` cells, judged as
         :func:`build_sample` will judge them under ``rules``; those texts are kept, nothing else.
         """
-        return Cells(self.values, self.status, self.decimals, self._shown(rules, 0).__getitem__,
-                     self.percent_cells, self.currencies, self.ambiguous)
+        shown = self._shown(rules, 0)
+        return Cells(self.values, self.status, self.decimals, shown.__getitem__, self.percent_cells, self.currencies,
+                     self.ambiguous, shown)
 
     def _shown(self, rules: CellRules, offset: int) -> dict[int, str]:
         final = _final_status(self.values, self.status, rules)
@@ -382,13 +384,16 @@ class Cells:
         if len(parts) == 1:
             return parts[0]
         if not parts:
-            return cls(np.zeros(0), np.zeros(0, dtype=np.int8), np.zeros(0, dtype=np.int16), lambda _: "",
+            return cls(np.zeros(0), np.zeros(0, dtype=np.int8), np.zeros(0, dtype=np.int8), lambda _: "",
                        ambiguous=np.zeros(0, dtype=np.int64))
         shown: dict[int, str] = {}
         ambiguous = []
         offset = 0
         for part in parts:
-            shown.update(part._shown(rules, offset))
+            if part.shown is not None:
+                shown.update((offset + position, text) for position, text in part.shown.items())
+            else:
+                shown.update(part._shown(rules, offset))
             if part.ambiguous is not None and part.ambiguous.size:
                 ambiguous.append(part.ambiguous + offset)
             offset += len(part)
@@ -466,10 +471,11 @@ def _numpy_of(array: pa.Array) -> np.ndarray:
         raise ValueError("an array with nulls has no plain numpy form")
     if pa.types.is_boolean(array.type):
         return _numpy_of(pc.cast(array, pa.uint8())).astype(bool)
-    if pa.types.is_integer(array.type) and array.type != pa.int64():
+    if pa.types.is_integer(array.type) and array.type not in (pa.int64(), pa.int32()):
         array = pc.cast(array, pa.int64())
-    dtype = np.dtype(np.float64) if pa.types.is_floating(array.type) else np.dtype(np.int64)
-    if array.type not in (pa.float64(), pa.int64()):
+    dtype = {pa.float64(): np.dtype(np.float64), pa.int64(): np.dtype(np.int64),
+             pa.int32(): np.dtype(np.int32)}.get(array.type)
+    if dtype is None:
         raise ValueError(f"no numpy form for {array.type}")
     return np.frombuffer(array.buffers()[1], dtype=dtype, count=len(array), offset=array.offset * dtype.itemsize)
 
@@ -503,10 +509,14 @@ def classify_texts(texts: pa.Array, rules: CellRules) -> Cells:
     converted in one cast; any other goes through the full grammar of :func:`parse_number`,
     plain cells still in one vectorized cast and the rest cell by cell.
     """
-    if not pa.types.is_large_string(texts.type):
+    if not (pa.types.is_string(texts.type) or pa.types.is_large_string(texts.type)):
         texts = pc.cast(texts, pa.large_string())
     fast = _plain_column(texts, rules)
-    return fast if fast is not None else _parse_texts(texts, rules.decimal_comma, rules.missing_keys)
+    if fast is not None:
+        return fast
+    if not pa.types.is_large_string(texts.type):
+        texts = pc.cast(texts, pa.large_string())
+    return _parse_texts(texts, rules.decimal_comma, rules.missing_keys)
 
 
 def _risky_token(key: str) -> bool:
@@ -530,7 +540,8 @@ def _plain_column(texts: pa.Array, rules: CellRules) -> Cells | None:
     size = len(texts)
     lengths = _numpy_of(pc.binary_length(texts))
     blank = lengths == 0
-    filled = texts if not blank.any() else pc.filter(texts, _arrow_mask(~blank))
+    any_blank = bool(blank.any())
+    filled = texts if not any_blank else pc.filter(texts, _arrow_mask(~blank))
     if rules.decimal_comma:
         if _numpy_of(pc.find_substring(filled, ".")).max(initial=-1) >= 0:
             return None  # "1.234" means 1234 under a decimal comma: the full rules decide
@@ -539,34 +550,59 @@ def _plain_column(texts: pa.Array, rules: CellRules) -> Cells | None:
         numbers_read = _numpy_of(pc.cast(filled, pa.float64()))
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
         return None
-    values = np.full(size, np.nan)
-    status = np.full(size, CELL_OK, dtype=np.int8)
-    decimals = np.zeros(size, dtype=np.int16)
-    where = slice(None) if not blank.any() else np.flatnonzero(~blank)
-    values[where] = numbers_read
-    status[blank] = CELL_MISSING
+    status = np.zeros(size, dtype=np.int8)  # CELL_OK
+    if any_blank:
+        values = np.full(size, np.nan)
+        values[~blank] = numbers_read
+        status[blank] = CELL_MISSING
+    else:
+        values = numbers_read  # read-only, on pyarrow's buffer: build_sample copies it once
+    # Decimals written: the characters after the point (plain cells are ASCII, so bytes are characters).
+    written = (lengths[~blank] if any_blank else lengths).copy()
     point = _numpy_of(pc.find_substring(filled, "."))
-    filled_lengths = lengths if not blank.any() else lengths[~blank]
-    written = np.where(point >= 0, filled_lengths - point - 1, 0)
-    exponent_at = np.flatnonzero(_numpy_of(pc.find_substring(filled, "e", ignore_case=True)) >= 0)
+    written -= point
+    written -= 1
+    written[point < 0] = 0
+    exponent_at = _positions_holding(filled, b"eE")
     if exponent_at.size:
         exponent_cells = pc.take(filled, _arrow_integers(exponent_at)).to_pylist()
         for position, text in zip(exponent_at.tolist(), exponent_cells, strict=True):
             parsed = _parse_cell(text, False)
             written[position] = parsed.decimals if parsed is not None else 0
-    decimals[where] = np.minimum(written, MAX_DECIMALS)
-    for position in np.flatnonzero(np.isnan(values) & ~blank).tolist():
-        # The NaN words: "nan" is a missing token; "-nan" and "nan(1)" are not numbers.
-        text = texts[position].as_py()
-        if text.strip().lower() in rules.missing_keys:
-            status[position] = CELL_MISSING
-        else:
-            parsed = _parse_cell(text, rules.decimal_comma)
-            status[position] = CELL_NON_NUMERIC if parsed is None else CELL_OK
-        decimals[position] = 0
+    np.minimum(written, MAX_DECIMALS, out=written)
+    if any_blank:
+        decimals = np.zeros(size, dtype=np.int8)
+        decimals[~blank] = written
+    else:
+        decimals = written.astype(np.int8)
+    odd = np.flatnonzero(np.isnan(numbers_read))
+    if odd.size:
+        where = np.flatnonzero(~blank)[odd] if any_blank else odd
+        for position in where.tolist():
+            # The NaN words: "nan" is a missing token; "-nan" and "nan(1)" are not numbers.
+            text = texts[position].as_py()
+            if text.strip().lower() in rules.missing_keys:
+                status[position] = CELL_MISSING
+            else:
+                parsed = _parse_cell(text, rules.decimal_comma)
+                status[position] = CELL_NON_NUMERIC if parsed is None else CELL_OK
+            decimals[position] = 0
     return Cells(values=values, status=status, decimals=decimals,
                  display=lambda position: printable(texts[position].as_py()),
                  ambiguous=np.zeros(0, dtype=np.int64))
+
+
+def _positions_holding(texts: pa.Array, letters: bytes) -> np.ndarray:
+    """Positions of the cells holding any of ``letters`` (single bytes); a scan of the text bytes finds none quickly."""
+    data = texts.buffers()[2]
+    raw = np.frombuffer(data, dtype=np.uint8) if data is not None else np.zeros(0, dtype=np.uint8)
+    if not any(np.any(raw == letter) for letter in letters):
+        return np.zeros(0, dtype=np.int64)
+    found = None
+    for letter in letters:
+        hits = _numpy_of(pc.find_substring(texts, chr(letter))) >= 0
+        found = hits if found is None else found | hits
+    return np.flatnonzero(found)
 
 
 def _parse_texts(texts: pa.Array, decimal_comma: bool, missing_keys: frozenset[str]) -> Cells:
@@ -574,7 +610,7 @@ def _parse_texts(texts: pa.Array, decimal_comma: bool, missing_keys: frozenset[s
     size = len(texts)
     values = np.full(size, np.nan)
     status = np.full(size, CELL_NON_NUMERIC, dtype=np.int8)
-    decimals = np.zeros(size, dtype=np.int16)
+    decimals = np.zeros(size, dtype=np.int8)
     stripped = pc.utf8_trim_whitespace(texts)
     pattern = _PLAIN_COMMA if decimal_comma else _PLAIN_POINT
     matched = pc.match_substring_regex(stripped, pattern)

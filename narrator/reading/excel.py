@@ -225,7 +225,7 @@ def excel_cells(raw: Sequence[object], rules: CellRules, formulas: dict[int, str
     size = len(raw)
     values = np.full(size, np.nan)
     status = np.full(size, CELL_NON_NUMERIC, dtype=np.int8)
-    decimals = np.full(size, -1, dtype=np.int16)
+    decimals = np.full(size, -1, dtype=np.int8)
     text_at, texts = [], []
     for position, cell in enumerate(raw):
         if cell is None:

@@ -85,7 +85,7 @@ def parquet_cells(array: pa.Array, rules: CellRules) -> Cells:
     nulls = array.is_null().to_numpy(zero_copy_only=False)
     status = np.full(size, CELL_NON_NUMERIC, dtype=np.int8)
     values = np.full(size, np.nan)
-    decimals = np.full(size, -1, dtype=np.int16)
+    decimals = np.full(size, -1, dtype=np.int8)
     if pa.types.is_integer(kind) or pa.types.is_floating(kind) or pa.types.is_decimal(kind):
         values = pc.cast(array, pa.float64(), safe=False).to_numpy(zero_copy_only=False).astype(np.float64)
         status[:] = CELL_OK

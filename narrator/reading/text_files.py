@@ -84,7 +84,7 @@ __all__ = [
 
 DETECTION_BYTES = 1 << 20  # the start of a file that decides its codec
 MAX_HEADER_BYTES = 8 << 20  # the longest header line read
-BLOCK_BYTES = 16 << 20  # bytes parsed at a time; also the longest row
+BLOCK_BYTES = 4 << 20  # bytes parsed at a time; also the longest row
 # A delimiter no one types: with it each line of a one-column file is one cell.
 ONE_COLUMN = "\x1f"
 _DELIMITER_NAMES = {",": "commas", ";": "semicolons", "\t": "tabs", ONE_COLUMN: "no delimiter"}
@@ -253,14 +253,21 @@ class _RowChecks:
     problem reported by :meth:`raise_first`.
     """
 
-    def __init__(self, layout: TextLayout, decimal_comma: bool) -> None:
+    def __init__(self, layout: TextLayout, decimal_comma: bool, threaded: bool = False) -> None:
         self.layout = layout
         self.others = [mark for mark in (",", ";", "\t") if mark != layout.delimiter
                        and not (mark == "," and decimal_comma)]
         self.short: list[tuple[int, list[str]]] = []  # (data position, fields), in file order
         self.problem: str | None = None
+        # Read on several threads, pyarrow does not know a row's number: the first odd row then
+        # sends the reading back to one thread (see text_columns).
+        self.threaded = threaded
+        self.odd_row_seen = False
 
     def __call__(self, row) -> str:
+        if self.threaded:
+            self.odd_row_seen = True
+            return "skip"
         if self.problem is not None:
             return "skip"
         number = row.number
@@ -309,7 +316,7 @@ def _arrow_reader(layout: TextLayout, indices: Sequence[int], checks: _RowChecks
     try:
         return pa_csv.open_csv(
             str(layout.path),
-            read_options=pa_csv.ReadOptions(column_names=names, skip_rows=1, use_threads=False,
+            read_options=pa_csv.ReadOptions(column_names=names, skip_rows=1, use_threads=checks.threaded,
                                             block_size=BLOCK_BYTES, encoding=codec),
             parse_options=pa_csv.ParseOptions(delimiter=layout.delimiter, quote_char='"', double_quote=True,
                                               escape_char=False, newlines_in_values=layout.quoted,
@@ -372,13 +379,27 @@ def _undecodable(layout: TextLayout, indices: Sequence[int]) -> NarratorError:
                          f"file can; give the file's encoding with --encoding, for example {advice}")
 
 
-def _blank_mask(arrays: Sequence[pa.Array]) -> np.ndarray:
-    """True for rows whose kept cells are all blank (spaces only)."""
-    blank = None
+def _last_filled(arrays: Sequence[pa.Array]) -> int:
+    """Index of the last row whose kept cells are not all blank (spaces only); -1 when every row is blank.
+
+    Looked for from the end: the last non-empty cell is nearly always filled, so one or two
+    cells are checked; a long blank tail is checked whole, vectorized.
+    """
+    size = len(arrays[0])
+    candidates = np.zeros(size, dtype=bool)
     for array in arrays:
-        filled = _numpy_of(pc.binary_length(pc.utf8_trim_whitespace(array))) > 0
-        blank = ~filled if blank is None else blank & ~filled
-    return blank
+        candidates |= _numpy_of(pc.binary_length(array)) > 0
+    at = np.flatnonzero(candidates)
+    for position in at[::-1][:16].tolist():
+        if any(str(array[position].as_py()).strip() for array in arrays):
+            return position
+    if at.size <= 16:
+        return -1
+    filled = np.zeros(size, dtype=bool)
+    for array in arrays:
+        filled |= _numpy_of(pc.binary_length(pc.utf8_trim_whitespace(array))) > 0
+    found = np.flatnonzero(filled)
+    return int(found[-1]) if found.size else -1
 
 
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
@@ -420,9 +441,12 @@ def text_columns(layout: TextLayout, indices: Sequence[int], *, decimal_comma: b
     indices = list(indices)
     last = len(layout.headers) - 1
     read = indices if not layout.odd_quotes or last in indices else [*indices, last]
-    checks = _RowChecks(layout, decimal_comma)
+    # Several threads first; the first row with another number of fields than the header sends
+    # the reading back to one thread, from the start, dropping the rows already handed over.
+    checks = _RowChecks(layout, decimal_comma, threaded=True)
     reader = _arrow_reader(layout, read, checks)
     position = 0  # data position of the next row pyarrow's rows are placed from
+    handed = 0  # rows already placed when the reading went back to one thread: dropped on the way
     held: list[list[pa.Array]] = []  # blank rows held back: blank rows at the very end are not data rows
     held_rows = 0
     emitted = 0
@@ -431,24 +455,36 @@ def text_columns(layout: TextLayout, indices: Sequence[int], *, decimal_comma: b
         try:
             batch = reader.read_next_batch()
         except StopIteration:
-            break
+            if checks.threaded and checks.odd_row_seen:
+                batch = None
+            else:
+                break
         except (pa.ArrowException, OSError) as exc:
             checks.raise_first()
             raise _arrow_error(layout, exc, read) from None
+        if checks.threaded and checks.odd_row_seen:
+            handed, position = position, 0
+            checks = _RowChecks(layout, decimal_comma)
+            reader = _arrow_reader(layout, read, checks)
+            continue
         checks.raise_first()
         start = position
         arrays, position = _place_short_rows([batch.column(k) for k in range(batch.num_columns)], position, checks,
                                              read)
+        if position <= handed:
+            continue
+        if start < handed:
+            arrays = [array.slice(handed - start) for array in arrays]
+            start = handed
         if not len(arrays[0]):
             continue
         _check_cell_length(layout, arrays, read, start)
         last_cells = [array[len(array) - 1].as_py() for array in arrays]
-        filled_at = np.flatnonzero(~_blank_mask(arrays))
-        if filled_at.size == 0:
+        cut = _last_filled(arrays) + 1
+        if cut == 0:
             held.append(arrays)
             held_rows += len(arrays[0])
             continue
-        cut = int(filled_at[-1]) + 1
         out = [_joined([*(part[k] for part in held), array.slice(0, cut)]) for k, array in enumerate(arrays)]
         held = [[array.slice(cut) for array in arrays]] if cut < len(arrays[0]) else []
         held_rows = len(arrays[0]) - cut
@@ -541,7 +577,15 @@ def text_column_cells(layout: TextLayout, index: int, rules: CellRules, *, chunk
     """
     blocks = text_columns(layout, [index], decimal_comma=rules.decimal_comma, max_rows=max_rows)
     if chunk_rows is None:
-        yield Cells.concatenate([classify_texts(texts, rules).kept_examples(rules) for (texts,) in blocks], rules)
+        parts: list[Cells] = []
+        for (texts,) in blocks:
+            if parts:  # the block before lets its text go, keeping only the texts an exclusion shows
+                parts[-1] = parts[-1].kept_examples(rules)
+            parts.append(classify_texts(texts, rules))
+        whole = parts[0] if len(parts) == 1 else Cells.concatenate(parts, rules)
+        del parts
+        pa.default_memory_pool().release_unused()  # the blocks' text goes back to the system, not only to the pool
+        yield whole
         return
     pending: list[pa.Array] = []
     pending_rows = 0
