@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import argparse
 import contextlib
+import errno
 import os
 import re
 import sys
@@ -550,6 +551,13 @@ def _input_of(args: argparse.Namespace) -> str:
     return f" {shown_name(os.path.basename(os.fspath(given)) or given)}" if given else ""
 
 
+def _out_of_memory(args: argparse.Namespace) -> int:
+    sys.stderr.write(f"narrator: out of memory while reading or describing{_input_of(args)}; the stream engine "
+                     "(--engine stream, or engine = \"stream\" in a recipe) reads a CSV, TSV or Parquet input in "
+                     "chunks with bounded memory\n")
+    return EXIT_BAD_INPUT
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -561,16 +569,15 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stderr.write(f"narrator: {one_line(str(exc))}\n")
         return EXIT_BAD_INPUT
     except MemoryError:
-        sys.stderr.write(f"narrator: out of memory while reading or describing{_input_of(args)}; the stream engine "
-                         "(--engine stream, or engine = \"stream\" in a recipe) reads a CSV, TSV or Parquet input "
-                         "in chunks with bounded memory\n")
-        return EXIT_BAD_INPUT
+        return _out_of_memory(args)
     except KeyboardInterrupt:
         sys.stderr.write("narrator: interrupted\n")
         return 130
     except BrokenPipeError:
         return 0
     except OSError as exc:
+        if exc.errno == errno.ENOMEM:
+            return _out_of_memory(args)
         where = f" {os.path.basename(exc.filename)}:" if getattr(exc, "filename", None) else ""
         sys.stderr.write(f"narrator:{one_line(where)} {one_line(exc.strerror or str(exc))}\n")
         return EXIT_BAD_INPUT

@@ -107,3 +107,74 @@ def test_input_file_is_unchanged(rivers_csv):
     before = rivers_csv.read_bytes()
     run("facts", str(rivers_csv), "--column", "length")
     assert rivers_csv.read_bytes() == before
+
+
+def test_a_header_that_is_a_number_wins_for_every_command(tmp_path):
+    # Columns site, 1, x (generated values, fixed seed): "1" is the column named 1, with or without groups.
+    rng = np.random.default_rng(11)
+    rows = [f"{'north' if k % 2 else 'south'},{value},{k}" for k, value in enumerate(rng.gamma(3, 5, 40).round(1))]
+    data = tmp_path / "data.csv"
+    data.write_text("site,1,x\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    facts = json.loads(run("facts", str(data), "--column", "1", "--json").stdout)
+    assert facts["variable"]["name"] == "1" and facts["n"] == 40
+    assert json.loads(run("facts", str(data), "--column", "3", "--json").stdout)["variable"]["name"] == "x"
+    drafted = run("draft", str(data), "--column", "1", "--group-by", "site", "-o", str(tmp_path / "r.docx"))
+    assert drafted.returncode == 0, drafted.stderr
+    found = json.loads((tmp_path / "r.findings.json").read_text(encoding="utf-8"))
+    assert found["variables"][0]["findings"]["variable"]["name"] == "1"
+    assert found["variables"][0]["findings"]["n"] == 40
+    assert "a header that is a number wins" in " ".join(run("facts", "--help").stdout.split())
+
+
+def test_running_out_of_memory_is_said_to_be_memory(tmp_path, monkeypatch, capsys):
+    import narrator.request
+    from narrator.cli import main
+
+    data = tmp_path / "data.csv"
+    data.write_text("days\n1\n2\n3\n", encoding="utf-8")
+
+    def exhausted(_request):
+        raise MemoryError
+
+    monkeypatch.setattr(narrator.request, "describe_request", exhausted)
+    assert main(["facts", str(data), "--column", "days"]) == 2
+    line = capsys.readouterr().err
+    assert line.startswith("narrator: out of memory while reading or describing data.csv")
+    assert "--engine stream" in line and line.count("\n") == 1
+
+
+def test_an_error_from_a_later_step_names_the_input(tmp_path, monkeypatch, capsys):
+    import narrator.engine.describe
+    from narrator.cli import main
+    from narrator.errors import NarratorError
+
+    data = tmp_path / "data.csv"
+    data.write_text("days\n1\n2\n3\n", encoding="utf-8")
+
+    def failing(*_args, **_kwargs):
+        raise NarratorError("histogram: the values span\nmore than they can")
+
+    monkeypatch.setattr(narrator.engine.describe, "describe", failing)
+    assert main(["facts", str(data), "--column", "days"]) == 2
+    assert capsys.readouterr().err == (
+        "narrator: data.csv, column 'days': histogram: the values span more than they can\n")
+
+
+def test_the_unit_is_said_once(tmp_path):
+    from narrator.engine.describe import describe
+    from narrator.errors import NarratorError
+    from narrator.reading.columns import read_column
+
+    data = tmp_path / "data.csv"
+    data.write_text("days\n1\n2\n3\n", encoding="utf-8")
+    sample = read_column(data, "days", unit="days")
+    assert describe(sample, unit="days").variable.unit == "days"
+    with pytest.raises(NarratorError, match="the unit was given twice: 'days' when the values were read and 'hours'"):
+        describe(sample, unit="hours")
+
+
+def test_one_line_escapes_and_cuts():
+    from narrator.cli import MESSAGE_LENGTH, one_line
+
+    assert one_line("a\r\nb\x1b[31m") == "a b\\u001b[31m"
+    assert len(one_line("x" * 10 * MESSAGE_LENGTH)) == MESSAGE_LENGTH

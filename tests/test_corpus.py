@@ -55,6 +55,11 @@ def run_case(case, folder: Path) -> Run:
     before = file_hashes(folder)
     env = {**os.environ, "MPLCONFIGDIR": str(folder.parent / ".matplotlib"), "PYTHONWARNINGS": "default"}
     env.pop("NARRATOR_DEBUG", None)
+    for name, value in case.env.items():
+        if value is None:
+            env.pop(name, None)
+        else:
+            env[name] = value
     proc = subprocess.run(
         [sys.executable, "-m", "narrator", *case.args], cwd=folder, capture_output=True, text=True,
         env=env, timeout=300,
@@ -111,9 +116,13 @@ def test_case(runs, name):
     case, run = CASES[name], runs[name]
     assert "Traceback" not in run.stderr, run.stderr
     assert run.returncode == case.exit_code, f"exit {run.returncode}; stderr: {run.stderr}"
-    # The inputs keep their bytes whatever the outcome.
+    # The inputs keep their bytes whatever the outcome (save the files the case lets the command replace).
     for relative, digest in run.hashes_before.items():
-        assert run.hashes_after.get(relative) == digest, f"{relative} changed"
+        if relative not in case.changes:
+            assert run.hashes_after.get(relative) == digest, f"{relative} changed"
+    # Messages reach a terminal as text: no control character, no screenful.
+    assert not re.search(r"[\x00-\x08\x0b-\x1f\x7f]", run.stderr), repr(run.stderr[:200])
+    assert all(len(line) <= 2100 for line in run.stderr.splitlines())
     for forbidden in case.no_files:
         assert not list(run.folder.parent.rglob(forbidden)), f"{forbidden} was created"
     if case.exit_code == 2:
@@ -123,9 +132,15 @@ def test_case(runs, name):
         for fragment in case.message:
             assert fragment in lines[0], f"{fragment!r} not in {lines[0]!r}"
         assert run.stdout == ""
-        assert not (run.folder / "report.docx").exists()
+        assert "report.docx" in run.hashes_before or not (run.folder / "report.docx").exists()
         return
-    assert run.stderr == "", run.stderr
+    if case.note:
+        lines = run.stderr.splitlines()
+        assert len(lines) == 1 and lines[0].startswith("narrator: note: "), run.stderr
+        for fragment in case.note:
+            assert fragment in lines[0], f"{fragment!r} not in {lines[0]!r}"
+    else:
+        assert run.stderr == "", run.stderr
     if case.args[0] in ("draft", "redraft"):
         report = run.folder / "report.docx"
         sidecar = (run.folder / "report.findings.json").read_text(encoding="utf-8")

@@ -91,3 +91,15 @@ def test_recipe_strings_that_look_like_code_stay_text(tmp_path):
     assert recipe.report.title == "${HOME} {0.__class__}"
     assert recipe.variables[0].label == code
     assert not (tmp_path / "pwned").exists()
+
+
+def test_names_in_messages_are_escaped_and_cut():
+    from narrator.errors import NarratorError
+    from narrator.reading.files import select_column
+
+    headers = ["\x1b]0;title\x07days", "W" * 200_000]
+    with pytest.raises(NarratorError) as caught:
+        select_column(headers, "nope\x1b[2J", "data.csv")
+    message = str(caught.value)
+    assert "\x1b" not in message and "\\u001b]0;title\\u0007days" in message and "nope\\u001b[2J" in message
+    assert len(message) < 400  # a huge header is cut, not echoed whole

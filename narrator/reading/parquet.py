@@ -47,6 +47,8 @@ def open_parquet(path: Path):
 
     try:
         return pq.ParquetFile(path)
+    except MemoryError:
+        raise  # said to be memory by the command line, not blamed on the file
     except (pa.ArrowException, OSError) as exc:
         raise NarratorError(f"{shown_name(path.name)}: not a readable Parquet file "
                             f"({shown_name(' '.join(str(exc).split()), 120)})") from None
@@ -67,6 +69,8 @@ def parquet_column(parquet, position: int, path: Path) -> pa.Array:
         # Duplicate names cannot be read one by one: read the table and take the position.
         unique = names.count(name) == 1
         chunked = parquet.read(columns=[name]).column(0) if unique else parquet.read().column(position)
+    except MemoryError:
+        raise
     except (pa.ArrowException, OSError) as exc:
         raise NarratorError(f"{shown_name(path.name)}: column '{shown_name(name)}' cannot be read "
                             f"({shown_name(' '.join(str(exc).split()), 120)})") from None

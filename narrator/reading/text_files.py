@@ -226,6 +226,7 @@ def text_layout(path: Path, file_format: str, encoding: str | None = None) -> Te
     if header_line.count(delimiter) >= MAX_COLUMNS:
         raise NarratorError(f"{name}: the header has {header_line.count(delimiter) + 1:,} columns; narrator reads "
                             f"files of up to {MAX_COLUMNS:,} columns (Excel's limit)")
+    csv.field_size_limit(max(csv.field_size_limit(), MAX_HEADER_BYTES))  # the limits here are narrator's own
     try:
         headers = next(csv.reader(io.StringIO(text, newline=""), delimiter=delimiter, quotechar='"',
                                   strict=False))
@@ -328,8 +329,14 @@ def _arrow_reader(layout: TextLayout, indices: Sequence[int], checks: _RowChecks
         raise _arrow_error(layout, exc, indices) from None
 
 
-def _arrow_error(layout: TextLayout, exc: Exception, indices: Sequence[int]) -> NarratorError:
+_OUT_OF_MEMORY = ("malloc of size", "cannot allocate memory", "out of memory", "bad_alloc")
+
+
+def _arrow_error(layout: TextLayout, exc: Exception, indices: Sequence[int]) -> Exception:
+    """The error to raise for pyarrow's ``exc``: memory said to be memory, every other problem naming the file."""
     text = " ".join(str(exc).split())
+    if isinstance(exc, pa.ArrowMemoryError) or any(words in text.lower() for words in _OUT_OF_MEMORY):
+        return MemoryError(text)
     if "straddl" in text:
         return NarratorError(f"{layout.name}: a row is longer than {BLOCK_BYTES >> 20} MiB; narrator reads rows up "
                              f"to that length (and cells of up to {MAX_CELL_CHARACTERS:,} characters)")

@@ -23,6 +23,7 @@ written by openpyxl and pyarrow when the corpus is built.
 
 from __future__ import annotations
 
+import re
 import sys
 import zipfile
 from collections.abc import Callable, Mapping
@@ -48,7 +49,11 @@ class Case:
     the flag must list, ``values`` dotted findings paths to values, and
     ``absent_flags`` names flags that must not be raised. For ``draft``,
     ``report_text`` lists text the .docx must hold and ``report_absent`` text
-    it must not. ``no_files`` are names that must not exist afterwards.
+    it must not. ``no_files`` are names that must not exist afterwards. ``note`` lists
+    fragments of the one ``narrator: note:`` line an exit 0 must print (none: stderr
+    stays empty); ``changes`` names the case's files the command may replace or remove
+    (every other file keeps its bytes); ``env`` sets (or, with None, removes)
+    environment variables for the run.
     """
 
     name: str
@@ -63,6 +68,9 @@ class Case:
     report_text: tuple[str, ...] = ()
     report_absent: tuple[str, ...] = ()
     no_files: tuple[str, ...] = ()
+    note: tuple[str, ...] = ()
+    changes: tuple[str, ...] = ()
+    env: Mapping[str, str | None] = field(default_factory=dict)
 
 
 # --------------------------------------------------------------------------- writers
@@ -199,6 +207,192 @@ HOSTILE_NAMES = {
 def hostile_csv(name: str) -> Writer:
     header = '"' + HOSTILE_NAMES[name].replace('"', '""') + '"'
     return text_file("data.csv", header + "\n" + GOOD)
+
+
+# --------------------------------------------------------------------------- writers for the hostile families
+
+
+def foreign_docx(name: str) -> Writer:
+    """A Word file narrator did not write (python-docx's own blank document), such as a user's letter."""
+    def write(folder: Path) -> None:
+        import docx
+
+        document = docx.Document()
+        document.add_paragraph("A letter of the user's own, invented for this corpus.")
+        document.save(folder / name)
+    return write
+
+
+def _rewrite_zip(path: Path, replace: Mapping[str, bytes], add: Mapping[str, bytes] = {}) -> None:  # noqa: B006
+    with zipfile.ZipFile(path) as source:
+        members = {info.filename: source.read(info.filename) for info in source.infolist()}
+    members.update(replace)
+    members.update(add)
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as target:
+        for name, data in members.items():
+            target.writestr(name, data)
+
+
+TEMPLATE_SECRETS = ("Acme Holdings Invented", "Pat Managerinvented", "EMP-0004417-XQ", "CASE-55731-ZK",
+                    "jdoe-invented", "Reviewer Invented")
+
+
+def branded_template(folder: Path) -> None:
+    """A template carrying identifier-like properties in every property part, custom XML data and settings."""
+    import docx
+
+    path = folder / "brand.docx"
+    document = docx.Document()
+    document.core_properties.author = TEMPLATE_SECRETS[5]
+    document.sections[0].header.paragraphs[0].text = "Invented Program letterhead"
+    document.save(path)
+    with zipfile.ZipFile(path) as source:
+        app = source.read("docProps/app.xml").decode()
+        types = source.read("[Content_Types].xml").decode()
+        rels = source.read("_rels/.rels").decode()
+        item = source.read("customXml/item1.xml").decode()
+        settings = source.read("word/settings.xml").decode()
+    app = app.replace("</Properties>", f"<Company>{TEMPLATE_SECRETS[0]}</Company>"
+                                       f"<Manager>{TEMPLATE_SECRETS[1]}</Manager></Properties>")
+    custom = ('<?xml version="1.0" encoding="UTF-8" standalone="yes"?>'
+              '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties" '
+              'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
+              '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="2" name="EmployeeID">'
+              f"<vt:lpwstr>{TEMPLATE_SECRETS[2]}</vt:lpwstr></property></Properties>")
+    types = types.replace("</Types>", '<Override PartName="/docProps/custom.xml" ContentType="application/'
+                                      'vnd.openxmlformats-officedocument.custom-properties+xml"/></Types>')
+    rels = rels.replace("</Relationships>", '<Relationship Id="rId90" Type="http://schemas.openxmlformats.org/'
+                                            'officeDocument/2006/relationships/custom-properties" '
+                                            'Target="docProps/custom.xml"/></Relationships>')
+    item = item.replace("</b:Sources>", f"<caseNumber>{TEMPLATE_SECRETS[3]}</caseNumber></b:Sources>")
+    settings = settings.replace("<w:defaultTabStop", '<w:attachedTemplate r:id="rId1"/><w:defaultTabStop')
+    if 'xmlns:r="' not in settings.split(">", 2)[1]:
+        settings = settings.replace("<w:settings ", '<w:settings xmlns:r="http://schemas.openxmlformats.org/'
+                                                    'officeDocument/2006/relationships" ', 1)
+    settings_rels = ('<?xml version="1.0" encoding="UTF-8" standalone="yes"?><Relationships xmlns="http://schemas.'
+                     'openxmlformats.org/package/2006/relationships"><Relationship Id="rId1" Type="http://schemas.'
+                     'openxmlformats.org/officeDocument/2006/relationships/attachedTemplate" Target="file:///C:/'
+                     f'Users/{TEMPLATE_SECRETS[4]}/Templates/brand.dotx" TargetMode="External"/></Relationships>')
+    _rewrite_zip(path, {"docProps/app.xml": app.encode(), "[Content_Types].xml": types.encode(),
+                        "_rels/.rels": rels.encode(), "customXml/item1.xml": item.encode(),
+                        "word/settings.xml": settings.encode()},
+                 {"docProps/custom.xml": custom.encode(), "word/_rels/settings.xml.rels": settings_rels.encode()})
+
+
+def stale_dimension_workbook(folder: Path) -> None:
+    """60 rows of hours, saved with a sheet size that says 10 (as a tool that never updates it would)."""
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.append(["hours"])
+    for hours in waits(60, 6):
+        sheet.append([int(hours)])
+    book.save(folder / "book.xlsx")
+    with zipfile.ZipFile(folder / "book.xlsx") as source:
+        xml = source.read("xl/worksheets/sheet1.xml").decode()
+    _rewrite_zip(folder / "book.xlsx", {"xl/worksheets/sheet1.xml": re.sub(
+        r'<dimension ref="[^"]*"', '<dimension ref="A1:A11"', xml).encode()})
+
+
+def zip_bomb_workbook(folder: Path) -> None:
+    """A workbook whose sheet unpacks from about 20 kB to 20 MB (a part compressed 1,000 times)."""
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    book.active.append(["hours"])
+    book.save(folder / "book.xlsx")
+    with zipfile.ZipFile(folder / "book.xlsx") as source:
+        xml = source.read("xl/worksheets/sheet1.xml").decode()
+    padded = xml.replace("</worksheet>", "<!--" + " " * (20 << 20) + "--></worksheet>")
+    _rewrite_zip(folder / "book.xlsx", {"xl/worksheets/sheet1.xml": padded.encode()})
+
+
+def ole_file(name: str, encrypted: bool) -> Writer:
+    """An OLE2 compound file: an encrypted workbook keeps its package in an EncryptedPackage stream."""
+    def write(folder: Path) -> None:
+        body = bytearray(b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + b"\x00" * 4088)
+        if encrypted:
+            stream = "EncryptedPackage".encode("utf-16-le")
+            body[1024:1024 + len(stream)] = stream
+        (folder / name).write_bytes(bytes(body))
+    return write
+
+
+def million_columns(folder: Path) -> None:
+    header = ",".join(f"c{k}" for k in range(1_000_000))
+    (folder / "data.csv").write_text(header + "\n" + ",".join("1" for _ in range(1_000_000)) + "\n", encoding="utf-8")
+
+
+def sidecar(text: str) -> Writer:
+    return both(text_file("data.csv", "days\n" + GOOD), text_file("report.findings.json", text))
+
+
+def findings_text(**change: object) -> str:
+    """The findings of GOOD (computed when the corpus is built), with some fields replaced: a foreign sidecar."""
+    import json as json_module
+
+    from narrator.engine.describe import describe
+
+    data = describe([float(cell) for cell in GOOD.split()]).to_dict()
+    for dotted, value in change.items():
+        part = data
+        keys = dotted.split("__")
+        for key in keys[:-1]:
+            part = part[key]
+        part[keys[-1]] = value
+    return json_module.dumps(data)
+
+
+def deep_json(depth: int) -> str:
+    return findings_text().replace('"options": {', '"options": {"deep": ' + "[" * depth + "]" * depth + ", ", 1)
+
+
+def stale_temporaries(folder: Path) -> None:
+    (folder / "data.csv").write_text("days\n" + GOOD, encoding="utf-8")
+    (folder / ".report.docx.narrator-0123456789ab.tmp").write_bytes(b"PK a complete report a kill left behind")
+    (folder / ".report.findings.json.narrator-ba9876543210.tmp").write_text("{}", encoding="utf-8")
+
+
+def linked_output(folder: Path) -> None:
+    """report.docx is a link to a file of the user's elsewhere: the report replaces the link, not the file."""
+    (folder / "data.csv").write_text("days\n" + GOOD, encoding="utf-8")
+    (folder / "elsewhere").mkdir()
+    foreign_docx("elsewhere/kept.docx")(folder)
+    (folder / "report.docx").symlink_to("elsewhere/kept.docx")
+
+
+def user_folder(folder: Path) -> None:
+    (folder / "mine").mkdir()
+    (folder / "mine" / "housing.toml").write_text("# the user's own recipe, not the demo's\n", encoding="utf-8")
+
+
+def header_with_escape(folder: Path) -> None:
+    (folder / "data.csv").write_text("\x1b[2J\x1b]0;owned\x07days\n" + GOOD, encoding="utf-8")
+
+
+def header_cell_too_long(folder: Path) -> None:
+    (folder / "data.csv").write_text("H" * 200_000 + ",days\nx," + "\nx,".join(GOOD.split()) + "\n", encoding="utf-8")
+
+
+def cell_too_long(folder: Path) -> None:
+    cells = GOOD.split()
+    cells[3] = "9" * 40_000
+    (folder / "data.csv").write_text("days\n" + "\n".join(cells) + "\n", encoding="utf-8")
+
+
+def deep_toml(folder: Path) -> None:
+    (folder / "data.csv").write_text("days\n" + GOOD, encoding="utf-8")
+    (folder / "recipe.toml").write_text('[data]\npath = "data.csv"\nmissing = ' + "[" * 50_000 + "]" * 50_000
+                                        + '\n[outputs]\nmemo = "report.docx"\n[[variables]]\ncolumn = "days"\n',
+                                        encoding="utf-8")
+
+
+def digit_headers(folder: Path) -> None:
+    """Columns site, 1, x: "1" is the column named 1 for every command (the site column holds groups)."""
+    lines = ["site,1,x"] + [f"{'north' if k % 2 else 'south'},{cell},{k}" for k, cell in
+                            enumerate(waits(40, 7))]
+    (folder / "data.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
 
 
 # --------------------------------------------------------------------------- the table
@@ -425,6 +619,114 @@ CASES: tuple[Case, ...] = (
     Case("unknown_id_column", text_file("data.csv", "id,days\nA,1\nB,2\n"),
          facts("data.csv", "--column", "days", "--id-column", "client"), 2,
          message=("data.csv", "no column named 'client'")),
+    # ----- data loss: an output that is not a narrator report, a link, the build's own inputs
+    Case("output_not_docx", both(text_file("data.csv", "days\n" + GOOD), text_file("other.csv", "a,b\n1,2\n")),
+         ("draft", "data.csv", "--column", "days", "-o", "other.csv"), 2, message=("other.csv", "must end in .docx")),
+    Case("output_is_a_foreign_docx", both(text_file("data.csv", "days\n" + GOOD), foreign_docx("report.docx")),
+         draft("data.csv", "--column", "days"), 2,
+         message=("report.docx exists and is not a report narrator wrote", "--force")),
+    Case("output_is_a_foreign_docx_forced", both(text_file("data.csv", "days\n" + GOOD), foreign_docx("report.docx")),
+         draft("data.csv", "--column", "days", "--force"), 0, changes=("report.docx",)),
+    Case("redraft_over_a_foreign_docx",
+         both(text_file("data.csv", "days\n" + GOOD), foreign_docx("report.docx"), recipe("")),
+         ("redraft", "recipe.toml"), 2, message=("report.docx exists and is not a report narrator wrote",)),
+    Case("output_is_a_link_to_a_user_file", linked_output, draft("data.csv", "--column", "days"), 0,
+         values={"n": 40}),
+    Case("redraft_output_is_a_link_to_a_user_file", both(linked_output, recipe("")), ("redraft", "recipe.toml"), 0,
+         values={"n": 40}),
+    Case("recipe_output_is_the_recipe", both(text_file("data.csv", "days\n" + GOOD), text_file(
+        "recipe.toml", '[data]\npath = "data.csv"\n[outputs]\nmemo = "recipe.toml"\n[[variables]]\ncolumn = "days"\n')),
+         ("redraft", "recipe.toml"), 2, message=("recipe.toml", "line 4", "is this recipe")),
+    Case("recipe_output_is_the_template", both(text_file("data.csv", "days\n" + GOOD), branded_template, text_file(
+        "recipe.toml", '[data]\npath = "data.csv"\n[report]\ntemplate = "brand.docx"\n[outputs]\nfull = "brand.docx"\n'
+                       '[[variables]]\ncolumn = "days"\n')),
+         ("redraft", "recipe.toml"), 2, message=("recipe.toml", "is the template")),
+    Case("recipe_output_is_a_link_to_the_data", both(
+        text_file("data.csv", "days\n" + GOOD), lambda folder: (folder / "out.docx").symlink_to("data.csv"),
+        text_file("recipe.toml", '[data]\npath = "data.csv"\n[outputs]\nmemo = "out.docx"\n[[variables]]\n'
+                                 'column = "days"\n')),
+         ("redraft", "recipe.toml"), 2, message=("recipe.toml", "is the data file")),
+    Case("demo_into_a_folder_of_the_users", user_folder, ("demo", "-o", "mine", "--quiet"), 2,
+         message=("mine is not empty and is not a folder the demo wrote",)),
+    # ----- one build, one truth: a previous sidecar that is damaged or foreign, what a killed build left
+    Case("previous_sidecar_not_json", sidecar("{not json"), draft("data.csv", "--column", "days"), 0,
+         note=("previous findings report.findings.json were ignored", "not valid JSON"),
+         changes=("report.findings.json",), values={"n": 40}),
+    Case("previous_sidecar_wrong_types", sidecar(findings_text(n="forty")), draft("data.csv", "--column", "days"), 0,
+         note=("were ignored", "findings.n must be a whole number, not text"), changes=("report.findings.json",)),
+    Case("previous_sidecar_huge_integer", sidecar(findings_text().replace('"n": 40', '"n": 1' + "0" * 5000, 1)),
+         draft("data.csv", "--column", "days"), 0, note=("were ignored", "not valid JSON"),
+         changes=("report.findings.json",)),
+    Case("previous_sidecar_large_integer", sidecar(findings_text(n=10**30)), draft("data.csv", "--column", "days"), 0,
+         note=("were ignored", "findings.n is a whole number too large"), changes=("report.findings.json",)),
+    Case("previous_sidecar_deep_nesting", sidecar(deep_json(100_000)), draft("data.csv", "--column", "days"), 0,
+         note=("were ignored", "nested too deeply"), changes=("report.findings.json",)),
+    Case("previous_sidecar_nested_options", sidecar(deep_json(40)), draft("data.csv", "--column", "days"), 0,
+         note=("were ignored", "nested more than 32 levels"), changes=("report.findings.json",)),
+    Case("previous_sidecar_unknown_lead", sidecar(findings_text(center__lead="mode")),
+         draft("data.csv", "--column", "days"), 0, note=("were ignored", "center.lead is \"mode\", not one of mean"),
+         changes=("report.findings.json",)),
+    Case("compare_damaged_sidecar", both(text_file("old.findings.json", '{"schema_version": 1, "n": ['),
+                                         text_file("new.findings.json", findings_text())),
+         ("compare", "old.findings.json", "new.findings.json"), 2,
+         message=("old.findings.json: not a findings file", "not valid JSON")),
+    Case("compare_foreign_sidecar", both(text_file("old.findings.json", findings_text(center__lead="mode")),
+                                         text_file("new.findings.json", findings_text())),
+         ("compare", "old.findings.json", "new.findings.json"), 2,
+         message=("old.findings.json: not a findings file narrator can read", "center.lead")),
+    Case("stale_temporary_files_cleaned", stale_temporaries, draft("data.csv", "--column", "days"), 0,
+         changes=(".report.docx.narrator-0123456789ab.tmp", ".report.findings.json.narrator-ba9876543210.tmp"),
+         no_files=(".report.docx.narrator-0123456789ab.tmp",)),
+    # ----- silently wrong: the real rows, rows with another delimiter, encodings
+    Case("excel_stale_sheet_size", stale_dimension_workbook, facts("book.xlsx", "--column", "hours"), 0,
+         values={"n": 60, "quality.n_rows": 60}),
+    Case("rows_with_another_delimiter", text_file("data.csv", "site,days\nA,1\nB;2\nC,3\n"),
+         facts("data.csv", "--column", "days"), 2, message=("data.csv", "row 3", "semicolons", "commas")),
+    Case("rows_with_another_delimiter_stream", text_file("data.csv", "site,days\nA,1\nB;2\nC,3\n"),
+         facts("data.csv", "--column", "days", "--engine", "stream"), 2,
+         message=("data.csv", "row 3", "semicolons", "commas")),
+    Case("latin1_header_stream", text_file("data.csv", "año;días\n2023;12\n2024;15\n2025;9\n", "latin-1"),
+         facts("data.csv", "--column", "días", "--engine", "stream"), 0, flags={"encoding_guessed": 1},
+         values={"n": 3, "variable.name": "días"}),
+    Case("utf16_without_mark_stream", raw_file("data.csv", ("days\n" + GOOD).encode("utf-16-le")),
+         facts("data.csv", "--column", "days", "--engine", "stream"), 0, values={"n": 40}),
+    Case("declared_encoding", text_file("data.csv", "d\u00edas\n" + GOOD + "12\u20ac\n", "cp1252"),
+         facts("data.csv", "--column", "d\u00edas", "--encoding", "cp1252"), 0, values={"n": 41},
+         absent_flags=("encoding_guessed",)),
+    Case("unknown_encoding", text_file("data.csv", "days\n" + GOOD),
+         facts("data.csv", "--column", "days", "--encoding", "klingon"), 2,
+         message=("data.csv", "unknown text encoding 'klingon'")),
+    Case("recipe_encoding_key", both(text_file("data.csv", "days\n" + GOOD + "12\u20ac\n", "cp1252"),
+                                     recipe('encoding = "cp1252"\n')),
+         ("redraft", "recipe.toml"), 0, values={"n": 41}, absent_flags=("encoding_guessed",)),
+    Case("digit_header_is_a_name", digit_headers, facts("data.csv", "--column", "1"), 0,
+         values={"variable.name": "1", "n": 40}),
+    Case("digit_header_is_a_name_with_groups", digit_headers,
+         ("draft", "data.csv", "--column", "1", "--group-by", "site", "-o", "report.docx"), 0,
+         report_text=("north", "south")),
+    # ----- crashes and exhaustion: bounded reading, one line each
+    Case("million_columns", million_columns, facts("data.csv", "--column", "c5"), 2,
+         message=("data.csv", "1,000,000 columns", "16,384")),
+    Case("header_cell_too_long", header_cell_too_long, facts("data.csv", "--column", "days"), 2,
+         message=("data.csv", "200,000 characters")),
+    Case("cell_too_long", cell_too_long, facts("data.csv", "--column", "days"), 2,
+         message=("data.csv", "row 5", "40,000 characters")),
+    Case("escape_sequences_in_header", header_with_escape, facts("data.csv", "--column", "nope"), 2,
+         message=("data.csv", "no column named 'nope'", "\\u001b[2J")),
+    Case("excel_zip_bomb", zip_bomb_workbook, facts("book.xlsx", "--column", "hours"), 2,
+         message=("book.xlsx", "zip bomb")),
+    Case("excel_encrypted", ole_file("book.xlsx", encrypted=True), facts("book.xlsx", "--column", "hours"), 2,
+         message=("book.xlsx", "encrypted")),
+    Case("excel_97_named_xlsx", ole_file("book.xlsx", encrypted=False), facts("book.xlsx", "--column", "hours"), 2,
+         message=("book.xlsx", "Excel 97-2003")),
+    Case("recipe_nested_too_deeply", deep_toml, ("redraft", "recipe.toml"), 2,
+         message=("recipe.toml", "nested too deeply")),
+    Case("home_not_writable", text_file("data.csv", "days\n" + GOOD), draft("data.csv", "--column", "days"), 0,
+         env={"HOME": "/proc", "MPLCONFIGDIR": None, "XDG_CONFIG_HOME": None}, values={"n": 40}),
+    # ----- privacy: nothing of a template's own properties or data reaches a report
+    Case("template_properties_stay_out", both(text_file("data.csv", "days\n" + GOOD), branded_template),
+         draft("data.csv", "--column", "days", "--template", "brand.docx"), 0,
+         report_text=("Invented Program letterhead",), report_absent=TEMPLATE_SECRETS),
 )
 
 
