@@ -19,9 +19,10 @@ Pass  What it gathers                                                         Wh
 ====  ======================================================================  =====
 
 The modified z rule needs the MAD for its limits and takes a fourth pass; values beyond 1e60 or
-below 1e-60 in size take one more for their moments in scaled units. A bracket the sketch missed (its bound holds with 99 % confidence) is widened and read again in an
-extra pass, so exact figures are always exact. The medcouple is exact when the reservoir holds every
-value (n up to ``reservoir_size``); above that it is the medcouple of the fixed-seed reservoir, and
+below 1e-60 in size take one more for their moments in scaled units. A bracket the sketch missed
+(its bound holds with 99 % confidence) is widened and read again in an extra pass, so exact figures
+are always exact. The medcouple is exact when the reservoir holds every value (n up to
+``reservoir_size``); above that it is the medcouple of the fixed-seed reservoir, and
 :class:`~narrator.findings.Accuracy` records it, with its standard error, and what depends on it.
 
 The generalized ESD rule and the Sheather-Jones bandwidth need every value at once and are refused
