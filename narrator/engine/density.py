@@ -902,25 +902,41 @@ def _peaks_and_prominences(curve: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     the higher of the two bases.
     """
     x = np.ascontiguousarray(curve, dtype=np.float64)
+    values = x.tolist()  # Python floats: the scans below read one value at a time
     last = x.size - 1
     peaks = []
     i = 1
     while i < last:
-        if x[i - 1] < x[i]:
+        if values[i - 1] < values[i]:
             ahead = i + 1
-            while ahead < last and x[ahead] == x[i]:
+            while ahead < last and values[ahead] == values[i]:
                 ahead += 1
-            if x[ahead] < x[i]:
+            if values[ahead] < values[i]:
                 peaks.append((i + ahead - 1) // 2)
                 i = ahead
         i += 1
     found = np.asarray(peaks, dtype=np.intp)
     prominences = np.empty(found.size)
-    for k, peak in enumerate(found):
-        height = x[peak]
-        higher_left = np.flatnonzero(x[:peak] > height)
-        start = int(higher_left[-1]) + 1 if higher_left.size else 0
-        higher_right = np.flatnonzero(x[peak + 1 :] > height)
-        stop = peak + 1 + int(higher_right[0]) if higher_right.size else x.size
-        prominences[k] = height - max(x[start : peak + 1].min(), x[peak:stop].min())
+    if found.size == 0:
+        return found, prominences
+    # The nearest strictly higher point on each side of every point (one stack scan each way), in
+    # place of a search from each peak.
+    size = len(values)
+    higher_left, higher_right = [-1] * size, [size] * size
+    stack: list[int] = []
+    for k, value in enumerate(values):
+        while stack and values[stack[-1]] <= value:
+            stack.pop()
+        higher_left[k] = stack[-1] if stack else -1
+        stack.append(k)
+    stack = []
+    for k in range(size - 1, -1, -1):
+        value = values[k]
+        while stack and values[stack[-1]] <= value:
+            stack.pop()
+        higher_right[k] = stack[-1] if stack else size
+        stack.append(k)
+    for k, peak in enumerate(found.tolist()):
+        start, stop = higher_left[peak] + 1, higher_right[peak]
+        prominences[k] = values[peak] - max(x[start : peak + 1].min(), x[peak:stop].min())
     return found, prominences
