@@ -50,11 +50,12 @@ import numpy as np
 from matplotlib import ticker, transforms
 from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.collections import LineCollection
 from matplotlib.container import BarContainer
 from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
 from matplotlib.lines import Line2D
-from matplotlib.patches import Rectangle
+from matplotlib.patches import Rectangle, StepPatch
 from matplotlib.text import Text
 from matplotlib.transforms import blended_transform_factory
 from PIL import Image
@@ -390,6 +391,8 @@ def _draw_bin_sensitivity(
     FigureCanvasAgg(fig)
     ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
     ax.set_axis_off()
+    for axis in (ax.xaxis, ax.yaxis):  # no ticks are ever made for the hidden axes
+        axis.set_major_locator(ticker.NullLocator())
     height_in = fig.get_figheight()
     left, right, top, bottom = 1.0 / PAGE_WIDTH_IN, 0.99, 1 - 0.3 / height_in, 0.5 / height_in
     # The panel grid of subplots_adjust(wspace=0.1, hspace=0.35), in figure fractions.
@@ -406,6 +409,7 @@ def _draw_bin_sensitivity(
     point_w, point_h = 1.0 / (PAGE_WIDTH_IN * 72.0), 1.0 / (height_in * 72.0)  # one point, in figure fractions
     plan = findings.histogram
     whole = findings.variable.integer_valued or (plan is not None and plan.integer_aligned)
+    segments: list[list[tuple[float, float]]] = []  # every panel's axis line and tick marks, drawn as one
     for row, width in enumerate(widths):
         y0 = top - (row + 1) * panel_h - row * 0.35 * panel_h
         for col, offset in enumerate(offsets):
@@ -416,14 +420,17 @@ def _draw_bin_sensitivity(
             place = (transforms.Affine2D().translate(-x_low, 0.0)
                      .scale(panel_w / (x_high - x_low), panel_h / tallest).translate(x0, y0) + ax.transAxes)
             clip = Rectangle((x0, y0), panel_w, panel_h, transform=ax.transAxes)
-            for patch in (ax.stairs(counts, edges, fill=True, color=BAR_FILL, linewidth=0),
-                          ax.stairs(counts, edges, fill=False, color=CURVE, linewidth=0.6)):
+            # Added as plain artists: the panels are placed by their own transforms, so the axes' data
+            # limits (which matplotlib would work out from every step of every patch) are not needed.
+            for patch in (StepPatch(counts, edges, fill=True, color=BAR_FILL, linewidth=0),
+                          StepPatch(counts, edges, fill=False, color=CURVE, linewidth=0.6)):
                 patch.set_transform(place)
+                ax.add_artist(patch)
                 patch.set_clip_path(clip)
-            ax.plot([x0, x0 + panel_w], [y0, y0], color=AXIS_GREY, linewidth=0.8, transform=ax.transAxes)
+            segments.append([(x0, y0), (x0 + panel_w, y0)])
             for tick in ticks:
                 at = x0 + (tick - x_low) / (x_high - x_low) * panel_w
-                ax.plot([at, at], [y0, y0 - 2 * point_h], color=AXIS_GREY, linewidth=0.8, transform=ax.transAxes)
+                segments.append([(at, y0), (at, y0 - 2 * point_h)])
                 if row == n_rows - 1:
                     ax.text(at, y0 - 3.5 * point_h, formatter(tick), transform=ax.transAxes, ha="center",
                             va="top", fontproperties=tick_font, color=AXIS_GREY)
@@ -434,6 +441,7 @@ def _draw_bin_sensitivity(
                 # Row titles in the left margin, level with the middle of the row.
                 ax.text(x0 - 6 * point_w, y0 + panel_h / 2, labels[f"width_{row}"], transform=ax.transAxes,
                         ha="right", va="center", fontproperties=label_font)
+    ax.add_collection(LineCollection(segments, colors=AXIS_GREY, linewidths=0.8, transform=ax.transAxes))
     fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / PAGE_WIDTH_IN)
     return fig
 
