@@ -49,8 +49,11 @@ fine grid with at least ``FINE_STEPS_PER_BANDWIDTH`` (32) points per
 bandwidth (4096 to 2^20 points), convolved with the Gaussian kernel by FFT
 (kernel cut at ``KERNEL_REACH_BANDWIDTHS`` = 8 bandwidths, where it is below
 1e-13 of its peak), then read off at ``grid_size`` output points by linear
-interpolation. The output grid spans [min - 3h, max + 3h], clipped at any
-declared bound. At a declared bound the kernel is reflected (Schuster 1985,
+interpolation. Only the non-empty grid points are kept, and each cluster of
+them is convolved on its own (a few far-out values stretch the grid over
+stretches where the estimate is zero); sorted values are binned block by block.
+The output grid spans [min - 3h, max + 3h], clipped at any declared bound. At
+a declared bound the kernel is reflected (Schuster 1985,
 *Communications in Statistics - Theory and Methods* 14): the density on the
 allowed side is f(t) + f(2L - t), so no mass falls beyond the bound and the
 curve integrates to 1 on the allowed side. With two bounds the reflections
@@ -74,15 +77,9 @@ separating the peak from any higher peak or from the ends) passes two tests:
    prominence >= 2 sqrt((f_peak + f_valley) R(K) / (n h)).
    One or two isolated values in a tail never pass this test, at any n.
 
-Why both (a one-off check when the constants were chosen, seeds 0 to 99 of
-numpy's default generator, normal, lognormal and exponential samples of 20
-to 10 000 values, all three rules): a 5 % share alone called a one-peaked
-sample two-peaked up to 84 % of the time (isolated tail values), 10 % alone
-up to 65 %; with the noise test added it was at most 9 % (Sheather-Jones
-width, 100 lognormal values) and at most 1 % with Silverman's rule, while a
-90/10 mixture of normals 4 SD apart was still found in 98 of 100 samples of
-300. tests/engine/test_density.py repeats a smaller version. The shape rule also asks a second signal to agree before
-reporting two peaks.
+The record of how the two thresholds were chosen is in tests/benchmarks/README.md;
+tests/engine/test_density.py repeats a smaller version of that check. The shape rule also asks a
+second signal to agree before reporting two peaks.
 """
 
 from __future__ import annotations
