@@ -39,7 +39,8 @@ quality flags from counts       :func:`exclusion_flags`, :func:`reading_flags`,
                                 :func:`code_worth_checking`, :func:`code_flag`,
                                 :func:`heaping_flags`, :func:`tie_run_length`, :func:`tie_flags`,
                                 :func:`size_flags`, :func:`quality_of`
-everything after the flagging   :func:`decide` (:class:`Gathered` -> :class:`~narrator.findings.Findings`)
+everything after the flagging   :func:`decide` (:class:`Gathered` -> :class:`~narrator.findings.Findings`;
+                                ``Gathered.extra`` carries further optional findings fields as they are)
 ==============================  ==================================================================
 
 Findings from engines that gather the same statistics are the same numbers; where an engine gathers
@@ -49,8 +50,8 @@ an approximation (the stream engine's reservoir medcouple), it says so in ``Find
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
-from dataclasses import dataclass, replace
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -751,6 +752,9 @@ class Gathered:
     density_focus: object
     histogram_focus: HistogramPlan | None
     quality: Quality
+    # Further optional Findings fields an engine module computes (group differences, clusters, ...),
+    # by field name: decide passes them on as they are.
+    extra: Mapping[str, object] = field(default_factory=dict)
 
 
 def decide(g: Gathered, options: Options, variable: Variable, provenance: dict, accuracy=None) -> Findings:
@@ -796,4 +800,5 @@ def decide(g: Gathered, options: Options, variable: Variable, provenance: dict, 
         schema_version=SCHEMA_VERSION, variable=variable, n=n, n_missing=g.quality.n_missing, center=center,
         spread=spread, shape=g.shape, outliers=flagged, without_outliers=without, intervals=interval_findings,
         histogram=g.histogram, density=g.density, quality=g.quality, options=options.record(),
-        provenance=provenance, accuracy=accuracy, histogram_focus=g.histogram_focus, density_focus=g.density_focus)
+        provenance=provenance, accuracy=accuracy, histogram_focus=g.histogram_focus, density_focus=g.density_focus,
+        **g.extra)
