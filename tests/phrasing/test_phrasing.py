@@ -258,8 +258,9 @@ def test_cautions_in_full_report(rivers):
 
 
 _NUMBER = {
-    "en_US": re.compile(r"(?<![\w.])-?\d{1,3}(?:,\d{3})*(?:\.\d+)?|(?<![\w.])-?\d+(?:\.\d+)?"),
-    "es_ES": re.compile(r"(?<![\w,])-?\d{1,3}(?:\.\d{3})*(?:,\d+)?|(?<![\w,])-?\d+(?:,\d+)?"),
+    "en_US": re.compile(r"(?<![\w.])-?\d{1,3}(?:,\d{3})+(?:\.\d+)?(?!\d)|(?<![\w.])-?\d+(?:\.\d+)?"),
+    # es_ES groups only from five digits (CLDR minimumGroupingDigits 2): 3710, 13.710.
+    "es_ES": re.compile(r"(?<![\w,])-?\d{1,3}(?:\.\d{3})+(?:,\d+)?(?!\d)|(?<![\w,])-?\d+(?:,\d+)?"),
 }
 
 
