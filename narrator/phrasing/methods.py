@@ -146,15 +146,15 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
             sentences.append(ctx.sentence(
                 "methods.histogram", ("histogram.rule", "histogram.width", "shape.bin_sensitivity"),
                 bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned,
-                widths=fmt.list([width_text(ctx, w) for w in grid.widths]),
-                offsets=fmt.list([fmt.fixed(o, 2) for o in grid.offsets])))
+                widths=fmt.number_list([width_text(ctx, w) for w in grid.widths]),
+                offsets=fmt.number_list([fmt.fixed(o, 2) for o in grid.offsets])))
         else:
             sentences.append(ctx.sentence("methods.histogram_no_grid", ("histogram.rule", "histogram.width"),
                                           bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned))
     density = findings.density
     if density is not None:
         bounds = [b for b in (density.lower_bound, density.upper_bound) if b is not None]
-        reflected = ctx.text("methods.reflected", bound=fmt.list([ctx.recorded(b) for b in bounds])) \
+        reflected = ctx.text("methods.reflected", bound=fmt.number_list([ctx.recorded(b) for b in bounds])) \
             if density.reflected and bounds else ""
         sentences.append(ctx.sentence(
             "methods.density", ("density.bandwidth", "density.bandwidth_rule", "density.method"),

@@ -19,6 +19,7 @@ Name                                What it does
 :meth:`~NumberFormatter.quantity`   a number with its unit (CLDR unit or user text)
 :meth:`~NumberFormatter.quantity_pair` low and high of a range, the unit written once
 :meth:`~NumberFormatter.range`      "13–28", or "-5 to 28" when a sign would touch the dash
+:meth:`~NumberFormatter.range_words` "13 to 28 days": two ends joined by the bank's words
 :meth:`~NumberFormatter.count`      "three values", "11 rows" (plural rules, spelled out)
 :meth:`~NumberFormatter.list`       "a, b, and c" (CLDR list pattern)
 :meth:`~NumberFormatter.number_list` "0,25; 0,50 y 0,75" (the CLDR list symbol for numbers)
@@ -656,10 +657,13 @@ class NumberFormatter:
         key = "numbers.range_words" if _is_sign_start(low) or _is_sign_start(high) else "numbers.range_dash"
         return self.bank.format(key, low=low, high=high)
 
+    def range_words(self, low: str, high: str) -> str:
+        """Two formatted ends joined by the bank's words for a range: "13 to 28 days", "13 a 28 días"."""
+        return self.bank.format("numbers.range_words", low=low, high=high)
+
     def quantity_range(self, low: float, high: float, decimals: int, *, compact: bool = False) -> str:
         """A range in words with its unit written once: "29 to 43 inches", "$10 to $25"."""
-        low_text, high_text = self.quantity_pair(low, high, decimals, compact=compact)
-        return self.bank.format("numbers.range_words", low=low_text, high=high_text)
+        return self.range_words(*self.quantity_pair(low, high, decimals, compact=compact))
 
     # -------------------------------------------------------------- counts
 

@@ -91,8 +91,8 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
     if grid is not None:
         values = {
             "grids": ctx.whole(len(grid.widths) * len(grid.offsets)),
-            "widths": ctx.fmt.list([ctx.fmt.fixed(w, _width_decimals(w)) for w in grid.widths]),
-            "offsets": ctx.fmt.list([ctx.fmt.fixed(o, 2) for o in grid.offsets]),
+            "widths": ctx.fmt.number_list([ctx.fmt.fixed(w, _width_decimals(w)) for w in grid.widths]),
+            "offsets": ctx.fmt.number_list([ctx.fmt.fixed(o, 2) for o in grid.offsets]),
             "peaks": ctx.count(grid.min_peaks, "peak"),
             "min_peaks": ctx.whole(grid.min_peaks),
             "max_peaks": ctx.whole(grid.max_peaks),
