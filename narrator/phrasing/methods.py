@@ -19,7 +19,7 @@ modules, so the text cannot drift from the code.
 from __future__ import annotations
 
 from narrator.engine.center import MEAN_SHIFT_SHARE
-from narrator.engine.shape import BULMER_MODERATE, BULMER_STRONG
+from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import left_out_items
 from narrator.phrasing.narrative import Paragraph, Sentence
@@ -109,7 +109,9 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
                                       lead=ctx.text(f"words.lead.{center.lead}")))
     if findings.shape.skewness is not None:
         sentences.append(ctx.sentence("methods.shape_rule", ("shape.skewness", "shape.skewness_test_p"),
-                                      moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1)))
+                                      moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1),
+                                      test_min_n=ctx.whole(MIN_FOR_SHAPE),
+                                      bc_threshold=fmt.fixed(BIMODALITY_THRESHOLD, 3)))
     method_parts = findings.shape.medcouple_method.split(":")
     if method_parts[0] == "subsample" and len(method_parts) == 3:
         # The engine took the medcouple on a fixed-seed random subsample (large samples): say so, with both numbers.

@@ -51,6 +51,16 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
     )
 
 
+def trimmed_share(options: dict) -> float:
+    """The share cut from each end for ``Center.trimmed_mean_20``: the engine's second trim proportion."""
+    return float(options.get("trim_proportions", (0.1, 0.2))[-1])
+
+
+def trimmed_label(ctx: WordingContext) -> str:
+    """The one label of the trimmed mean the reports show ("Mean trimmed by 20% at each end")."""
+    return ctx.text("tables.statistics.trimmed", share=ctx.fmt.percent(trimmed_share(ctx.findings.options)))
+
+
 def statistics_table(ctx: WordingContext) -> Table | None:
     findings = ctx.findings
     center, spread = findings.center, findings.spread
@@ -66,7 +76,7 @@ def statistics_table(ctx: WordingContext) -> Table | None:
         (ctx.text(f"{key}.mean_sd"), ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))),
         (ctx.text(f"{key}.median_iqr"),
          ctx.text("format.median_iqr", median=x(center.median), iqr_range=ctx.exact_range(spread.q1, spread.q3))),
-        (ctx.text(f"{key}.trimmed"), x(center.trimmed_mean_20)),
+        (trimmed_label(ctx), x(center.trimmed_mean_20)),
         (ctx.text(f"{key}.range"), ctx.exact_range(spread.min, spread.max)),
         (ctx.text(f"{key}.p5_p95"), ctx.exact_range(spread.p5, spread.p95)),
         (ctx.text(f"{key}.mad"), x(spread.mad_scaled)),
