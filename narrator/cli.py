@@ -241,12 +241,14 @@ def command_demo(args: argparse.Namespace) -> int:
 def command_compare(args: argparse.Namespace) -> int:
     from narrator.history.changes import compare, read_sidecar
     from narrator.phrasing.narrative import Narrative
+    from narrator.phrasing.numbers import parse_locale
     from narrator.phrasing.what_changed import changes_section
 
     old, _ = read_sidecar(args.old)
     new, _ = read_sidecar(args.new)
     section = changes_section(compare(old, new), old, new, locale=args.locale, currency=args.currency)
-    narrative = Narrative(audience="changes", locale=args.locale, language=args.locale.split("_")[0],
+    parsed = parse_locale(args.locale)
+    narrative = Narrative(audience="changes", locale=str(parsed), language=parsed.language,
                           title=section.title, sections=(section,))
     sys.stdout.write(narrative.plain_text())
     return 0

@@ -24,6 +24,7 @@ Name                                What it does
 :meth:`~NumberFormatter.list`       "a, b, and c" (CLDR list pattern)
 :meth:`~NumberFormatter.number_list` "0,25; 0,50 y 0,75" (the CLDR list symbol for numbers)
 :func:`parse_locale`                a CLDR locale, or one clear refusal
+:func:`language_tag`                its BCP 47 tag ("es-419"), for document metadata
 :func:`minimum_grouping_digits`     CLDR ``minimumGroupingDigits`` of a locale
 :func:`plural_range`                CLDR plural category of a range ("1–2 days")
 :func:`round_half_up`               the one rounding rule, on the decimal representation
@@ -85,7 +86,7 @@ from collections.abc import Iterable, Sequence
 from decimal import ROUND_HALF_UP, Decimal, localcontext
 
 from babel import Locale, UnknownLocaleError, localedata
-from babel.core import get_global
+from babel.core import get_global, get_locale_identifier
 from babel.core import parse_locale as babel_parse_locale
 from babel.lists import format_list
 from babel.numbers import (
@@ -191,6 +192,16 @@ def parse_locale(locale: str) -> Locale:
         raise _refuse(name, f"has no CLDR data of its own (babel would use {str(parsed)!r} instead); "
                             f"give a CLDR locale such as {known}")
     return parsed
+
+
+def language_tag(locale: str) -> str:
+    """The BCP 47 language tag of a CLDR locale ("zh_Hant_TW" -> "zh-Hant-TW"), for document metadata.
+
+    >>> language_tag("es_419")
+    'es-419'
+    """
+    parsed = parse_locale(locale)
+    return get_locale_identifier((parsed.language, parsed.territory, parsed.script, parsed.variant), sep="-")
 
 
 @functools.lru_cache(maxsize=64)

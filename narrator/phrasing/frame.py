@@ -1,0 +1,180 @@
+"""The words around a report's narrative: title lines, caption numbering, "How this report was made".
+
+Every label and every setting is worded from the phrase bank (``[report]``,
+``[settings]``) and every number goes through the report's formatter, so the
+appendix reads in the report's language ("Confidence level: 95%", "Outlier
+rule: chosen from the data", "Cells read as missing: blank cells, “NA”...")
+while the sidecar keeps the codes a recipe takes.
+
+=========================  ====================================================
+Name                       What it does
+=========================  ====================================================
+:class:`FrameWords`        the finished words (the writer's ReportFrame takes them)
+:func:`frame_words`        one report's frame from its findings and reading facts
+:func:`setting_label`      the label of one setting ("Confidence level")
+:func:`setting_value`      the worded value of one setting ("95%")
+=========================  ====================================================
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from babel.dates import format_date, format_datetime
+from babel.numbers import get_currency_name
+
+from narrator.errors import NarratorError
+from narrator.findings import Findings
+from narrator.phrasing.bank import PhraseBank, load_bank
+from narrator.phrasing.numbers import NumberFormatter
+
+# Reading options kept in Sample.source that a reader needs to read the file
+# the same way again; the other source entries are diagnostics, not settings.
+READING_SETTINGS = ("sheet", "encoding", "delimiter", "decimal_comma", "missing_tokens")
+_MAX_DECIMALS = 15  # a setting's number is written with the decimals it was given, up to this many
+
+
+@dataclass(frozen=True, slots=True)
+class FrameWords:
+    details: tuple[str, ...]
+    figure_number: str
+    table_number: str
+    appendix_title: str
+    appendix_intro: str
+    appendix_header: tuple[str, str]
+    appendix_rows: tuple[tuple[str, str], ...]
+
+
+def setting_label(bank: PhraseBank, name: str) -> str:
+    """The bank's label for a setting; an unknown setting keeps its name inside the bank's words."""
+    key = f"settings.{name}"
+    return bank.format(key) if bank.has(key) else bank.format("settings.other", name=name)
+
+
+def _given_decimals(value: float) -> int:
+    """The decimals a number was given with ("0.25" -> 2), up to _MAX_DECIMALS."""
+    for decimals in range(_MAX_DECIMALS + 1):
+        if round(value, decimals) == value:
+            return decimals
+    return _MAX_DECIMALS
+
+
+def _words(bank: PhraseBank, table: str, code: str) -> str:
+    key = f"{table}.{code}"
+    return bank.format(key) if bank.has(key) else code
+
+
+def setting_value(fmt: NumberFormatter, bank: PhraseBank, name: str, value: Any) -> str:
+    """One setting's value, worded and formatted for the report's locale."""
+    quoted = lambda text: bank.format("numbers.quoted", text=text)  # noqa: E731 - a local shorthand
+    if isinstance(value, bool):
+        return bank.format("format.yes" if value else "format.no")
+    if name == "outlier_rule":
+        return bank.format("settings.value.auto") if value == "auto" else _words(bank, "words.outlier_rule", value)
+    if name in ("quantile_method", "bin_rule", "bandwidth_rule"):
+        return _words(bank, f"words.{name}", str(value))
+    if name == "level":
+        return fmt.percent(float(value), _given_decimals(float(value) * 100))
+    if name == "trim_proportions":
+        shares = [fmt.percent(float(share), _given_decimals(float(share) * 100)) for share in value]
+        return bank.format("settings.value.trim_each_end", shares=fmt.list(shares))
+    if name == "seed":
+        return fmt.digits(int(value))
+    if name == "audience":
+        return _words(bank, "settings.audiences", str(value))
+    if name == "locale":
+        shown = NumberFormatter(str(value)).locale
+        return bank.format("settings.value.locale", code=str(shown),
+                           name=shown.get_display_name(fmt.locale) or str(shown))
+    if name == "currency":
+        return bank.format("settings.value.currency", code=str(value),
+                           name=get_currency_name(str(value), locale=fmt.locale))
+    if name == "delimiter":
+        named = {"\t": "tab", " ": "space"}.get(str(value))
+        return bank.format(f"settings.value.{named}") if named else quoted(str(value))
+    if name == "missing_tokens":
+        unique = list(dict.fromkeys(str(token) for token in value))  # the defaults and the user's, once each
+        return fmt.list([bank.format("settings.value.blank") if token == "" else quoted(token) for token in unique])
+    if isinstance(value, int | float) and not isinstance(value, bool):
+        number = float(value)
+        if not math.isfinite(number):
+            raise NarratorError(f"setting {name!r} is not a finite number: {value!r}")
+        return fmt.fixed(number, _given_decimals(number))
+    if isinstance(value, str):
+        return value
+    return json.dumps(value, ensure_ascii=False, sort_keys=True)
+
+
+def frame_words(
+    findings: Findings,
+    *,
+    locale: str,
+    source: Mapping[str, Any],
+    sample_name: str,
+    n_rows: int,
+    exclusions: Sequence[tuple[str, int]],
+    organisation: str | None,
+    generated_at: dt.datetime,
+    settings: Mapping[str, Any],
+) -> FrameWords:
+    """Title lines, caption numbering and the reproducibility appendix, worded from the bank.
+
+    ``source`` is the reading facts (``Sample.source``), ``exclusions`` the
+    (reason code, count) of each kind of row left out. Settings left unset
+    (the default applied) are not listed: the other rows say what it gave.
+    """
+    fmt = NumberFormatter(locale)
+    bank = load_bank(fmt.locale.language)
+    file_name = source.get("file")
+    column = source.get("column") or sample_name
+    if file_name:
+        data_line = bank.format("report.data_file", column=str(column), file=str(file_name))
+    else:
+        data_line = bank.format("report.data_values", name=findings.variable.name)
+    date_text = format_date(generated_at.date(), format="long", locale=fmt.locale)
+    details = tuple(line for line in (organisation, data_line, bank.format("report.prepared", date=date_text)) if line)
+
+    libraries = findings.provenance.get("libraries", {})
+    software = fmt.list([bank.format("format.library", name=name, version=str(version))
+                         for name, version in libraries.items()])
+    rows: list[tuple[str, str]] = [(bank.format("report.software"), software)]
+    if file_name:
+        rows.append((bank.format("report.input_file"), str(file_name)))
+    if source.get("sha256"):
+        rows.append((bank.format("report.sha256"), str(source["sha256"])))
+    rows.append((bank.format("report.column"), str(column)))
+    rows.append((bank.format("report.rows_read"), fmt.fixed(n_rows or findings.quality.n_rows, 0)))
+    rows.append((bank.format("report.values_used"), fmt.fixed(findings.n, 0)))
+    left_out = [bank.format("report.left_out_item", count=fmt.fixed(count, 0), reason=_reason(bank, code))
+                for code, count in exclusions if count]
+    rows.append((bank.format("report.left_out"), fmt.list(left_out) or bank.format("report.none")))
+    every_setting = {**findings.options, **{k: source[k] for k in READING_SETTINGS if k in source}}
+    every_setting.update(settings)
+    for name, setting in every_setting.items():
+        if setting is None:  # not set: the default applied, and the other rows say what it gave
+            continue
+        rows.append((setting_label(bank, name), setting_value(fmt, bank, name, setting)))
+    moment = generated_at if generated_at.tzinfo is not None else generated_at.replace(tzinfo=dt.UTC)
+    rows.append((bank.format("report.generated"),
+                 format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)))
+    return FrameWords(
+        details=details,
+        figure_number=bank.format("report.figure_number", number="{number}"),
+        table_number=bank.format("report.table_number", number="{number}"),
+        appendix_title=bank.format("report.appendix_title"),
+        appendix_intro=bank.format("report.appendix_intro"),
+        appendix_header=(bank.format("report.item"), bank.format("report.value")),
+        appendix_rows=tuple(rows),
+    )
+
+
+def _reason(bank: PhraseBank, code: str) -> str:
+    key = f"report.reason.{code}"
+    if not bank.has(key):
+        raise NarratorError(f"phrase bank {bank.language!r} has no words for excluded rows of kind {code!r}")
+    return bank.format(key)
