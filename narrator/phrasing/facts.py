@@ -19,7 +19,9 @@ from __future__ import annotations
 from narrator.engine.center import MEAN_SHIFT_SHARE
 from narrator.findings import Findings
 from narrator.phrasing.context import WordingContext, make_context
+from narrator.phrasing.numbers import parse_locale
 from narrator.phrasing.tables import trimmed_label
+from narrator.phrasing.typography import typeset
 
 FLAGGED_SHOWN = 8  # flagged values listed by value and row; the rest are counted
 
@@ -127,6 +129,7 @@ def facts_rows(findings: Findings, locale: str = "en_US") -> list[tuple[str, str
 
 def facts_table(findings: Findings, locale: str = "en_US") -> str:
     """The rows of :func:`facts_rows`, one per line, labels padded to one width."""
-    rows = facts_rows(findings, locale)
+    locale_id = str(parse_locale(locale))
+    rows = [(typeset(label, locale_id), typeset(value, locale_id)) for label, value in facts_rows(findings, locale)]
     width = max(len(label) for label, _ in rows)
     return "\n".join(f"{label.ljust(width)}  {value}" for label, value in rows) + "\n"

@@ -19,6 +19,7 @@ Name                       What it does
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import json
 import math
 from collections.abc import Mapping, Sequence
@@ -32,6 +33,7 @@ from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.phrasing.bank import PhraseBank, load_bank
 from narrator.phrasing.numbers import NumberFormatter
+from narrator.phrasing.typography import typeset
 
 # Reading options kept in Sample.source that a reader needs to read the file
 # the same way again; the other source entries are diagnostics, not settings.
@@ -162,14 +164,15 @@ def frame_words(
     moment = generated_at if generated_at.tzinfo is not None else generated_at.replace(tzinfo=dt.UTC)
     rows.append((bank.format("report.generated"),
                  format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)))
+    t = functools.partial(typeset, locale=fmt.locale_id)  # the language's punctuation spacing, as in the narrative
     return FrameWords(
-        details=details,
-        figure_number=bank.format("report.figure_number", number="{number}"),
-        table_number=bank.format("report.table_number", number="{number}"),
-        appendix_title=bank.format("report.appendix_title"),
-        appendix_intro=bank.format("report.appendix_intro"),
-        appendix_header=(bank.format("report.item"), bank.format("report.value")),
-        appendix_rows=tuple(rows),
+        details=tuple(t(line) for line in details),
+        figure_number=t(bank.format("report.figure_number", number="{number}")),
+        table_number=t(bank.format("report.table_number", number="{number}")),
+        appendix_title=t(bank.format("report.appendix_title")),
+        appendix_intro=t(bank.format("report.appendix_intro")),
+        appendix_header=(t(bank.format("report.item")), t(bank.format("report.value"))),
+        appendix_rows=tuple((t(label), t(value)) for label, value in rows),
     )
 
 
