@@ -32,9 +32,8 @@ from narrator.history.changes import baseline_for, compare, findings_pair, sidec
 from narrator.history.sidecar import is_set
 from narrator.phrasing import narrate
 from narrator.phrasing.bank import PhraseBank, load_bank
-from narrator.phrasing.frame import setting_label
 from narrator.phrasing.narrative import Narrative
-from narrator.phrasing.numbers import NumberFormatter, parse_locale
+from narrator.phrasing.numbers import parse_locale
 from narrator.phrasing.what_changed import changes_section
 from narrator.reading.sample import Sample
 from narrator.safe_io import sidecar_path
@@ -214,14 +213,22 @@ def report_frame(
     applied) are not listed. ``bank`` is the report's bank (kept for callers;
     the frame takes the bank of ``locale``'s language).
     """
+    return _frame([_variable_facts(findings, sample)], locale=locale, organisation=organisation,
+                  generated_at=generated_at, settings=settings)
+
+
+def _variable_facts(findings: Findings, sample: Sample):
+    from narrator.phrasing.frame import VariableFacts
+
+    return VariableFacts(findings=findings, source=dict(sample.source or {}), sample_name=sample.name,
+                         n_rows=sample.n_rows, exclusions=[(item.reason, item.count) for item in sample.exclusions])
+
+
+def _frame(parts, **options) -> ReportFrame:
     from narrator.phrasing.frame import frame_words
     from narrator.writer import ReportFrame
 
-    words = frame_words(
-        findings, locale=locale, source=dict(sample.source or {}), sample_name=sample.name,
-        n_rows=sample.n_rows, exclusions=[(item.reason, item.count) for item in sample.exclusions],
-        organisation=organisation, generated_at=generated_at, settings=settings,
-    )
+    words = frame_words(parts, **options)
     return ReportFrame(
         details=words.details,
         figure_number=words.figure_number,
@@ -349,37 +356,5 @@ def collection_frame(
     differs between variables) repeat for every variable, prefixed with its
     name; settings all variables share are listed once.
     """
-    first = collection.variables[0]
-    base = report_frame(bank, first.findings, first.sample, locale=locale, organisation=organisation,
-                        generated_at=generated_at, settings=settings)
-    source = dict(first.sample.source or {})
-    columns = [str((part.sample.source or {}).get("column") or part.sample.name) for part in collection.variables]
-    numbers = NumberFormatter(locale)
-    if source.get("file"):
-        if len(columns) == 1:  # one variable broken down by groups: "column hours", not "columns hours"
-            data_line = bank.format("report.data_file", column=columns[0], file=str(source["file"]))
-        else:
-            data_line = bank.format("collection.data_columns", columns=numbers.list(columns), file=str(source["file"]))
-        details = tuple(line if line != base.details[1 if organisation else 0] else data_line
-                        for line in base.details)
-    else:
-        details = base.details
-    per_variable = {bank.format(f"report.{key}") for key in ("column", "rows_read", "values_used", "left_out")}
-    # A setting every variable shares is listed once; one that differs is listed per variable.
-    option_names = {name for part in collection.variables for name in part.findings.options}
-    for name in option_names:
-        values = [json.dumps(part.findings.options.get(name), sort_keys=True) for part in collection.variables]
-        if len(set(values)) > 1:
-            per_variable.add(setting_label(bank, name))
-    shared = [(label, value) for label, value in base.appendix_rows if label not in per_variable]
-    variable_rows: list[tuple[str, str]] = []
-    for part in collection.variables:
-        single = report_frame(bank, part.findings, part.sample, locale=locale, organisation=organisation,
-                              generated_at=generated_at, settings={})
-        name = part.findings.variable.name
-        variable_rows.extend(
-            (bank.format("collection.for_variable", item=label, name=name), value)
-            for label, value in single.appendix_rows if label in per_variable
-        )
-    rows = (*shared[:-1], *variable_rows, shared[-1])  # the generation time stays last
-    return replace(base, details=details, appendix_rows=rows)
+    parts = [_variable_facts(part.findings, part.sample) for part in collection.variables]
+    return _frame(parts, locale=locale, organisation=organisation, generated_at=generated_at, settings=settings)

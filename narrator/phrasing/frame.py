@@ -10,7 +10,8 @@ while the sidecar keeps the codes a recipe takes.
 Name                       What it does
 =========================  ====================================================
 :class:`FrameWords`        the finished words (the writer's ReportFrame takes them)
-:func:`frame_words`        one report's frame from its findings and reading facts
+:class:`VariableFacts`     one variable's findings and how its column was read
+:func:`frame_words`        a report's frame from its variables' findings and reading facts
 :func:`setting_label`      the label of one setting ("Confidence level")
 :func:`setting_value`      the worded value of one setting ("95%")
 =========================  ====================================================
@@ -112,55 +113,96 @@ def setting_value(fmt: NumberFormatter, bank: PhraseBank, name: str, value: Any)
     return json.dumps(value, ensure_ascii=False, sort_keys=True)
 
 
-def frame_words(
-    findings: Findings,
-    *,
-    locale: str,
-    source: Mapping[str, Any],
-    sample_name: str,
-    n_rows: int,
-    exclusions: Sequence[tuple[str, int]],
-    organisation: str | None,
-    generated_at: dt.datetime,
-    settings: Mapping[str, Any],
-) -> FrameWords:
-    """Title lines, caption numbering and the reproducibility appendix, worded from the bank.
+@dataclass(frozen=True, slots=True)
+class VariableFacts:
+    """What the frame needs of one variable: its findings and how its column was read."""
 
-    ``source`` is the reading facts (``Sample.source``), ``exclusions`` the
-    (reason code, count) of each kind of row left out. Settings left unset
-    (the default applied) are not listed: the other rows say what it gave.
-    """
-    fmt = NumberFormatter(locale)
-    bank = load_bank(fmt.locale.language)
+    findings: Findings
+    source: Mapping[str, Any]  # Sample.source: file, column, sha256, reading settings
+    sample_name: str
+    n_rows: int
+    exclusions: Sequence[tuple[str, int]]  # (reason code, count) of each kind of row left out
+
+
+# Appendix rows about one column: repeated per variable in a report on several variables.
+_PER_VARIABLE = ("report.column", "report.rows_read", "report.values_used", "report.left_out")
+
+
+def _appendix_rows(fmt: NumberFormatter, bank: PhraseBank, part: VariableFacts,
+                   settings: Mapping[str, Any]) -> list[tuple[str, str, str]]:
+    """(key, label, value) rows of the appendix for one variable, without the generation time."""
+    findings, source = part.findings, part.source
     file_name = source.get("file")
-    column = source.get("column") or sample_name
-    if file_name:
-        data_line = bank.format("report.data_file", column=str(column), file=str(file_name))
-    else:
-        data_line = bank.format("report.data_values", name=findings.variable.name)
-    date_text = format_date(generated_at.date(), format="long", locale=fmt.locale)
-    details = tuple(line for line in (organisation, data_line, bank.format("report.prepared", date=date_text)) if line)
-
     libraries = findings.provenance.get("libraries", {})
     software = fmt.list([bank.format("format.library", name=name, version=str(version))
                          for name, version in libraries.items()])
-    rows: list[tuple[str, str]] = [(bank.format("report.software"), software)]
+    rows: list[tuple[str, str, str]] = [("report.software", bank.format("report.software"), software)]
     if file_name:
-        rows.append((bank.format("report.input_file"), str(file_name)))
+        rows.append(("report.input_file", bank.format("report.input_file"), str(file_name)))
     if source.get("sha256"):
-        rows.append((bank.format("report.sha256"), str(source["sha256"])))
-    rows.append((bank.format("report.column"), str(column)))
-    rows.append((bank.format("report.rows_read"), fmt.fixed(n_rows or findings.quality.n_rows, 0)))
-    rows.append((bank.format("report.values_used"), fmt.fixed(findings.n, 0)))
+        rows.append(("report.sha256", bank.format("report.sha256"), str(source["sha256"])))
+    rows.append(("report.column", bank.format("report.column"), str(source.get("column") or part.sample_name)))
+    rows.append(("report.rows_read", bank.format("report.rows_read"),
+                 fmt.fixed(part.n_rows or findings.quality.n_rows, 0)))
+    rows.append(("report.values_used", bank.format("report.values_used"), fmt.fixed(findings.n, 0)))
     left_out = [bank.format("report.left_out_item", count=fmt.fixed(count, 0), reason=_reason(bank, code))
-                for code, count in exclusions if count]
-    rows.append((bank.format("report.left_out"), fmt.list(left_out) or bank.format("report.none")))
+                for code, count in part.exclusions if count]
+    rows.append(("report.left_out", bank.format("report.left_out"), fmt.list(left_out) or bank.format("report.none")))
     every_setting = {**findings.options, **{k: source[k] for k in READING_SETTINGS if k in source}}
     every_setting.update(settings)
     for name, setting in every_setting.items():
         if setting is None:  # not set: the default applied, and the other rows say what it gave
             continue
-        rows.append((setting_label(bank, name), setting_value(fmt, bank, name, setting)))
+        rows.append((f"settings.{name}", setting_label(bank, name), setting_value(fmt, bank, name, setting)))
+    return rows
+
+
+def frame_words(
+    parts: Sequence[VariableFacts],
+    *,
+    locale: str,
+    organisation: str | None,
+    generated_at: dt.datetime,
+    settings: Mapping[str, Any],
+) -> FrameWords:
+    """Title lines, caption numbering and the reproducibility appendix of a report on ``parts``.
+
+    One variable: one data line and its rows. Several (or one broken down by
+    groups): the rows about one column (column, rows read, values used, rows
+    left out, and any setting that differs between variables) repeat for
+    every variable, prefixed with its name; settings all share are listed
+    once. Settings left unset (the default applied) are not listed.
+    """
+    if not parts:
+        raise NarratorError("a report frame needs at least one variable")
+    fmt = NumberFormatter(locale)
+    bank = load_bank(fmt.locale.language)
+    first = parts[0]
+    file_name = first.source.get("file")
+    columns = [str(part.source.get("column") or part.sample_name) for part in parts]
+    if file_name and len(parts) > 1 and len(set(columns)) > 1:
+        data_line = bank.format("collection.data_columns", columns=fmt.list(columns), file=str(file_name))
+    elif file_name:  # one variable, perhaps broken down by groups: "column hours", not "columns hours"
+        data_line = bank.format("report.data_file", column=columns[0], file=str(file_name))
+    else:
+        data_line = bank.format("report.data_values", name=first.findings.variable.name)
+    date_text = format_date(generated_at.date(), format="long", locale=fmt.locale)
+    details = tuple(line for line in (organisation, data_line, bank.format("report.prepared", date=date_text)) if line)
+
+    rows = [(label, value) for _key, label, value in _appendix_rows(fmt, bank, first, settings)]
+    if len(parts) > 1:
+        per_variable = set(_PER_VARIABLE)
+        for name in {name for part in parts for name in part.findings.options}:
+            values = {json.dumps(part.findings.options.get(name), sort_keys=True) for part in parts}
+            if len(values) > 1:  # a setting that differs is listed per variable
+                per_variable.add(f"settings.{name}")
+        shared = [(label, value) for key, label, value in _appendix_rows(fmt, bank, first, settings)
+                  if key not in per_variable]
+        variable_rows = [
+            (bank.format("collection.for_variable", item=label, name=part.findings.variable.name), value)
+            for part in parts for key, label, value in _appendix_rows(fmt, bank, part, {}) if key in per_variable
+        ]
+        rows = [*shared, *variable_rows]
     moment = generated_at if generated_at.tzinfo is not None else generated_at.replace(tzinfo=dt.UTC)
     rows.append((bank.format("report.generated"),
                  format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)))
