@@ -507,3 +507,15 @@ def test_english_and_spanish_banks_set_no_punctuation_spacing():
 
     assert not typography_for("en_US").active and not typography_for("es_ES").active
     assert typeset("Nota: «dos» valores.", "es_ES") == "Nota: «dos» valores."
+
+
+@pytest.mark.parametrize("name", ["en_ZZ", "C", "en_US.UTF-8"])
+def test_the_command_line_refuses_such_a_locale_in_one_line(tmp_path, capsys, name):
+    from narrator.cli import main
+
+    path = tmp_path / "invented_turnaround.csv"
+    path.write_text("hours\n2.5\n3.0\n4.5\n2.0\n3.5\n", encoding="utf-8")
+    for command in ("tell", "facts"):
+        assert main([command, str(path), "--column", "hours", "--locale", name]) == 2
+        err = capsys.readouterr().err
+        assert err.startswith(f"narrator: locale {name!r}") and len(err.strip().splitlines()) == 1
