@@ -62,6 +62,8 @@ class Exclusion:
     count: int
     rows: tuple[int, ...] = ()  # first source rows (spreadsheet numbering: header is row 1)
     examples: tuple[str, ...] = ()  # first offending cell texts, already made printable
+    # For values left out as impossible: the values of ``rows``, same order (empty for other reasons).
+    values: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True, slots=True, eq=False)
