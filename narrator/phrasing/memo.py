@@ -109,8 +109,9 @@ def _why(ctx: WordingContext) -> Sentence | None:
 
 def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, float]) -> str:
     """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; span = (lowest, highest)."""
-    low, high = ctx.memo_recorded(span[0]), ctx.memo_recorded(span[1])
-    shown = low if low == high else ctx.text("format.range", low=low, high=high)
+    low, high = ctx.memo_recorded_pair(span[0], span[1])
+    single = ctx.memo_recorded(span[0])
+    shown = single if single == ctx.memo_recorded(span[1]) else ctx.text("format.range", low=low, high=high)
     number = ctx.fmt.count_number(count, "value")
     return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=number, span=shown)
 
@@ -122,11 +123,10 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
         return [ctx.sentence("memo.outliers.not_run", ("outliers.note",))]
     if flagged.count == 0:
         return [ctx.sentence("memo.outliers.none", ("outliers.count",))]
-    values = {
-        "outlier_count": ctx.count(flagged.count, "value"),
-        "lowest": ctx.memo_recorded((flagged.low_range or flagged.high_range)[0]),
-        "highest": ctx.memo_recorded((flagged.high_range or flagged.low_range)[1]),
-    }
+    lowest = (flagged.low_range or flagged.high_range)[0]
+    highest = (flagged.high_range or flagged.low_range)[1]
+    low_text, high_text = ctx.memo_recorded_pair(lowest, highest)  # "from 66 to 129 days": the unit once
+    values = {"outlier_count": ctx.count(flagged.count, "value"), "lowest": low_text, "highest": high_text}
     keys = ("outliers.count", "outliers.low_range", "outliers.high_range")
     if flagged.count_low and flagged.count_high:
         values["low_part"] = _side_part(ctx, "low", flagged.count_low, flagged.low_range)
@@ -134,7 +134,9 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
         sentences = [ctx.sentence("memo.outliers.both", keys, **values)]
     else:
         side = "high" if flagged.count_high else "low"
-        same = "_same" if values["lowest"] == values["highest"] else ""  # not "from $150 to $150"
+        same = "_same" if ctx.memo_recorded(lowest) == ctx.memo_recorded(highest) else ""  # not "from $150 to $150"
+        if same:
+            values["lowest"] = values["highest"] = ctx.memo_recorded(lowest)
         sentences = [ctx.sentence(f"memo.outliers.{side}{same}", keys, ctx.plural(flagged.count), **values)]
     without = findings.without_outliers
     if without is not None and without.n > 0 and without.mean is not None:
@@ -165,8 +167,8 @@ def memo_paragraph(ctx: WordingContext) -> Paragraph:
     spread = findings.spread
     sentences = _lead(ctx)
     if findings.n > 1 and spread.range > 0:
-        sentences.append(ctx.sentence("memo.range", ("spread.q1", "spread.q3"),
-                                      q1=ctx.memo(spread.q1), q3=ctx.memo(spread.q3)))
+        q1, q3 = ctx.memo_pair(spread.q1, spread.q3)  # "between 13 and 28 days": the unit once
+        sentences.append(ctx.sentence("memo.range", ("spread.q1", "spread.q3"), q1=q1, q3=q3))
     sentences.append(_shape(ctx))
     why = _why(ctx) if findings.n > 1 and spread.range > 0 else None
     outliers = _outliers(ctx) if findings.n > 1 else []

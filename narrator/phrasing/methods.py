@@ -19,7 +19,7 @@ modules, so the text cannot drift from the code.
 from __future__ import annotations
 
 from narrator.engine.center import MEAN_SHIFT_SHARE
-from narrator.engine.shape import BULMER_MODERATE, BULMER_STRONG
+from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import left_out_items
 from narrator.phrasing.narrative import Paragraph, Sentence
@@ -109,7 +109,9 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
                                       lead=ctx.text(f"words.lead.{center.lead}")))
     if findings.shape.skewness is not None:
         sentences.append(ctx.sentence("methods.shape_rule", ("shape.skewness", "shape.skewness_test_p"),
-                                      moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1)))
+                                      moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1),
+                                      test_min_n=ctx.whole(MIN_FOR_SHAPE),
+                                      bc_threshold=fmt.fixed(BIMODALITY_THRESHOLD, 3)))
     method_parts = findings.shape.medcouple_method.split(":")
     if method_parts[0] == "subsample" and len(method_parts) == 3:
         # The engine took the medcouple on a fixed-seed random subsample (large samples): say so, with both numbers.
@@ -146,15 +148,15 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
             sentences.append(ctx.sentence(
                 "methods.histogram", ("histogram.rule", "histogram.width", "shape.bin_sensitivity"),
                 bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned,
-                widths=fmt.list([width_text(ctx, w) for w in grid.widths]),
-                offsets=fmt.list([fmt.fixed(o, 2) for o in grid.offsets])))
+                widths=fmt.number_list([width_text(ctx, w) for w in grid.widths]),
+                offsets=fmt.number_list([fmt.fixed(o, 2) for o in grid.offsets])))
         else:
             sentences.append(ctx.sentence("methods.histogram_no_grid", ("histogram.rule", "histogram.width"),
                                           bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned))
     density = findings.density
     if density is not None:
         bounds = [b for b in (density.lower_bound, density.upper_bound) if b is not None]
-        reflected = ctx.text("methods.reflected", bound=fmt.list([ctx.recorded(b) for b in bounds])) \
+        reflected = ctx.text("methods.reflected", bound=fmt.number_list([ctx.recorded(b) for b in bounds])) \
             if density.reflected and bounds else ""
         sentences.append(ctx.sentence(
             "methods.density", ("density.bandwidth", "density.bandwidth_rule", "density.method"),

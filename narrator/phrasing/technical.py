@@ -19,9 +19,13 @@ Reporting form follows SAMPL (Lang & Altman 2013): "median (IQR)" and
 from __future__ import annotations
 
 from narrator.engine.center import MEAN_SHIFT_SHARE
+from narrator.engine.quality import MIN_FOR_CONFIDENT, MIN_FOR_SHAPE
+from narrator.engine.shape import BIMODALITY_THRESHOLD, HEAVY_TAIL_KURTOSIS
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import left_out_items
 from narrator.phrasing.narrative import Paragraph, Sentence
+
+PERCENT_EXAMPLE = 0.12  # the example share in the words about cells with a percent sign
 
 
 def center_sentences(ctx: WordingContext) -> list[Sentence]:
@@ -84,15 +88,17 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
     if shape.density_peaks is not None and shape.bimodality_coefficient is not None:
         sentences.append(ctx.sentence("technical.peaks", ("shape.density_peaks", "shape.bimodality_coefficient"),
                                       peaks=ctx.count(shape.density_peaks, "peak"),
-                                      bc=ctx.fmt.fixed(shape.bimodality_coefficient, 3)))
+                                      bc=ctx.fmt.fixed(shape.bimodality_coefficient, 3),
+                                      bc_threshold=ctx.fmt.fixed(BIMODALITY_THRESHOLD, 3)))
     if shape.heavy_tails:
-        sentences.append(ctx.sentence("technical.heavy_tails", ("shape.heavy_tails", "shape.excess_kurtosis")))
+        sentences.append(ctx.sentence("technical.heavy_tails", ("shape.heavy_tails", "shape.excess_kurtosis"),
+                                      g2_threshold=ctx.fmt.fixed(HEAVY_TAIL_KURTOSIS, 0)))
     grid = shape.bin_sensitivity
     if grid is not None:
         values = {
             "grids": ctx.whole(len(grid.widths) * len(grid.offsets)),
-            "widths": ctx.fmt.list([ctx.fmt.fixed(w, _width_decimals(w)) for w in grid.widths]),
-            "offsets": ctx.fmt.list([ctx.fmt.fixed(o, 2) for o in grid.offsets]),
+            "widths": ctx.fmt.number_list([ctx.fmt.fixed(w, _width_decimals(w)) for w in grid.widths]),
+            "offsets": ctx.fmt.number_list([ctx.fmt.fixed(o, 2) for o in grid.offsets]),
             "peaks": ctx.count(grid.min_peaks, "peak"),
             "min_peaks": ctx.whole(grid.min_peaks),
             "max_peaks": ctx.whole(grid.max_peaks),
@@ -203,7 +209,7 @@ def interval_method(ctx: WordingContext, interval) -> str:
     return ctx.text(
         f"words.interval_method.{interval.method}",
         resamples=ctx.count(interval.resamples or 0, "resample"),
-        seed=str(interval.seed) if interval.seed is not None else "–",
+        seed=ctx.fmt.digits(interval.seed) if interval.seed is not None else "–",
         low_rank=ctx.whole(low_rank),
         high_rank=ctx.whole(high_rank),
         coverage=ctx.fmt.percent(interval.coverage, 1) if interval.coverage is not None else "–",
@@ -227,6 +233,10 @@ def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:
             "distinct": ctx.whole(flag.detail.get("distinct", flag.count)),
             "base": ctx.recorded(flag.detail.get("base", flag.values[0] if flag.values else 0)),
             "expected": ctx.fmt.percent(flag.detail.get("expected_share", 0.0), 0),
+            "min_n": ctx.whole(MIN_FOR_SHAPE),
+            "small_n": ctx.whole(MIN_FOR_CONFIDENT),
+            "example_cell": ctx.fmt.percent(PERCENT_EXAMPLE),  # a cell "12%" ...
+            "example_value": ctx.fmt.fixed(PERCENT_EXAMPLE * 100, 0),  # ... is read as 12
         }
         if flag.code == "missing_code" and flag.values:
             values["code"] = ctx.recorded(flag.values[0])

@@ -42,8 +42,10 @@ def _spread_sentence(ctx: WordingContext, changes: Changes, old: Findings, new: 
     item = changes.item(key)
     if item is None or not item.mention or old.spread is None or new.spread is None:
         return []
-    old_range = ctx.text("format.range", low=ctx.memo(old.spread.q1), high=ctx.memo(old.spread.q3))
-    new_range = ctx.text("format.range", low=ctx.memo(new.spread.q1), high=ctx.memo(new.spread.q3))
+    old_low, old_high = ctx.memo_pair(old.spread.q1, old.spread.q3)  # the unit once: "13 to 28 days"
+    new_low, new_high = ctx.memo_pair(new.spread.q1, new.spread.q3)
+    old_range = ctx.text("format.range", low=old_low, high=old_high)
+    new_range = ctx.text("format.range", low=new_low, high=new_high)
     message = "changes.spread_wider" if item.difference > 0 else "changes.spread_narrower"
     return [ctx.sentence(message, ("spread.q1", "spread.q3", key), new_range=new_range, old_range=old_range)]
 
