@@ -24,7 +24,6 @@ was ignored becomes one of the outcome's ``notes``.
 from __future__ import annotations
 
 import datetime as dt
-import json
 import os
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
