@@ -47,6 +47,7 @@ from narrator.engine.moments import (
 )
 from narrator.engine.quality import MIN_FOR_SHAPE, assess_quality
 from narrator.engine.shape import ShapeSignals, classify_shape, is_clearly_skewed, substantial_peaks
+from narrator.engine.ties import order_counts_sorted
 from narrator.errors import NarratorError
 from narrator.findings import (
     OUTLIER_RULES,
@@ -427,6 +428,7 @@ def describe(
         provenance=provenance,
         histogram_focus=histogram_focus,
         density_focus=density_focus,
+        order_counts=order_counts_sorted(sorted_values, q1=q1 * factor, median=median * factor, q3=q3 * factor),
     )
 
 

@@ -46,6 +46,21 @@ Note codes (``Outliers.note``):
 ``no_spread``              modified-z with MAD = MeanAD = 0: nothing flagged, fences None
 ``esd_stopped_no_spread``  ESD stopped before r steps: the remaining values were all equal
 =========================  =====================================================
+
+Degenerate rules and their fallback (:func:`degenerate_reason`, :func:`fallback_rule`; our own
+rule, recorded in ``Outliers.fallback_from`` and ``Outliers.fallback_reason``):
+
+* the skew-adjusted rule with a medcouple at its bound, |MC| = 1 (``medcouple_at_bound``). That
+  happens when the values on one side of the median all tie with it (half or more of a count
+  are 0): the medcouple then measures the ties, not the tail, and the fence on the long side
+  moves e^3 = 20 IQRs out, so the rule can flag almost nothing. Tukey's fences are used instead
+  (the adjusted rule with MC = 0), or the modified z-score when the IQR is 0 too;
+* Tukey's or the adjusted rule with IQR = 0 (``iqr_zero``): the fences sit on the quartiles and
+  every value that differs from them would be "unusual". The modified z-score (with its MeanAD
+  fallback when the MAD is 0 too) is used instead.
+
+A rule the user named is replaced the same way, and the findings say so: a report must not call a
+quarter of the values unusual because the fences collapsed.
 """
 
 from __future__ import annotations
@@ -65,6 +80,29 @@ MIN_VALUES = 4  # below this, no rule is run
 MODIFIED_Z_CONSTANT = 0.6745
 # Common-practice fallback when MAD = 0: sqrt(pi / 2), the ratio SD / mean absolute deviation under normality.
 MEAN_AD_CONSTANT = 1.253314
+MEDCOUPLE_BOUND = 1.0 - 1e-12  # |MC| at or above this is at its bound (the medcouple lies in [-1, 1])
+
+
+def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: float | None) -> str | None:
+    """Why ``rule`` cannot work on these data ("iqr_zero", "medcouple_at_bound"), or None when it can.
+
+    >>> degenerate_reason("adjusted", n=50, q1=0.0, q3=2.0, medcouple=1.0)
+    'medcouple_at_bound'
+    >>> degenerate_reason("tukey", n=50, q1=3.0, q3=3.0, medcouple=0.0)
+    'iqr_zero'
+    """
+    if n < MIN_VALUES or rule not in ("tukey", "adjusted"):
+        return None
+    if not q3 > q1:
+        return "iqr_zero"
+    if rule == "adjusted" and medcouple is not None and abs(medcouple) >= MEDCOUPLE_BOUND:
+        return "medcouple_at_bound"
+    return None
+
+
+def fallback_rule(reason: str) -> str:
+    """The rule that replaces a degenerate one (see the module docstring)."""
+    return "tukey" if reason == "medcouple_at_bound" else "modified-z"
 
 
 def detect_outliers(
@@ -119,7 +157,12 @@ def detect_outliers(
     _check_constants(coefficient, far_coefficient, modified_z_threshold, esd_alpha, esd_max_fraction)
 
     n = values.size
-    choice = {"rule": chosen_rule, "chosen_by": chosen_by, "auto_reason": auto_reason}
+    fallback_from = fallback_reason = None
+    reason = degenerate_reason(chosen_rule, n=n, q1=q1, q3=q3, medcouple=medcouple)
+    if reason is not None:
+        fallback_from, fallback_reason, chosen_rule = chosen_rule, reason, fallback_rule(reason)
+    choice = {"rule": chosen_rule, "chosen_by": chosen_by, "auto_reason": auto_reason,
+              "fallback_from": fallback_from, "fallback_reason": fallback_reason}
     if chosen_rule in ("tukey", "adjusted"):
         constants = {"coefficient": float(coefficient), "far_coefficient": float(far_coefficient)}
         if chosen_rule == "adjusted" and n >= MIN_VALUES:
@@ -410,6 +453,8 @@ def _result(values, rows, low, high, far, choice, constants, *, fences, note) ->
         listed_low=int(min(low_index.size, LISTED_PER_SIDE)),
         low_range=_span(values, low_index),
         high_range=_span(values, high_index),
+        fallback_from=choice.get("fallback_from"),
+        fallback_reason=choice.get("fallback_reason"),
     )
 
 

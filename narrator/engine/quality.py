@@ -45,8 +45,9 @@ HEAPING_RATIO = 2.0  # observed share at round values at least this many times t
 HEAPING_P = 0.001  # and a one-sided binomial test below this
 SUSPECT_CODES = (-9.0, -99.0, -999.0, -9999.0, -99999.0, 99.0, 999.0, 9999.0, 99999.0, 999999.0, -1.0, -8.0)
 CODE_DISTANCE_IQR = 3.0  # a code must sit beyond the far-out fences of the other values
-CODE_NEIGHBOURHOOD = 0.1  # neighbours of a suspected code: within this share of the IQR
+CODE_NEIGHBOURHOOD = 0.5  # neighbours of a suspected code: within this share of the IQR
 SPIKE_RATIO = 3.0  # a code holds at least this many times its neighbours' typical count
+MIN_CODE_COUNT = 2  # one value is never a spike: a code for "missing" is typed again and again
 ROWS_SHOWN = 10
 
 
@@ -61,6 +62,8 @@ def _exclusion_flags(sample: Sample) -> list[QualityFlag]:
                     count=exclusion.count,
                     share=exclusion.count / total,
                     rows=tuple(int(r) for r in exclusion.rows[:ROWS_SHOWN]),
+                    texts=tuple(exclusion.examples),
+                    detail={"texts_complete": float(exclusion.examples_complete)} if exclusion.examples else {},
                 )
             )
     return flags
@@ -127,6 +130,8 @@ def _is_spike(sorted_values: np.ndarray, left: int, right: int, half_width: floa
     common as the values beside it.
     """
     count = right - left
+    if count < MIN_CODE_COUNT:
+        return False
     code = sorted_values[left]
     start = int(np.searchsorted(sorted_values, code - half_width, side="left"))
     stop = int(np.searchsorted(sorted_values, code + half_width, side="right"))
@@ -134,20 +139,20 @@ def _is_spike(sorted_values: np.ndarray, left: int, right: int, half_width: floa
     if neighbours.size == 0:
         return True
     distinct = 1 + int(np.count_nonzero(np.diff(neighbours)))
-    return count >= SPIKE_RATIO * neighbours.size / distinct
+    return count >= SPIKE_RATIO * max(1.0, neighbours.size / distinct)
 
 
 def _missing_codes(sorted_values: np.ndarray, values: np.ndarray, rows: np.ndarray) -> list[QualityFlag]:
-    """Values that look like missing-value codes: repeated (or long all-nines), far from the rest,
-    and a spike (far more common than the values next to them)."""
+    """Values that look like missing-value codes: a value people type for "missing" (-99, 999, -1...),
+    repeated, far from the rest, and a spike (far more common than the values next to it).
+    A lone 99 among real values in the 80s and 90s is none of these."""
     flags = []
     n = sorted_values.size
     for code in SUSPECT_CODES:
         left = int(np.searchsorted(sorted_values, code, side="left"))
         right = int(np.searchsorted(sorted_values, code, side="right"))
         count = right - left
-        all_nines = abs(code) >= 99 and set(str(int(abs(code)))) == {"9"}
-        if count == 0 or (count < 2 and not all_nines):
+        if count < MIN_CODE_COUNT:
             continue
         if n - count < 4:
             continue

@@ -123,6 +123,7 @@ EXCLUSION_REASONS: tuple[str, ...] = ("missing", "non_numeric", "non_finite", "i
 
 ROWS_KEPT = 10  # row numbers kept per exclusion reason
 EXAMPLES_KEPT = 5  # distinct cell texts kept per exclusion reason
+EXAMPLES_SCANNED = 10_000  # cells of one reason looked at for those texts
 EXAMPLE_LENGTH = 40  # characters of one example before it is cut
 NUMERIC_PROBE_ROWS = 10_000  # list_numeric_columns looks at this many data rows
 MAX_DECIMALS = 6  # as narrator.reading.sample.guess_decimals
@@ -530,7 +531,7 @@ class _Options:
 def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Callable[[int], str]) -> Exclusion:
     positions = np.flatnonzero(status == _STATUS_OF_REASON[reason])
     examples: list[str] = []
-    for position in positions[:10_000].tolist():  # enough to find a few distinct texts
+    for position in positions[:EXAMPLES_SCANNED].tolist():  # enough to find a few distinct texts
         shown = display(position)
         if shown not in examples:
             examples.append(shown)
@@ -541,6 +542,7 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
         count=int(positions.size),
         rows=tuple(int(row) for row in rows[positions[:ROWS_KEPT]]),
         examples=tuple(examples),
+        examples_complete=len(examples) < EXAMPLES_KEPT and positions.size <= EXAMPLES_SCANNED,
     )
 
 

@@ -62,6 +62,7 @@ class Exclusion:
     count: int
     rows: tuple[int, ...] = ()  # first source rows (spreadsheet numbering: header is row 1)
     examples: tuple[str, ...] = ()  # first offending cell texts, already made printable
+    examples_complete: bool = False  # the examples are every distinct text these cells held
 
 
 @dataclass(frozen=True, slots=True, eq=False)

@@ -56,9 +56,16 @@ from narrator.engine.describe import (
 )
 from narrator.engine.distributions import binomial_cdf, binomial_sf, t_ppf
 from narrator.engine.moments import QUANTILE_METHOD, excess_kurtosis, scaled, skewness_g1, skewness_test
-from narrator.engine.outliers import MEAN_AD_CONSTANT, MIN_VALUES, MODIFIED_Z_CONSTANT
+from narrator.engine.outliers import (
+    MEAN_AD_CONSTANT,
+    MIN_VALUES,
+    MODIFIED_Z_CONSTANT,
+    degenerate_reason,
+    fallback_rule,
+)
 from narrator.engine.quality import MIN_FOR_SHAPE
 from narrator.engine.shape import ShapeSignals, classify_shape, is_clearly_skewed, substantial_peaks
+from narrator.engine.ties import order_counts_from
 from narrator.errors import NarratorError
 from narrator.findings import (
     OUTLIER_RULES,
@@ -329,8 +336,9 @@ def describe_source(
     parts["mad"] = mad_plan.counter()
     trim_points = {statistics(r) for cut in cuts.values() for r in (cut, n - cut - 1)}
     tie_candidates = sorted({statistics(r) for r in tie_ranks})
-    parts["points"] = PartitionCounts(np.array(sorted(trim_points | set(tie_candidates)), dtype=np.float64),
-                                      np.zeros(len(trim_points | set(tie_candidates)) + 1, dtype=bool))
+    order_points = {q1 * factor, median * factor, q3 * factor}  # for the order counts (narrator.engine.ties)
+    points = sorted(trim_points | set(tie_candidates) | order_points)
+    parts["points"] = PartitionCounts(np.array(points, dtype=np.float64), np.zeros(len(points) + 1, dtype=bool))
     for proportion, cut in cuts.items():
         parts[f"trim{proportion}"] = RangeMean(statistics(cut), statistics(n - cut - 1), factor)
     for plan in code_plans:
@@ -357,6 +365,9 @@ def describe_source(
 
     # ---- pass 4: the flagged values and the rest -----------------------------------------------
     rule_choice = _rule_choice(outlier_rule, clearly_skewed)
+    degenerate = degenerate_reason(rule_choice[0], n=n, q1=q1, q3=q3, medcouple=medcouple_value)
+    if degenerate is not None:  # as narrator.engine.outliers.detect_outliers
+        rule_choice = (fallback_rule(degenerate), *rule_choice[1:], rule_choice[0], degenerate)
     test, constants, fences, note = _outlier_test(
         rule_choice[0], n, q1=q1, median=median, q3=q3, mad=mad,
         medcouple=medcouple_value if medcouple_value is not None else 0.0, reader=reader, factor=factor)
@@ -428,13 +439,20 @@ def describe_source(
     quality = _quality(account, n, first, third, code_plans, tie_candidates, distinct, extremes, iqr * factor,
                        decimals)
     approximate = _approximations(n, whole_reservoir, reservoir, seed, flagged, clearly_skewed)
+    counted: PartitionCounts = third["points"]
+    order_counts = order_counts_from(
+        n=n, below_q1=counted.count_below(q1 * factor), below_median=counted.count_below(median * factor),
+        at_median=counted.count_equal(median * factor), above_q3=n - counted.count_below(q3 * factor)
+        - counted.count_equal(q3 * factor), at_min=extremes.low_count, at_max=extremes.high_count,
+        next_above_min=extremes.second_low if math.isfinite(extremes.second_low) else None,
+        next_below_max=extremes.second_high if math.isfinite(extremes.second_high) else None)
     findings = Findings(
         schema_version=SCHEMA_VERSION, variable=variable, n=n, n_missing=account.n_missing, center=center,
         spread=spread, shape=shape, outliers=flagged, without_outliers=without, intervals=interval_findings,
         histogram=histogram_plan, density=density_estimate, quality=quality, options=options,
         provenance=provenance,
         accuracy=_accuracy(runner, first, n, approximate, seed, reservoir_size), histogram_focus=histogram_focus,
-        density_focus=density_focus_of(density_estimate, fine_density, histogram_focus))
+        density_focus=density_focus_of(density_estimate, fine_density, histogram_focus), order_counts=order_counts)
     return ScaleResult(findings, _figure_sample(account, first, flagged), reader.passes)
 
 
@@ -645,7 +663,8 @@ def _outliers(choice, constants, fences, note, factor, part: FlaggedValues | Non
         far_upper_fence=back(fences[3]), count=part.count_low + part.count_high, count_low=part.count_low,
         count_high=part.count_high, values=tuple(float(v) for v in values), rows=tuple(int(r) for r in rows),
         far_out_values=tuple(float(v) for v in values[far]), far_out_rows=tuple(int(r) for r in rows[far]),
-        note=note, listed_low=int(part.low_values.size), low_range=low_range, high_range=high_range)
+        note=note, listed_low=int(part.low_values.size), low_range=low_range, high_range=high_range,
+        fallback_from=choice[3] if len(choice) > 3 else None, fallback_reason=choice[4] if len(choice) > 4 else None)
 
 
 def _rest_ranks(m: int, count_low: int) -> list[int]:
@@ -796,8 +815,7 @@ def _code_plans(codes: CodeCounts, n: int) -> list[dict]:
     plans = []
     for k, code in enumerate(codes.codes):
         count = int(codes.equal[k])
-        all_nines = abs(code) >= 99 and set(str(int(abs(code)))) == {"9"}
-        if count == 0 or (count < 2 and not all_nines) or n - count < 4:
+        if count < engine_quality.MIN_CODE_COUNT or n - count < 4:
             continue
         left = int(codes.below[k])
         positions: list[int] = []

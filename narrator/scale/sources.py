@@ -315,7 +315,10 @@ class ReadingSummary:
                 exclusion = Exclusion("impossible", count + extra_count, (tuple(rows) + tuple(extra_rows))[:10],
                                       (texts + tuple(text for _, _, text in extra_examples))[:5])
             else:
-                exclusion = Exclusion(reason, count, tuple(rows), texts)
+                # Every distinct text is known when each chunk saw all of its cells and fewer than the kept number
+                # turned up (as narrator.reading.columns).
+                complete = len(texts) < EXAMPLES_KEPT and count <= reading.EXAMPLES_SCANNED
+                exclusion = Exclusion(reason, count, tuple(rows), texts, examples_complete=complete)
             found.append(exclusion)
         return tuple(found)
 
