@@ -72,12 +72,7 @@ class WordingContext:
 
     def _words(self, key: str, variant: Variant, subject: tuple[float, str | None] | None,
                values: dict[str, str]) -> str:
-        category = gender = None
-        if subject is not None:
-            count, noun = subject
-            category = self.plural(count)
-            gender = self.bank.noun(noun).gender if noun else None
-        template = variant.form(category, gender)
+        template = variant.form(*self._category_gender(subject))
         text = self.bank.fill(key, template, **values)
         # A sentence opening with a filled-in field ("{outlier_count} stand out") gets a capital; text the
         # bank itself starts in lower case ("n = 141") stays as written.
@@ -92,7 +87,8 @@ class WordingContext:
         if variant is None:
             return None
         text = self._words(key, variant, subject, values)
-        return Sentence(text, tuple(keys), (Claim(variant.claim, dict(claim or {}), claim_about),))
+        when = tuple(str(condition) for condition in variant.when)
+        return Sentence(text, tuple(keys), (Claim(variant.claim, dict(claim or {}), claim_about, when),))
 
     def part(self, key: str, *, about: Any = None, subject: tuple | None = None, **values: str) -> str | None:
         """A licensed piece of a sentence (claim entry ``key``), or None when no variant's licences hold.

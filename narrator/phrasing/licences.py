@@ -107,7 +107,10 @@ CLAIM_KINDS: dict[str, str] = {
     "mean_pulled": "the mean `mean` lies on the `direction` side of the median, apart at the memo's rounding; "
                    "`cause` 'tail': the long tail is on that side; 'flagged': the flagged values move the mean "
                    "that way",
-    "several_groups": "the shape has several peaks (label bimodal or multimodal); the mean is `mean`",
+    "several_groups": "the shape has several peaks (label bimodal or multimodal) that rounding does not explain; "
+                      "the mean is `mean`",
+    "heaped": "most values sit at multiples of `base` (at least twice the share chance gives), so peaks there come "
+              "from rounding",
     # shape
     "shape": "the values have the shape `label` (`strength`): direction and Bulmer strength of G1, or "
              "symmetry (|G1| < 0.5 or both robust measures near 0), or peaks",
@@ -413,6 +416,11 @@ def several_peaks(ctx) -> bool:
     return ctx.findings.shape.label in ("bimodal", "multimodal")
 
 
+@licence("variable", "values were heaped at round numbers (the engine's heaping flag): peaks there come from rounding")
+def values_heaped(ctx) -> bool:
+    return ctx.findings.quality.has("heaping")
+
+
 @licence("variable", "the skewness test ran (8 values or more) and the rows are a sample")
 def skewness_test_ran(ctx) -> bool:
     return ctx.findings.shape.skewness_test_p is not None and estimating_allowed(ctx)
@@ -608,10 +616,16 @@ def intervals_computed(ctx) -> bool:
     return intervals.mean is not None and intervals.median is not None and estimating_allowed(ctx)
 
 
+@licence("variable", "only the mean's interval was computed: too few values for the median's at this level")
+def only_mean_interval(ctx) -> bool:
+    intervals = ctx.findings.intervals
+    return intervals.mean is not None and intervals.median is None and estimating_allowed(ctx)
+
+
 @licence("variable", "no interval was computed because there are too few distinct values")
 def intervals_too_few(ctx) -> bool:
     intervals = ctx.findings.intervals
-    return estimating_allowed(ctx) and (intervals.mean is None or intervals.median is None)
+    return estimating_allowed(ctx) and intervals.mean is None and intervals.median is None
 
 
 # ---------------------------------------------------------------------------------- variable: quality

@@ -74,7 +74,7 @@ def memo_caution(ctx: WordingContext) -> Sentence:
                            claim={"value": code.values[0], "count": code.count})
         if sentence is not None:
             return sentence
-    for key, keys, numbers in (("cautions.check_flagged", ("outliers.count",), {}),
+    for key, keys, numbers in (("cautions.check_flagged", ("outliers.count",), flagged_claim(findings)),
                                ("cautions.small_sample", ("n",), {"n": findings.n})):
         sentence = ctx.say(key, keys, claim=numbers)
         if sentence is not None:
@@ -169,7 +169,10 @@ def _shape(ctx: WordingContext) -> Sentence | None:
     if shape.label in ("right-skewed", "left-skewed"):
         side = "high" if shape.label == "right-skewed" else "low"
         tail = ctx.text(f"memo.tail.{side}.{shape.strength or 'slight'}")
-    return ctx.say(f"memo.shape.{shape.label}", keys, n_values=n_values, tail=tail, claim=claim)
+    heaping = findings.quality.get("heaping")
+    base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
+    return ctx.say(f"memo.shape.{shape.label}", keys, n_values=n_values, tail=tail, base=ctx.recorded(base),
+                   claim={**claim, "base": base})
 
 
 def _why(ctx: WordingContext) -> Sentence | None:
@@ -178,7 +181,7 @@ def _why(ctx: WordingContext) -> Sentence | None:
     flagged = findings.outliers
     mean = ctx.memo(center.mean)
     claim = {"mean": center.mean, "median": center.median, "mean_shown": mean,
-             "median_shown": ctx.memo(center.median)}
+             "median_shown": ctx.memo(center.median), **flagged_claim(findings)}
     if center.lead == "median":
         reasons = center.lead_reasons
         if "several_peaks" in reasons:
@@ -189,7 +192,7 @@ def _why(ctx: WordingContext) -> Sentence | None:
                            claim={**claim, "cause": "tail", "label": findings.shape.label})
         count = flagged.count if flagged is not None else 0
         return ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean"), subject=(count, "value"),
-                       mean=mean, claim={**claim, "cause": "flagged", "count": count})
+                       mean=mean, claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
     return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
                    claim={**claim, "sd": findings.spread.sd})
 

@@ -27,11 +27,11 @@ from narrator.engine.density import MAX_RANGE_IN_BANDWIDTHS
 from narrator.engine.shape import BULMER_MODERATE, BULMER_STRONG
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import flagged_claim, left_out_items
-from narrator.phrasing.narrative import Paragraph, Sentence
+from narrator.phrasing.narrative import Claim, Paragraph, Sentence
 from narrator.phrasing.technical import (
     grid_values,
     interval_claim,
-    interval_method,
+    interval_values,
     rule_words,
     summary_claim,
     width_text,
@@ -210,13 +210,8 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
                                      claim={"bound": approximate.bound}))
     sentences.extend(_outlier_sentences(ctx))
     sentences.append(ctx.say("methods.with_without", ("without_outliers",)))
-    intervals = findings.intervals
-    values = {}
-    if intervals.mean is not None and intervals.median is not None:
-        values = {"level": fmt.percent(intervals.mean.level, 0), "mean_method": interval_method(ctx, intervals.mean),
-                  "median_method": interval_method(ctx, intervals.median)}
     sentences.append(ctx.say("methods.intervals", ("intervals.mean.method", "intervals.median.method"),
-                             claim=interval_claim(findings), **values))
+                             claim=interval_claim(findings), **interval_values(ctx)))
     sentences.extend(_histogram_sentences(ctx))
     sentences.append(_density_sentence(ctx))
     libraries = _libraries(ctx)
@@ -257,6 +252,9 @@ def references_used(ctx: WordingContext) -> tuple[str, ...]:
 
 
 def references_paragraphs(ctx: WordingContext) -> tuple[Paragraph, ...]:
-    return tuple(
-        Paragraph((Sentence(ctx.text(f"references.{key}")),), style="reference") for key in references_used(ctx)
-    )
+    return tuple(Paragraph((reference_sentence(ctx, key),), style="reference") for key in references_used(ctx))
+
+
+def reference_sentence(ctx: WordingContext, key: str) -> Sentence:
+    """One entry of the reference list: words about the report, not the data (claim kind "note")."""
+    return Sentence(ctx.text(f"references.{key}"), (), (Claim("note", {"reference": key}),))

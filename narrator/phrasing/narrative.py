@@ -23,12 +23,14 @@ class Claim:
     kind means); ``numbers`` holds the figures it asserts, unrounded, and the strings a reader sees
     where the claim depends on rounding (``*_shown``); ``about`` says whose values the claim is
     about: ``""`` for the variable of the narrative, ``"group:<label>"`` for one group,
-    ``"change"`` for two builds.
+    ``"change"`` for two builds; ``when`` the licences its variant was said under, so a checker can
+    test each of those too.
     """
 
     kind: str
     numbers: dict[str, Any] = field(default_factory=dict)
     about: str = ""
+    when: tuple[str, ...] = ()  # the licences the sentence was said under ("not x" for one that must not hold)
 
 
 @dataclass(frozen=True, slots=True)

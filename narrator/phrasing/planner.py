@@ -35,7 +35,7 @@ from narrator.findings import Findings
 from narrator.phrasing.bank import Plan, PlanSection, load_plan
 from narrator.phrasing.context import WordingContext, make_context
 from narrator.phrasing.figure_text import FIGURE_BUILDERS
-from narrator.phrasing.memo import memo_paragraph
+from narrator.phrasing.memo import flagged_claim, memo_paragraph
 from narrator.phrasing.methods import methods_paragraph, references_paragraphs
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence
 from narrator.phrasing.tables import TABLE_BUILDERS
@@ -58,7 +58,7 @@ CAUTIONS = ("cautions.descriptive", "cautions.check_flagged", "cautions.small_sa
 
 def caution_paragraphs(ctx: WordingContext) -> tuple[Paragraph, ...]:
     """The cautions a careful report carries (FIELD_NOTES section 9), those whose licences hold, as bullets."""
-    said = (ctx.say(key, claim={"n": ctx.findings.n}) for key in CAUTIONS)
+    said = (ctx.say(key, claim=flagged_claim(ctx.findings)) for key in CAUTIONS)
     return tuple(Paragraph((sentence,), style="bullet") for sentence in said if sentence is not None)
 
 

@@ -38,7 +38,7 @@ from narrator.findings import Findings, Interval
 from narrator.history.sidecar import FindingsSet, VariableFindings
 from narrator.phrasing.context import NOT_DEFINED, WordingContext, capitalize_first, make_context
 from narrator.phrasing.licences import GroupFacts
-from narrator.phrasing.methods import references_used
+from narrator.phrasing.methods import reference_sentence, references_used
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
 from narrator.phrasing.planner import caution_paragraphs, narrate
 
@@ -364,7 +364,7 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
     if references:
         sections.append(Section(
             key="references", title=first.text("sections.references"),
-            paragraphs=tuple(Paragraph((Sentence(first.text(f"references.{key}")),), style="reference")
+            paragraphs=tuple(Paragraph((reference_sentence(first, key),), style="reference")
                              for key in sorted(references)),
         ))
     if cautions:

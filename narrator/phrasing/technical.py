@@ -118,8 +118,11 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
     findings = ctx.findings
     shape = findings.shape
     keys = ("shape.label", "shape.strength", "shape.evidence")
+    heaping = findings.quality.get("heaping")
+    base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
     sentences = _kept(ctx.say("technical.shape", keys, shape_words=shape_words(ctx), n=ctx.whole(findings.n),
-                              claim=shape_claim(findings)))
+                              peaks=ctx.count(shape.density_peaks or 0, "peak"), base=ctx.recorded(base),
+                              claim={**shape_claim(findings), "base": base}))
     if findings.spread is not None and findings.spread.range == 0:
         return sentences
     if shape.skewness is not None:
@@ -237,25 +240,30 @@ def interval_claim(findings) -> dict:
     intervals = findings.intervals
     mean, median = intervals.mean, intervals.median
     numbers = {"reason": intervals.reason, "population": findings.variable.population}
-    if mean is not None and median is not None:
-        numbers.update({"level": mean.level, "mean_low": mean.low, "mean_high": mean.high,
-                        "median_low": median.low, "median_high": median.high, "mean_method": mean.method,
+    if mean is not None:
+        numbers.update({"level": mean.level, "mean_low": mean.low, "mean_high": mean.high, "mean_method": mean.method,
+                        "mean": findings.center.mean})
+    if median is not None:
+        numbers.update({"level": median.level, "median_low": median.low, "median_high": median.high,
                         "median_method": median.method, "median_ranks": median.ranks,
-                        "median_coverage": median.coverage, "mean": findings.center.mean,
-                        "median": findings.center.median})
+                        "median_coverage": median.coverage, "median": findings.center.median})
     return numbers
 
 
-def interval_sentences(ctx: WordingContext) -> list[Sentence]:
+def interval_values(ctx: WordingContext) -> dict[str, str]:
+    """The intervals' numbers and methods in words, for whichever intervals were computed."""
     intervals = ctx.findings.intervals
-    mean, median = intervals.mean, intervals.median
+    values: dict[str, str] = {}
+    for name, interval in (("mean", intervals.mean), ("median", intervals.median)):
+        if interval is not None:
+            values.update({"level": ctx.fmt.percent(interval.level, 0), f"{name}_low": ctx.exact(interval.low),
+                           f"{name}_high": ctx.exact(interval.high), f"{name}_method": interval_method(ctx, interval)})
+    return values
+
+
+def interval_sentences(ctx: WordingContext) -> list[Sentence]:
     claim = interval_claim(ctx.findings)
-    values = {}
-    if mean is not None and median is not None:
-        values = {"level": ctx.fmt.percent(mean.level, 0), "median_low": ctx.exact(median.low),
-                  "median_high": ctx.exact(median.high), "mean_low": ctx.exact(mean.low),
-                  "mean_high": ctx.exact(mean.high), "median_method": interval_method(ctx, median),
-                  "mean_method": interval_method(ctx, mean)}
+    values = interval_values(ctx)
     sentences = _kept(ctx.say("technical.intervals", ("intervals.median.low", "intervals.median.high",
                                                       "intervals.mean.low", "intervals.mean.high"),
                               claim=claim, **values))
@@ -313,7 +321,7 @@ def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:
         if sentence is not None:
             bullets.append(Paragraph((sentence,), style="bullet"))
     if not bullets:
-        sentence = ctx.say("quality.none", ("quality.flags",))
+        sentence = ctx.say("quality.none", ("quality.flags",), claim={"code": None})
         return [Paragraph((sentence,))] if sentence is not None else []
     return bullets
 
