@@ -9,6 +9,8 @@ Command        What it does
                (``--group-by`` breaks it down by a grouping column)
 ``recipe``     write a starter report recipe (TOML) for a data file
 ``redraft``    build every report a recipe names, each with its sidecar
+``fill``       fill the marked places of your own Word document from the data
+``mark``       turn the ``[narrator:...]`` markers typed in a document into places
 =============  ==============================================================
 
 Every command reports bad input as one line, ``narrator: <message>``, and
@@ -292,7 +294,73 @@ def command_redraft(args: argparse.Namespace) -> int:
     finally:
         progress.finish()
     for outcome in outcomes:
-        sys.stdout.write(f"wrote {outcome.report} and {outcome.sidecar}\n")
+        lines = outcome.lines() if hasattr(outcome, "lines") else [f"wrote {outcome.report} and {outcome.sidecar}"]
+        sys.stdout.write("".join(line + "\n" for line in lines))
+    return 0
+
+
+_RECIPE_SAYS = ("column", "sheet", "unit", "label", "valid_min", "valid_max", "lower_bound", "upper_bound",
+                "outlier_rule", "id_column", "engine", "scheduler", "chunk_rows", "group_by", "locale", "currency")
+
+
+def command_fill(args: argparse.Namespace) -> int:
+    from narrator.places.fill import fill_document, single_collection
+    from narrator.progress import progress_for
+
+    source = Path(args.file)
+    progress = progress_for(None, quiet=args.quiet)
+    try:
+        if source.suffix.lower() == ".toml":
+            from narrator.recipe import load_recipe, recipe_collection
+
+            given = [name.replace("_", "-") for name in _RECIPE_SAYS if getattr(args, name, None) is not None]
+            given += [flag for flag, on in (("population", args.population), ("decimal-comma", args.decimal_comma),
+                                            ("missing", args.missing)) if on]
+            if given:
+                raise NarratorError(f"with a recipe ({source.name}), the recipe says how to read and word the "
+                                    f"data; leave out --{', --'.join(given)}")
+            recipe = load_recipe(source)
+            collection = recipe_collection(recipe, step=progress.step)
+            options = dict(locale=recipe.report.locale, currency=recipe.report.currency,
+                           generated_at=recipe.report.generated, protect=(recipe.data.path, source,
+                                                                           recipe.report.template))
+        else:
+            if args.column is None:
+                raise NarratorError("--column is required with a data file (or give a recipe .toml instead)")
+            if args.group_by is not None:
+                collection = _grouped_collection(args, progress)
+            else:
+                collection = single_collection(*read_and_describe(args))
+            options = dict(locale=args.locale or "en_US", currency=args.currency, protect=(source,))
+        outcome = fill_document(args.document, collection, output=args.output, replace_edits=args.replace_edits,
+                                **options)
+    finally:
+        progress.finish()
+    sys.stdout.write("".join(line + "\n" for line in outcome.lines()))
+    return 0
+
+
+def _grouped_collection(args: argparse.Namespace, progress):
+    from narrator.groups.analysis import VariableRequest, analyse_file
+    from narrator.scale.entry import choose_engine
+
+    if choose_engine(args.engine, args.file) != "memory":
+        raise NarratorError("--group-by works with the memory engine only")
+    request = VariableRequest(
+        column=int(args.column) if args.column.isdigit() else args.column, label=args.label, unit=args.unit,
+        valid_min=args.valid_min, valid_max=args.valid_max, lower_bound=args.lower_bound,
+        upper_bound=args.upper_bound, population=args.population, outlier_rule=args.outlier_rule,
+    )
+    return analyse_file(args.file, [request], sheet=args.sheet, decimal_comma=args.decimal_comma,
+                        missing=tuple(args.missing), group_by=args.group_by,
+                        privacy_threshold=args.privacy_threshold, step=progress.step)
+
+
+def command_mark(args: argparse.Namespace) -> int:
+    from narrator.places.fill import mark_document
+
+    outcome = mark_document(args.document, output=args.output)
+    sys.stdout.write("".join(line + "\n" for line in outcome.lines()))
     return 0
 
 
@@ -377,6 +445,43 @@ def build_parser() -> argparse.ArgumentParser:
     redraft.add_argument("recipe", metavar="RECIPE.toml", help="the report recipe")
     redraft.add_argument("--quiet", action="store_true", help="show no progress line")
     redraft.set_defaults(handler=command_redraft)
+
+    fill = commands.add_parser(
+        "fill", help="fill the marked places of your own Word document (.docx) from the data",
+        description="Fill every marked place (a content control tagged narrator:<target>) of DOCUMENT from the "
+                    "data: a recipe (.toml) or a data file read with the options below. The document is written "
+                    "back in place, or to -o; nothing outside the places changes.",
+    )
+    fill.add_argument("document", metavar="DOCUMENT.docx", help="your Word document with marked places")
+    add_reading_options(fill)
+    for action in fill._actions:  # a recipe says how to read the data, so these become optional here
+        if action.dest == "column":
+            action.required = False
+        if action.dest == "file":
+            action.metavar = "RECIPE.toml|DATA"
+            action.help = "a recipe (.toml), or a CSV, TSV, Excel (.xlsx) or Parquet file read with the options"
+    fill.add_argument("--locale", help="CLDR locale for words and numbers, e.g. en_US, es_ES (default: en_US)")
+    fill.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
+    fill.add_argument("--group-by", metavar="COLUMN", help="groups for the groups table (site, program, year...)")
+    fill.add_argument("--privacy-threshold", type=int, default=10, metavar="N",
+                      help="with --group-by, groups with fewer than N values are not shown (default: 10)")
+    fill.add_argument("--replace-edits", action="store_true",
+                      help="fill the places edited by hand since the last fill too (they are kept otherwise)")
+    fill.add_argument("-o", "--output", metavar="OUTPUT.docx",
+                      help="write the filled document here instead of in place")
+    fill.add_argument("--quiet", action="store_true", help="show no progress line")
+    fill.set_defaults(handler=command_fill)
+
+    mark = commands.add_parser(
+        "mark", help="turn markers such as [narrator:median] typed in a document into places to fill",
+        description="Turn every marker typed in DOCUMENT ([narrator:<target>] or [narrator:<target>@<variable>]) "
+                    "into a content control that narrator fill fills: a marker alone in its paragraph becomes a "
+                    "place around the paragraph, one inside a line a place inside it.",
+    )
+    mark.add_argument("document", metavar="DOCUMENT.docx", help="your Word document with typed markers")
+    mark.add_argument("-o", "--output", metavar="OUTPUT.docx", help="write the marked document here instead of "
+                                                                     "in place")
+    mark.set_defaults(handler=command_mark)
 
     demo = commands.add_parser("demo", help="write example reports from invented data that ships with narrator")
     demo.add_argument("-o", "--output", default="narrator-demo", metavar="FOLDER",

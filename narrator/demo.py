@@ -19,6 +19,9 @@ water (``water_use``)           litres per household per day at an invented
                                 round numbers, a few leaks; report in es_ES
 repair (``repair_turnaround``)  hours from drop-off to pick-up at an invented
                                 repair shop, in an Excel workbook
+quarterly report                the housing program's own quarterly report to
+(``quarterly_report``)          its board, with ten places marked for
+                                ``narrator fill`` (templates/demo/quarterly-report.toml)
 ==============================  ===============================================
 
 The recipes that go with the data live in templates/demo/ (words are data).
@@ -39,6 +42,8 @@ from narrator.safe_io import atomic_write_bytes
 SEED = 20261201
 INVENTED = "invented data for the narrator demo; no real people, places or programs"
 RECIPES = ("housing", "water", "repair")
+QUARTERLY_REPORT = "quarterly-report.docx"  # the housing program's own report, filled from housing.toml
+FIXED_TIME = "2026-12-01T09:00:00+00:00"
 
 
 def _housing_frame(rng: np.random.Generator, n_north: int, n_east: int, n_mobile: int, month: str) -> pd.DataFrame:
@@ -154,6 +159,32 @@ def _fixed_zip_times(data: bytes) -> bytes:
     return out.getvalue()
 
 
+def quarterly_report() -> bytes:
+    """The invented housing program's own quarterly report, as a .docx whose markers are already places.
+
+    Its prose comes from templates/demo/quarterly-report.toml; the plain
+    document is laid out by :func:`narrator.writer.plain_document`, then each
+    ``[narrator:...]`` marker is made a place as ``narrator mark`` makes it.
+    """
+    import datetime as dt
+    import tomllib
+
+    from narrator.places.fill import marker_tag
+    from narrator.places.package import WordPackage
+    from narrator.writer import plain_document
+
+    spec = tomllib.loads(template_file("demo", "quarterly-report.toml").read_text(encoding="utf-8"))
+    moment = dt.datetime.fromisoformat(FIXED_TIME)
+    plain = plain_document(
+        [(block["style"], block["text"]) for block in spec["blocks"]], header=spec["header"],
+        properties={"title": spec["title"], "author": spec["organisation"]}, generated_at=moment, locale="en_US",
+    )
+    marked = WordPackage.from_bytes(plain, QUARTERLY_REPORT).mark(marker_tag, moment=moment)
+    if marked.refused or marked.data is None:
+        raise ValueError(f"the demo report's markers did not all become places: {marked.refused}")
+    return marked.data
+
+
 def data_files() -> dict[str, bytes]:
     """Every demo data file by name, as bytes."""
     october = _csv_bytes(housing_waits("2026-10"))
@@ -163,6 +194,7 @@ def data_files() -> dict[str, bytes]:
         "housing_waits_2026-11.csv": _csv_bytes(housing_waits("2026-11")),
         "water_use.csv": _csv_bytes(water_use(), separator=";"),
         "repair_turnaround.xlsx": _xlsx_bytes(repair_turnaround()),
+        QUARTERLY_REPORT: quarterly_report(),
     }
 
 
@@ -194,18 +226,31 @@ def run_demo(folder: Path, *, step=None) -> list:
     """Write the examples into ``folder`` and build every report their recipes name.
 
     The housing scenario is built twice: on October's data, then on the
-    November refresh, so its reports carry the "what changed" section.
-    Returns the report outcomes in build order.
+    November refresh, so its reports carry the "what changed" section; the
+    program's own quarterly report is filled in place each time (narrator
+    fill), so it too says what changed. Returns the outcomes in build order.
     """
-    from narrator.recipe import build_recipe, load_recipe
+    from narrator.places.fill import fill_document
+    from narrator.recipe import build_recipe, load_recipe, recipe_collection
 
     folder = Path(folder)
     write_examples(folder)
     outcomes = []
+
+    def fill_quarterly(recipe) -> None:
+        outcomes.append(fill_document(
+            folder / QUARTERLY_REPORT, recipe_collection(recipe, step=step), locale=recipe.report.locale,
+            currency=recipe.report.currency, generated_at=recipe.report.generated,
+            protect=(recipe.data.path, recipe.source)))
+
     for name in RECIPES:
         recipe_path = folder / f"{name}.toml"
         if name == "housing":
-            outcomes.extend(build_recipe(load_recipe(recipe_path), step=step))
+            recipe = load_recipe(recipe_path)
+            outcomes.extend(build_recipe(recipe, step=step))
+            fill_quarterly(recipe)
             atomic_write_bytes(folder / "housing_waits.csv", data_files()["housing_waits_2026-11.csv"])
         outcomes.extend(build_recipe(load_recipe(recipe_path), step=step))
+        if name == "housing":
+            fill_quarterly(load_recipe(recipe_path))
     return outcomes

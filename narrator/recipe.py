@@ -11,6 +11,8 @@ Name                           What it is
 :class:`DataSettings`          the ``[data]`` table
 :class:`ReportSettings`        the ``[report]`` table
 :class:`Output`                one ``[outputs]`` entry: audience and report path
+:func:`recipe_collection`      the recipe's data, read and described (no report written)
+:data:`MARKED`                 the ``[outputs]`` key of documents with marked places
 :data:`RECIPE_KEYS`            every key each table takes, with its kind
 =============================  ================================================
 
@@ -20,6 +22,8 @@ Layout (keys are ours; every path is relative to the recipe's folder)::
                  engine (memory, stream, dask), scheduler (a Dask scheduler address)
     [report]     title, organisation, locale, currency, template, generated
     [outputs]    <audience> = "<report path>.docx"   (memo, methods, full)
+                 marked = "<your document>.docx"  (or a list): documents of the user's own
+                 whose marked places each build fills in place (narrator.places)
     [[variables]] column, label, unit, valid_min, valid_max, lower_bound,
                  upper_bound, population, outlier_rule
 
@@ -55,6 +59,7 @@ from narrator.findings import OUTLIER_RULES
 from narrator.groups.analysis import DEFAULT_PRIVACY_THRESHOLD, VariableRequest
 
 AUDIENCE_NAMES = ("memo", "methods", "full")  # as narrator.phrasing.planner.AUDIENCES
+MARKED = "marked"  # [outputs] key: the user's own documents whose marked places a build fills
 
 # Kinds of value a key takes, with the words an error uses for each.
 _KIND_WORDS = {
@@ -122,6 +127,7 @@ class Recipe:
     report: ReportSettings
     outputs: tuple[Output, ...]
     variables: tuple[VariableRequest, ...]
+    marked: tuple[Output, ...] = ()  # [outputs] marked: documents filled in place, audience "marked"
 
     @property
     def folder(self) -> Path:
@@ -374,18 +380,43 @@ def _variable(checker: _Checker, entry: int, values: Any) -> VariableRequest:
     )
 
 
-def _outputs(checker: _Checker, folder: Path, values: dict[str, Any]) -> tuple[Output, ...]:
+def _marked(checker: _Checker, folder: Path, value: Any, seen: dict[str, str]) -> list[Output]:
+    """The ``marked`` documents: one path or a list, each an existing .docx of the user's."""
+    line = checker.line("outputs", None, MARKED)
+    texts = value if isinstance(value, list) else [value]
+    if not texts or not all(isinstance(text, str) and text.strip() for text in texts):
+        raise checker.fail(f"[outputs] {MARKED} must be a document path in quotes, such as \"quarterly.docx\", or "
+                           f"a list of them, not {json.dumps(value, default=str)} ({_kind_of(value)})", line)
+    found = []
+    for text in texts:
+        if Path(text).suffix.lower() != ".docx":
+            raise checker.fail(f"[outputs] {MARKED} = \"{text}\" must end in .docx", line)
+        path = _existing_file(checker, folder, "outputs", MARKED, text)
+        key = os.path.normcase(os.path.abspath(path))
+        if key in seen:
+            raise checker.fail(f"[outputs] {MARKED} and {seen[key]} name the same document \"{text}\"", line)
+        seen[key] = MARKED
+        found.append(Output(MARKED, path, text))
+    return found
+
+
+def _outputs(checker: _Checker, folder: Path, values: dict[str, Any]) -> tuple[tuple[Output, ...], tuple[Output, ...]]:
+    """(the reports, the marked documents) an [outputs] table names."""
     if not values:
         raise checker.fail("[outputs] names no report; add a line such as full = \"report.docx\"",
                            checker.line("outputs", None, None))
     outputs, seen = [], {}
+    marked: list[Output] = []
     for audience, text in values.items():
         line = checker.line("outputs", None, audience)
+        if audience == MARKED:
+            marked = _marked(checker, folder, text, seen)
+            continue
         if audience not in AUDIENCE_NAMES:
             close = difflib.get_close_matches(audience, AUDIENCE_NAMES, n=1, cutoff=0.5)
             hint = f"; did you mean '{close[0]}'?" if close else ""
             raise checker.fail(f"unknown audience '{audience}' in [outputs]; audiences are "
-                               f"{', '.join(AUDIENCE_NAMES)}{hint}", line)
+                               f"{', '.join(AUDIENCE_NAMES)} (and {MARKED} for your own documents){hint}", line)
         if not isinstance(text, str) or not text.strip():
             raise checker.fail(f"[outputs] {audience} must be a report path in quotes, such as \"report.docx\", "
                                f"not {json.dumps(text, default=str)} ({_kind_of(text)})", line)
@@ -397,7 +428,7 @@ def _outputs(checker: _Checker, folder: Path, values: dict[str, Any]) -> tuple[O
             raise checker.fail(f"[outputs] {audience} and {seen[key]} name the same report \"{text}\"", line)
         seen[key] = audience
         outputs.append(Output(audience, path, text))
-    return tuple(outputs)
+    return tuple(outputs), tuple(marked)
 
 
 def load_recipe(path: str | os.PathLike[str]) -> Recipe:
@@ -477,7 +508,7 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         generated=_generated(checker, report_table.get("generated")),
     )
 
-    outputs = _outputs(checker, folder, _table(checker, data, "outputs", required=True))
+    outputs, marked = _outputs(checker, folder, _table(checker, data, "outputs", required=True))
     entries = data.get("variables")
     if entries is None:
         raise checker.fail("the recipe needs at least one [[variables]] table with a column", None)
@@ -488,11 +519,12 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         raise checker.fail("'variables' must hold one or more [[variables]] tables",
                            checker.line("variables", None, None))
     variables = tuple(_variable(checker, entry, values) for entry, values in enumerate(entries))
-    for output in outputs:
+    for output in (*outputs, *marked):
         if output.path.resolve() == data_settings.path.resolve():
             raise checker.fail(f"[outputs] {output.audience} is the data file itself",
                                checker.line("outputs", None, output.audience))
-    return Recipe(source=source, data=data_settings, report=report_settings, outputs=outputs, variables=variables)
+    return Recipe(source=source, data=data_settings, report=report_settings, outputs=outputs, variables=variables,
+                  marked=marked)
 
 
 # --------------------------------------------------------------------------- building
@@ -526,7 +558,9 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
     and sidecar. A recipe with one variable and no grouping column gives the
     same report as ``narrator draft``; several variables or a grouping column
     give the overview-and-parts report of
-    :func:`narrator.report.report_from_collection`.
+    :func:`narrator.report.report_from_collection`. The ``marked`` documents
+    are filled last, from the same findings (:func:`narrator.places.fill.fill_document`),
+    each giving a :class:`narrator.places.fill.FillOutcome`.
     """
     from narrator.groups.analysis import analyse_file
     from narrator.report import report_from_collection, report_from_findings
@@ -558,12 +592,29 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
             previous = _previous_findings(output.path)
             outcomes.append(report_from_collection(collection, output.path, audience=output.audience,
                                                    step=announce, previous=previous, **common))
+    outcomes.extend(_fill_marked(recipe, collection, announce))
     return outcomes
 
 
 def _build_large(recipe: Recipe, engine: str, announce: Callable[[str], None]) -> list:
     """One variable read by the stream or dask engine (narrator.scale), one report per output."""
     from narrator.report import report_from_findings
+
+    sample, findings = _describe_large_variable(recipe, engine, announce)
+    common = _report_options(recipe)
+    outcomes = []
+    for output in recipe.outputs:
+        _make_folder_for(output)
+        announce(f"writing the {output.audience} report")
+        outcomes.append(report_from_findings(sample, findings, output.path, audience=output.audience, **common))
+    if recipe.marked:
+        from narrator.places.fill import single_collection
+
+        outcomes.extend(_fill_marked(recipe, single_collection(sample, findings), announce))
+    return outcomes
+
+
+def _describe_large_variable(recipe: Recipe, engine: str, announce: Callable[[str], None]):
     from narrator.scale.entry import describe_large
 
     data = recipe.data
@@ -572,17 +623,45 @@ def _build_large(recipe: Recipe, engine: str, announce: Callable[[str], None]) -
                             "group_by or sheet")
     variable = recipe.variables[0]
     announce(f"reading {data.path_text} with the {engine} engine")
-    sample, findings = describe_large(
+    return describe_large(
         data.path, variable.column, engine=engine, scheduler=data.scheduler, unit=variable.unit,
         decimal_comma=data.decimal_comma, missing=data.missing, valid_min=variable.valid_min,
         valid_max=variable.valid_max, name=variable.label, lower_bound=variable.lower_bound,
         upper_bound=variable.upper_bound, population=variable.population, outlier_rule=variable.outlier_rule)
-    common = _report_options(recipe)
+
+
+def recipe_collection(recipe: Recipe, *, step: Callable[[str], None] | None = None):
+    """The recipe's data read and described, as :func:`build_recipe` reads them, without writing any report.
+
+    Returns a :class:`narrator.groups.analysis.Collection` (what ``narrator fill`` takes).
+    """
+    from narrator.groups.analysis import analyse_file
+    from narrator.scale.entry import choose_engine
+
+    announce = step or (lambda _what: None)
+    data = recipe.data
+    engine = choose_engine(data.engine, data.path)
+    if engine != "memory":
+        from narrator.places.fill import single_collection
+
+        return single_collection(*_describe_large_variable(recipe, engine, announce))
+    return analyse_file(
+        data.path, recipe.variables, sheet=data.sheet, decimal_comma=data.decimal_comma, missing=data.missing,
+        group_by=data.group_by, privacy_threshold=data.privacy_threshold, step=announce,
+    )
+
+
+def _fill_marked(recipe: Recipe, collection, announce: Callable[[str], None]) -> list:
+    """Fill each ``marked`` document of the recipe in place (narrator.places.fill); one outcome each."""
+    from narrator.places.fill import fill_document
+
     outcomes = []
-    for output in recipe.outputs:
-        _make_folder_for(output)
-        announce(f"writing the {output.audience} report")
-        outcomes.append(report_from_findings(sample, findings, output.path, audience=output.audience, **common))
+    report = recipe.report
+    for output in recipe.marked:
+        announce(f"filling {output.path_text}")
+        outcomes.append(fill_document(output.path, collection, locale=report.locale, currency=report.currency,
+                                      generated_at=report.generated,
+                                      protect=(recipe.data.path, recipe.source, report.template)))
     return outcomes
 
 
@@ -667,6 +746,7 @@ def starter_recipe(
         "[outputs]                      # audience = report file; audiences: memo, methods, full",
         f"memo = {_toml_text(f'{stem}-memo.docx')}",
         f"full = {_toml_text(f'{stem}-full.docx')}",
+        "# marked = \"quarterly-report.docx\"   # your own Word file whose marked places each build fills",
         "",
         "# One [[variables]] table per column to describe.",
         "# Keys: column, label, unit, valid_min / valid_max (values outside are impossible and left out),",

@@ -10,6 +10,7 @@ Name                           What it is
 =============================  ================================================
 :func:`write_report`           the .docx and its findings sidecar, both atomic
 :func:`build_document`         the .docx as bytes (no file touched)
+:func:`plain_document`         a plain document of the user's kind (the example's own report)
 :class:`ReportFrame`           words around the narrative: title lines,
                                numbering patterns, the reproducibility appendix
 :func:`xml_safe`               text with characters XML 1.0 cannot hold removed
@@ -39,7 +40,6 @@ import copy
 import datetime as dt
 import io
 import os
-import re
 import zipfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -60,6 +60,7 @@ from narrator.findings import Findings
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
 from narrator.resources import template_file
 from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
+from narrator.xmltext import xml_safe
 
 STYLE_NAMES = {
     "title": "Title",
@@ -91,11 +92,6 @@ _A4 = (Cm(21.0), Cm(29.7))
 _MARGIN = Cm(2.5)
 MAX_FIGURE_WIDTH = Cm(15.2)
 
-# XML 1.0 (section 2.2) allows tab, newline, carriage return and the ranges
-# below; everything else (C0 controls, lone surrogates, U+FFFE/U+FFFF) is removed.
-_NOT_XML = re.compile("[^\t\n\r\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
-
-
 @dataclass(frozen=True, slots=True)
 class ReportFrame:
     """The words around the narrative, already taken from the phrase bank and formatted.
@@ -113,20 +109,6 @@ class ReportFrame:
     appendix_intro: str | None = None
     appendix_header: tuple[str, str] | None = None
     appendix_rows: tuple[tuple[str, str], ...] = ()
-
-
-def xml_safe(text: object) -> str:
-    """``text`` as a string with every character XML 1.0 cannot hold removed.
-
-    Keeps tab and newline (python-docx writes them as ``w:tab`` and ``w:br``);
-    a carriage return becomes a newline. The allowed set is the ``Char``
-    production of the XML 1.0 recommendation (W3C 2008, section 2.2).
-
-    >>> xml_safe("a\\x00b\\x1bc\\td")
-    'abc\\td'
-    """
-    value = str(text).replace("\r\n", "\n").replace("\r", "\n")
-    return _NOT_XML.sub("", value)
 
 
 def default_template() -> bytes:
@@ -558,3 +540,46 @@ def _stable_zip(data: bytes, moment: dt.datetime) -> bytes:
             member.external_attr = 0o644 << 16
             archive.writestr(member, source.read(info.filename))
     return buffer.getvalue()
+
+
+# --------------------------------------------------------------------------- a document of the user's kind
+
+
+PLAIN_STYLES = {"title": "title", "heading": "heading", "body": "body", "bullet": "bullet"}
+
+
+def plain_document(
+    blocks: Sequence[tuple[str, str]],
+    *,
+    header: str,
+    properties: Mapping[str, str],
+    generated_at: dt.datetime,
+    locale: str,
+) -> bytes:
+    """A plain document of the kind a user writes (no narrative): ``(style, text)`` paragraphs and a header line.
+
+    ``style`` is one of :data:`PLAIN_STYLES` (title, heading, body, bullet),
+    laid out in the default style base; the base's footer carries the page
+    number. The example of a user's own report (narrator.demo) is made this
+    way; same inputs and time, same bytes.
+    """
+    document = docx.Document(io.BytesIO(default_template()))
+    _clear_body(document)
+    _page_for_locale(document, locale)
+    _set_language(document, locale)
+    bullets_numbered = _style_has_numbering(document, STYLE_NAMES["bullet"])
+    for style, text in blocks:
+        if style not in PLAIN_STYLES:
+            raise NarratorError(f"paragraph style {style!r} is not one of {', '.join(PLAIN_STYLES)}")
+        shown = xml_safe(text)
+        if style == "bullet" and not bullets_numbered:
+            shown = "\u2022\t" + shown
+        document.add_paragraph(shown, style=STYLE_NAMES[PLAIN_STYLES[style]])
+    section = document.sections[0]
+    section.header.is_linked_to_previous = False
+    section.header.paragraphs[0].text = xml_safe(header)
+    _set_properties(document, properties, generated_at, locale)
+    _drop_thumbnail(document)
+    buffer = io.BytesIO()
+    document.save(buffer)
+    return _stable_zip(buffer.getvalue(), generated_at)

@@ -38,12 +38,26 @@ def fresh_copy(tmp_path: Path) -> Path:
     return target
 
 
-def run_readme(name: str, folder: Path) -> subprocess.CompletedProcess:
+def start_readme(name: str, folder: Path) -> subprocess.Popen:
     env = {**os.environ, INNER: "1"}
     env.pop("VIRTUAL_ENV", None)
-    return subprocess.run(
-        ["bash", "-c", readme_command(name)], cwd=folder, env=env, capture_output=True, text=True, timeout=3000
+    return subprocess.Popen(
+        ["bash", "-c", readme_command(name)], cwd=folder, env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+        text=True,
     )
+
+
+@pytest.fixture(scope="module")
+def readme_runs(tmp_path_factory):
+    """Both set-up commands, each in its own fresh copy and fresh environment, run at the same time
+    (each is mostly one pip install: on two cores the pair takes about as long as one)."""
+    folders = {name: fresh_copy(tmp_path_factory.mktemp(name)) for name in ("demo", "test")}
+    started = {name: start_readme(name, folder) for name, folder in folders.items()}
+    results = {}
+    for name, process in started.items():
+        stdout, stderr = process.communicate(timeout=3000)
+        results[name] = (folders[name], process.returncode, stdout, stderr)
+    return results
 
 
 def test_ci_runs_the_readme_test_command():
@@ -51,20 +65,18 @@ def test_ci_runs_the_readme_test_command():
     assert "tests/readme_commands.py test" in script
 
 
-def test_demo_command_in_a_fresh_environment(tmp_path):
-    folder = fresh_copy(tmp_path)
-    result = run_readme("demo", folder)
-    assert result.returncode == 0, result.stdout[-3000:] + result.stderr[-3000:]
+def test_demo_command_in_a_fresh_environment(readme_runs):
+    folder, returncode, stdout, stderr = readme_runs["demo"]
+    assert returncode == 0, stdout[-3000:] + stderr[-3000:]
     reports = sorted(p.name for p in (folder / "demo-reports").rglob("*.docx"))
     assert reports, "the demo wrote no report"
     assert any(p.name.endswith(".findings.json") for p in (folder / "demo-reports").rglob("*.json"))
 
 
-def test_test_command_in_a_fresh_environment(tmp_path):
-    folder = fresh_copy(tmp_path)
-    result = run_readme("test", folder)
-    tail = result.stdout[-3000:] + result.stderr[-2000:]
-    assert result.returncode == 0, tail
-    last = result.stdout.strip().splitlines()[-1]
+def test_test_command_in_a_fresh_environment(readme_runs):
+    _folder, returncode, stdout, stderr = readme_runs["test"]
+    tail = stdout[-3000:] + stderr[-2000:]
+    assert returncode == 0, tail
+    last = stdout.strip().splitlines()[-1]
     assert " passed" in last and " failed" not in last, tail
     assert " deselected" in last, "the inner run should run only the smoke set: " + last

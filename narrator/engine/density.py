@@ -251,6 +251,52 @@ def _linear_bin(scaled: np.ndarray, start: float, step: float, size: int, *, ove
     return counts
 
 
+def _linear_bin_sorted(sorted_values: np.ndarray, centre: float, unit: float, start: float, step: float,
+                       size: int) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_linear_bin` of (sorted_values - centre) / unit, for values sorted ascending, as (grid points,
+    weights) of the non-empty grid points only, with no array the size of the data or of the grid.
+
+    Block by block, each value's grid index (which never decreases along sorted values) is formed as
+    there, and the weights of each run of equal indices are summed with one ``np.add.reduceat``. The
+    weights are the same numbers; only the order of their addition differs.
+    """
+    block = 1 << 16
+    position = np.empty(block)
+    lower = np.empty(block)
+    index = np.empty(block, dtype=np.intp)
+    points, weights = [], []
+    for first in range(0, sorted_values.size, block):
+        values = sorted_values[first : first + block]
+        here, low_share, where = position[: values.size], lower[: values.size], index[: values.size]
+        np.subtract(values, centre, out=here)
+        here /= unit
+        here -= start
+        here /= step
+        np.floor(here, out=low_share)
+        where[:] = low_share
+        np.clip(where, 0, size - 2, out=where)
+        here -= where  # the share of the weight that goes to the upper grid point
+        np.subtract(1.0, here, out=low_share)
+        runs = np.concatenate(([0], np.flatnonzero(where[1:] != where[:-1]) + 1))
+        grid_points = where[runs]
+        upper_weights, lower_weights = np.add.reduceat(here, runs), np.add.reduceat(low_share, runs)
+        # Each run gives its lower point and the next one; consecutive runs share points.
+        points.append(np.concatenate((grid_points, grid_points + 1)))
+        weights.append(np.concatenate((lower_weights, upper_weights)))
+    return _combined(np.concatenate(points), np.concatenate(weights))
+
+
+def _combined(points: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The points in ascending order with repeats merged, their weights added (a stable sort keeps
+    the order in which equal points' weights are added)."""
+    if points.size == 0:
+        return points, weights
+    order = np.argsort(points, kind="stable")
+    points, weights = points[order], weights[order]
+    starts = np.concatenate(([0], np.flatnonzero(points[1:] != points[:-1]) + 1))
+    return points[starts], np.add.reduceat(weights, starts)
+
+
 def _hermite_gaussian(order: int, u: np.ndarray) -> np.ndarray:
     """The order-th derivative of the standard normal density (orders 4 and 6)."""
     phi = np.exp(-0.5 * u * u) / math.sqrt(2.0 * math.pi)
@@ -469,7 +515,7 @@ def _reflection_images(lower: float | None, upper: float | None, reach: float) -
     return images
 
 
-def _check_bounds(array: np.ndarray, lower_bound: float | None, upper_bound: float | None) -> None:
+def check_bounds(array: np.ndarray, lower_bound: float | None, upper_bound: float | None) -> None:
     if lower_bound is not None:
         if not math.isfinite(lower_bound):
             raise NarratorError("density: the lower bound must be a finite number")
@@ -527,7 +573,22 @@ def estimate_density(
         ends = array
     if not isinstance(grid_size, int | np.integer) or grid_size < 2:
         raise NarratorError("density: grid_size must be a whole number of at least 2")
-    _check_bounds(ends, lower_bound, upper_bound)
+    check_bounds(ends, lower_bound, upper_bound)
+    if presorted and bandwidth is None and rule != "sheather-jones" and sd is not None and iqr is not None:
+        # Sorted values with the SD and IQR known: the bandwidth needs only the extremes in standard units,
+        # and the binning reads the values block by block.
+        n = array.size
+        units = _standard_units(array[[0, -1]], presorted=True)
+        low, high = float(units.scaled[0]), float(units.scaled[1])
+        sd_scaled, iqr_scaled = _sd_and_iqr(units.scaled, sd, iqr, units.unit)
+        width, used_rule, note = floored_bandwidth(units, *rule_bandwidth(units, n, rule, sd_scaled, iqr_scaled))
+        fine_start, fine_step, fine_size = fine_grid(low, high, width)
+        counts = _linear_bin_sorted(array, units.centre, units.unit, fine_start, fine_step, fine_size)
+        return density_from_fine_counts(
+            counts, n=n, centre=units.centre, unit=units.unit, width=width, rule=used_rule, note=note, low=low,
+            high=high, fine_start=fine_start, fine_step=fine_step, lower_bound=lower_bound,
+            upper_bound=upper_bound, grid_size=grid_size, keep_fine=keep_fine, fine_size=fine_size,
+        )
     units = _standard_units(array, presorted=presorted)
     if bandwidth is None:
         width, used_rule, note = _choose_scaled(units, rule, sd, iqr)
@@ -553,24 +614,30 @@ def density_from_fine_counts(
     counts: np.ndarray, *, n: int, centre: float, unit: float, width: float, rule: str, note: str | None,
     low: float, high: float, fine_start: float, fine_step: float, lower_bound: float | None,
     upper_bound: float | None, grid_size: int = DEFAULT_GRID_SIZE, keep_fine: bool = False,
+    fine_size: int | None = None,
 ) -> Density | tuple[Density, FineDensity]:
     """The rest of :func:`estimate_density` once the values are linearly binned on the fine grid.
 
     ``counts`` are the fine grid's binned counts (``fine_start`` + k ``fine_step``, standard units
-    t = (x - centre) / unit), ``width`` the bandwidth and ``low``, ``high`` the extremes, all in
+    t = (x - centre) / unit), as an array over the grid or as (non-empty points, their counts) with a
+    ``fine_size``; ``width`` the bandwidth and ``low``, ``high`` the extremes, all in
     standard units. The stream engine (narrator.scale) bins chunk by chunk and finishes here, so
     both engines give the same curve.
     """
-    fine_size = counts.size
+    if isinstance(counts, tuple):
+        points, weights = counts
+    else:
+        counts = np.asarray(counts, dtype=np.float64)
+        fine_size = counts.size
+        points = np.flatnonzero(counts)
+        weights = counts[points]
     lower = None if lower_bound is None else (lower_bound - centre) / unit
     upper = None if upper_bound is None else (upper_bound - centre) / unit
     reach = KERNEL_REACH_BANDWIDTHS * width
     half = min(math.ceil(reach / fine_step), fine_size - 1)
     u = np.arange(-half, half + 1) * (fine_step / width)
     kernel = np.exp(-0.5 * u * u) / (math.sqrt(2.0 * math.pi) * n * width)
-    fine_density = _convolve_same(counts, kernel)
-    np.maximum(fine_density, 0.0, out=fine_density)  # FFT round-off leaves tiny negatives far out
-    fine_grid = fine_start + np.arange(fine_size) * fine_step
+    fine_density = _convolve_clusters(points, weights, fine_size, kernel, fine_start, fine_step)
 
     largest = float(np.finfo(float).max)
     out_low = low - GRID_MARGIN_BANDWIDTHS * width
@@ -582,7 +649,7 @@ def density_from_fine_counts(
     grid = np.linspace(out_low, out_high, grid_size)
     density_scaled = np.zeros(grid_size)
     for sign, shift in _reflection_images(lower, upper, reach):
-        density_scaled += np.interp(shift + sign * grid, fine_grid, fine_density, left=0.0, right=0.0)
+        density_scaled += fine_density.interpolate(shift + sign * grid)
     reflected = (lower is not None and low - lower < reach) or (upper is not None and upper - high < reach)
 
     with np.errstate(over="ignore"):  # a rounding step past the largest double is clipped just below
@@ -621,7 +688,7 @@ class FineDensity:
     unit: float
     start: float
     step: float
-    values: np.ndarray
+    values: FineCurve
     lower: float | None  # reflecting bounds, standard units
     upper: float | None
     reach: float
@@ -631,10 +698,9 @@ def curve_between(fine: FineDensity, low: float, high: float, grid_size: int = D
     """(grid, density) in data units on ``grid_size`` points from ``low`` to ``high``, read from the fine
     estimate exactly as :func:`estimate_density` reads its own grid (reflections included)."""
     grid = np.linspace((low - fine.centre) / fine.unit, (high - fine.centre) / fine.unit, grid_size)
-    fine_grid = fine.start + np.arange(fine.values.size) * fine.step
     density_scaled = np.zeros(grid_size)
     for sign, shift in _reflection_images(fine.lower, fine.upper, fine.reach):
-        density_scaled += np.interp(shift + sign * grid, fine_grid, fine.values, left=0.0, right=0.0)
+        density_scaled += fine.values.interpolate(shift + sign * grid)
     grid_data = np.maximum.accumulate(np.clip(fine.centre + grid * fine.unit, low, high))
     grid_data[0], grid_data[-1] = low, high
     return grid_data, density_scaled / fine.unit
@@ -727,6 +793,77 @@ def _convolve_same(data: np.ndarray, kernel: np.ndarray) -> np.ndarray:
     result = np.fft.irfft(product, fast)[:full]
     start = (full - data.size) // 2
     return result[start : start + data.size].copy()
+
+
+_MAX_CLUSTERS = 64
+
+
+@dataclass(frozen=True, slots=True)
+class FineCurve:
+    """A curve on the grid start + j step (j = 0..size-1) that is zero outside a few segments: segment k
+    covers the points first[k] .. first[k] + length[k] - 1, its values stored from offsets[k] on."""
+
+    start: float
+    step: float
+    size: int
+    first: np.ndarray
+    length: np.ndarray
+    offsets: np.ndarray
+    values: np.ndarray
+
+    def at(self, index: np.ndarray) -> np.ndarray:
+        """The curve at grid points ``index`` (0 outside the segments)."""
+        k = np.searchsorted(self.first, index, side="right") - 1
+        safe = np.maximum(k, 0)
+        offset = index - self.first[safe]
+        inside = (k >= 0) & (offset < self.length[safe])
+        return np.where(inside, self.values[np.where(inside, self.offsets[safe] + offset, 0)], 0.0)
+
+    def interpolate(self, t: np.ndarray) -> np.ndarray:
+        """Linear interpolation between grid points, 0 beyond the grid (as numpy.interp with left=right=0)."""
+        position = (np.asarray(t, dtype=np.float64) - self.start) / self.step
+        inside = (position >= 0.0) & (position <= self.size - 1)
+        j = np.clip(np.floor(position), 0, self.size - 2).astype(np.intp)
+        share = position - j
+        below, above = self.at(j), self.at(j + 1)
+        return np.where(inside, below + share * (above - below), 0.0)
+
+
+def _convolve_clusters(points: np.ndarray, weights: np.ndarray, size: int, kernel: np.ndarray, start: float,
+                       step: float) -> FineCurve:
+    """The binned counts (``weights`` at grid ``points``, ascending) convolved with ``kernel`` as
+    :func:`_convolve_same` would, computed only where the result can be non-zero: around each cluster
+    of non-empty points (points closer than a kernel's width joined). A few far-out values stretch the
+    fine grid to a million points that are nearly all empty; the clusters hold the same sums. With very
+    many clusters, the span from the first to the last point is convolved as one.
+    """
+    half = (kernel.size - 1) // 2
+    if points.size == 0:
+        empty = np.zeros(0, dtype=np.intp)
+        return FineCurve(start, step, size, empty, empty, empty, np.zeros(0))
+    breaks = np.flatnonzero(np.diff(points) > 2 * half + 1)
+    starts = np.concatenate(([points[0]], points[breaks + 1]))
+    stops = np.concatenate((points[breaks], [points[-1]])) + 1
+    if starts.size > _MAX_CLUSTERS:
+        starts, stops = starts[:1], stops[-1:]
+    firsts, lengths, parts = [], [], []
+    for begin, end in zip(starts.tolist(), stops.tolist(), strict=True):
+        segment = np.zeros(end - begin)
+        chosen = slice(int(np.searchsorted(points, begin)), int(np.searchsorted(points, end)))
+        segment[points[chosen] - begin] = weights[chosen]
+        full = segment.size + kernel.size - 1
+        fast = next_fast_length(full)
+        part = np.fft.irfft(np.fft.rfft(segment, fast) * np.fft.rfft(kernel, fast), fast)[:full]
+        origin = begin - half  # grid point of part[0]
+        low, high = max(origin, 0), min(origin + full, size)
+        firsts.append(low)
+        lengths.append(high - low)
+        parts.append(part[low - origin : high - origin])
+    values = np.concatenate(parts)
+    np.maximum(values, 0.0, out=values)  # FFT round-off leaves tiny negatives far out
+    lengths_array = np.asarray(lengths, dtype=np.intp)
+    offsets = np.concatenate(([0], np.cumsum(lengths_array)[:-1])).astype(np.intp)
+    return FineCurve(start, step, size, np.asarray(firsts, dtype=np.intp), lengths_array, offsets, values)
 
 
 def next_fast_length(target: int) -> int:

@@ -8,6 +8,8 @@ Name                            What it does
 :func:`median_interval`         distribution-free order-statistic interval
                                 (Conover 1999), with its achieved coverage
 :func:`median_interval_min_n`   the smallest n for which that interval exists
+:func:`median_rank`             the rank k of that interval [x_(k), x_(n-k+1)]
+:func:`median_coverage`         its achieved coverage
 ``SMALL_SAMPLE_N``              below this, a clearly skewed sample gets the
                                 bootstrap (30, common practice)
 ``BOOTSTRAP_MIN_N``             fewest values for the bootstrap (8)
@@ -141,10 +143,10 @@ def median_interval(sorted_values: np.ndarray, *, level: float = 0.95) -> Interv
     n = data.size
     if n > 1 and bool(np.any(data[1:] < data[:-1])):
         raise NarratorError("a median interval needs values sorted ascending")
-    rank = _median_rank(n, level)
+    rank = median_rank(n, level)
     if rank is None:
         return None
-    coverage = 1.0 - 2.0 * binomial_cdf(rank - 1, n, 0.5)
+    coverage = median_coverage(rank, n)
     return Interval(
         low=float(data[rank - 1]),
         high=float(data[n - rank]),
@@ -163,13 +165,27 @@ def median_interval_min_n(level: float = 0.95) -> int:
     """
     _check_level(level)
     n = 1
-    while _median_rank(n, level) is None:
+    while median_rank(n, level) is None:
         n += 1
     return n
 
 
-def _median_rank(n: int, level: float) -> int | None:
-    """Largest k with P(B <= k - 1) <= (1 - level) / 2, B ~ Binomial(n, 1/2); None if there is none."""
+def median_coverage(rank: int, n: int) -> float:
+    """The coverage 1 - 2 P(B <= k - 1), B ~ Binomial(n, 1/2), of the interval [x_(k), x_(n-k+1)].
+
+    >>> round(median_coverage(2, 10), 4)
+    0.9785
+    """
+    return 1.0 - 2.0 * binomial_cdf(rank - 1, n, 0.5)
+
+
+def median_rank(n: int, level: float) -> int | None:
+    """The k of the median interval [x_(k), x_(n-k+1)]: the largest k with P(B <= k - 1) <= (1 - level) / 2,
+    B ~ Binomial(n, 1/2); None if there is none.
+
+    >>> median_rank(10, 0.95)
+    2
+    """
     if n == 0:
         return None
     tail = (1.0 - level) / 2.0

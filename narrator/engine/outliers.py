@@ -46,21 +46,6 @@ Note codes (``Outliers.note``):
 ``no_spread``              modified-z with MAD = MeanAD = 0: nothing flagged, fences None
 ``esd_stopped_no_spread``  ESD stopped before r steps: the remaining values were all equal
 =========================  =====================================================
-
-Degenerate rules and their fallback (:func:`degenerate_reason`, :func:`fallback_rule`; our own
-rule, recorded in ``Outliers.fallback_from`` and ``Outliers.fallback_reason``):
-
-* the skew-adjusted rule with a medcouple at its bound, |MC| = 1 (``medcouple_at_bound``). That
-  happens when the values on one side of the median all tie with it (half or more of a count
-  are 0): the medcouple then measures the ties, not the tail, and the fence on the long side
-  moves e^3 = 20 IQRs out, so the rule can flag almost nothing. Tukey's fences are used instead
-  (the adjusted rule with MC = 0), or the modified z-score when the IQR is 0 too;
-* Tukey's or the adjusted rule with IQR = 0 (``iqr_zero``): the fences sit on the quartiles and
-  every value that differs from them would be "unusual". The modified z-score (with its MeanAD
-  fallback when the MAD is 0 too) is used instead.
-
-A rule the user named is replaced the same way, and the findings say so: a report must not call a
-quarter of the values unusual because the fences collapsed.
 """
 
 from __future__ import annotations
@@ -69,40 +54,13 @@ import math
 
 import numpy as np
 
+from narrator.engine import rules
 from narrator.engine.distributions import t_ppf
+from narrator.engine.rules import MEAN_AD_CONSTANT, MIN_VALUES, MODIFIED_Z_CONSTANT, OutlierTest
 from narrator.errors import NarratorError
-from narrator.findings import LISTED_PER_SIDE, OUTLIER_RULES, Outliers
+from narrator.findings import LISTED_PER_SIDE, Outliers
 
-MIN_VALUES = 4  # below this, no rule is run
-
-# Iglewicz & Hoaglin (1993): 0.6745, the standard normal 0.75 quantile as they round it, makes
-# MAD / 0.6745 estimate the SD under normality.
-MODIFIED_Z_CONSTANT = 0.6745
-# Common-practice fallback when MAD = 0: sqrt(pi / 2), the ratio SD / mean absolute deviation under normality.
-MEAN_AD_CONSTANT = 1.253314
-MEDCOUPLE_BOUND = 1.0 - 1e-12  # |MC| at or above this is at its bound (the medcouple lies in [-1, 1])
-
-
-def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: float | None) -> str | None:
-    """Why ``rule`` cannot work on these data ("iqr_zero", "medcouple_at_bound"), or None when it can.
-
-    >>> degenerate_reason("adjusted", n=50, q1=0.0, q3=2.0, medcouple=1.0)
-    'medcouple_at_bound'
-    >>> degenerate_reason("tukey", n=50, q1=3.0, q3=3.0, medcouple=0.0)
-    'iqr_zero'
-    """
-    if n < MIN_VALUES or rule not in ("tukey", "adjusted"):
-        return None
-    if not q3 > q1:
-        return "iqr_zero"
-    if rule == "adjusted" and medcouple is not None and abs(medcouple) >= MEDCOUPLE_BOUND:
-        return "medcouple_at_bound"
-    return None
-
-
-def fallback_rule(reason: str) -> str:
-    """The rule that replaces a degenerate one (see the module docstring)."""
-    return "tukey" if reason == "medcouple_at_bound" else "modified-z"
+__all__ = ["MEAN_AD_CONSTANT", "MIN_VALUES", "MODIFIED_Z_CONSTANT", "detect_outliers", "esd_critical_values"]
 
 
 def detect_outliers(
@@ -124,6 +82,7 @@ def detect_outliers(
     coefficient: float = 1.5,
     far_coefficient: float = 3.0,
     modified_z_threshold: float = 3.5,
+    factor: float = 1.0,
 ) -> Outliers:
     """Flag outliers by one rule and report the rule, its constants and what it found.
 
@@ -141,62 +100,76 @@ def detect_outliers(
     ``esd_max_outliers`` if given, else ``max(1, floor(esd_max_fraction * n))``,
     and never more than n - 2 (the last step needs one degree of freedom).
 
+    ``factor`` (a power of two; 1 unless the values are huge or tiny) says the summaries describe
+    values / factor: the rule runs in those units and the finding is in the values' own units.
+    The decisions (rule choice, constants, fences) are :mod:`narrator.engine.rules`'; this applies
+    them to the values.
+
     References: Tukey (1977); Hubert & Vandervieren (2008); Iglewicz & Hoaglin
     (1993); Rosner (1983). See the module docstring for each rule.
     """
     values = np.asarray(values, dtype=np.float64)
     rows = np.asarray(rows)
     _check_inputs(values, rows, q1=q1, median=median, q3=q3, mad=mad, mean=mean, sd=sd)
-    if rule is None:
-        chosen_rule = "adjusted" if skew_clear else "tukey"
-        chosen_by, auto_reason = "auto", ("skewed" if skew_clear else "not_skewed")
-    elif rule in OUTLIER_RULES:
-        chosen_rule, chosen_by, auto_reason = rule, "user", None
-    else:
-        raise NarratorError(f"unknown outlier rule {rule!r}; choose one of {', '.join(OUTLIER_RULES)}")
+    choice = rules.rule_choice(rule, skew_clear)
     _check_constants(coefficient, far_coefficient, modified_z_threshold, esd_alpha, esd_max_fraction)
-
+    units = values if factor == 1.0 else values / factor
     n = values.size
-    fallback_from = fallback_reason = None
-    reason = degenerate_reason(chosen_rule, n=n, q1=q1, q3=q3, medcouple=medcouple)
-    if reason is not None:
-        fallback_from, fallback_reason, chosen_rule = chosen_rule, reason, fallback_rule(reason)
-    choice = {"rule": chosen_rule, "chosen_by": chosen_by, "auto_reason": auto_reason,
-              "fallback_from": fallback_from, "fallback_reason": fallback_reason}
-    if chosen_rule in ("tukey", "adjusted"):
-        constants = {"coefficient": float(coefficient), "far_coefficient": float(far_coefficient)}
-        if chosen_rule == "adjusted" and n >= MIN_VALUES:
-            if medcouple is None or not -1.0 <= medcouple <= 1.0:
-                raise NarratorError(
-                    f"the adjusted boxplot rule needs a medcouple in [-1, 1]; got {medcouple!r}"
-                )
-            constants.update(_adjusted_exponents(float(medcouple)))
-    elif chosen_rule == "modified-z":
-        constants = {"threshold": float(modified_z_threshold), "consistency_constant": MODIFIED_Z_CONSTANT}
-    else:
-        constants = {
-            "alpha": float(esd_alpha),
-            "max_outliers": float(_esd_bound(n, esd_max_outliers, esd_max_fraction)),
-        }
+    if choice.rule == "esd":
+        bound = _esd_bound(n, esd_max_outliers, esd_max_fraction)
+        constants = {"alpha": float(esd_alpha), "max_outliers": float(bound)}
+        if n < MIN_VALUES:
+            test = OutlierTest(choice, constants, (None, None, None, None), "not_run_too_few", None)
+            return _result(values, rows, *test.sides(units), test, factor)
+        return _generalized_esd(values, units, rows, choice, constants, mean=mean, sd=sd, factor=factor)
+    test = rules.outlier_test(
+        choice, n, q1=q1, median=median, q3=q3, mad=mad, medcouple=medcouple,
+        mean_absolute_deviation=lambda: float(np.mean(np.abs(units - median))), coefficient=coefficient,
+        far_coefficient=far_coefficient, modified_z_threshold=modified_z_threshold)
+    return _result(values, rows, *test.sides(units), test, factor)
 
-    if n < MIN_VALUES:
-        return _result(
-            values,
-            rows,
-            np.zeros(n, bool),
-            np.zeros(n, bool),
-            np.zeros(n, bool),
-            choice,
-            constants,
-            fences=(None, None, None, None),
-            note="not_run_too_few",
-        )
 
-    if chosen_rule in ("tukey", "adjusted"):
-        return _fence_rule(values, rows, choice, constants, q1=q1, q3=q3)
-    if chosen_rule == "modified-z":
-        return _modified_z(values, rows, choice, constants, median=median, mad=mad)
-    return _generalized_esd(values, rows, choice, constants, mean=mean, sd=sd)
+def flag_sorted(test: OutlierTest, values: np.ndarray, rows: np.ndarray, sorted_values: np.ndarray,
+                factor: float = 1.0) -> Outliers:
+    """What :func:`detect_outliers` finds for a fence or score rule (``test`` from
+    :func:`narrator.engine.rules.outlier_test`), read from the values sorted ascending.
+
+    Every such rule flags a lowest and a highest run of the sorted values (the test is monotone in
+    the value), so the counts come from binary searches that apply the test itself to single sorted
+    values, and only the listed values are looked for among the values in file order (``values``,
+    with their ``rows``), ties in file order as there.
+    """
+    n = sorted_values.size
+
+    def flagged_side(position: int, side: int) -> bool:
+        unit = np.array([sorted_values[position]]) / factor if factor != 1.0 else sorted_values[position : position + 1]
+        return bool(test.sides(unit)[side][0])
+
+    count_low = _run_where(n, lambda k: flagged_side(k, 0))
+    count_high = _run_where(n - count_low, lambda k: flagged_side(n - 1 - k, 1))
+    listed_low, listed_high = min(count_low, LISTED_PER_SIDE), min(count_high, LISTED_PER_SIDE)
+    low_index = high_index = np.zeros(0, dtype=np.intp)
+    if listed_low:
+        low_index = _ascending(values, values <= sorted_values[listed_low - 1])[:listed_low]
+    if listed_high:
+        high_index = _ascending(values, values >= sorted_values[n - listed_high])[-listed_high:]
+    return rules.outliers_found(
+        test, factor, low_values=values[low_index], low_rows=rows[low_index], high_values=values[high_index],
+        high_rows=rows[high_index], count_low=count_low, count_high=count_high,
+        low_range=(sorted_values[0], sorted_values[count_low - 1]) if count_low else None,
+        high_range=(sorted_values[n - count_high], sorted_values[-1]) if count_high else None)
+
+
+def _run_where(length: int, holds) -> int:
+    """How many of the positions 0, 1, ... a test ``holds`` for before it first fails (it holds on a prefix)."""
+    low, high = 0, length
+    while low < high:
+        middle = (low + high) // 2
+        if holds(middle):
+            low = middle + 1
+        else:
+            high = middle
+    return low
 
 
 def esd_critical_values(n: int, max_outliers: int, alpha: float = 0.05) -> np.ndarray:
@@ -273,77 +246,12 @@ def _esd_bound(n: int, max_outliers: int | None, max_fraction: float) -> int:
     return max(0, min(bound, n - 2))
 
 
-def _adjusted_exponents(mc: float) -> dict[str, float]:
-    # Hubert & Vandervieren (2008), eq. (5): the longer tail's fence moves out, the shorter one's in.
-    lower_exponent, upper_exponent = (-4.0, 3.0) if mc >= 0 else (-3.0, 4.0)
-    return {
-        "medcouple": mc,
-        "lower_exponent": lower_exponent,
-        "upper_exponent": upper_exponent,
-        "lower_multiplier": math.exp(lower_exponent * mc),
-        "upper_multiplier": math.exp(upper_exponent * mc),
-    }
-
-
-def _fence_rule(values, rows, choice, constants, *, q1, q3) -> Outliers:
-    iqr = q3 - q1
-    lower_scale = constants.get("lower_multiplier", 1.0) * iqr
-    upper_scale = constants.get("upper_multiplier", 1.0) * iqr
-    fences = (
-        q1 - constants["coefficient"] * lower_scale,
-        q3 + constants["coefficient"] * upper_scale,
-        q1 - constants["far_coefficient"] * lower_scale,
-        q3 + constants["far_coefficient"] * upper_scale,
-    )
-    low = values < fences[0]
-    high = values > fences[1]
-    far = (values < fences[2]) | (values > fences[3])
-    note = "iqr_zero" if iqr == 0 else None
-    return _result(values, rows, low, high, far, choice, constants, fences=fences, note=note)
-
-
-def _modified_z(values, rows, choice, constants, *, median, mad) -> Outliers:
-    threshold = constants["threshold"]
-    note = None
-    if mad > 0:
-        scale = mad / constants["consistency_constant"]
-        constants["mad"] = float(mad)
-    else:
-        # More than half the values equal the median. Common practice: the mean absolute deviation
-        # from the median, scaled by sqrt(pi / 2), stands in for MAD / 0.6745.
-        mean_ad = float(np.mean(np.abs(values - median)))
-        constants.pop("consistency_constant")
-        constants["mean_ad_constant"] = MEAN_AD_CONSTANT
-        constants["mean_absolute_deviation"] = mean_ad
-        if mean_ad == 0:
-            empty = np.zeros(values.size, bool)
-            return _result(
-                values,
-                rows,
-                empty,
-                empty,
-                empty,
-                choice,
-                constants,
-                fences=(None, None, None, None),
-                note="no_spread",
-            )
-        scale = MEAN_AD_CONSTANT * mean_ad
-        note = "mad_zero_fallback"
-    score = (values - median) / scale
-    low = score < -threshold
-    high = score > threshold
-    fences = (median - threshold * scale, median + threshold * scale, None, None)
-    empty = np.zeros(values.size, bool)
-    return _result(values, rows, low, high, empty, choice, constants, fences=fences, note=note)
-
-
-def _generalized_esd(values, rows, choice, constants, *, mean, sd) -> Outliers:
+def _generalized_esd(values, units, rows, choice, constants, *, mean, sd, factor) -> Outliers:
     """Rosner (1983): remove the most extreme value r times, then keep the largest significant step."""
     n = values.size
     bound = int(constants["max_outliers"])
-    order = np.argsort(values, kind="stable")
-    ordered = values[order]
+    order = np.argsort(units, kind="stable")
+    ordered = units[order]
     statistics, removed_positions, removed_low = _esd_steps(ordered, bound, mean=mean, sd=sd)
     steps_run = len(statistics)
     critical = esd_critical_values(n, bound, constants["alpha"])
@@ -359,17 +267,8 @@ def _generalized_esd(values, rows, choice, constants, *, mean, sd) -> Outliers:
     for position, is_low in zip(removed_positions[:count], removed_low[:count], strict=True):
         (low if is_low else high)[order[position]] = True
     note = "esd_stopped_no_spread" if steps_run < bound else None
-    return _result(
-        values,
-        rows,
-        low,
-        high,
-        np.zeros(n, bool),
-        choice,
-        constants,
-        fences=(None, None, None, None),
-        note=note,
-    )
+    test = OutlierTest(choice, constants, (None, None, None, None), note, None)
+    return _result(values, rows, low, high, test, factor)
 
 
 # Downdating the sum of squares after removing a far value loses digits (the removed value
@@ -428,34 +327,15 @@ def _two_pass(values: np.ndarray) -> tuple[float, float]:
     return mean, float(np.sum((values - mean) ** 2))
 
 
-def _result(values, rows, low, high, far, choice, constants, *, fences, note) -> Outliers:
+def _result(values, rows, low, high, test: OutlierTest, factor: float) -> Outliers:
     low_index = _ascending(values, low)
     high_index = _ascending(values, high)
-    listed = np.concatenate([low_index[:LISTED_PER_SIDE], high_index[max(0, high_index.size - LISTED_PER_SIDE):]])
-    listed_far = listed[far[listed]]
-    return Outliers(
-        rule=choice["rule"],
-        chosen_by=choice["chosen_by"],
-        auto_reason=choice["auto_reason"],
-        constants=constants,
-        lower_fence=_float_or_none(fences[0]),
-        upper_fence=_float_or_none(fences[1]),
-        far_lower_fence=_float_or_none(fences[2]),
-        far_upper_fence=_float_or_none(fences[3]),
-        count=int(low_index.size + high_index.size),
-        count_low=int(low_index.size),
-        count_high=int(high_index.size),
-        values=tuple(float(v) for v in values[listed]),
-        rows=tuple(int(r) for r in rows[listed]),
-        far_out_values=tuple(float(v) for v in values[listed_far]),
-        far_out_rows=tuple(int(r) for r in rows[listed_far]),
-        note=note,
-        listed_low=int(min(low_index.size, LISTED_PER_SIDE)),
-        low_range=_span(values, low_index),
-        high_range=_span(values, high_index),
-        fallback_from=choice.get("fallback_from"),
-        fallback_reason=choice.get("fallback_reason"),
-    )
+    return rules.outliers_found(
+        test, factor, low_values=values[low_index[:LISTED_PER_SIDE]], low_rows=rows[low_index[:LISTED_PER_SIDE]],
+        high_values=values[high_index[max(0, high_index.size - LISTED_PER_SIDE):]],
+        high_rows=rows[high_index[max(0, high_index.size - LISTED_PER_SIDE):]],
+        count_low=low_index.size, count_high=high_index.size, low_range=_span(values, low_index),
+        high_range=_span(values, high_index))
 
 
 def _span(values: np.ndarray, ascending_index: np.ndarray) -> tuple[float, float] | None:
@@ -468,7 +348,3 @@ def _ascending(values: np.ndarray, mask: np.ndarray) -> np.ndarray:
     """Indices of the masked values, ascending by value, ties in file order."""
     index = np.nonzero(mask)[0]
     return index[np.argsort(values[index], kind="stable")]
-
-
-def _float_or_none(value: float | None) -> float | None:
-    return None if value is None else float(value)

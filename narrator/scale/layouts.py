@@ -120,7 +120,7 @@ def density_layout(
         raise NarratorError(f"the bandwidth rule {rule!r} needs every value in memory; with more data than "
                             "memory use 'silverman' or 'scott'")
     ends = np.array([low, high])
-    engine_density._check_bounds(ends, lower_bound, upper_bound)
+    engine_density.check_bounds(ends, lower_bound, upper_bound)
     units = engine_density.standard_units(ends)  # they depend on the extremes alone
     centre, unit, has_spread = units.centre, units.unit, units.has_spread
     low_s, high_s = float(units.scaled[0]), float(units.scaled[1])

@@ -15,6 +15,7 @@ Name                       What it does
 :class:`OrderStatistics`   exact values by rank from filled PartitionCounts
 :func:`type7_ranks`        the two ranks each type 7 quantile interpolates
 :func:`type7_quantiles`    type 7 quantiles from an order-statistic lookup
+                           (:func:`narrator.engine.rules.quantiles_at`)
 =========================  =====================================================
 """
 
@@ -25,7 +26,12 @@ from collections.abc import Callable, Iterable
 
 import numpy as np
 
+from narrator.engine.rules import median_at, quantiles_at
 from narrator.scale.summaries import PartitionCounts, QuantileSketch
+
+# The type 7 quantiles and the median from an order-statistic lookup are the engine's own.
+type7_quantiles = quantiles_at
+median_of = median_at
 
 BRACKET_MARGIN = 2.0
 WIDEN_FACTOR = 8.0
@@ -116,26 +122,5 @@ def type7_ranks(n: int, probabilities) -> list[int]:
     return sorted({int(r) for r in np.concatenate([low, high])})
 
 
-def type7_quantiles(value_at: Callable[[int], float], n: int, probabilities, factor: float = 1.0) -> np.ndarray:
-    """Hyndman & Fan (1996) type 7 quantiles with the arithmetic of
-    :func:`narrator.engine.moments.quantiles_sorted`, of the values divided by ``factor``."""
-    p = np.asarray(probabilities, dtype=float)
-    h = (n - 1) * p
-    low = np.floor(h).astype(np.int64)
-    high = np.minimum(low + 1, n - 1)
-    fraction = h - low
-    lower_values = np.array([value_at(int(r)) for r in low]) / factor
-    upper_values = np.array([value_at(int(r)) for r in high]) / factor
-    return np.where(fraction == 0, lower_values, lower_values + fraction * (upper_values - lower_values))
-
-
 def median_ranks(n: int) -> list[int]:
     return [n // 2] if n % 2 else [n // 2 - 1, n // 2]
-
-
-def median_of(value_at: Callable[[int], float], n: int, factor: float = 1.0) -> float:
-    """The middle value, or the mean of the two middle values (as :func:`narrator.engine.moments.median_sorted`)."""
-    middle = n // 2
-    if n % 2:
-        return float(value_at(middle) / factor)
-    return float(value_at(middle - 1) / factor / 2 + value_at(middle) / factor / 2)

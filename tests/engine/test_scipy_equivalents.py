@@ -4,7 +4,7 @@ Reference libraries: scipy (stats.norm, stats.t, stats.binom, stats.binomtest,
 signal.fftconvolve, signal.find_peaks) and numpy (median, quantile, bincount).
 The signal and sorted-data stand-ins must give the same number to the last bit, so
 findings do not change when the engine avoids a slow import or a pass over the data; the
-distribution functions are our own and agree to about 1e-11 relative or better.
+distribution functions (scipy.special underneath) agree to about 1e-11 relative or better.
 """
 
 import numpy as np
@@ -23,9 +23,9 @@ def _relative(found: float, expected: float) -> float:
 
 
 def test_distribution_functions_match_scipy_stats():
-    # Reference: scipy.stats (norm.isf, t.ppf, binom.cdf/sf/ppf). Our functions are computed with the
-    # standard library (narrator.engine.distributions); they must agree to about 1e-11 relative
-    # wherever the engine calls them, and the binomial quantile exactly.
+    # Reference: scipy.stats (norm.isf, t.ppf, binom.cdf/sf/ppf). Our functions call scipy.special
+    # (narrator.engine.distributions, without importing scipy.stats); they must agree to about 1e-11
+    # relative wherever the engine calls them, and the binomial quantile exactly.
     for _ in range(1500):
         q = float(RNG.choice([RNG.uniform(1e-9, 1 - 1e-9), RNG.uniform(0.49, 0.51), 10 ** -RNG.uniform(1, 9)]))
         df = float(RNG.choice([RNG.integers(1, 30), RNG.integers(1, 10**5), RNG.uniform(0.5, 50),
@@ -109,7 +109,7 @@ def test_sorted_shortcuts_match_full_passes():
         assert median_abs_deviation_sorted(values, middle) == float(np.median(np.abs(values - middle)))
         if n >= 2:
             expected = np.quantile(values, [0.25, 0.75])
-            got = quality._linear_quantiles(lambda i, v=values: v[i], n, [0.25, 0.75])
+            got = quality.linear_quantiles(lambda i, v=values: v[i], n, [0.25, 0.75])
             assert np.array_equal(got, expected)
         width = float(RNG.choice([0.5, 1.0, 0.3]))
         tolerance = bins._edge_tolerance(values[0], values[-1], width, 0.0)
