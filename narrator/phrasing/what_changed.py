@@ -29,17 +29,24 @@ def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sen
     item = changes.item(f"center.{changes.lead}")
     if item is None:
         return None
-    decimals = ctx.memo_decimals
     values = {"measure": ctx.text(f"changes.measure.{changes.lead}"), "old": ctx.memo(item.old),
-              "new": ctx.memo(item.new), "difference": ctx.signed(item.difference or 0.0, decimals),
-              "low": ctx.signed(item.low, decimals) if item.low is not None else "",
-              "high": ctx.signed(item.high, decimals) if item.high is not None else "",
+              "new": ctx.memo(item.new), "difference": _signed_quantity(ctx, item.difference or 0.0),
+              "low": _signed_quantity(ctx, item.low) if item.low is not None else "",
+              "high": _signed_quantity(ctx, item.high) if item.high is not None else "",
               "level": ctx.fmt.percent(item.level or 0.95, 0)}
     claim = {"measure": changes.lead, "old": item.old, "new": item.new, "difference": item.difference,
              "low": item.low, "high": item.high, "level": item.level, "reason": item.reason,
              "old_shown": values["old"], "new_shown": values["new"]}
     return ctx.say("changes.center", (f"center.{changes.lead}",), about=facts, claim=claim, claim_about=about,
                    **values)
+
+
+def _signed_quantity(ctx: WordingContext, value: float) -> str:
+    """A difference with its unit, at the memo's rounding, with a plus sign when it is above zero."""
+    amount = ctx.memo(value)
+    if value > 0 and amount != ctx.memo(0.0):
+        return ctx.text("format.signed_positive", number=amount)
+    return amount
 
 
 def _spread_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sentence | None:
@@ -61,7 +68,7 @@ def _fences(ctx: WordingContext, findings: Findings) -> str:
     flagged = findings.outliers
     if flagged is None or flagged.lower_fence is None or flagged.upper_fence is None:
         return ""
-    return ctx.text("format.range", low=ctx.memo(flagged.lower_fence), high=ctx.memo(flagged.upper_fence))
+    return ctx.text("format.both", low=ctx.memo(flagged.lower_fence), high=ctx.memo(flagged.upper_fence))
 
 
 def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: Findings,
