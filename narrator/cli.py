@@ -75,7 +75,21 @@ def add_reading_options(parser: argparse.ArgumentParser) -> None:
 
 
 def read_and_describe(args: argparse.Namespace):
-    """Read the column the options name and describe it: (sample, findings)."""
+    """Read the column the options name and describe it: (sample, findings); a column with no number stops here."""
+    sample, findings = _read_and_describe(args)
+    require_numbers(sample, findings, f"{Path(args.file).name}: column {args.column!r}")
+    return sample, findings
+
+
+def require_numbers(sample, findings, where: str) -> None:
+    """One clear message, not a report with n = 0, when a column holds no number at all."""
+    from narrator.reading.sample import no_numbers
+
+    if findings.n == 0:
+        raise NarratorError(f"{where} has no numbers to describe: {no_numbers(sample)}")
+
+
+def _read_and_describe(args: argparse.Namespace):
     from narrator.engine.describe import describe
     from narrator.reading.columns import read_column
     from narrator.scale.entry import choose_engine, describe_large
@@ -262,6 +276,8 @@ def _draft_by_group(args: argparse.Namespace) -> int:
             args.file, [request], sheet=args.sheet, decimal_comma=args.decimal_comma, missing=tuple(args.missing),
             group_by=args.group_by, privacy_threshold=args.privacy_threshold, step=progress.step,
         )
+        for part in collection.variables:
+            require_numbers(part.sample, part.findings, f"{Path(args.file).name}: column {args.column!r}")
         outcome = report_from_collection(
             collection, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
             currency=args.currency, title=args.title, organisation=args.organisation, template=args.template,
@@ -380,15 +396,18 @@ def command_demo(args: argparse.Namespace) -> int:
 
 
 def command_compare(args: argparse.Namespace) -> int:
-    from narrator.history.changes import compare, read_sidecar
+    from narrator.history.changes import compare, compare_sets, read_findings_set
     from narrator.phrasing.narrative import Narrative
-    from narrator.phrasing.what_changed import changes_section
+    from narrator.phrasing.what_changed import changes_section, set_changes_narrative
 
-    old, _ = read_sidecar(args.old)
-    new, _ = read_sidecar(args.new)
-    section = changes_section(compare(old, new), old, new, locale=args.locale, currency=args.currency)
-    narrative = Narrative(audience="changes", locale=args.locale, language=args.locale.split("_")[0],
-                          title=section.title, sections=(section,))
+    old, new = read_findings_set(args.old), read_findings_set(args.new)
+    if len(old.variables) == len(new.variables) == 1 and not old.group_by and not new.group_by:
+        before, after = old.variables[0].findings, new.variables[0].findings
+        section = changes_section(compare(before, after), before, after, locale=args.locale, currency=args.currency)
+        narrative = Narrative(audience="changes", locale=args.locale, language=args.locale.split("_")[0],
+                              title=section.title, sections=(section,))
+    else:  # several variables, or groups: each variable, and each group both builds show
+        narrative = set_changes_narrative(compare_sets(old, new), locale=args.locale, currency=args.currency)
     sys.stdout.write(narrative.plain_text())
     return 0
 

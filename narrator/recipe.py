@@ -128,6 +128,17 @@ class Recipe:
     outputs: tuple[Output, ...]
     variables: tuple[VariableRequest, ...]
     marked: tuple[Output, ...] = ()  # [outputs] marked: documents filled in place, audience "marked"
+    variable_lines: tuple[int | None, ...] = ()  # the line of each [[variables]] table's column key
+
+    def require_numbers(self, index: int, sample, findings) -> None:
+        """Stop with the recipe line that names a column holding no number at all."""
+        from narrator.reading.sample import no_numbers
+
+        if findings.n == 0:
+            line = self.variable_lines[index] if index < len(self.variable_lines) else None
+            where = f"{self.source.name}, line {line}" if line is not None else self.source.name
+            raise NarratorError(f"{where}: column {self.variables[index].column!r} of {self.data.path_text} has no "
+                                f"numbers to describe: {no_numbers(sample)}")
 
     @property
     def folder(self) -> Path:
@@ -524,7 +535,8 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
             raise checker.fail(f"[outputs] {output.audience} is the data file itself",
                                checker.line("outputs", None, output.audience))
     return Recipe(source=source, data=data_settings, report=report_settings, outputs=outputs, variables=variables,
-                  marked=marked)
+                  marked=marked, variable_lines=tuple(checker.line("variables", entry, "column")
+                                                      for entry in range(len(entries))))
 
 
 # --------------------------------------------------------------------------- building
@@ -576,6 +588,8 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None) -
         data.path, recipe.variables, sheet=data.sheet, decimal_comma=data.decimal_comma, missing=data.missing,
         group_by=data.group_by, privacy_threshold=data.privacy_threshold, step=announce,
     )
+    for index, part in enumerate(collection.variables):
+        recipe.require_numbers(index, part.sample, part.findings)
     common = _report_options(recipe)
     single = len(collection.variables) == 1 and collection.group_by is None
     outcomes = []
@@ -601,6 +615,7 @@ def _build_large(recipe: Recipe, engine: str, announce: Callable[[str], None]) -
     from narrator.report import report_from_findings
 
     sample, findings = _describe_large_variable(recipe, engine, announce)
+    recipe.require_numbers(0, sample, findings)
     common = _report_options(recipe)
     outcomes = []
     for output in recipe.outputs:

@@ -8,6 +8,7 @@ Name                           What it is
 :func:`baseline_for`           which earlier findings a new build is compared with
 :func:`sidecar_payload`        the sidecar JSON: findings plus the baseline
 :func:`read_sidecar`           a sidecar file -> (findings, baseline)
+:func:`read_findings_set`      any sidecar file (grouped, several variables) -> FindingsSet
 :class:`Change`                one compared quantity and whether it is worth saying
 :class:`Changes`               every comparison, and "little changed" when none is
 :func:`compare_sets`           two findings sets -> :class:`SetChanges` (variables, groups)
@@ -220,6 +221,8 @@ def compare_sets(old, new) -> SetChanges:
                                       compare(earlier.findings, group.findings)))
         new_labels = {group.label for group in item.groups}
         only_old.extend(f"{name} / {label}" for label in old_groups if label not in new_labels)
+    if not pairs:
+        raise NarratorError("the two findings files have no variable in common (variables are matched by name)")
     return SetChanges(group_by=new.group_by if same_grouping else None, pairs=tuple(pairs),
                       only_old=tuple(only_old), only_new=tuple(only_new))
 
@@ -244,6 +247,23 @@ def read_sidecar(path: Path) -> tuple[Findings, Findings | None]:
     except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
         raise NarratorError(f"{Path(path).name}: not a readable findings file ({exc})") from None
     return findings_pair(data, Path(path).name)
+
+
+def read_findings_set(path: Path):
+    """Any sidecar file (one variable, several variables, groups) as a FindingsSet (narrator.history.sidecar)."""
+    from narrator.history.sidecar import loads_any
+
+    name = Path(path).name
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise NarratorError(f"{name}: no such findings file") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise NarratorError(f"{name}: not a readable findings file ({exc})") from None
+    try:
+        return loads_any(text)
+    except NarratorError as exc:
+        raise NarratorError(f"{name}: {exc}") from None
 
 
 def findings_pair(data: Any, where: str) -> tuple[Findings, Findings | None]:

@@ -137,6 +137,9 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
     if lead.claims and lead.claims[0].kind in ("share_at_minimum", "share_at_maximum"):
         return []
     findings, counts = ctx.findings, ctx.findings.order_counts
+    if lead.claims and lead.claims[0].kind == "median_with_ties" and counts.at_min in (counts.below_median,
+                                                                                       counts.above_median):
+        return []  # "30% were lower" already said it: every value below the middle one is the lowest
     sentence = ctx.say(
         "memo.at_end", ("order_counts",), min=ctx.memo_recorded(findings.spread.min),
         max=ctx.memo_recorded(findings.spread.max), share_at_min=_share(ctx, counts.at_min),
@@ -187,12 +190,17 @@ def _why(ctx: WordingContext) -> Sentence | None:
         if "several_peaks" in reasons:
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
-        if "skewed" in reasons:
-            return ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean"), mean=mean,
-                           claim={**claim, "cause": "tail", "label": findings.shape.label})
+        # The flagged values first when they move the mean: "the unusual value pulls the average up" is the more
+        # concrete of the two, and true when a single value, not a long tail, does the pulling.
         count = flagged.count if flagged is not None else 0
-        return ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean"), subject=(count, "value"),
-                       mean=mean, claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
+        said = None
+        if "outliers_move_mean" in reasons:
+            said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean"), subject=(count, "value"),
+                           mean=mean, claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
+        if said is None and "skewed" in reasons:
+            said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean"), mean=mean,
+                           claim={**claim, "cause": "tail", "label": findings.shape.label})
+        return said
     return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
                    claim={**claim, "sd": findings.spread.sd})
 

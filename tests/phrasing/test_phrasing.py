@@ -320,10 +320,42 @@ def _golden_cases(rivers, huron, rivers_12):
     }
 
 
+def _invented_golden_cases():
+    """Invented data of the kinds whose sentences used to go wrong (generated with fixed seeds)."""
+    import numpy as np
+
+    from narrator.history.changes import compare
+    from narrator.phrasing.narrative import Narrative
+    from narrator.phrasing.what_changed import changes_section
+
+    def fixed(findings):
+        return dataclasses.replace(findings, provenance=FIXED_LIBRARIES)
+
+    rng = np.random.default_rng(20261212)
+    visits = np.where(rng.random(240) < 0.62, 0.0, rng.poisson(3, 240) + 1.0)  # home visits per client
+    calls = rng.choice(np.arange(1.0, 21.0), size=200, p=np.array([30, 35, 15, 10] + [10 / 16] * 16) / 100)
+    offices = rng.gamma(3.0, 20.0, 48).round(1)  # complaints at every one of 48 offices: a whole population
+    old_waits = rng.gamma(2.0, 8.0, 150).round()
+    new_waits = np.concatenate([old_waits, rng.gamma(2.0, 8.0, 40).round()]) + 6
+    zero_heavy = fixed(describe(visits, name="visits per client", lower_bound=0))
+    old = fixed(describe(old_waits, name="wait", unit="days"))
+    new = fixed(describe(new_waits, name="wait", unit="days"))
+    section = changes_section(compare(old, new), old, new)
+    return {
+        "invented_zero_heavy_memo_en_US.txt": narrate(zero_heavy, "memo", "en_US"),
+        "invented_zero_heavy_full_es_ES.txt": narrate(zero_heavy, "full", "es_ES"),
+        "invented_ties_memo_en_US.txt": narrate(fixed(describe(calls, name="calls")), "memo", "en_US"),
+        "invented_population_full_en_US.txt": narrate(fixed(describe(offices, name="complaints", population=True)),
+                                                      "full", "en_US"),
+        "invented_two_values_full_en_US.txt": narrate(fixed(describe([49.0, 51.0], name="wait")), "full", "en_US"),
+        "invented_refresh_changes_en_US.txt": Narrative("changes", "en_US", "en", section.title, (section,)),
+    }
+
+
 def test_golden_texts(rivers, huron, rivers_12):
     update = os.environ.get("NARRATOR_UPDATE_GOLDEN") == "1"
     differ = []
-    for name, narrative in _golden_cases(rivers, huron, rivers_12).items():
+    for name, narrative in {**_golden_cases(rivers, huron, rivers_12), **_invented_golden_cases()}.items():
         path = GOLDEN / name
         text = narrative.plain_text()
         if update:
