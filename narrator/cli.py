@@ -130,87 +130,19 @@ def _read_and_describe(args: argparse.Namespace):
         population=args.population,
         outlier_rule=args.outlier_rule,
     )
+    if findings.clusters is not None and findings.clusters.count >= 2:
+        from narrator.groups.analysis import separation_in_file
+
+        findings = separation_in_file(findings, sample, args.file, sheet=args.sheet, decimal_comma=args.decimal_comma,
+                                      missing=tuple(args.missing))
     return sample, findings
 
 
-def _number(value) -> str:
-    if value is None:
-        return "-"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, int):
-        return str(value)
-    if isinstance(value, float):
-        return f"{value:.6g}"
-    return str(value)
+def facts_table(findings, locale: str = "en_US") -> str:
+    """The findings as an aligned table for a terminal, worded from the phrase bank (narrator.phrasing.facts)."""
+    from narrator.phrasing.facts import facts_table as worded_table
 
-
-def facts_table(f) -> str:
-    """A plain, aligned table of the main findings for a terminal."""
-    rows: list[tuple[str, str]] = [
-        ("variable", f.variable.name + (f" ({f.variable.unit})" if f.variable.unit else "")),
-        ("rows read", _number(f.quality.n_rows)),
-        ("values used (n)", _number(f.n)),
-        ("missing", _number(f.n_missing)),
-        ("not numbers", _number(f.quality.n_non_numeric)),
-        ("impossible", _number(f.quality.n_impossible)),
-    ]
-    if f.center is not None:
-        c, s = f.center, f.spread
-        rows += [
-            ("mean", _number(c.mean)),
-            ("median", _number(c.median)),
-            ("10% trimmed mean", _number(c.trimmed_mean_10)),
-            ("lead measure", f"{c.lead} ({', '.join(c.lead_reasons)})"),
-            ("SD", _number(s.sd)),
-            ("Q1 / Q3", f"{_number(s.q1)} / {_number(s.q3)}"),
-            ("IQR", _number(s.iqr)),
-            ("MAD (scaled)", _number(s.mad_scaled)),
-            ("min / max", f"{_number(s.min)} / {_number(s.max)}"),
-            ("P5 / P95", f"{_number(s.p5)} / {_number(s.p95)}"),
-            ("CV", _number(s.cv)),
-        ]
-    sh = f.shape
-    strength = f", {sh.strength}" if sh.strength else ""
-    rows += [
-        ("shape", f"{sh.label}{strength} (evidence {sh.evidence}; {', '.join(sh.reasons)})"),
-        ("skewness G1 (SE)", f"{_number(sh.skewness)} ({_number(sh.skewness_se)})"),
-        ("skewness test p", _number(sh.skewness_test_p)),
-        ("Bowley / medcouple", f"{_number(sh.bowley)} / {_number(sh.medcouple)}"),
-        ("excess kurtosis", _number(sh.excess_kurtosis)),
-        ("density peaks", _number(sh.density_peaks)),
-        ("bimodality coef.", _number(sh.bimodality_coefficient)),
-    ]
-    if sh.bin_sensitivity is not None:
-        rows.append(("picture depends on bins", _number(sh.bin_sensitivity.sensitive)))
-    if f.outliers is not None:
-        o = f.outliers
-        rows += [
-            ("outlier rule", f"{o.rule} ({o.chosen_by})"),
-            ("fences", f"{_number(o.lower_fence)} / {_number(o.upper_fence)}"),
-            ("outliers", _number(o.count)),
-        ]
-        if o.values:
-            shown = ", ".join(f"{_number(v)} (row {r})" for v, r in zip(o.values[:8], o.rows[:8], strict=False))
-            more = f" and {o.count - 8} more" if o.count > 8 else ""
-            rows.append(("flagged", shown + more))
-    w = f.without_outliers
-    if w is not None and f.outliers is not None and f.outliers.count:
-        rows += [
-            ("mean without outliers", _number(w.mean)),
-            ("median without outliers", _number(w.median)),
-            ("lead would change", _number(w.lead_would_change)),
-        ]
-    for label, interval in (("mean interval", f.intervals.mean), ("median interval", f.intervals.median)):
-        if interval is not None:
-            coverage = f", coverage {interval.coverage:.4f}" if interval.coverage is not None else ""
-            rows.append((label, f"{_number(interval.low)} to {_number(interval.high)} ({interval.method}{coverage})"))
-    if f.intervals.reason != "computed":
-        rows.append(("intervals", f"not computed ({f.intervals.reason})"))
-    for flag in f.quality.flags:
-        rows.append((f"quality: {flag.code}", _number(flag.count)))
-    width = max(len(label) for label, _ in rows)
-    return "\n".join(f"{label.ljust(width)}  {value}" for label, value in rows) + "\n"
+    return worded_table(findings, locale)
 
 
 def command_facts(args: argparse.Namespace) -> int:
@@ -218,7 +150,7 @@ def command_facts(args: argparse.Namespace) -> int:
     if args.json:
         sys.stdout.write(findings_module.dumps(found) + "\n")
     else:
-        sys.stdout.write(facts_table(found))
+        sys.stdout.write(facts_table(found, args.locale))
     return 0
 
 
@@ -398,13 +330,15 @@ def command_demo(args: argparse.Namespace) -> int:
 def command_compare(args: argparse.Namespace) -> int:
     from narrator.history.changes import compare, compare_sets, read_findings_set
     from narrator.phrasing.narrative import Narrative
+    from narrator.phrasing.numbers import parse_locale
     from narrator.phrasing.what_changed import changes_section, set_changes_narrative
 
     old, new = read_findings_set(args.old), read_findings_set(args.new)
     if len(old.variables) == len(new.variables) == 1 and not old.group_by and not new.group_by:
         before, after = old.variables[0].findings, new.variables[0].findings
         section = changes_section(compare(before, after), before, after, locale=args.locale, currency=args.currency)
-        narrative = Narrative(audience="changes", locale=args.locale, language=args.locale.split("_")[0],
+        parsed = parse_locale(args.locale)
+        narrative = Narrative(audience="changes", locale=str(parsed), language=parsed.language,
                               title=section.title, sections=(section,))
     else:  # several variables, or groups: each variable, and each group both builds show
         narrative = set_changes_narrative(compare_sets(old, new), locale=args.locale, currency=args.currency)
@@ -422,7 +356,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     facts = commands.add_parser("facts", help="print the findings for one column")
     add_reading_options(facts)
-    facts.add_argument("--json", action="store_true", help="print the findings as JSON")
+    facts.add_argument("--json", action="store_true", help="print the findings as JSON (codes, not words)")
+    facts.add_argument("--locale", default="en_US", help="CLDR locale for the table's words and numbers")
     facts.set_defaults(handler=command_facts)
 
     tell = commands.add_parser("tell", help="print the narrative for one column as plain text")

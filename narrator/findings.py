@@ -24,6 +24,16 @@ Class                       What it holds
 :class:`Quality`            rows read, missing, excluded, and all flags
 :class:`ApproximateFigure`  one figure that is not exact, how it was made, its bound
 :class:`Accuracy`           which engine ran, which figures are exact, which approximate
+:class:`Cluster`            one cluster of values: its range, share and median
+:class:`ColumnSeparation`   whether a categorical column of the file separates the clusters
+:class:`Clusters`           the clusters the density's valleys split the values into
+:class:`EntryError`         one value that is probably an entry error, with its row
+:class:`Unusual`            values surprising for the shape the data have; entry errors
+:class:`Concentration`      the total and how much of it the largest values hold
+:class:`Difference`         one comparison of two groups' values: shift, interval, verdict
+:class:`GroupPair`          two groups and their :class:`Difference`
+:class:`GroupVersusRest`    one group against all the others pooled
+:class:`GroupComparison`    every pair, which groups stand apart, which go together
 :class:`Findings`           all of the above plus options and provenance
 ==========================  ====================================================
 
@@ -358,6 +368,182 @@ class Accuracy:
 
 
 @dataclass(frozen=True, slots=True)
+class Cluster:
+    """One cluster of values between two valleys of the density (see narrator.engine.clusters)."""
+
+    low: float  # smallest value in the cluster
+    high: float  # largest value in the cluster
+    count: int
+    share: float  # count / n
+    median: float
+    peak: float  # where the density peaks inside the cluster
+
+
+@dataclass(frozen=True, slots=True)
+class ColumnSeparation:
+    """Whether one categorical column of the same file separates the clusters (narrator.groups.analysis).
+
+    Each value is put in its cluster and its category; ``agreement`` is the share of values whose
+    cluster is their category's most common cluster, ``association`` Goodman and Kruskal's lambda
+    (the share of the errors of guessing the most common cluster for every value that knowing the
+    category removes). ``categories`` names, for every category holding at least the privacy
+    threshold of values, its most common cluster (0-based) and its count; smaller categories are
+    only counted (``small_categories``).
+    """
+
+    column: str
+    separates: bool
+    reason: str  # "separates", "weak_association", "too_many_categories", "one_category", "too_few_labelled"
+    n_labelled: int  # values with a category
+    n_categories: int
+    agreement: float | None = None
+    association: float | None = None
+    categories: tuple[tuple[str, int, int], ...] = ()  # (category, cluster index, count)
+    small_categories: int = 0
+
+
+@dataclass(frozen=True, slots=True)
+class Clusters:
+    """The clusters the values form: split at the density's lowest point between substantial peaks."""
+
+    count: int  # 1 when the values form one cluster
+    reason: str  # "several_peaks", "one_peak", "too_few", "peaks_not_confirmed"
+    method: str = "density-valleys"
+    min_peak_share: float | None = None  # a peak counts when its part of the curve holds this share
+    cuts: tuple[float, ...] = ()  # the valleys (antimodes); a value at a cut belongs to the cluster above
+    parts: tuple[Cluster, ...] = ()  # ascending; empty when count is 1
+    # Filled where the file is read (narrator.groups.analysis); empty when no column was checked.
+    separation: tuple[ColumnSeparation, ...] = ()
+    separation_checked: bool = False
+
+
+@dataclass(frozen=True, slots=True)
+class EntryError:
+    """A value that is probably an entry error: far out, and a simple slip of typing explains it."""
+
+    value: float
+    row: int
+    reasons: tuple[str, ...]  # "ten_times_median", "tenth_of_median", "decimal_shift"
+    ratio_to_median: float | None
+    suggested: float | None = None  # the value with the decimal point moved, when that lands among the rest
+    shift_digits: int | None = None  # how many places the point moved (negative: to the right)
+    # "probable", or "possible" when no shape could be fitted to judge how unusual the value is
+    strength: str = "probable"
+
+
+@dataclass(frozen=True, slots=True)
+class Unusual:
+    """Values that are surprising for the shape the data have (narrator.engine.entry_errors).
+
+    ``values``/``rows`` are the values beyond the far-out fences of ``fence_rule`` that a shape
+    fitted to the quartiles (``fitted_shape``) makes unlikely in a sample of this size; the full
+    outlier list stays in :class:`Outliers`. ``excess`` says whether more values lie beyond the
+    inner fences than the fitted shape predicts.
+    """
+
+    fence_rule: str | None
+    reason: str  # "computed", "no_far_band", "no_fitted_shape", "rule_ignores_skew", "not_run"
+    far_lower_fence: float | None = None
+    far_upper_fence: float | None = None
+    count_far_out: int = 0
+    expected_far_out: float | None = None
+    far_out_surprising: bool = False
+    values: tuple[float, ...] = ()
+    rows: tuple[int, ...] = ()
+    complete: bool = True  # every far-out value is listed
+    count_beyond_fences: int = 0
+    expected_beyond_fences: float | None = None
+    excess: bool = False
+    excess_p: float | None = None
+    entry_errors: tuple[EntryError, ...] = ()
+    entry_error_count: int = 0
+    entry_error_reason: str = "none_found"  # "none_found", "found", "many", "not_positive", "not_checked"
+    fitted_shape: str | None = None  # "normal" or "lognormal": the shape the values are judged against
+
+
+@dataclass(frozen=True, slots=True)
+class Concentration:
+    """The total of the values and how concentrated it is (narrator.engine.concentration)."""
+
+    total: float
+    n: int
+    top_percent_count: int  # the largest 1 % of values: ceil(n / 100) of them
+    top_percent_share: float  # their share of the total
+    top_tenth_count: int  # the largest 10 %: ceil(n / 10)
+    top_tenth_share: float
+    top_counts: tuple[tuple[int, float], ...]  # (k, share of the total held by the k largest values)
+    gini: float  # 1 - 2 * area under the Lorenz curve (no small-sample correction)
+    lorenz: tuple[float, ...]  # share of the total held by the lowest 10 %, 20 %, ..., 90 % of values
+
+
+@dataclass(frozen=True, slots=True)
+class Difference:
+    """How the values of one side compare with another's: ``second`` minus ``first``.
+
+    ``shift`` is the Hodges-Lehmann estimate (median of all differences second - first) and
+    ``low``/``high`` its distribution-free interval (narrator.engine.group_difference); both None
+    for a whole population (``interval_reason``). ``lead_difference`` is the difference of the two
+    sides' lead measures. ``verdict`` is "different", "slightly_different", "alike", "unclear" or
+    "not_compared".
+    """
+
+    n_first: int
+    n_second: int
+    shift: float | None
+    low: float | None
+    high: float | None
+    level: float | None
+    coverage: float | None  # achieved coverage (at least this, also with ties)
+    ranks: tuple[int, int] | None  # 1-based ranks of the limits among the n_first * n_second differences
+    rank_method: str | None  # "exact" or "normal"
+    interval_reason: str  # "computed", "population", "too_few"
+    lead: str
+    lead_difference: float | None
+    scale: float | None  # the pooled spread the size is judged against
+    scale_method: str | None  # "pooled-iqr" or "pooled-sd"
+    small_bound: float | None  # |shift| at most this is small
+    ruled_out_bound: float | None  # "alike" needs the interval inside +/- this
+    verdict: str
+    direction: str  # "higher", "lower" or "none": the second side against the first
+    reasons: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class GroupPair:
+    first: str
+    second: str
+    difference: Difference
+
+
+@dataclass(frozen=True, slots=True)
+class GroupVersusRest:
+    group: str
+    others: tuple[str, ...]
+    difference: Difference  # the group's values (second) against the others' pooled values (first)
+
+
+@dataclass(frozen=True, slots=True)
+class GroupComparison:
+    """Every shown group compared with every other (narrator.engine.group_difference).
+
+    ``stand_apart`` lists the groups clearly different from every other group (three groups or
+    more); ``together`` the sets of groups where every pair is alike. Both keep the groups'
+    reading order: groups are never ranked, and ties are never broken by name.
+    """
+
+    reason: str  # "computed", "one_group", "too_many_groups"
+    method: str = "hodges-lehmann"
+    lead: str = "median"
+    level: float | None = None  # each interval's level, after the adjustment
+    family_level: float | None = None  # the report's level, for all the pairs together
+    adjustment: str = "none"  # "none" or "bonferroni"
+    pairs: tuple[GroupPair, ...] = ()
+    stand_apart: tuple[str, ...] = ()
+    together: tuple[tuple[str, ...], ...] = ()
+    versus_rest: tuple[GroupVersusRest, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
 class Findings:
     schema_version: int
     variable: Variable
@@ -384,6 +570,13 @@ class Findings:
     density_focus: Density | None = None
     # Counts by place against the median, quartiles and ends (None when no value is usable).
     order_counts: OrderCounts | None = None
+    # What a memo leads with (narrator.engine.decision): clusters, unusual values and entry errors,
+    # the total's concentration. A field that was not computed is None and ``not_computed`` gives
+    # its reason code ("stream_engine", "no_spread", "negative_values", ...).
+    clusters: Clusters | None = None
+    unusual: Unusual | None = None
+    concentration: Concentration | None = None
+    not_computed: dict[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict; non-finite floats become None."""
@@ -397,6 +590,16 @@ class Findings:
                 f"findings schema version {version!r} is not supported (expected {SCHEMA_VERSION})"
             )
         return _decode(cls, data, "findings")
+
+
+def encode_part(value: Any) -> Any:
+    """Any findings dataclass (or tuple of them) as JSON-ready data, as :meth:`Findings.to_dict` writes it."""
+    return _encode(value)
+
+
+def decode_part(kind: Any, data: Any, where: str) -> Any:
+    """JSON-ready data back into ``kind`` (a findings dataclass or type hint); ``where`` names it in errors."""
+    return _decode(kind, data, where)
 
 
 def dumps(findings: Findings) -> str:

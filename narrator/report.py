@@ -26,8 +26,6 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from babel.dates import format_date
-
 from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.history.changes import baseline_for, compare, findings_pair, sidecar_payload
@@ -35,7 +33,7 @@ from narrator.history.sidecar import is_set
 from narrator.phrasing import narrate
 from narrator.phrasing.bank import PhraseBank, load_bank
 from narrator.phrasing.narrative import Narrative
-from narrator.phrasing.numbers import NumberFormatter, parse_locale
+from narrator.phrasing.numbers import parse_locale
 from narrator.phrasing.what_changed import changes_section
 from narrator.reading.sample import Sample
 from narrator.safe_io import sidecar_path
@@ -47,9 +45,6 @@ if TYPE_CHECKING:
     from narrator.history.sidecar import FindingsSet
     from narrator.writer import ReportFrame
 
-# Reading options kept in Sample.source that a reader needs to read the file
-# the same way again; the other source entries are diagnostics, not settings.
-_READING_SETTINGS = ("sheet", "encoding", "delimiter", "decimal_comma", "missing_tokens")
 
 
 @dataclass(frozen=True, slots=True)
@@ -211,71 +206,38 @@ def report_frame(
     generated_at: dt.datetime,
     settings: Mapping[str, Any],
 ) -> ReportFrame:
-    """Title lines, caption numbering and the reproducibility appendix, worded from ``bank.report``.
+    """Title lines, caption numbering and the reproducibility appendix (worded by narrator.phrasing.frame).
 
-    Settings are shown as a recipe or the command line takes them (``0.95``,
-    ``tukey``, ``[0.1, 0.2]``), so a reader can repeat them exactly; settings
-    left unset (the default applied) are not listed.
+    Every setting is worded for the reader ("Confidence level: 95%"); the
+    sidecar keeps the codes a recipe takes. Settings left unset (the default
+    applied) are not listed. ``bank`` is the report's bank (kept for callers;
+    the frame takes the bank of ``locale``'s language).
     """
-    numbers = NumberFormatter(locale)
-    source = dict(sample.source or {})
-    file_name = source.get("file")
-    column = source.get("column") or sample.name
-    if file_name:
-        data_line = bank.format("report.data_file", column=str(column), file=str(file_name))
-    else:
-        data_line = bank.format("report.data_values", name=findings.variable.name)
-    date_text = format_date(generated_at.date(), format="long", locale=parse_locale(locale))
-    details = tuple(
-        line for line in (organisation, data_line, bank.format("report.prepared", date=date_text)) if line
-    )
+    return _frame([_variable_facts(findings, sample)], locale=locale, organisation=organisation,
+                  generated_at=generated_at, settings=settings)
 
-    libraries = findings.provenance.get("libraries", {})
-    software = ", ".join(f"{name} {version}" for name, version in libraries.items())
-    rows: list[tuple[str, str]] = [(bank.format("report.software"), software)]
-    if file_name:
-        rows.append((bank.format("report.input_file"), str(file_name)))
-    if source.get("sha256"):
-        rows.append((bank.format("report.sha256"), str(source["sha256"])))
-    rows.append((bank.format("report.column"), str(column)))
-    rows.append((bank.format("report.rows_read"), numbers.fixed(sample.n_rows or findings.quality.n_rows, 0)))
-    rows.append((bank.format("report.values_used"), numbers.fixed(findings.n, 0)))
-    left_out = [
-        bank.format(
-            "report.left_out_item", count=numbers.fixed(exclusion.count, 0),
-            reason=_reason(bank, exclusion.reason),
-        )
-        for exclusion in sample.exclusions
-        if exclusion.count
-    ]
-    rows.append((bank.format("report.left_out"), "; ".join(left_out) or bank.format("report.none")))
-    every_setting = {**findings.options, **{k: source[k] for k in _READING_SETTINGS if k in source}}
-    every_setting.update(settings)
-    for name, setting in every_setting.items():
-        if setting is None:  # not set: the default applied, and the other rows say what it gave
-            continue
-        value = setting if isinstance(setting, str) else json.dumps(setting, ensure_ascii=False, sort_keys=True)
-        rows.append((bank.format("report.setting", name=name), value))
-    rows.append((bank.format("report.generated"), generated_at.strftime("%Y-%m-%dT%H:%M:%SZ")))
 
+def _variable_facts(findings: Findings, sample: Sample):
+    from narrator.phrasing.frame import VariableFacts
+
+    return VariableFacts(findings=findings, source=dict(sample.source or {}), sample_name=sample.name,
+                         n_rows=sample.n_rows, exclusions=[(item.reason, item.count) for item in sample.exclusions])
+
+
+def _frame(parts, **options) -> ReportFrame:
+    from narrator.phrasing.frame import frame_words
     from narrator.writer import ReportFrame
 
+    words = frame_words(parts, **options)
     return ReportFrame(
-        details=details,
-        figure_number=bank.format("report.figure_number", number="{number}"),
-        table_number=bank.format("report.table_number", number="{number}"),
-        appendix_title=bank.format("report.appendix_title"),
-        appendix_intro=bank.format("report.appendix_intro"),
-        appendix_header=(bank.format("report.item"), bank.format("report.value")),
-        appendix_rows=tuple(rows),
+        details=words.details,
+        figure_number=words.figure_number,
+        table_number=words.table_number,
+        appendix_title=words.appendix_title,
+        appendix_intro=words.appendix_intro,
+        appendix_header=words.appendix_header,
+        appendix_rows=words.appendix_rows,
     )
-
-
-def _reason(bank: PhraseBank, code: str) -> str:
-    key = f"report.reason.{code}"
-    if not bank.has(key):
-        raise NarratorError(f"phrase bank {bank.language!r} has no words for excluded rows of kind {code!r}")
-    return bank.format(key)
 
 
 def report_from_collection(
@@ -394,37 +356,5 @@ def collection_frame(
     differs between variables) repeat for every variable, prefixed with its
     name; settings all variables share are listed once.
     """
-    first = collection.variables[0]
-    base = report_frame(bank, first.findings, first.sample, locale=locale, organisation=organisation,
-                        generated_at=generated_at, settings=settings)
-    source = dict(first.sample.source or {})
-    columns = [str((part.sample.source or {}).get("column") or part.sample.name) for part in collection.variables]
-    numbers = NumberFormatter(locale)
-    if source.get("file"):
-        if len(columns) == 1:  # one variable broken down by groups: "column hours", not "columns hours"
-            data_line = bank.format("report.data_file", column=columns[0], file=str(source["file"]))
-        else:
-            data_line = bank.format("collection.data_columns", columns=numbers.list(columns), file=str(source["file"]))
-        details = tuple(line if line != base.details[1 if organisation else 0] else data_line
-                        for line in base.details)
-    else:
-        details = base.details
-    per_variable = {bank.format(f"report.{key}") for key in ("column", "rows_read", "values_used", "left_out")}
-    # A setting every variable shares is listed once; one that differs is listed per variable.
-    option_names = {name for part in collection.variables for name in part.findings.options}
-    for name in option_names:
-        values = [json.dumps(part.findings.options.get(name), sort_keys=True) for part in collection.variables]
-        if len(set(values)) > 1:
-            per_variable.add(bank.format("report.setting", name=name))
-    shared = [(label, value) for label, value in base.appendix_rows if label not in per_variable]
-    variable_rows: list[tuple[str, str]] = []
-    for part in collection.variables:
-        single = report_frame(bank, part.findings, part.sample, locale=locale, organisation=organisation,
-                              generated_at=generated_at, settings={})
-        name = part.findings.variable.name
-        variable_rows.extend(
-            (bank.format("collection.for_variable", item=label, name=name), value)
-            for label, value in single.appendix_rows if label in per_variable
-        )
-    rows = (*shared[:-1], *variable_rows, shared[-1])  # the generation time stays last
-    return replace(base, details=details, appendix_rows=rows)
+    parts = [_variable_facts(part.findings, part.sample) for part in collection.variables]
+    return _frame(parts, locale=locale, organisation=organisation, generated_at=generated_at, settings=settings)

@@ -58,6 +58,7 @@ from narrator.errors import NarratorError
 from narrator.figures.rendered import RenderedFigure
 from narrator.findings import Findings
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
+from narrator.phrasing.numbers import language_tag, parse_locale
 from narrator.resources import template_file
 from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
 from narrator.xmltext import xml_safe
@@ -226,7 +227,7 @@ def _clear_body(document) -> None:
 
 
 def _page_for_locale(document, locale: str) -> None:
-    territory = locale.replace("-", "_").split("_")[1].upper() if "_" in locale.replace("-", "_") else ""
+    territory = parse_locale(locale).territory or ""
     width, height = _LETTER if territory in _LETTER_TERRITORIES else _A4
     for section in document.sections:
         section.page_width, section.page_height = width, height
@@ -263,7 +264,7 @@ def _style_has_numbering(document, name: str) -> bool:
 
 def _set_language(document, locale: str) -> None:
     """Mark the text's language (BCP 47 tag) so spelling and hyphenation follow the report's locale."""
-    tag = xml_safe(locale.replace("_", "-"))
+    tag = xml_safe(language_tag(locale))
     normal = document.styles["Normal"].element
     rpr = normal.get_or_add_rPr()
     lang = rpr.find(qn("w:lang"))
@@ -502,7 +503,7 @@ def _set_properties(document, properties: Mapping[str, str], generated_at: dt.da
     core.content_status = ""
     core.identifier = ""
     core.version = ""
-    core.language = xml_safe(locale.replace("_", "-"))
+    core.language = xml_safe(language_tag(locale))
     core.revision = 1
     core.created = moment
     core.modified = moment

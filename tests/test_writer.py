@@ -29,6 +29,8 @@ from narrator import findings as findings_module
 from narrator import writer
 from narrator.errors import NarratorError
 from narrator.figures.charts import RenderedFigure
+from narrator.phrasing.bank import load_bank
+from narrator.phrasing.frame import setting_label
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence, Table
 from narrator.report import build_report
 from narrator.safe_io import PAUSE_ENV
@@ -121,11 +123,15 @@ def test_appendix_records_the_input_and_every_setting(full_report, rivers_csv):
     assert appendix["SHA-256 of the input file"] == hashlib.sha256(rivers_csv.read_bytes()).hexdigest()
     assert appendix["Input file"] == "rivers.csv"
     assert appendix["Rows read"] == "141"
-    assert appendix["Generated"] == "2026-12-01T09:30:00Z"
-    assert appendix["Setting: audience"] == "full"
+    # The time in the locale's CLDR long date-time format (babel): the same moment as the pin.
+    assert appendix["Generated"] == "December 1, 2026, 9:30:00\u202fAM UTC"  # CLDR 42+: U+202F before AM
+    assert appendix["Audience"] == "full report"  # worded from the bank, not the code "full"
+    bank = load_bank("en")
     for option, value in full_report.findings.options.items():
-        # Unset settings (the default applied) are left out; every set one is listed.
-        assert (f"Setting: {option}" in appendix) == (value is not None)
+        # Unset settings (the default applied) are left out; every set one is listed, worded.
+        assert (setting_label(bank, option) in appendix) == (value is not None)
+    assert appendix["Confidence level"] == "95%" and appendix["Trimmed means"] == "10% and 20% at each end"
+    assert appendix["Outlier rule"] == "chosen from the data" and appendix["Decimal comma"] == "no"
     assert "narrator 0.1.0" in appendix["Software"] and "python-docx" in appendix["Software"]
 
 

@@ -11,7 +11,9 @@ The steps, in order, each in its own module:
 5. outliers by the chosen or automatic rule (:mod:`.outliers`);
 6. with and without the flagged values; the lead measure (:mod:`.center`);
 7. intervals (:mod:`.intervals`), unless the rows are the whole population;
-8. data-quality flags (:mod:`.quality`).
+8. data-quality flags (:mod:`.quality`);
+9. what a memo leads with: clusters, unusual values and entry errors, concentration of the
+   total (:mod:`.decision`, called from :func:`.rules.decide` for every engine).
 
 Speed: the one sort is the only O(n log n) step. On this project's machines
 numpy's sort (vectorised, x86-simd-sort) beats ``np.partition`` at more than one
@@ -140,6 +142,7 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
         return sample
     count = int(outside.sum())
     new_rows = tuple(int(r) for r in sample.rows[outside][:10])
+    new_values = tuple(float(v) for v in sample.values[outside][:10])
     new_examples = tuple(f"{float(v):g}" for v in sample.values[outside][:5])
     exclusions = []
     merged = False
@@ -150,11 +153,12 @@ def _apply_valid_range(sample: Sample, valid_min: float | None, valid_max: float
                 exclusion.count + count,
                 (exclusion.rows + new_rows)[:10],
                 (exclusion.examples + new_examples)[:5],
+                (exclusion.values + new_values)[:10],
             )
             merged = True
         exclusions.append(exclusion)
     if not merged:
-        exclusions.append(Exclusion("impossible", count, new_rows, new_examples))
+        exclusions.append(Exclusion("impossible", count, new_rows, new_examples, new_values))
     keep = ~outside
     ids = None if sample.ids is None else sample.ids[keep]
     return replace(sample, values=sample.values[keep], rows=sample.rows[keep], exclusions=tuple(exclusions),

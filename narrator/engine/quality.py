@@ -7,6 +7,7 @@ Flag code                    When it is raised
 ``missing``                  blank cells or missing tokens were left out
 ``non_numeric``              cells that are not numbers were left out
 ``impossible``               values outside the declared valid range were left out
+                             (the flag keeps their first rows and, in the same order, their values)
 ``non_finite``               infinities or overflowing numbers were left out
 ``ambiguous_grouping``       cells such as "1,234" that the other decimal convention
                              reads differently were read under the declared one

@@ -40,6 +40,9 @@ quality flags from counts       :func:`exclusion_flags`, :func:`reading_flags`,
                                 :func:`heaping_flags`, :func:`tie_run_length`, :func:`tie_flags`,
                                 :func:`size_flags`, :func:`quality_of`
 everything after the flagging   :func:`decide` (:class:`Gathered` -> :class:`~narrator.findings.Findings`)
+what a memo leads with          :func:`narrator.engine.decision.add_decision_findings`, called by
+                                :func:`decide` and :func:`empty_findings` (clusters, unusual values,
+                                concentration)
 ==============================  ==================================================================
 
 Findings from engines that gather the same statistics are the same numbers; where an engine gathers
@@ -57,6 +60,7 @@ import numpy as np
 from narrator.engine import intervals, robust
 from narrator.engine.bins import BIN_RULES, focus_layout
 from narrator.engine.center import choose_lead, mean_pull
+from narrator.engine.decision import add_decision_findings
 from narrator.engine.density import BANDWIDTH_RULES, curve_between
 from narrator.engine.distributions import binomial_sf, t_ppf
 from narrator.engine.moments import (
@@ -202,11 +206,12 @@ class Options:
 def empty_findings(options: Options, variable: Variable, quality: Quality, provenance: dict,
                    accuracy=None) -> Findings:
     """The findings of a column with no usable value."""
-    return Findings(
+    return add_decision_findings(Findings(
         schema_version=SCHEMA_VERSION, variable=variable, n=0, n_missing=quality.n_missing, center=None,
         spread=None, shape=shape_of(0, None, None, None, None, None, "exact", None, None, False), outliers=None,
         without_outliers=None, intervals=Intervals(mean=None, median=None, reason="too_few"), histogram=None,
-        density=None, quality=quality, options=options.record(), provenance=provenance, accuracy=accuracy)
+        density=None, quality=quality, options=options.record(), provenance=provenance, accuracy=accuracy),
+        np.zeros(0))
 
 
 # --------------------------------------------------------------------------- order statistics
@@ -634,6 +639,7 @@ def exclusion_flags(sample) -> list[QualityFlag]:
             # The cell texts the reader saw ("" for a blank), so the text can say what the cells held.
             flags.append(QualityFlag(code=exclusion.reason, count=exclusion.count, share=exclusion.count / total,
                                      rows=tuple(int(r) for r in exclusion.rows[:ROWS_SHOWN]),
+                                     values=tuple(float(v) for v in exclusion.values[:ROWS_SHOWN]),
                                      texts=tuple(exclusion.examples),
                                      detail={"texts_complete": float(exclusion.examples_complete)}
                                      if exclusion.examples else {}))
@@ -846,9 +852,11 @@ def decide(g: Gathered, options: Options, variable: Variable, provenance: dict, 
     interval_findings = intervals_of(n, has_spread, options, moments=moments, factor=factor,
                                      skewness=g.shape.skewness, clearly_skewed=clearly_skewed, value_at=g.value_at,
                                      every_value=g.every_value)
-    return Findings(
+    findings = Findings(
         schema_version=SCHEMA_VERSION, variable=variable, n=n, n_missing=g.quality.n_missing, center=center,
         spread=spread, shape=g.shape, outliers=flagged, without_outliers=without, intervals=interval_findings,
         histogram=g.histogram, density=g.density, quality=g.quality, options=options.record(),
         provenance=provenance, accuracy=accuracy, histogram_focus=g.histogram_focus, density_focus=g.density_focus,
         order_counts=g.order_counts)
+    # What a memo leads with; the fields that need every value are recorded as not computed without them.
+    return add_decision_findings(findings, None if g.every_value is None else g.every_value())

@@ -44,6 +44,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from narrator.engine.clusters import peak_regions
 from narrator.findings import BinSensitivity, Density, Shape
 
 BULMER_MODERATE = 0.5
@@ -97,18 +98,10 @@ def substantial_peaks(density: Density | None, min_mass: float = MIN_PEAK_MASS) 
         return None
     if len(density.peaks) < 2:
         return len(density.peaks)
-    grid = np.asarray(density.grid, dtype=float)
-    curve = np.asarray(density.values, dtype=float)
-    positions = sorted(int(np.clip(np.searchsorted(grid, peak), 0, grid.size - 1)) for peak in density.peaks)
-    cuts = [0]
-    for left, right in zip(positions, positions[1:], strict=False):
-        cuts.append(left + int(np.argmin(curve[left : right + 1])))
-    cuts.append(grid.size - 1)
-    masses = np.array([np.trapezoid(curve[a : b + 1], grid[a : b + 1]) for a, b in zip(cuts, cuts[1:], strict=False)])
-    total = float(masses.sum())
-    if not total > 0:
+    shares = np.asarray(peak_regions(density)[2])
+    if not shares.sum() > 0:
         return 1
-    return max(1, int(np.count_nonzero(masses / total >= min_mass)))
+    return max(1, int(np.count_nonzero(shares >= min_mass)))
 
 
 def _sign(value: float | None) -> int:

@@ -47,6 +47,7 @@ from __future__ import annotations
 
 import io
 import math
+import sys
 from collections.abc import Callable, Mapping, Sequence
 
 import numpy as np
@@ -67,7 +68,7 @@ from narrator.errors import NarratorError
 from narrator.figures.rendered import RenderedFigure
 from narrator.findings import Findings
 from narrator.phrasing.narrative import FigureText, Narrative
-from narrator.phrasing.numbers import NumberFormatter
+from narrator.phrasing.numbers import SCIENTIFIC_DIGITS, SCIENTIFIC_FROM, NumberFormatter
 from narrator.reading.sample import Sample
 
 # Okabe & Ito (2008) palette, by their names. Only some are used; the rest are
@@ -142,7 +143,10 @@ def render_figures(
         if drawer is None:
             known = ", ".join(sorted(DRAWERS))
             raise NarratorError(f"figure {text.key!r} is not one narrator draws (known: {known})")
-        rendered.append(drawer(findings, sample, text, locale=locale))
+        # Near the largest double, layout arithmetic inside matplotlib overflows to inf harmlessly
+        # (every limit and edge is clamped); keep its warnings off the user's terminal.
+        with np.errstate(over="ignore"):
+            rendered.append(drawer(findings, sample, text, locale=locale))
     return rendered
 
 
@@ -163,6 +167,7 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     counts = np.asarray(plan.counts, dtype=float)
 
     fig, ax = _single_axes(height_in=3.3)
+    _value_scale(ax, edges[0], edges[-1])
     _add_bars(ax, edges, counts, linewidth=0.6 if counts.size <= 120 else 0.0)
     ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
     top = float(counts.max()) if counts.size else 1.0
@@ -275,6 +280,7 @@ def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, loca
     # Shrink the figure to the tallest stack, so short stacks leave no empty band.
     axes_height_pt = max(tallest * diameter_pt / 0.8, 72.0)
     fig, ax = _single_axes(height_in=axes_height_pt / 72.0 + _BOTTOM_IN + _TOP_IN)
+    _value_scale(ax, x_low, x_high)
     ax.set_xlim(x_low, x_high)
     ax.set_ylim(0, axes_height_pt)  # y in points, so dots stay round
     order = np.lexsort((values, index))  # within a stack, smaller values at the bottom
@@ -341,6 +347,7 @@ def _draw_with_and_without(
             if labels.get(key):
                 strip.text(x, 0.98, labels[key], transform=strip.transAxes, ha=align, va="top",
                            fontproperties=_font(SMALL_FONT_SIZE), color=FLAGGED_COLOUR, zorder=6)
+    _value_scale(strip, low, high)
     strip.set_xlim(_padded(low, high, 0.03))
     if values.size <= MARKER_LIMIT:
         jitter = _spread_positions(kept.size)
@@ -433,6 +440,7 @@ def _draw_bin_sensitivity(
     low, high = float(values.min()), float(values.max())
     plan = findings.histogram
     whole = findings.variable.integer_valued or (plan is not None and plan.integer_aligned)
+    _value_scale(grid[0][0], low, high)  # before the locators below: a new scale resets them
     for row, width in enumerate(widths):
         for col, offset in enumerate(offsets):
             ax: Axes = grid[row][col]
@@ -460,7 +468,7 @@ def _draw_bin_sensitivity(
                 axis="x", labelsize=SMALL_FONT_SIZE - 1, labelfontfamily=FONT_FAMILY,
                 colors=AXIS_GREY, length=2,
             )
-            ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=3, steps=[1, 2, 2.5, 5, 10]))
+            ax.xaxis.set_major_locator(_x_locator(ax, 3))
             ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
     grid[0][0].set_xlim(_padded(low, high, 0.02))
     fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / PAGE_WIDTH_IN)
@@ -543,14 +551,32 @@ class LocaleTickFormatter(ticker.Formatter):
     def __init__(self, numbers: NumberFormatter) -> None:
         self._numbers = numbers
         self._decimals = 0
+        self._significant: int | None = None  # set when the ticks are written in scientific form
 
     def set_locs(self, locs: Sequence[float]) -> None:
         self._decimals = _decimals_for(locs)
+        self._significant = _significant_for(locs)
 
     def __call__(self, x: float, pos: int | None = None) -> str:
         if abs(x) < 1e-12:
             x = 0.0  # never print "-0"
+        if self._significant is not None and x != 0.0:
+            return self._numbers.scientific(float(x), self._significant)
         return self._numbers.fixed(float(x), self._decimals)
+
+
+def _significant_for(locs: Sequence[float]) -> int | None:
+    """Fewest significant digits (up to SCIENTIFIC_DIGITS) that write every tick, when ticks are huge.
+
+    None when the ticks are below SCIENTIFIC_FROM and the formatter writes them in fixed form.
+    """
+    finite = [float(v) for v in locs if math.isfinite(v) and v != 0]
+    if not finite or max(abs(v) for v in finite) < SCIENTIFIC_FROM:
+        return None
+    for digits in range(1, SCIENTIFIC_DIGITS):
+        if all(abs(v - float(f"{v:.{digits - 1}e}")) <= 1e-9 * abs(v) for v in finite):
+            return digits
+    return SCIENTIFIC_DIGITS
 
 
 def _decimals_for(locs: Sequence[float]) -> int:
@@ -585,7 +611,8 @@ def _label_curve(
     half = 0.5 * float(curve[peak])
     x_low, x_high = ax.get_xlim()
     axes_width_pt, _ = _axes_size_points(fig, ax)
-    text_span = (len(word) * SMALL_FONT_SIZE * 0.6 + 8) * (x_high - x_low) / axes_width_pt
+    half_span = float(x_high) / 2 - float(x_low) / 2  # never overflows near the largest double
+    text_span = float((len(word) * SMALL_FONT_SIZE * 0.6 + 8) * (half_span / axes_width_pt) * 2)
     right_side = np.nonzero(curve[peak:] <= half)[0]
     left_side = np.nonzero(curve[: peak + 1] <= half)[0]
     candidates = []
@@ -668,7 +695,7 @@ def _finish_axes(
 
 def _style_x(ax: Axes, numbers: NumberFormatter, x_label: str) -> None:
     ax.spines["bottom"].set_color(AXIS_GREY)
-    ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=8, steps=[1, 2, 2.5, 5, 10]))
+    ax.xaxis.set_major_locator(_x_locator(ax, 8))
     ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
     ax.tick_params(
         axis="x", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
@@ -727,11 +754,61 @@ def _dot_bins(
     return width, index
 
 
+HUGE_AXIS = 1e100  # beyond this, an axis is drawn in scaled units (see _value_scale)
+
+
+def _value_scale(ax: Axes, low: float, high: float) -> None:
+    """Draw a value axis reaching past ``HUGE_AXIS`` in units of a power of ten.
+
+    matplotlib's affine transforms multiply the data span by the axes' size in
+    pixels; near the largest double that product overflows or its determinant
+    underflows ("Singular matrix"). A function scale divides the data by a
+    power of ten before the affine part, so values up to the largest finite
+    double draw; the tick labels still show the values themselves.
+    """
+    top = max(abs(float(low)), abs(float(high)))
+    if not (math.isfinite(top) and top > HUGE_AXIS):
+        return
+    unit = 10.0 ** math.floor(math.log10(top))
+    ax.set_xscale("function", functions=(lambda x: np.asarray(x) / unit, lambda x: np.asarray(x) * unit))
+    ax.xaxis.set_major_locator(_ScaledLocator(unit, ticker.MaxNLocator(nbins=5, steps=[1, 2, 5, 10])))
+
+
+class _ScaledLocator(ticker.Locator):
+    """A locator that places ticks in units of ``unit`` (so its arithmetic never overflows)."""
+
+    def __init__(self, unit: float, base: ticker.Locator) -> None:
+        self.unit = unit
+        self.base = base
+
+    def __call__(self):
+        low, high = self.axis.get_view_interval()
+        return self.tick_values(low, high)
+
+    def tick_values(self, vmin: float, vmax: float):
+        scaled = np.asarray(self.base.tick_values(vmin / self.unit, vmax / self.unit), dtype=float)
+        with np.errstate(over="ignore"):
+            ticks = scaled * self.unit
+        return ticks[np.isfinite(ticks)]
+
+
+def _x_locator(ax: Axes, nbins: int) -> ticker.Locator:
+    """The value axis's tick locator: MaxNLocator, in scaled units on a huge axis (see _value_scale)."""
+    current = ax.xaxis.get_major_locator()
+    if isinstance(current, _ScaledLocator):  # scientific labels are wider: fewer, rounder ticks
+        return _ScaledLocator(current.unit, ticker.MaxNLocator(nbins=min(nbins, 5), steps=[1, 2, 5, 10]))
+    return ticker.MaxNLocator(nbins=nbins, steps=[1, 2, 2.5, 5, 10])
+
+
 def _padded(low: float, high: float, share: float) -> tuple[float, float]:
-    span = high - low
-    if not span > 0:
-        span = abs(low) if low else 1.0
-    return low - share * span, high + share * span
+    """The limits widened by ``share`` of their span on each side, kept finite up to the largest double."""
+    low, high = float(low), float(high)  # Python floats overflow to inf quietly; clamped below
+    half_span = high / 2 - low / 2  # half of the span never overflows, even from -max to +max
+    if not half_span > 0:
+        half_span = abs(low) / 2 if low else 0.5
+    pad = 2 * share * half_span
+    largest = sys.float_info.max
+    return max(low - pad, -largest), min(high + pad, largest)
 
 
 def _nice_count_step(tallest: int) -> int:
@@ -794,15 +871,22 @@ def _offset_edges(low: float, high: float, width: float, offset: float, *, half_
     if not width > 0:
         raise NarratorError(f"bin width must be positive, not {width}")
     shift = offset * width - (0.5 if half_unit else 0.0)
-    start = math.floor((low - shift) / width) * width + shift
-    count = max(1, math.ceil((high - start) / width + 1e-9))
-    if count > MAX_PANEL_BINS:
-        count = MAX_PANEL_BINS
-        width = (high - start) / count
-    edges = start + width * np.arange(count + 1)
-    if edges[-1] <= high:  # numpy's last bin is closed; make sure the maximum is inside it
-        edges = np.append(edges, edges[-1] + width)
-    return edges
+    # Counted in bin widths, so values near the largest double do not overflow.
+    first = math.floor(low / width - shift / width)
+    count = max(1, math.ceil(high / width - shift / width - first + 1e-9))
+    largest = sys.float_info.max
+    with np.errstate(over="ignore"):
+        if count > MAX_PANEL_BINS:
+            start = first * width + shift
+            count = MAX_PANEL_BINS
+            width = high / count - start / count
+            edges = start + width * np.arange(count + 1)
+        else:
+            edges = (first + np.arange(count + 1)) * width + shift
+        if edges[-1] <= high:  # numpy's last bin is closed; make sure the maximum is inside it
+            edges = np.append(edges, edges[-1] + width)
+    # An edge past the largest double is drawn at it (the last bin is then narrower on the page).
+    return np.clip(edges, -largest, largest)
 
 
 def _render(fig: Figure, text: FigureText) -> RenderedFigure:

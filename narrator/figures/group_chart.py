@@ -27,7 +27,6 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 import numpy as np
-from matplotlib import ticker
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
@@ -135,9 +134,10 @@ def _draw(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale
         ax.spines[side].set_visible(False)
     ax.grid(axis="x", color=GRID_GREY, linewidth=0.6)
     ax.set_axisbelow(True)
+    figure_kit._value_scale(ax, low, high)
     ax.set_xlim(figure_kit._padded(low, high, 0.02))
     ax.spines["bottom"].set_color(AXIS_GREY)
-    ax.xaxis.set_major_locator(ticker.MaxNLocator(nbins=8, steps=[1, 2, 2.5, 5, 10]))
+    ax.xaxis.set_major_locator(figure_kit._x_locator(ax, 8))
     ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
     ax.tick_params(axis="x", labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY, colors=AXIS_GREY,
                    labelcolor="#000000", length=3)

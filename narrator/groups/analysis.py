@@ -11,6 +11,10 @@ Name                           What it is
 :func:`suppressed_labels`      the groups too small for any variable
 :func:`analyse_file`           read, group and describe every variable of a file
 :func:`group_order`            the order groups are shown in
+:func:`compare_parts`          the shown groups of one variable compared pair by pair
+:func:`cluster_separation`     whether one categorical column separates the clusters
+:func:`check_separation`       the file's categorical columns checked against the clusters
+:func:`separation_in_file`     the same for a report on one column of a file
 :data:`DEFAULT_PRIVACY_THRESHOLD` groups with fewer values are suppressed
 =============================  ================================================
 
@@ -23,6 +27,19 @@ A suppressed group's values are taken out of everything, the overall figures
 included: its label, values and rows reach no table, figure, sentence or
 sidecar; only the number of suppressed groups is reported. Values whose
 grouping cell is blank stay in the overall figures and belong to no group.
+
+Groups compared: every pair of shown groups by :func:`narrator.engine.group_difference.compare_groups`,
+with the overall findings' lead measure and interval level (``VariablePart.comparison``).
+
+Clusters checked against the file's categorical columns (where the values form two or more
+clusters, :mod:`narrator.engine.clusters`): the grouping column and every text column
+(:func:`narrator.reading.columns.list_label_columns`, at most ``MAX_COLUMNS_CHECKED``). A column
+*separates* the clusters when it has 2 to ``MAX_CATEGORIES`` categories, at least
+``MIN_LABELLED_SHARE`` of the values have a category, and Goodman and Kruskal's lambda (1954,
+*JASA* 49, "Measures of association for cross classifications": the share of the errors of
+guessing the most common cluster for every value that knowing the category removes) is at
+least ``SEPARATION_LAMBDA`` (0.8, our threshold). Categories with fewer values than the privacy
+threshold are counted, never named.
 """
 
 from __future__ import annotations
@@ -34,11 +51,15 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from narrator.errors import NarratorError
-from narrator.findings import Findings
+from narrator.findings import ColumnSeparation, Findings, GroupComparison
 from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
 from narrator.reading.sample import Sample
 
 DEFAULT_PRIVACY_THRESHOLD = 10
+MAX_CATEGORIES = 12  # a column with more categories is not a grouping a reader can act on
+MAX_COLUMNS_CHECKED = 10
+MIN_LABELLED_SHARE = 0.8
+SEPARATION_LAMBDA = 0.8
 
 
 @dataclass(frozen=True, slots=True)
@@ -70,6 +91,7 @@ class VariablePart:
     groups: tuple[GroupPart, ...] = ()
     suppressed_groups: int = 0
     ungrouped_values: int = 0
+    comparison: GroupComparison | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -93,6 +115,7 @@ class Collection:
                     suppressed_groups=part.suppressed_groups,
                     ungrouped_values=part.ungrouped_values,
                     baseline=baseline,
+                    comparison=part.comparison,
                 )
                 for part, baseline in zip(self.variables, chosen, strict=True)
             ),
@@ -230,12 +253,23 @@ def analyse_file(
         return describe(sample, name=request.label, population=request.population,
                         outlier_rule=request.outlier_rule, **limits)
 
+    label_columns: list[tuple[str, tuple[str | None, ...]]] | None = None
+
+    def separated(found: Findings, sample: Sample) -> Findings:
+        nonlocal label_columns
+        if found.clusters is None or found.clusters.count < 2:
+            return found
+        if label_columns is None:
+            label_columns = _label_columns(path, sheet, decimal_comma, missing, group_column, labels,
+                                           [str(request.column) for request in variables])
+        return check_separation(found, sample, label_columns, privacy_threshold)
+
     parts = []
     for sample, request in zip(samples, variables, strict=True):
         name = request.label or sample.name
         if group_column is None:
             announce(f"describing {name}")
-            parts.append(VariablePart(sample, run(sample, request)))
+            parts.append(VariablePart(sample, separated(run(sample, request), sample)))
             continue
         overall, groups, ungrouped = split_by_group(sample, labels, suppressed)
         announce(f"describing {name}")
@@ -243,8 +277,11 @@ def analyse_file(
         for label, group_sample in groups:
             announce(f"describing {name}, {group_column} {label}")
             group_parts.append(GroupPart(label, group_sample, run(group_sample, request)))
+        overall_findings = separated(run(overall, request), overall)
+        announce(f"comparing the groups of {name}")
         parts.append(VariablePart(
-            overall, run(overall, request), tuple(group_parts), len(suppressed), ungrouped,
+            overall, overall_findings, tuple(group_parts), len(suppressed), ungrouped,
+            compare_parts(overall_findings, group_parts),
         ))
     return Collection(
         variables=tuple(parts),
@@ -269,3 +306,93 @@ def _within_bounds(sample: Sample, request: VariableRequest) -> Sample:
     if high:
         keep &= sample.values <= min(high)
     return sample if keep.all() else replace(sample, values=sample.values[keep], rows=sample.rows[keep])
+
+
+def compare_parts(overall: Findings, groups: Sequence[GroupPart]) -> GroupComparison | None:
+    """The shown groups compared pair by pair with the overall findings' lead measure and level."""
+    from narrator.engine.group_difference import compare_groups
+
+    if overall.center is None:
+        return None
+    return compare_groups([(group.label, group.sample.values, group.findings) for group in groups],
+                          lead=overall.center.lead, level=float(overall.options.get("level", 0.95)),
+                          population=overall.variable.population)
+
+
+def cluster_separation(sample: Sample, cuts: Sequence[float], column: str, labels: Sequence[str | None],
+                       privacy_threshold: int) -> ColumnSeparation:
+    """Whether the categories of ``labels`` (one per data row) separate the clusters split at ``cuts``.
+
+    See the module docstring for the rule. Categories are listed in :func:`group_order`.
+    """
+    from narrator.engine.clusters import cluster_of
+
+    row_labels = _labels_of(sample, labels)
+    named = np.fromiter((label is not None for label in row_labels), dtype=bool, count=len(row_labels))
+    n_labelled = int(named.sum())
+    kept = [label for label in row_labels if label is not None]
+    categories = group_order(kept)
+
+    def result(separates: bool, reason: str, **extra) -> ColumnSeparation:
+        return ColumnSeparation(column=column, separates=separates, reason=reason, n_labelled=n_labelled,
+                                n_categories=len(categories), **extra)
+
+    if len(categories) > MAX_CATEGORIES:
+        return result(False, "too_many_categories")
+    if len(categories) < 2:
+        return result(False, "one_category")
+    if n_labelled < MIN_LABELLED_SHARE * sample.values.size:
+        return result(False, "too_few_labelled")
+    clusters = cluster_of(sample.values[named], cuts)
+    index = {label: k for k, label in enumerate(categories)}
+    category_of = np.fromiter((index[label] for label in kept), dtype=np.int64, count=n_labelled)
+    table = np.zeros((len(categories), len(cuts) + 1), dtype=np.int64)
+    np.add.at(table, (category_of, clusters), 1)
+    best_overall = int(table.sum(axis=0).max())
+    best_within = int(table.max(axis=1).sum())
+    association = (best_within - best_overall) / (n_labelled - best_overall) if n_labelled > best_overall else 0.0
+    sizes = table.sum(axis=1)
+    listed = tuple((label, int(table[k].argmax()), int(sizes[k]))
+                   for k, label in enumerate(categories) if sizes[k] >= privacy_threshold)
+    separates = association >= SEPARATION_LAMBDA
+    return result(separates, "separates" if separates else "weak_association", agreement=best_within / n_labelled,
+                  association=association, categories=listed, small_categories=len(categories) - len(listed))
+
+
+def check_separation(findings: Findings, sample: Sample, columns: Sequence[tuple[str, Sequence[str | None]]],
+                     privacy_threshold: int) -> Findings:
+    """``findings`` with ``clusters.separation`` filled from the (column, labels) pairs given."""
+    clusters = findings.clusters
+    if clusters is None or clusters.count < 2:
+        return findings
+    checked = tuple(cluster_separation(sample, clusters.cuts, column, labels, privacy_threshold)
+                    for column, labels in columns)
+    return replace(findings, clusters=replace(clusters, separation=checked, separation_checked=True))
+
+
+def separation_in_file(findings: Findings, sample: Sample, path: str | os.PathLike[str], *,
+                       sheet: str | int | None = None, decimal_comma: bool = False, missing: Sequence[object] = (),
+                       privacy_threshold: int = DEFAULT_PRIVACY_THRESHOLD) -> Findings:
+    """For a report on one column of ``path``: the clusters checked against the file's text columns."""
+    if findings.clusters is None or findings.clusters.count < 2:
+        return findings
+    column = sample.source.get("column")
+    columns = _label_columns(path, sheet, decimal_comma, missing, None, (), [column] if column else [])
+    return check_separation(findings, sample, columns, privacy_threshold)
+
+
+def _label_columns(path, sheet, decimal_comma, missing, group_column, group_labels,
+                   variable_columns: Sequence[str]) -> list[tuple[str, tuple[str | None, ...]]]:
+    """The grouping column (with the labels already read) and the file's other text columns, read as labels."""
+    from narrator.reading.columns import list_label_columns, read_labels
+
+    found: list[tuple[str, tuple[str | None, ...]]] = []
+    if group_column is not None:
+        found.append((group_column, tuple(group_labels)))
+    for header in list_label_columns(path, sheet=sheet, decimal_comma=decimal_comma):
+        if len(found) >= MAX_COLUMNS_CHECKED:
+            break
+        if header in (group_column, *variable_columns) or not header:
+            continue
+        found.append(read_labels(path, header, sheet=sheet, missing=tuple(missing)))
+    return found

@@ -26,7 +26,8 @@ JSON layout (schema version 1)::
         {"findings": {...one Findings...},
          "groups": [{"label": "A", "findings": {...}}, ...],
          "suppressed_groups": 1, "ungrouped_values": 0,
-         "baseline": {...the earlier findings compared with, when any...}}, ...]}
+         "baseline": {...the earlier findings compared with, when any...},
+         "comparison": {...the groups compared with each other, when grouped...}}, ...]}
 
 Suppressed groups appear only as a count: no label, no value, no findings.
 A plain findings sidecar read by :func:`loads_any` becomes a set of one
@@ -41,7 +42,7 @@ from typing import Any
 
 from narrator import findings as findings_module
 from narrator.errors import NarratorError
-from narrator.findings import SCHEMA_VERSION, Findings
+from narrator.findings import SCHEMA_VERSION, Findings, GroupComparison
 
 SET_KIND = "narrator-findings-set"
 
@@ -60,7 +61,9 @@ class VariableFindings:
     values than the privacy threshold; ``ungrouped_values`` counts values whose
     grouping cell was blank (they count in the overall findings, in no group).
     ``baseline`` is the earlier build's findings this build was compared with
-    (see :func:`narrator.history.changes.baseline_for`), or None.
+    (see :func:`narrator.history.changes.baseline_for`), or None. ``comparison``
+    compares the shown groups with each other (:mod:`narrator.engine.group_difference`),
+    None without groups.
     """
 
     findings: Findings
@@ -68,6 +71,7 @@ class VariableFindings:
     suppressed_groups: int = 0
     ungrouped_values: int = 0
     baseline: Findings | None = None
+    comparison: GroupComparison | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -91,6 +95,8 @@ class FindingsSet:
                     "suppressed_groups": item.suppressed_groups,
                     "ungrouped_values": item.ungrouped_values,
                     **({"baseline": item.baseline.to_dict()} if item.baseline is not None else {}),
+                    **({"comparison": findings_module.encode_part(item.comparison)}
+                       if item.comparison is not None else {}),
                 }
                 for item in self.variables
             ],
@@ -123,6 +129,9 @@ class FindingsSet:
                 suppressed_groups=int(entry.get("suppressed_groups", 0)),
                 ungrouped_values=int(entry.get("ungrouped_values", 0)),
                 baseline=Findings.from_dict(entry["baseline"]) if isinstance(entry.get("baseline"), dict) else None,
+                comparison=(findings_module.decode_part(GroupComparison, entry["comparison"],
+                                                        f"variable {number} comparison")
+                            if isinstance(entry.get("comparison"), dict) else None),
             ))
         threshold = data.get("privacy_threshold")
         return cls(

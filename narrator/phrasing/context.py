@@ -121,14 +121,29 @@ class WordingContext:
         return self.fmt.count(n, noun)
 
     # ---- numbers
+    def _compact_memo(self, *values: float) -> bool:
+        """Memo numbers this large, without a CLDR unit or currency, read better as "1.2 million"."""
+        return self.fmt.unit_id is None and self.fmt.currency_code is None and all(
+            abs(value) >= COMPACT_FROM for value in values)
+
     def memo(self, value: float) -> str:
         """A memo number with its unit, about two effective digits (Ehrenberg 1981)."""
-        if abs(value) >= COMPACT_FROM and self.fmt.unit_id is None and self.fmt.currency_code is None:
-            compact = self.fmt.compact(value)
-            if self.fmt.unit is None:
-                return compact
-            return self.bank.format("format.quantity_with_text_unit", number=compact, unit=self.fmt.unit)
+        if self._compact_memo(value):
+            return self.fmt.with_unit(self.fmt.compact(value))
         return self.fmt.quantity(value, self._memo_places(self.memo_decimals))
+
+    def memo_pair(self, low: float, high: float) -> tuple[str, str]:
+        """Both ends of a memo range, the unit written once: ("29", "43 inches") (see numbers.quantity_pair)."""
+        return self.fmt.quantity_pair(low, high, self._memo_places(self.memo_decimals),
+                                      compact=self._compact_memo(low, high))
+
+    def memo_recorded_pair(self, low: float, high: float) -> tuple[str, str]:
+        """Two data values as ends of a memo range: memo rounding, never finer than recorded."""
+        return self.fmt.quantity_pair(low, high, self._memo_places(min(self.memo_decimals, self.data_decimals)))
+
+    def exact_range(self, low: float, high: float) -> str:
+        """Two summary statistics as a table range, "13.30–27.65" (words when an end has a sign)."""
+        return self.fmt.range(self.exact(low), self.exact(high))
 
     def _memo_places(self, decimals: int) -> int:
         # Money is written in whole units or with the currency's own minor units ($11.50), never $11.5.
@@ -187,9 +202,13 @@ class WordingContext:
 
     @property
     def axis_name(self) -> str:
+        """The variable's name with its unit, "Wait (days)"; the name alone when it already says the unit."""
         unit = self.unit_label
         if unit is None:
             return self.name
+        said = {text.casefold() for text in (unit, self.fmt.unit) if text}
+        if self.name.casefold() in said or any(self.name.casefold().endswith(f"({text})") for text in said):
+            return self.name  # "days", not "days (days)"
         return self.text("format.name_with_unit", name=self.name, unit=unit)
 
 

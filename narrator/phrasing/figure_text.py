@@ -23,7 +23,7 @@ from narrator.engine.window import histogram_window
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import flagged_claim
 from narrator.phrasing.narrative import Claim, FigureText
-from narrator.phrasing.technical import grid_values, width_text
+from narrator.phrasing.technical import _width_decimals, grid_values, width_text
 
 
 def _labels(ctx: WordingContext, key: str, names: tuple[str, ...], **values: str) -> dict[str, str]:
@@ -37,17 +37,23 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
         return None
     plan = findings.histogram_focus or plan  # the bins the figure draws
     top = max(range(len(plan.counts)), key=lambda i: (plan.counts[i], -i))
+    # The text's own rounding (the memo's), so the alt text never gives more digits than the
+    # report; ranges write the unit once ("from 4 to 129 days").
+    edge_low, edge_high = plan.edges[top], plan.edges[top + 1]
+    top_low, top_high = ctx.fmt.quantity_pair(edge_low, edge_high, max(_width_decimals(edge_low),
+                                                                       _width_decimals(edge_high)))
+    low, high = ctx.memo_recorded_pair(findings.spread.min, findings.spread.max)
     values = {
         "name": ctx.name,
         "n_values": ctx.count(findings.n, "value"),
         "width": width_text(ctx, plan.width),
-        "min": ctx.recorded(findings.spread.min),
-        "max": ctx.recorded(findings.spread.max),
-        "top_low": ctx.recorded(plan.edges[top]),
-        "top_high": ctx.recorded(plan.edges[top + 1]),
+        "min": low,
+        "max": high,
+        "top_low": top_low,
+        "top_high": top_high,
         "top_count": ctx.count(plan.counts[top], "value"),
-        "median": ctx.exact(findings.center.median),
-        "mean": ctx.exact(findings.center.mean),
+        "median": ctx.memo(findings.center.median),
+        "mean": ctx.memo(findings.center.mean),
     }
     caption = ctx.caption("figures.histogram.caption", **values)
     alt_text = ctx.text("figures.histogram.alt", **values)
@@ -103,13 +109,14 @@ def dotplot_text(ctx: WordingContext) -> FigureText | None:
         return None
     flagged = findings.outliers
     any_flagged = flagged is not None and flagged.count > 0
+    low, high = ctx.memo_recorded_pair(findings.spread.min, findings.spread.max)
     values = {
         "name": ctx.name,
         "n_values": ctx.count(findings.n, "value"),
-        "min": ctx.recorded(findings.spread.min),
-        "max": ctx.recorded(findings.spread.max),
-        "median": ctx.exact(findings.center.median),
-        "mean": ctx.exact(findings.center.mean),
+        "min": low,
+        "max": high,
+        "median": ctx.memo(findings.center.median),
+        "mean": ctx.memo(findings.center.mean),
         "flagged_sentence": ctx.text("figures.dotplot.flagged_sentence" if any_flagged
                                      else "figures.dotplot.none_flagged"),
     }
@@ -132,10 +139,10 @@ def with_without_text(ctx: WordingContext) -> FigureText | None:
         "name": ctx.name,
         "n_values": ctx.count(findings.n, "value"),
         "flagged_count": ctx.whole(flagged.count),
-        "mean": ctx.exact(findings.center.mean),
-        "median": ctx.exact(findings.center.median),
-        "mean_without": ctx.exact(without.mean),
-        "median_without": ctx.exact(without.median),
+        "mean": ctx.memo(findings.center.mean),
+        "median": ctx.memo(findings.center.median),
+        "mean_without": ctx.memo(without.mean),
+        "median_without": ctx.memo(without.median),
     }
     labels = _labels(ctx, "with_without", ("x", "y", "all", "without", "mean", "median"))
     caption, alt_text = _beyond_the_window(ctx, labels, ctx.caption("figures.with_without.caption", **values),

@@ -30,7 +30,7 @@ def _missing_texts(ctx: WordingContext) -> str:
     flag = ctx.findings.quality.get("missing")
     if flag is None:
         return ""
-    shown = [ctx.text("format.quoted", text=text) for text in flag.texts if text.strip()]
+    shown = [ctx.text("numbers.quoted", text=text) for text in flag.texts if text.strip()]
     return ctx.fmt.list(shown, style="or") if shown else ""
 
 
@@ -99,12 +99,18 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
     if center.lead == "mean":
         return [ctx.say("memo.lead.mean", ("n", "center.mean"), n_values=n_values, mean=ctx.memo(center.mean),
                         claim={"mean": center.mean, "n": findings.n})]
+    # Ranges write the unit once ("the others ran from 1 to 12 visits").
+    next_low, high = ctx.memo_recorded_pair(counts.next_above_min if counts.next_above_min is not None else spread.min,
+                                            spread.max)
+    low, next_high = ctx.memo_recorded_pair(spread.min,
+                                            counts.next_below_max if counts.next_below_max is not None else spread.max)
     values = {
         "n_values": n_values,
         "median": ctx.memo(center.median),
         "median_exact": ctx.recorded(center.median),
         "min": ctx.memo_recorded(spread.min),
         "max": ctx.memo_recorded(spread.max),
+        "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,
         "share_below": _share(ctx, counts.below_median),
         "share_at": _share(ctx, counts.at_median),
         "share_above": _share(ctx, counts.above_median),
@@ -152,10 +158,11 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
 def _range(ctx: WordingContext) -> Sentence | None:
     findings = ctx.findings
     spread, counts = findings.spread, findings.order_counts
+    q1, q3 = ctx.memo_pair(spread.q1, spread.q3)  # "between 13 and 28 days": the unit once
+    low, high = ctx.memo_recorded_pair(spread.min, spread.max)
     return ctx.say(
-        "memo.range", ("spread.q1", "spread.q3"), q1=ctx.memo(spread.q1), q3=ctx.memo(spread.q3),
-        share_inside=_share(ctx, counts.within_quartiles), min=ctx.memo_recorded(spread.min),
-        max=ctx.memo_recorded(spread.max),
+        "memo.range", ("spread.q1", "spread.q3"), q1=q1, q3=q3,
+        share_inside=_share(ctx, counts.within_quartiles), min=low, max=high,
         claim={"q1": spread.q1, "q3": spread.q3, "share": counts.within_quartiles / findings.n, "low": spread.q1,
                "high": spread.q3, "min": spread.min, "max": spread.max, "n": findings.n})
 
@@ -207,8 +214,9 @@ def _why(ctx: WordingContext) -> Sentence | None:
 
 def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, float]) -> str:
     """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; span = (lowest, highest)."""
-    low, high = ctx.memo_recorded(span[0]), ctx.memo_recorded(span[1])
-    shown = low if low == high else ctx.text("format.range", low=low, high=high)
+    low, high = ctx.memo_recorded_pair(span[0], span[1])
+    single = ctx.memo_recorded(span[0])
+    shown = single if single == ctx.memo_recorded(span[1]) else ctx.text("format.range", low=low, high=high)
     number = ctx.fmt.count_number(count, "value")
     return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=number, span=shown)
 
@@ -234,18 +242,19 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
     if flagged is None or flagged.count == 0:
         sentence = ctx.say("memo.outliers.none", keys, claim=claim)
         return [sentence] if sentence is not None else []
-    values = {
-        "outlier_count": ctx.count(flagged.count, "value"),
-        "lowest": ctx.memo_recorded((flagged.low_range or flagged.high_range)[0]),
-        "highest": ctx.memo_recorded((flagged.high_range or flagged.low_range)[1]),
-    }
+    lowest = (flagged.low_range or flagged.high_range)[0]
+    highest = (flagged.high_range or flagged.low_range)[1]
+    low_text, high_text = ctx.memo_recorded_pair(lowest, highest)  # "from 66 to 129 days": the unit once
+    values = {"outlier_count": ctx.count(flagged.count, "value"), "lowest": low_text, "highest": high_text}
     if flagged.count_low and flagged.count_high:
         values["low_part"] = _side_part(ctx, "low", flagged.count_low, flagged.low_range)
         values["high_part"] = _side_part(ctx, "high", flagged.count_high, flagged.high_range)
         sentences = [ctx.say("memo.outliers.both", keys, claim=claim, **values)]
     else:
         side = "high" if flagged.count_high else "low"
-        same = "_same" if values["lowest"] == values["highest"] else ""  # not "from $150 to $150"
+        same = "_same" if ctx.memo_recorded(lowest) == ctx.memo_recorded(highest) else ""  # not "from $150 to $150"
+        if same:
+            values["lowest"] = values["highest"] = ctx.memo_recorded(lowest)
         sentences = [ctx.say(f"memo.outliers.{side}{same}", keys, subject=(flagged.count, "value"), claim=claim,
                              **values)]
     without = findings.without_outliers

@@ -24,7 +24,7 @@ import math
 from narrator.engine.bins import MAX_BINS
 from narrator.engine.center import MEAN_SHIFT_SHARE
 from narrator.engine.density import MAX_RANGE_IN_BANDWIDTHS
-from narrator.engine.shape import BULMER_MODERATE, BULMER_STRONG
+from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import flagged_claim, left_out_items
 from narrator.phrasing.narrative import Claim, Paragraph, Sentence
@@ -147,7 +147,7 @@ def _density_sentence(ctx: WordingContext) -> Sentence | None:
         return None
     fmt = ctx.fmt
     bounds = [b for b in (density.lower_bound, density.upper_bound) if b is not None]
-    reflected = ctx.text("words.methods.reflected", bound=fmt.list([ctx.recorded(b) for b in bounds])) \
+    reflected = ctx.text("words.methods.reflected", bound=fmt.number_list([ctx.recorded(b) for b in bounds])) \
         if density.reflected and bounds else ""
     return ctx.say(
         "methods.density", ("density.bandwidth", "density.bandwidth_rule", "density.method"),
@@ -190,6 +190,7 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
                                         "label": findings.shape.label, "strength": findings.shape.strength}))
     sentences.append(ctx.say("methods.shape_rule", ("shape.skewness", "shape.skewness_test_p"),
                              moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1),
+                             test_min_n=ctx.whole(MIN_FOR_SHAPE), bc_threshold=fmt.fixed(BIMODALITY_THRESHOLD, 3),
                              claim={"moderate": BULMER_MODERATE, "strong": BULMER_STRONG}))
     method_parts = findings.shape.medcouple_method.split(":")
     if len(method_parts) == 3:

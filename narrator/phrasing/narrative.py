@@ -104,6 +104,12 @@ class Narrative:
     sections: tuple[Section, ...]
     figures: tuple[FigureText, ...] = ()
 
+    def __post_init__(self) -> None:
+        # Finished text gets the language's punctuation spacing here, once, whoever built it.
+        from narrator.phrasing.typography import typeset_narrative_fields
+
+        typeset_narrative_fields(self)
+
     def section(self, key: str) -> Section | None:
         return next((s for s in self.sections if s.key == key), None)
 

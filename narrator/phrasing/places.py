@@ -210,7 +210,8 @@ def _middle_half(words: PlaceWords) -> PlaceText:
     if spread is None or words.findings.center is None:
         return words.note("middle-half", "no_values")
     ctx = words.context()
-    phrase = ctx.text("format.range", low=ctx.memo(spread.q1), high=ctx.memo(spread.q3))
+    low, high = ctx.memo_pair(spread.q1, spread.q3)  # the unit once: "13 to 28 days"
+    phrase = ctx.text("format.range", low=low, high=high)
     return PlaceText("middle-half", "phrase", phrase=phrase, keys=("spread.q1", "spread.q3"))
 
 

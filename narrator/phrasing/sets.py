@@ -107,7 +107,7 @@ def overview_table(contexts: Sequence[WordingContext], items: Sequence[VariableF
             continue
         measure = ctx.text(f"words.lead.{center.lead}")
         lead = ctx.text(f"{key}.center_value", value=ctx.memo(_lead_value(findings)), measure=measure)
-        middle = ctx.text("format.range", low=ctx.memo(spread.q1), high=ctx.memo(spread.q3))
+        middle = ctx.fmt.range_words(*ctx.memo_pair(spread.q1, spread.q3))
         flagged = findings.outliers
         unusual = NOT_DEFINED if flagged is None or flagged.note == "not_run_too_few" else ctx.whole(flagged.count)
         rows.append((ctx.name, ctx.whole(findings.n), lead, middle, unusual))
@@ -217,7 +217,8 @@ def groups_table(ctx: WordingContext, item: VariableFindings, group_by: str) -> 
         if center is None:
             return NOT_DEFINED
         if lead == "median":
-            return ctx.text("format.median_iqr", median=x(center.median), q1=x(spread.q1), q3=x(spread.q3))
+            return ctx.text("format.median_iqr", median=x(center.median),
+                            iqr_range=ctx.exact_range(spread.q1, spread.q3))
         return ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))
 
     def unusual(findings: Findings) -> str:

@@ -34,7 +34,7 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
         (ctx.text(f"{key}.left_out"), ctx.whole(left_out)),
         (ctx.text(f"{key}.median"), ctx.memo(center.median)),
         (ctx.text(f"{key}.mean"), ctx.memo(center.mean)),
-        (ctx.text(f"{key}.middle_half"), ctx.text("format.range", low=ctx.memo(spread.q1), high=ctx.memo(spread.q3))),
+        (ctx.text(f"{key}.middle_half"), ctx.fmt.range_words(*ctx.memo_pair(spread.q1, spread.q3))),
         (ctx.text(f"{key}.lowest"), ctx.memo_recorded(spread.min)),
         (ctx.text(f"{key}.highest"), ctx.memo_recorded(spread.max)),
     ]
@@ -51,6 +51,16 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
     )
 
 
+def trimmed_share(options: dict) -> float:
+    """The share cut from each end for ``Center.trimmed_mean_20``: the engine's second trim proportion."""
+    return float(options.get("trim_proportions", (0.1, 0.2))[-1])
+
+
+def trimmed_label(ctx: WordingContext) -> str:
+    """The one label of the trimmed mean the reports show ("Mean trimmed by 20% at each end")."""
+    return ctx.text("tables.statistics.trimmed", share=ctx.fmt.percent(trimmed_share(ctx.findings.options)))
+
+
 def statistics_table(ctx: WordingContext) -> Table | None:
     findings = ctx.findings
     center, spread = findings.center, findings.spread
@@ -65,10 +75,10 @@ def statistics_table(ctx: WordingContext) -> Table | None:
         (ctx.text(f"{key}.excluded"), ctx.whole(excluded)),
         (ctx.text(f"{key}.mean_sd"), ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))),
         (ctx.text(f"{key}.median_iqr"),
-         ctx.text("format.median_iqr", median=x(center.median), q1=x(spread.q1), q3=x(spread.q3))),
-        (ctx.text(f"{key}.trimmed"), x(center.trimmed_mean_20)),
-        (ctx.text(f"{key}.range"), ctx.text("format.table_range", low=x(spread.min), high=x(spread.max))),
-        (ctx.text(f"{key}.p5_p95"), ctx.text("format.table_range", low=x(spread.p5), high=x(spread.p95))),
+         ctx.text("format.median_iqr", median=x(center.median), iqr_range=ctx.exact_range(spread.q1, spread.q3))),
+        (trimmed_label(ctx), x(center.trimmed_mean_20)),
+        (ctx.text(f"{key}.range"), ctx.exact_range(spread.min, spread.max)),
+        (ctx.text(f"{key}.p5_p95"), ctx.exact_range(spread.p5, spread.p95)),
         (ctx.text(f"{key}.mad"), x(spread.mad_scaled)),
     ]
     name = ctx.axis_name

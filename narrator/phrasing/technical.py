@@ -22,10 +22,13 @@ from __future__ import annotations
 
 from narrator.engine.bins import DOMINANT_BIN_SHARE
 from narrator.engine.center import MEAN_SHIFT_SHARE
-from narrator.engine.shape import BIMODALITY_THRESHOLD
+from narrator.engine.quality import MIN_FOR_CONFIDENT, MIN_FOR_SHAPE
+from narrator.engine.shape import BIMODALITY_THRESHOLD, HEAVY_TAIL_KURTOSIS
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import flagged_claim, left_out_items
 from narrator.phrasing.narrative import Paragraph, Sentence
+
+PERCENT_EXAMPLE = 0.12  # the example share in the words about cells with a percent sign
 
 
 def _kept(*sentences: Sentence | None) -> list[Sentence]:
@@ -100,8 +103,8 @@ def grid_values(ctx: WordingContext) -> tuple[dict, dict]:
     widths = _distinct(grid.widths)
     values = {
         "grids": ctx.whole(len(grid.widths) * len(grid.offsets)),
-        "widths": ctx.fmt.list([width_text(ctx, w) for w in widths]),
-        "offsets": ctx.fmt.list([ctx.fmt.fixed(o, 2) for o in grid.offsets]),
+        "widths": ctx.fmt.number_list([width_text(ctx, w) for w in widths]),
+        "offsets": ctx.fmt.number_list([ctx.fmt.fixed(o, 2) for o in grid.offsets]),
         "peaks": ctx.count(grid.min_peaks, "peak"),
         "min_peaks": ctx.whole(grid.min_peaks),
         "max_peaks": ctx.whole(grid.max_peaks),
@@ -144,7 +147,7 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
         claim={"peaks": shape.density_peaks, "bc": shape.bimodality_coefficient, "g1": shape.skewness,
                "g2": shape.excess_kurtosis, "n": findings.n}))
     sentences += _kept(ctx.say("technical.heavy_tails", ("shape.heavy_tails", "shape.excess_kurtosis"),
-                               claim={"g2": shape.excess_kurtosis}))
+                               g2_threshold=ctx.fmt.fixed(HEAVY_TAIL_KURTOSIS, 0), claim={"g2": shape.excess_kurtosis}))
     if shape.bin_sensitivity is not None:
         values, claim = grid_values(ctx)
         sentences += _kept(ctx.say("technical.bins", ("shape.bin_sensitivity",), claim=claim, **values))
@@ -279,7 +282,7 @@ def interval_method(ctx: WordingContext, interval) -> str:
     return ctx.text(
         f"words.interval_method.{interval.method}",
         resamples=ctx.count(interval.resamples or 0, "resample"),
-        seed=str(interval.seed) if interval.seed is not None else "–",
+        seed=ctx.fmt.digits(interval.seed) if interval.seed is not None else "–",
         low_rank=ctx.whole(low_rank),
         high_rank=ctx.whole(high_rank),
         coverage=ctx.fmt.percent(interval.coverage, 1) if interval.coverage is not None else "–",
@@ -297,7 +300,7 @@ def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:
     for flag in quality.flags:
         key = f"quality.{flag.code}" if ctx.bank.has(f"quality.{flag.code}") else "quality.other"
         noun = _FLAG_NOUNS.get(flag.code, "value")
-        texts = [ctx.text("format.quoted", text=text) for text in flag.texts if text.strip()]
+        texts = [ctx.text("numbers.quoted", text=text) for text in flag.texts if text.strip()]
         values = {
             "code": flag.code,
             "count": ctx.count(flag.count, noun),
@@ -309,6 +312,10 @@ def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:
             "base": ctx.recorded(flag.detail.get("base", flag.values[0] if flag.values else 0)),
             "expected": ctx.fmt.percent(flag.detail.get("expected_share", 0.0), 0),
             "texts": ctx.fmt.list(texts, style="or") if texts else "",
+            "min_n": ctx.whole(MIN_FOR_SHAPE),
+            "small_n": ctx.whole(MIN_FOR_CONFIDENT),
+            "example_cell": ctx.fmt.percent(PERCENT_EXAMPLE),  # a cell "12%" ...
+            "example_value": ctx.fmt.fixed(PERCENT_EXAMPLE * 100, 0),  # ... is read as 12
         }
         if flag.code == "missing_code" and flag.values:
             values["code"] = ctx.recorded(flag.values[0])

@@ -54,8 +54,10 @@ def _spread_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sen
     if old.spread is None or new.spread is None:
         return None
     key = "spread.iqr" if facts.changes.lead == "median" else "spread.sd"
-    old_range = ctx.text("format.range", low=ctx.memo(old.spread.q1), high=ctx.memo(old.spread.q3))
-    new_range = ctx.text("format.range", low=ctx.memo(new.spread.q1), high=ctx.memo(new.spread.q3))
+    old_low, old_high = ctx.memo_pair(old.spread.q1, old.spread.q3)  # the unit once: "13 to 28 days"
+    new_low, new_high = ctx.memo_pair(new.spread.q1, new.spread.q3)
+    old_range = ctx.text("format.range", low=old_low, high=old_high)
+    new_range = ctx.text("format.range", low=new_low, high=new_high)
     item = facts.changes.item(key)
     return ctx.say("changes.spread", ("spread.q1", "spread.q3", key), about=facts, new_range=new_range,
                    old_range=old_range, claim_about=about,

@@ -528,7 +528,8 @@ class _Options:
     valid_max: float | None
 
 
-def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Callable[[int], str]) -> Exclusion:
+def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Callable[[int], str],
+               values: np.ndarray) -> Exclusion:
     positions = np.flatnonzero(status == _STATUS_OF_REASON[reason])
     examples: list[str] = []
     for position in positions[:EXAMPLES_SCANNED].tolist():  # enough to find a few distinct texts
@@ -543,6 +544,7 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
         rows=tuple(int(row) for row in rows[positions[:ROWS_KEPT]]),
         examples=tuple(examples),
         examples_complete=len(examples) < EXAMPLES_KEPT and positions.size <= EXAMPLES_SCANNED,
+        values=tuple(float(v) for v in values[positions[:ROWS_KEPT]]) if reason == "impossible" else (),
     )
 
 
@@ -561,7 +563,7 @@ def _build_sample(cells: _Cells, rows: np.ndarray, name: str, unit: str | None, 
     keep = status == _OK
     every_cell_kept = bool(keep.all())  # the common case: plain slices instead of copies through a mask
     exclusions = tuple(
-        _exclusion(reason, status, rows, cells.display)
+        _exclusion(reason, status, rows, cells.display, values)
         for reason in EXCLUSION_REASONS
         if np.any(status == _STATUS_OF_REASON[reason])
     )
@@ -1209,17 +1211,9 @@ def read_column(
     return _build_sample(cells, rows, headers[index], unit, options, source, ids)
 
 
-def list_numeric_columns(
-    path: str | os.PathLike[str], *, sheet: str | int | None = None, decimal_comma: bool = False
-) -> list[str]:
-    """Headers, in file order, of the columns where more than half of the non-missing cells are numbers.
-
-    Only the first :data:`NUMERIC_PROBE_ROWS` data rows are looked at, so the
-    answer is quick on large files. Typed numeric cells (Excel numbers, Parquet
-    integer, float and decimal columns) count as numbers; text is read with
-    :func:`parse_number` under the declared ``decimal_comma``. A column with
-    no header is listed as "" and can be chosen by position.
-    """
+def _probe_columns(path: str | os.PathLike[str], sheet: str | int | None,
+                   decimal_comma: bool) -> list[tuple[str, _Cells]]:
+    """(header, cells of the first :data:`NUMERIC_PROBE_ROWS` data rows) for every column, in file order."""
     target = Path(path)
     file_format = _file_format(target)
     _check_file(target)
@@ -1251,13 +1245,38 @@ def list_numeric_columns(
         for position in _parquet_positions(parquet):
             array = head.column(position) if head is not None else pa.array([], schema.field(position).type)
             columns.append((schema.names[position], _parquet_cells(array, options)))
-    numeric = []
-    for header, cells in columns:
-        present = cells.status != _MISSING
-        numbers = (cells.status == _OK) & np.isfinite(cells.values)
-        if numbers.any() and numbers.sum() * 2 > present.sum():
-            numeric.append(header)
-    return numeric
+    return columns
+
+
+def _mostly_numbers(cells: _Cells) -> bool:
+    present = cells.status != _MISSING
+    numbers = (cells.status == _OK) & np.isfinite(cells.values)
+    return bool(numbers.any() and numbers.sum() * 2 > present.sum())
+
+
+def list_numeric_columns(
+    path: str | os.PathLike[str], *, sheet: str | int | None = None, decimal_comma: bool = False
+) -> list[str]:
+    """Headers, in file order, of the columns where more than half of the non-missing cells are numbers.
+
+    Only the first :data:`NUMERIC_PROBE_ROWS` data rows are looked at, so the
+    answer is quick on large files. Typed numeric cells (Excel numbers, Parquet
+    integer, float and decimal columns) count as numbers; text is read with
+    :func:`parse_number` under the declared ``decimal_comma``. A column with
+    no header is listed as "" and can be chosen by position.
+    """
+    return [header for header, cells in _probe_columns(path, sheet, decimal_comma) if _mostly_numbers(cells)]
+
+
+def list_label_columns(
+    path: str | os.PathLike[str], *, sheet: str | int | None = None, decimal_comma: bool = False
+) -> list[str]:
+    """Headers, in file order, of the columns that hold text labels: some cell is filled and at most
+    half of the filled cells are numbers (the complement of :func:`list_numeric_columns` among
+    columns that are not empty), on the same first :data:`NUMERIC_PROBE_ROWS` data rows.
+    """
+    return [header for header, cells in _probe_columns(path, sheet, decimal_comma)
+            if bool((cells.status != _MISSING).any()) and not _mostly_numbers(cells)]
 
 
 def read_labels(

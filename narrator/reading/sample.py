@@ -63,6 +63,8 @@ class Exclusion:
     count: int
     rows: tuple[int, ...] = ()  # first source rows (spreadsheet numbering: header is row 1)
     examples: tuple[str, ...] = ()  # first offending cell texts, already made printable
+    # For values left out as impossible: the values of ``rows``, same order (empty for other reasons).
+    values: tuple[float, ...] = ()
     examples_complete: bool = False  # the examples are every distinct text these cells held
 
 

@@ -603,9 +603,11 @@ def _approximations(n, whole, reservoir: ReservoirSample, seed, flagged: Outlier
     if whole or n < 3:
         return ()
     size = int(reservoir.values.size)
-    # The shape judgement weighs the medcouple's sign; the lead follows the shape.
+    # The shape judgement weighs the medcouple's sign; the lead follows the shape, and so does what stands
+    # out (narrator.engine.entry_errors reads the shape and the fences).
     depends = ["shape.label", "shape.strength", "shape.evidence", "shape.reasons", "center.lead",
-               "center.lead_reasons", "without_outliers.lead_without", "without_outliers.lead_would_change"]
+               "center.lead_reasons", "without_outliers.lead_without", "without_outliers.lead_would_change",
+               "unusual"]
     if flagged.rule == "adjusted":  # the skew-adjusted fences stretch with the medcouple
         # The skew-adjusted fences stretch with the medcouple, and the focused histogram stops at a fence.
         depends = ["outliers", "without_outliers", "histogram_focus", "density_focus", *depends]

@@ -250,7 +250,9 @@ class ReadingSummary:
 
     def __init__(self) -> None:
         self.n_rows = 0
-        self.exclusions: dict[str, list] = {}  # reason -> [count, rows, (row, text) examples]
+        # reason -> [count, (row, value) pairs, (row, order, text) examples]; a value is None unless the
+        # reason is "impossible" (the values left out are kept beside their rows)
+        self.exclusions: dict[str, list] = {}
         self.bound_exclusion: list = [0, [], []]
         self.percent_cells = 0
         self.currencies: set[str] = set()
@@ -261,14 +263,16 @@ class ReadingSummary:
         self.n_rows += chunk.n_rows
         for exclusion in chunk.exclusions:
             rows = list(exclusion.rows)
+            values = list(exclusion.values) if exclusion.values else [None] * len(rows)
             # Examples keep file order: the chunk's first row, then their order within the chunk.
             first = rows[0] if rows else 0
             examples = [(first, k, text) for k, text in enumerate(exclusion.examples)]
-            self._add(self.exclusions.setdefault(exclusion.reason, [0, [], []]), exclusion.count, rows, examples)
+            self._add(self.exclusions.setdefault(exclusion.reason, [0, [], []]), exclusion.count,
+                      list(zip(rows, values, strict=True)), examples)
         if bound_rows.size:
-            rows = [int(r) for r in bound_rows[:ROWS_KEPT]]
+            pairs = [(int(r), float(v)) for r, v in zip(bound_rows[:ROWS_KEPT], bound_values[:ROWS_KEPT], strict=True)]
             examples = [(int(r), 0, f"{float(v):g}") for r, v in zip(bound_rows[:5], bound_values[:5], strict=True)]
-            self._add(self.bound_exclusion, int(bound_rows.size), rows, examples, distinct=False)
+            self._add(self.bound_exclusion, int(bound_rows.size), pairs, examples, distinct=False)
         source = chunk.source
         self.percent_cells += int(source.get("percent_cells") or 0)
         self.currencies.update(source.get("currency_symbols") or ())
@@ -277,9 +281,9 @@ class ReadingSummary:
             :ROWS_KEPT]
 
     @staticmethod
-    def _add(entry: list, count: int, rows: list, examples: list, distinct: bool = True) -> None:
+    def _add(entry: list, count: int, pairs: list, examples: list, distinct: bool = True) -> None:
         entry[0] += count
-        entry[1] = sorted(entry[1] + list(rows))[:ROWS_KEPT]
+        entry[1] = sorted(entry[1] + list(pairs), key=lambda pair: pair[0])[:ROWS_KEPT]
         merged = sorted(entry[2] + list(examples))
         kept: list = []
         for row, order, text in merged:
@@ -289,11 +293,11 @@ class ReadingSummary:
 
     def merge(self, other: ReadingSummary) -> ReadingSummary:
         self.n_rows += other.n_rows
-        for reason, (count, rows, examples) in other.exclusions.items():
-            self._add(self.exclusions.setdefault(reason, [0, [], []]), count, rows, examples)
-        count, rows, examples = other.bound_exclusion
+        for reason, (count, pairs, examples) in other.exclusions.items():
+            self._add(self.exclusions.setdefault(reason, [0, [], []]), count, pairs, examples)
+        count, pairs, examples = other.bound_exclusion
         if count:
-            self._add(self.bound_exclusion, count, rows, examples, distinct=False)
+            self._add(self.bound_exclusion, count, pairs, examples, distinct=False)
         self.percent_cells += other.percent_cells
         self.currencies |= other.currencies
         self.ambiguous += other.ambiguous
@@ -308,17 +312,21 @@ class ReadingSummary:
             entry = self.exclusions.get(reason)
             if entry is None and not (reason == "impossible" and self.bound_exclusion[0]):
                 continue
-            count, rows, examples = entry if entry is not None else (0, [], [])
+            count, pairs, examples = entry if entry is not None else (0, [], [])
             texts = tuple(text for _, _, text in examples)
             if reason == "impossible" and self.bound_exclusion[0]:
-                extra_count, extra_rows, extra_examples = self.bound_exclusion
-                exclusion = Exclusion("impossible", count + extra_count, (tuple(rows) + tuple(extra_rows))[:10],
-                                      (texts + tuple(text for _, _, text in extra_examples))[:5])
+                extra_count, extra_pairs, extra_examples = self.bound_exclusion
+                pairs = (list(pairs) + list(extra_pairs))[:10]
+                exclusion = Exclusion("impossible", count + extra_count, tuple(row for row, _ in pairs),
+                                      (texts + tuple(text for _, _, text in extra_examples))[:5],
+                                      tuple(float(value) for _, value in pairs))
             else:
+                values = tuple(float(value) for _, value in pairs) if reason == "impossible" else ()
                 # Every distinct text is known when each chunk saw all of its cells and fewer than the kept number
                 # turned up (as narrator.reading.columns).
                 complete = len(texts) < EXAMPLES_KEPT and count <= reading.EXAMPLES_SCANNED
-                exclusion = Exclusion(reason, count, tuple(rows), texts, examples_complete=complete)
+                exclusion = Exclusion(reason, count, tuple(row for row, _ in pairs), texts, values,
+                                      examples_complete=complete)
             found.append(exclusion)
         return tuple(found)
 

@@ -11,7 +11,8 @@ Two numbers agree when they are equal, or when they differ by at most ``relative
 of their sizes and of the data's scale (the largest |value|, the SD): sums merged in another grouping
 differ in the last bits, and a difference of two nearly equal means (``without_outliers.mean_change``)
 carries that rounding at the scale of the means, not of the difference. Everything else (counts,
-flagged rows, labels, reason codes) must be equal.
+flagged rows, labels, reason codes) must be equal. A field that either side records as not computed
+by an engine that reads in passes (``Findings.not_computed``) is left out of the comparison.
 """
 
 from __future__ import annotations
@@ -19,6 +20,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
+from narrator.engine.decision import NOT_IN_PASSES
 from narrator.findings import Findings
 
 IGNORED = ("provenance", "accuracy")
@@ -63,5 +65,14 @@ def differences(first: Findings, second: Findings, *, relative: float = 1e-12,
         elif a != b:
             found.append(f"{path}: {str(a)[:80]} | {str(b)[:80]}")
 
-    walk(first.to_dict(), second.to_dict(), "")
+    # A field an engine records as not computed (Findings.not_computed, narrator.engine.decision) is
+    # skipped on both sides: the engine said it did not compute it, rather than computing it differently.
+    skipped = {key for findings in (first, second) for key, reason in findings.not_computed.items()
+               if reason == NOT_IN_PASSES}
+    left, right = first.to_dict(), second.to_dict()
+    for data in (left, right):
+        for key in skipped:
+            data.pop(key, None)
+            data["not_computed"].pop(key, None)
+    walk(left, right, "")
     return found

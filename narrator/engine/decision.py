@@ -1,0 +1,55 @@
+"""The findings a memo leads with, added in one place for every engine.
+
+:func:`add_decision_findings` takes the findings an engine has made and adds:
+
+=================  ====================================  ==========================================
+Field              Module                                Needs
+=================  ====================================  ==========================================
+``clusters``       :mod:`narrator.engine.clusters`       the sorted values and the density
+``unusual``        :mod:`narrator.engine.entry_errors`   the findings only
+``concentration``  :mod:`narrator.engine.concentration`  the sorted values
+=================  ====================================  ==========================================
+
+The in-memory engine passes its sorted values. The engines that read in passes
+(:mod:`narrator.scale`) pass them when their fixed-seed sample holds every value, so the
+findings are the same numbers; otherwise they pass None, and the fields that need every value
+are None with the reason ``"engine_in_passes"`` in ``Findings.not_computed``. ``unusual`` reads
+only the findings, so every engine gives the same one.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from narrator.engine.clusters import find_clusters
+from narrator.engine.concentration import concentration, not_computed_reason
+from narrator.engine.entry_errors import unusual_values
+from narrator.engine.shape import MIN_PEAK_MASS
+from narrator.findings import Findings
+
+NOT_IN_PASSES = "engine_in_passes"
+
+
+def add_decision_findings(findings: Findings, sorted_values: np.ndarray | None) -> Findings:
+    """``findings`` with clusters, unusual values and concentration (see the module docstring).
+
+    ``sorted_values`` are every value, ascending, in the data's units; None when the engine does
+    not hold them.
+    """
+    not_computed = dict(findings.not_computed)
+    clusters = total = None
+    if sorted_values is None:
+        not_computed["clusters"] = NOT_IN_PASSES
+        not_computed["concentration"] = NOT_IN_PASSES
+    else:
+        if findings.density is None:
+            not_computed["clusters"] = "no_spread" if findings.n else "no_values"
+        else:
+            clusters = find_clusters(sorted_values, findings.density, findings.shape.label, min_share=MIN_PEAK_MASS)
+        total = concentration(sorted_values)
+        if total is None:
+            not_computed["concentration"] = not_computed_reason(sorted_values)
+    return replace(findings, clusters=clusters, unusual=unusual_values(findings), concentration=total,
+                   not_computed=not_computed)

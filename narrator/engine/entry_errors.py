@@ -1,0 +1,245 @@
+"""Unusual values that are unusual: surprising for the shape the data have, and probable entry errors.
+
+=============================  ==================================================
+Name                           What it does
+=============================  ==================================================
+:func:`unusual_values`         Findings -> :class:`~narrator.findings.Unusual`
+:func:`fitted_shape`           the normal or lognormal shape fitted to the quartiles
+:class:`FittedShape`           a fitted shape's tail probabilities
+:func:`entry_error_reasons`    why one far-out value looks like a slip of typing
+``INNER_RATE``, ``FAR_RATE``   shares of normal values beyond Tukey's fences
+=============================  ==================================================
+
+Everything here reads the findings only (the outlier rule's fences, its listed far-out values
+and rows, the median and percentiles), so the in-memory and the stream engines give the same
+answer.
+
+**Surprising for the shape.** An outlier rule's list holds the ordinary tail too. So the
+values beyond the rule's far-out fences are judged against a shape fitted to the bulk of the
+data, by its quartiles, which a few extreme values cannot move (our rule; the fits are the
+textbook quantile matches):
+
+- ``lognormal`` for clearly right-skewed positive data: mu = (ln Q1 + ln Q3) / 2,
+  sigma = (ln Q3 - ln Q1) / (2 z_0.75), z_0.75 = 0.6745 (the quartiles of a lognormal are
+  exp(mu -/+ z_0.75 sigma), so both quartiles are matched);
+- ``normal`` otherwise (symmetric or two-peaked data): mu = (Q1 + Q3) / 2, sigma = IQR / (2 z_0.75);
+- none for clearly left-skewed data or an IQR of 0 (``no_fitted_shape``): no value is then
+  said to stand out.
+
+A far-out value *stands out* when a value at least that extreme is expected less than
+``SURPRISE_P`` = 0.05 times in a sample of this size under the fitted shape
+(n P(X >= x) < 0.05 on the high side, n P(X <= x) on the low side). There are *more values
+beyond the inner fences than the shape predicts* (``excess``) when, with p the fitted shape's
+share beyond them, P(X >= count) < ``EXCESS_P`` = 0.001 for X ~ Binomial(n, p) and the count is
+at least twice n p (a one-sided binomial test at a strict level, and a size that matters).
+For reference, a normal shape puts 0.70 % beyond Tukey's inner fences and 2.3 per million
+beyond the far-out ones (``INNER_RATE``, ``FAR_RATE``; Tukey 1977, computed from the normal
+distribution). Tukey's fences chosen by hand for clearly skewed data (where the automatic
+choice is the skew-adjusted rule) do not fit its shape (reason ``rule_ignores_skew``): no value
+is said to stand out. The modified z-score has no far-out band (``no_far_band``); the
+generalized ESD test already judges against the size of the sample, so its flagged values are
+the ones that stand out.
+
+**Probable entry errors.** A far-out value (or one flagged by the ESD test) that stands out
+for the fitted shape and whose size a slip of typing explains (our rules, after the common
+checks of data cleaning; the ten-times rule is common practice):
+
+- ``ten_times_median`` / ``tenth_of_median``: at least ``TEN_TIMES`` (10) times the median, or at
+  most a tenth of it;
+- ``decimal_shift``: moving the decimal point 1 to 3 places (dividing a high value, multiplying
+  a low one, by 10, 100 or 1000) lands it between P10 and P90 of the values, among the typical
+  ones: 1240 where the typical values are near 124.
+
+Both need positive values (a ratio scale: every value and the median above 0). Without a
+fitted shape, a far-out value that fits a slip of typing is only a ``possible`` entry error.
+Large gifts among small ones in a long right tail are what the lognormal shape predicts, so
+they are not called errors. When more than ``MAX_ENTRY_ERRORS`` (3) or 0.5 % of the values
+qualify, it is a pattern (perhaps another unit), not a few slips: the reason is ``many``, and
+the values are still listed.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from statistics import NormalDist
+
+from narrator.engine.distributions import binomial_sf
+from narrator.engine.shape import is_clearly_skewed
+from narrator.findings import EntryError, Findings, Unusual
+
+_NORMAL = NormalDist()
+_Z75 = _NORMAL.inv_cdf(0.75)
+INNER_RATE = 2.0 * (1.0 - NormalDist().cdf(4.0 * _Z75))  # 0.00698
+FAR_RATE = 2.0 * NormalDist().cdf(-7.0 * _Z75)  # 2.3e-6
+SURPRISE_P = 0.05
+EXCESS_P = 0.001
+EXCESS_RATIO = 2.0
+TEN_TIMES = 10.0
+DECIMAL_PLACES = (1, 2, 3)
+MAX_ENTRY_ERRORS = 3
+MAX_ENTRY_ERROR_SHARE = 0.005
+LISTED_ENTRY_ERRORS = 20
+
+
+def entry_error_reasons(value: float, median: float, p10: float, p90: float) -> tuple[tuple[str, ...], float | None,
+                                                                                       int | None]:
+    """(reasons, suggested value, places moved) for one far-out value; no reasons when nothing fits.
+
+    >>> entry_error_reasons(1240.0, 124.0, 112.0, 137.0)
+    (('ten_times_median', 'decimal_shift'), 124.0, 1)
+    >>> entry_error_reasons(160.0, 124.0, 112.0, 137.0)
+    ((), None, None)
+    """
+    if not (value > 0 and median > 0):
+        return (), None, None
+    reasons = []
+    high = value > median
+    if high and value >= TEN_TIMES * median:
+        reasons.append("ten_times_median")
+    if not high and value * TEN_TIMES <= median:
+        reasons.append("tenth_of_median")
+    for places in DECIMAL_PLACES:
+        moved = value / 10**places if high else value * 10**places
+        if p10 <= moved <= p90:
+            reasons.append("decimal_shift")
+            return tuple(reasons), moved, places if high else -places
+    return tuple(reasons), None, None
+
+
+@dataclass(frozen=True, slots=True)
+class FittedShape:
+    """A shape fitted to the data's quartiles: its name and its two tail probabilities."""
+
+    name: str  # "normal" or "lognormal"
+    mu: float
+    sigma: float
+
+    def upper_tail(self, value: float) -> float:
+        """P(X >= value)."""
+        if self.name == "lognormal":
+            return 1.0 if value <= 0 else _NORMAL.cdf(-(math.log(value) - self.mu) / self.sigma)
+        return _NORMAL.cdf(-(value - self.mu) / self.sigma)
+
+    def lower_tail(self, value: float) -> float:
+        """P(X <= value)."""
+        if self.name == "lognormal":
+            return 0.0 if value <= 0 else _NORMAL.cdf((math.log(value) - self.mu) / self.sigma)
+        return _NORMAL.cdf((value - self.mu) / self.sigma)
+
+    def beyond(self, lower: float | None, upper: float | None) -> float:
+        """The share of the shape below ``lower`` plus above ``upper`` (a None fence adds nothing)."""
+        return (0.0 if lower is None else self.lower_tail(lower)) + (0.0 if upper is None else self.upper_tail(upper))
+
+
+def fitted_shape(findings: Findings) -> FittedShape | None:
+    """The shape the module docstring fits to the quartiles, or None (left-skewed data, an IQR of 0).
+
+    >>> from narrator.engine.describe import describe
+    >>> fitted_shape(describe([1.0, 2, 3, 4, 5, 6, 7, 8, 9, 10])).name
+    'normal'
+    """
+    spread, center, shape = findings.spread, findings.center, findings.shape
+    if spread is None or center is None or not spread.iqr > 0:
+        return None
+    clearly = is_clearly_skewed(shape)
+    if clearly and shape.label == "right-skewed":
+        if not (spread.min > 0 and spread.q1 > 0):
+            return None
+        low, high = math.log(spread.q1), math.log(spread.q3)
+        sigma = (high - low) / (2.0 * _Z75)
+        return FittedShape("lognormal", (low + high) / 2.0, sigma) if sigma > 0 else None
+    if clearly:
+        return None
+    return FittedShape("normal", (spread.q1 + spread.q3) / 2.0, spread.iqr / (2.0 * _Z75))
+
+
+def _stands_out(fit: FittedShape | None, value: float, median: float, n: int) -> bool:
+    if fit is None:
+        return False
+    tail = fit.upper_tail(value) if value > median else fit.lower_tail(value)
+    return n * tail < SURPRISE_P
+
+
+def unusual_values(findings: Findings) -> Unusual:
+    """The values that stand out for the data's shape, and the probable entry errors among them."""
+    flagged = findings.outliers
+    if flagged is None or flagged.note == "not_run_too_few" or findings.center is None:
+        return Unusual(fence_rule=None if flagged is None else flagged.rule, reason="not_run",
+                       entry_error_reason="not_checked")
+    n = findings.n
+    rule = flagged.rule
+    median = findings.center.median
+    if rule == "modified-z":
+        return Unusual(fence_rule=rule, reason="no_far_band", count_beyond_fences=flagged.count,
+                       entry_error_reason="not_checked")
+    fit = fitted_shape(findings)
+    if rule == "esd":
+        values, rows = flagged.values, flagged.rows
+        base = dict(fence_rule=rule, reason="computed", fitted_shape=None if fit is None else fit.name,
+                    count_far_out=flagged.count, far_out_surprising=bool(values), values=values, rows=rows,
+                    complete=flagged.complete, count_beyond_fences=flagged.count)
+        standing = [True] * len(values)
+    else:
+        values, rows = flagged.far_out_values, flagged.far_out_rows
+        reason = "computed"
+        if rule == "tukey" and flagged.chosen_by == "user" and is_clearly_skewed(findings.shape):
+            reason = "rule_ignores_skew"
+        elif fit is None:
+            reason = "no_fitted_shape"
+        judged = fit if reason == "computed" else None
+        standing = [_stands_out(judged, value, median, n) for value in values]
+        shown = [(value, row) for (value, row), out in zip(zip(values, rows, strict=True), standing, strict=True)
+                 if out]
+        expected_far = expected_inner = excess_p = None
+        excess = False
+        if judged is not None:
+            expected_far = n * judged.beyond(flagged.far_lower_fence, flagged.far_upper_fence)
+            inner_rate = min(judged.beyond(flagged.lower_fence, flagged.upper_fence), 1.0)
+            expected_inner = n * inner_rate
+            excess_p = binomial_sf(flagged.count - 1, n, inner_rate) if flagged.count else 1.0
+            excess = excess_p < EXCESS_P and flagged.count >= EXCESS_RATIO * expected_inner
+        base = dict(
+            fence_rule=rule, reason=reason, fitted_shape=None if judged is None else judged.name,
+            far_lower_fence=flagged.far_lower_fence, far_upper_fence=flagged.far_upper_fence,
+            count_far_out=len(values), expected_far_out=expected_far, far_out_surprising=bool(shown),
+            values=tuple(value for value, _ in shown), rows=tuple(row for _, row in shown),
+            complete=_far_out_complete(flagged), count_beyond_fences=flagged.count,
+            expected_beyond_fences=expected_inner, excess=excess, excess_p=excess_p,
+        )
+    has_fit = base["reason"] == "computed" and (rule == "esd" or fit is not None)
+    errors, error_reason = _entry_errors(findings, values, rows, standing, has_fit)
+    return Unusual(**base, entry_errors=errors[:LISTED_ENTRY_ERRORS], entry_error_count=len(errors),
+                   entry_error_reason=error_reason)
+
+
+def _far_out_complete(flagged) -> bool:
+    """Whether every far-out value is listed: a side is complete, or lists some value that is not far out."""
+    if flagged.complete:
+        return True
+    far = set(zip(flagged.far_out_values, flagged.far_out_rows, strict=True))
+    low = list(zip(flagged.low_values, flagged.rows[: flagged.listed_low], strict=True))
+    high = list(zip(flagged.high_values, flagged.rows[flagged.listed_low :], strict=True))
+    low_ok = len(low) == flagged.count_low or any(item not in far for item in low)
+    high_ok = len(high) == flagged.count_high or any(item not in far for item in high)
+    return low_ok and high_ok
+
+
+def _entry_errors(findings: Findings, values, rows, standing, has_fit: bool) -> tuple[tuple[EntryError, ...], str]:
+    spread, center = findings.spread, findings.center
+    median = center.median
+    if spread is None or not (spread.min > 0 and median > 0):
+        return (), "not_positive"
+    found = []
+    for value, row, out in zip(values, rows, standing, strict=True):
+        if has_fit and not out:
+            continue  # the fitted shape expects a value this far out: no slip of typing is needed to explain it
+        reasons, suggested, places = entry_error_reasons(value, median, spread.p10, spread.p90)
+        if reasons:
+            found.append(EntryError(value=value, row=row, reasons=reasons, ratio_to_median=value / median,
+                                    suggested=suggested, shift_digits=places,
+                                    strength="probable" if has_fit else "possible"))
+    if not found:
+        return (), "none_found"
+    limit = max(MAX_ENTRY_ERRORS, math.ceil(MAX_ENTRY_ERROR_SHARE * findings.n))
+    return tuple(found), ("many" if len(found) > limit else "found")
