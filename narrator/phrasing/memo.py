@@ -286,7 +286,9 @@ def memo_paragraph(ctx: WordingContext) -> Paragraph:
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "left_out": _left_out(ctx), "at_end": _at_end(ctx, lead[0])}
     if findings.n > 1 and findings.spread.range > 0:
-        parts["range"] = [_range(ctx)]
+        # A lead that gave the share at one end already said where the others run.
+        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+        parts["range"] = [] if said_range else [_range(ctx)]
         parts["shape"] = [_shape(ctx)]
         parts["why"] = [_why(ctx)]
         parts["outliers"] = _outliers(ctx)
