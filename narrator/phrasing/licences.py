@@ -681,10 +681,6 @@ def bins_focused(ctx) -> bool:
     return ctx.findings.histogram_focus is not None
 
 
-@licence("variable", "the density was estimated")
-def density_estimated(ctx) -> bool:
-    return ctx.findings.density is not None
-
 
 @licence("variable", "the density bandwidth is the named rule's own")
 def bandwidth_by_rule(ctx) -> bool:
@@ -698,12 +694,6 @@ def bandwidth_floored(ctx) -> bool:
     return density is not None and density.bandwidth_note == "bandwidth_floor"
 
 
-@licence("variable", "the density is reflected at a declared bound")
-def density_reflected(ctx) -> bool:
-    density = ctx.findings.density
-    return density is not None and density.reflected and (density.lower_bound is not None
-                                                          or density.upper_bound is not None)
-
 
 @licence("variable", "the medcouple was computed on a fixed-seed subsample")
 def medcouple_subsampled(ctx) -> bool:
@@ -714,21 +704,6 @@ def medcouple_subsampled(ctx) -> bool:
 @licence("variable", "the values were read in passes (data larger than memory)")
 def read_in_passes(ctx) -> bool:
     return ctx.findings.accuracy is not None and ctx.findings.n > 0
-
-
-# --------------------------------------------------------------------------------- variable: figures
-
-
-@licence("variable", "the figure's axis leaves values out beyond its edge")
-def axis_cut(ctx) -> bool:
-    from narrator.engine.window import histogram_window
-
-    return histogram_window(ctx.findings) is not None
-
-
-@licence("variable", "the dot plot draws one dot per value, at its value")
-def dots_at_values(ctx) -> bool:
-    return ctx.findings.n > 0
 
 
 # ------------------------------------------------------------------------------------------- groups
@@ -919,9 +894,4 @@ def judged_by_interval(facts: ChangeFacts) -> bool:
     item = _center(facts)
     return item is not None and item.reason in ("beyond_interval", "within_interval", "unchanged") and \
         not facts.new.variable.population
-
-
-@licence("change", "the center was judged against a share of the SD (whole population, or no intervals)")
-def judged_by_share_of_sd(facts: ChangeFacts) -> bool:
-    return not judged_by_interval(facts)
 

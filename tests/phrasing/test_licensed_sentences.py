@@ -262,3 +262,11 @@ def test_item10_counts_and_verbs_agree():
     assert "Without it (n = 9)" in text
     assert re.search(r"One value lay outside the declared valid range and was left out", text)
     assert_claims_hold(values, {"valid_min": 0, "outlier_rule": "tukey"})
+
+
+def test_every_licence_is_used_by_the_banks_and_has_a_meaning():
+    used = {condition.licence for message in load_bank("en").messages.values() if isinstance(message, tuple)
+            for variant in message for condition in variant.when}
+    assert set(LICENCES) == used, sorted(set(LICENCES) ^ used)
+    assert all(licence.meaning and licence.subject in ("variable", "groups", "change") for licence in
+               LICENCES.values())
