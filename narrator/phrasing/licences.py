@@ -681,7 +681,6 @@ def bins_focused(ctx) -> bool:
     return ctx.findings.histogram_focus is not None
 
 
-
 @licence("variable", "the density bandwidth is the named rule's own")
 def bandwidth_by_rule(ctx) -> bool:
     density = ctx.findings.density
@@ -692,7 +691,6 @@ def bandwidth_by_rule(ctx) -> bool:
 def bandwidth_floored(ctx) -> bool:
     density = ctx.findings.density
     return density is not None and density.bandwidth_note == "bandwidth_floor"
-
 
 
 @licence("variable", "the medcouple was computed on a fixed-seed subsample")
