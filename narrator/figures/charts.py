@@ -51,14 +51,15 @@ import sys
 from collections.abc import Callable, Mapping, Sequence
 
 import numpy as np
-from matplotlib import ticker
+from matplotlib import ticker, transforms
 from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.collections import LineCollection
 from matplotlib.container import BarContainer
 from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
 from matplotlib.lines import Line2D
-from matplotlib.patches import Rectangle
+from matplotlib.patches import Rectangle, StepPatch
 from matplotlib.text import Text
 from matplotlib.transforms import blended_transform_factory
 from PIL import Image
@@ -414,11 +415,16 @@ def _draw_with_and_without(
 def _draw_bin_sensitivity(
     findings: Findings, sample: Sample, text: FigureText, *, locale: str
 ) -> Figure:
+    """Small multiples, one histogram per width (rows) and offset (columns), drawn on one set of axes.
 
+    The values are sorted once and each panel's counts are read off by binary search at its edges
+    (numpy.histogram's counts: half-open bins, the last one closed); each panel is one filled and one
+    outlined step patch placed by its own transform, so the twelve panels cost about one histogram.
+    """
     labels = _labels(text, "bin_sensitivity")
     sensitivity = _require(findings.shape.bin_sensitivity, "bin_sensitivity", "bin sensitivity results")
     numbers = NumberFormatter(locale)
-    values = np.asarray(sample.values, dtype=float)
+    values = np.sort(np.asarray(sample.values, dtype=float))
     if values.size == 0:
         raise NarratorError("figure 'bin_sensitivity' needs values to draw")
     widths, offsets = sensitivity.widths, sensitivity.offsets
@@ -432,45 +438,65 @@ def _draw_bin_sensitivity(
     panel_height = 0.95
     fig = Figure(figsize=(PAGE_WIDTH_IN, 0.75 + panel_height * n_rows), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
-    grid = fig.subplots(n_rows, n_cols, sharex=True, squeeze=False)
-    fig.subplots_adjust(
-        left=1.0 / PAGE_WIDTH_IN, right=0.99, top=1 - 0.3 / fig.get_figheight(),
-        bottom=0.5 / fig.get_figheight(), wspace=0.1, hspace=0.35,
-    )
-    low, high = float(values.min()), float(values.max())
+    ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
+    ax.set_axis_off()
+    for axis in (ax.xaxis, ax.yaxis):  # no ticks are ever made for the hidden axes
+        axis.set_major_locator(ticker.NullLocator())
+    height_in = fig.get_figheight()
+    left, right, top, bottom = 1.0 / PAGE_WIDTH_IN, 0.99, 1 - 0.3 / height_in, 0.5 / height_in
+    # The panel grid of subplots_adjust(wspace=0.1, hspace=0.35), in figure fractions.
+    panel_w = (right - left) / (n_cols + 0.1 * (n_cols - 1))
+    panel_h = (top - bottom) / (n_rows + 0.35 * (n_rows - 1))
+    low, high = float(values[0]), float(values[-1])
+    x_low, x_high = _padded(low, high, 0.02)
+    # Panels are placed in units of a power of ten when the values reach past HUGE_AXIS, so no
+    # transform multiplies a span near the largest double (see _value_scale); labels show the values.
+    top = max(abs(low), abs(high))
+    unit = 10.0 ** math.floor(math.log10(top)) if math.isfinite(top) and top > HUGE_AXIS else 1.0
+    x_low, x_high = x_low / unit, x_high / unit
+    ticks = [t for t in ticker.MaxNLocator(nbins=3, steps=[1, 2, 2.5, 5, 10]).tick_values(x_low, x_high)
+             if x_low <= t <= x_high]
+    formatter = LocaleTickFormatter(numbers)
+    formatter.set_locs([t * unit for t in ticks])
+    tick_font = _font(SMALL_FONT_SIZE - 1)
+    label_font = _font(SMALL_FONT_SIZE - 0.5)
+    point_w, point_h = 1.0 / (PAGE_WIDTH_IN * 72.0), 1.0 / (height_in * 72.0)  # one point, in figure fractions
     plan = findings.histogram
     whole = findings.variable.integer_valued or (plan is not None and plan.integer_aligned)
-    _value_scale(grid[0][0], low, high)  # before the locators below: a new scale resets them
+    segments: list[list[tuple[float, float]]] = []  # every panel's axis line and tick marks, drawn as one
     for row, width in enumerate(widths):
+        y0 = top - (row + 1) * panel_h - row * 0.35 * panel_h
         for col, offset in enumerate(offsets):
-            ax: Axes = grid[row][col]
+            x0 = left + col * panel_w * 1.1
             edges = _offset_edges(low, high, width, offset, half_unit=whole)
-            counts, _ = np.histogram(values, bins=edges)
-            ax.stairs(counts, edges, fill=True, color=BAR_FILL, linewidth=0)
-            ax.stairs(counts, edges, fill=False, color=CURVE, linewidth=0.6)
+            counts = np.diff(np.searchsorted(values, edges, side="left"))
+            edges = edges / unit
+            tallest = max(int(counts.max()), 1) * 1.05  # as the autoscaled count axis: 5 % headroom
+            place = (transforms.Affine2D().translate(-x_low, 0.0)
+                     .scale(panel_w / (x_high - x_low), panel_h / tallest).translate(x0, y0) + ax.transAxes)
+            clip = Rectangle((x0, y0), panel_w, panel_h, transform=ax.transAxes)
+            # Added as plain artists: the panels are placed by their own transforms, so the axes' data
+            # limits (which matplotlib would work out from every step of every patch) are not needed.
+            for patch in (StepPatch(counts, edges, fill=True, color=BAR_FILL, linewidth=0),
+                          StepPatch(counts, edges, fill=False, color=CURVE, linewidth=0.6)):
+                patch.set_transform(place)
+                ax.add_artist(patch)
+                patch.set_clip_path(clip)
+            segments.append([(x0, y0), (x0 + panel_w, y0)])
+            for tick in ticks:
+                at = x0 + (tick - x_low) / (x_high - x_low) * panel_w
+                segments.append([(at, y0), (at, y0 - 2 * point_h)])
+                if row == n_rows - 1:
+                    ax.text(at, y0 - 3.5 * point_h, formatter(tick * unit), transform=ax.transAxes, ha="center",
+                            va="top", fontproperties=tick_font, color=AXIS_GREY)
             if row == 0:
-                ax.set_title(
-                    labels[f"offset_{col}"],
-                    fontproperties=_font(SMALL_FONT_SIZE - 0.5), pad=4, loc="left",
-                )
+                ax.text(x0, y0 + panel_h + 4 * point_h, labels[f"offset_{col}"], transform=ax.transAxes,
+                        ha="left", va="bottom", fontproperties=label_font)
             if col == 0:
                 # Row titles in the left margin, level with the middle of the row.
-                ax.annotate(
-                    labels[f"width_{row}"],
-                    (0, 0.5), xycoords="axes fraction", xytext=(-6, 0), textcoords="offset points",
-                    ha="right", va="center", fontproperties=_font(SMALL_FONT_SIZE - 0.5),
-                )
-            ax.set_yticks([])
-            for side in ("top", "right", "left"):
-                ax.spines[side].set_visible(False)
-            ax.spines["bottom"].set_color(AXIS_GREY)
-            ax.tick_params(
-                axis="x", labelsize=SMALL_FONT_SIZE - 1, labelfontfamily=FONT_FAMILY,
-                colors=AXIS_GREY, length=2,
-            )
-            ax.xaxis.set_major_locator(_x_locator(ax, 3))
-            ax.xaxis.set_major_formatter(LocaleTickFormatter(numbers))
-    grid[0][0].set_xlim(_padded(low, high, 0.02))
+                ax.text(x0 - 6 * point_w, y0 + panel_h / 2, labels[f"width_{row}"], transform=ax.transAxes,
+                        ha="right", va="center", fontproperties=label_font)
+    ax.add_collection(LineCollection(segments, colors=AXIS_GREY, linewidths=0.8, transform=ax.transAxes))
     fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / PAGE_WIDTH_IN)
     return fig
 

@@ -5,20 +5,24 @@ The steps of the in-memory engine, each from summaries that merge over chunks:
 ====  ======================================================================  =====
 Pass  What it gathers                                                         Why
 ====  ======================================================================  =====
-1     rows read and left out; n, extremes; KLL sketch; reservoir sample;      plan
-      tail values; suspect-code counts; round-number counts; distinct values
-2     moments (Chan et al. 1979 merge); exact order statistics in sketch      centre,
-      brackets: P5..P95, quartiles, median, the median interval's ranks,      spread
-      the trimmed means' cut points, code-free quartiles, tie candidates
-3     histogram and bin-sensitivity counts; density binning; the MAD's        shape
-      bracket; trimmed-mean middles; tie-candidate counts
-4     the values the outlier rule flags, with rows; moments of the rest;      outliers,
-      the rest's quartiles and median (brackets from the sketch)              with/without
+1     rows read and left out; n, extremes; moments (Chan et al. 1979          plan,
+      merge); KLL sketch; reservoir sample; tail values; suspect-code         centre
+      counts; round-number counts; distinct values; precision
+2     exact order statistics in sketch brackets: P5..P95, quartiles,          spread
+      median, the median interval's ranks, the trimmed means' cut points,
+      code-free quartiles, tie candidates
+3     histogram and bin-sensitivity counts; density binning; the MAD's        shape,
+      bracket; trimmed-mean middles; tie-candidate counts; and for each       outliers,
+      rule the automatic choice may take (it waits for the shape): the        with/without
+      values it flags with rows, the moments of the rest, brackets for the
+      rest's quartiles and median, the focused histogram's counts
 ====  ======================================================================  =====
 
-A bracket the sketch missed (its bound holds with 99 % confidence) is widened and read again in an
-extra pass, so exact figures are always exact. The medcouple is exact when the reservoir holds every
-value (n up to ``reservoir_size``); above that it is the medcouple of the fixed-seed reservoir, and
+The modified z rule needs the MAD for its limits and takes a fourth pass; values beyond 1e60 or
+below 1e-60 in size take one more for their moments in scaled units. A bracket the sketch missed
+(its bound holds with 99 % confidence) is widened and read again in an extra pass, so exact figures
+are always exact. The medcouple is exact when the reservoir holds every value (n up to
+``reservoir_size``); above that it is the medcouple of the fixed-seed reservoir, and
 :class:`~narrator.findings.Accuracy` records it, with its standard error, and what depends on it.
 
 The generalized ESD rule and the Sheather-Jones bandwidth need every value at once and are refused
@@ -81,6 +85,7 @@ from narrator.scale.summaries import (
     FarthestValue,
     FlaggedValues,
     MeanDistance,
+    MomentSummary,
     PartitionCounts,
     PrecisionSummary,
     QuantileSketch,
@@ -186,6 +191,7 @@ def describe_source(
         "round": RoundCounts(),
         "distinct": DistinctValues(FEW_DISTINCT + 1),
         "precision": PrecisionSummary(),
+        "moments": MomentSummary(),
     }, record_reading=True)
     extremes: ExtremeSummary = first["extremes"]
     n = extremes.n
@@ -206,7 +212,11 @@ def describe_source(
     codes: CodeCounts = first["codes"]
     distinct = first["distinct"].count_up_to(FEW_DISTINCT)
 
-    # ---- pass 2: moments and exact order statistics -------------------------------------------
+    moments = first["moments"].moments()
+    if factor != 1.0:  # values beyond 1e60 or below 1e-60 in size: the moments again, in scaled units
+        moments = reader.run({"moments": ScaledMoments(factor)})["moments"].moments()
+
+    # ---- pass 2: exact order statistics --------------------------------------------------------
     wanted = set(type7_ranks(n, PERCENTILES)) | set(median_ranks(n)) | {0, n - 1}
     median_rank = None
     if not population and n >= 2 and has_spread:
@@ -225,11 +235,10 @@ def describe_source(
     tie_step = rules.tie_run_length(n) if n >= MIN_FOR_CONFIDENT and distinct > 1 else None
     tie_ranks = list(range(0, n, tie_step)) if tie_step else []
     wanted |= set(tie_ranks)
-    second = reader.run({"moments": ScaledMoments(factor), "order": reader.brackets([(r, r) for r in sorted(wanted)])})
+    second = reader.run({"order": reader.brackets([(r, r) for r in sorted(wanted)])})
     statistics = OrderStatistics(n)
     statistics.add(second["order"])
     reader.settle(statistics, wanted)
-    moments = second["moments"].moments()
 
     quantile_values = tuple(float(v) for v in rules.quantiles_at(statistics, n, PERCENTILES, factor))
     _, _, q1, _, q3, _, _ = quantile_values
@@ -241,7 +250,8 @@ def describe_source(
     if n >= 3:
         medcouple_value, medcouple_method = _medcouple(np.sort(reservoir.values) / factor, whole_reservoir, seed)
 
-    # ---- pass 3: pictures, MAD, trimmed means, tie counts -------------------------------------
+    # ---- pass 3: pictures, MAD, trimmed means, tie counts, and the values each candidate rule flags
+    # (the automatic choice waits for the shape, which waits for the density: both rules are gathered)
     parts: dict = {}
     histogram_layout = sensitivity_layout = density_layout = None
     if has_spread:
@@ -273,6 +283,24 @@ def describe_source(
         _code_quartiles(plan, statistics, n)
         if plan["q3"] - plan["q1"] <= 0:  # the code-free values tie: their SD stands in for the IQR
             parts[f"others{plan['index']}"] = ExcludingMoments(plan["code"])
+    farthest = rules.farthest_plan(
+        rules.Extremes(extremes.low, extremes.low_row, extremes.high, extremes.high_row, extremes.second_low,
+                       extremes.second_high), moments.mean * factor, n)
+    if farthest is None:
+        parts["farthest"] = FarthestValue(moments.mean * factor)
+    provisional = None
+    if has_spread:  # the histogram's widths are known before its counts; the focus needs only those
+        provisional = layouts.histogram_from_counts(histogram_layout, np.zeros(histogram_layout.bins, dtype=int))
+    candidates = {}
+    if options.outlier_rule != "modified-z":  # the modified z rule needs the MAD: it waits for this pass
+        choices = ([rules.rule_choice(None, True), rules.rule_choice(None, False)] if options.outlier_rule is None
+                   else [rules.rule_choice(options.outlier_rule, False)])
+        for choice in choices:
+            test = rules.outlier_test(choice, n, q1=q1, median=median, q3=q3, mad=math.nan,
+                                      medcouple=medcouple_value if medcouple_value is not None else 0.0,
+                                      mean_absolute_deviation=lambda: math.nan)
+            candidates[choice.rule] = test
+            _gather_flagged(parts, choice.rule, test, reader, n, factor, provisional, low, high)
     third = reader.run(parts)
     mad = mad_plan.settle(third["mad"], reader)
 
@@ -287,37 +315,34 @@ def describe_source(
     shape = rules.shape_of(n, moments, q1, median, q3, medcouple_value, medcouple_method, density_estimate,
                            sensitivity, has_spread)
 
-    # ---- pass 4: the flagged values and the rest -----------------------------------------------
-    test = rules.outlier_test(
-        rules.rule_choice(options.outlier_rule, is_clearly_skewed(shape)), n, q1=q1, median=median, q3=q3, mad=mad,
-        medcouple=medcouple_value if medcouple_value is not None else 0.0,
-        mean_absolute_deviation=lambda: reader.run({"distance": MeanDistance(median, factor)})["distance"].mean)
-    fourth_parts: dict = {}
+    choice = rules.rule_choice(options.outlier_rule, is_clearly_skewed(shape))
+    flagged_pass = third
+    if choice.rule in candidates:
+        test = replace(candidates[choice.rule], choice=choice)
+    else:  # ---- pass 4 (modified z only): the values it flags and the rest
+        test = rules.outlier_test(
+            choice, n, q1=q1, median=median, q3=q3, mad=mad, medcouple=None,
+            mean_absolute_deviation=lambda: reader.run({"distance": MeanDistance(median, factor)})["distance"].mean)
+        fourth_parts: dict = {}
+        _gather_flagged(fourth_parts, choice.rule, test, reader, n, factor, provisional, low, high)
+        flagged_pass = reader.run(fourth_parts) if fourth_parts else None
+    if farthest is None:
+        farthest = (third["farthest"].value, third["farthest"].row)
+    key = choice.rule
     if test.kind is not None:
-        fourth_parts["flagged"] = FlaggedValues(_limits(test), factor)
-        fourth_parts["order"] = reader.brackets(_rest_rank_ranges(reader.sketch, n, test, factor))
-    farthest = rules.farthest_plan(
-        rules.Extremes(extremes.low, extremes.low_row, extremes.high, extremes.high_row, extremes.second_low,
-                       extremes.second_high), moments.mean * factor, n)
-    if farthest is None:
-        fourth_parts["farthest"] = FarthestValue(moments.mean * factor)
-    layout = rules.focus_layout_for(histogram_plan, *test.fences_in_data_units(factor)[2:], low, high)
-    if layout is not None:
-        fourth_parts["focus"] = EdgeCounts(engine_bins.focus_edges(layout))
-    fourth = reader.run(fourth_parts) if fourth_parts else None
-    if fourth is not None and "order" in fourth.parts:
-        statistics.add(fourth["order"])
-    if farthest is None:
-        farthest = (fourth["farthest"].value, fourth["farthest"].row)
-    part = fourth["flagged"] if test.kind is not None else FlaggedValues(("fences", -math.inf, math.inf), factor)
+        statistics.add(flagged_pass[f"order_{key}"])
+        part = flagged_pass[f"flagged_{key}"]
+    else:
+        part = FlaggedValues(("fences", -math.inf, math.inf), factor)
     flagged = rules.outliers_found(
         test, factor, low_values=part.low_values, low_rows=part.low_rows, high_values=part.high_values,
         high_rows=part.high_rows, count_low=part.count_low, count_high=part.count_high,
         low_range=(float(part.low_values[0]), part.low_max) if part.count_low else None,
         high_range=(part.high_min, float(part.high_values[-1])) if part.count_high else None)
     histogram_focus = None
+    layout = rules.focus_layout_for(provisional, *test.fences_in_data_units(factor)[2:], low, high)
     if layout is not None:
-        counts = fourth["focus"].counts
+        counts = flagged_pass[f"focus_{key}"].counts
         histogram_focus = engine_bins.focus_plan(histogram_plan, layout, counts[1:-1], int(counts[0]),
                                                  int(counts[-1]))
     count_low, count_high = flagged.count_low, flagged.count_high
@@ -480,6 +505,19 @@ class _MadPlan:
 # ---------------------------------------------------------------------------
 # Outliers and the values without them
 # ---------------------------------------------------------------------------
+
+
+def _gather_flagged(parts: dict, key: str, test: rules.OutlierTest, reader: _Reader, n: int, factor: float,
+                    provisional, low: float, high: float) -> None:
+    """The pass summaries for one rule's test: the values it flags with their rows and the moments of the
+    rest, brackets for the rest's order statistics, and the focused histogram's counts."""
+    if test.kind is None:
+        return
+    parts[f"flagged_{key}"] = FlaggedValues(_limits(test), factor)
+    parts[f"order_{key}"] = reader.brackets(_rest_rank_ranges(reader.sketch, n, test, factor))
+    layout = rules.focus_layout_for(provisional, *test.fences_in_data_units(factor)[2:], low, high)
+    if layout is not None:
+        parts[f"focus_{key}"] = EdgeCounts(engine_bins.focus_edges(layout))
 
 
 def _limits(test: rules.OutlierTest) -> tuple:

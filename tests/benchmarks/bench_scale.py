@@ -1,21 +1,24 @@
 """Benchmark: findings for data larger than memory (narrator.scale), streaming and on a Dask cluster.
 
-Not collected by pytest; run by hand on a quiet machine:
+Not collected by pytest; run by hand:
 
-    .venv/bin/python tests/benchmarks/bench_scale.py               # 1e8 values, about 800 MB
-    .venv/bin/python tests/benchmarks/bench_scale.py --n 2e6 --memory-n 1e6   # a quick look
+    .venv/bin/python tests/benchmarks/bench_scale.py               # 1e8 values in 100 files, about 800 MB
+    .venv/bin/python tests/benchmarks/bench_scale.py --n 2e6 --memory-sizes 1e6,2e6 --agree-n 1e6   # a quick look
 
 It writes invented data once into a temporary folder (kept for the next run; fixed seed, lognormal
 with a few extremes, ``--parts`` Parquet files), then measures in child processes, each with its own
-peak resident memory (``ru_maxrss`` from ``os.wait4``):
+peak resident memory (``ru_maxrss`` from ``os.wait4``), the two sides of a comparison in turn:
 
-1. the stream engine over all ``--n`` values: time and peak memory (target at most 1.5 GB);
-2. at ``--memory-n`` values (small enough for memory): the in-memory engine (``read_column`` of one
-   Parquet file + ``describe``) against the stream engine on the same values in parts: both times,
-   both peaks, and whether the findings agree (exact figures equal; merged sums within 1e-12; the
-   medcouple and what depends on it within its stated bound);
-3. the Dask engine on a ``distributed.LocalCluster`` of ``--workers`` processes over all ``--n``
-   values: time, and whether its findings equal the stream engine's.
+1. reading the column once with pyarrow (every file to numpy) against the stream engine over all
+   ``--n`` values: the ratio (target at most 6) and the passes the engine made (target at most 2);
+2. the stream engine's peak memory at each of ``--memory-sizes`` (default 2e7 and 2e8 values, in
+   files of 1e6 values): target at most 1 GB at each, and not growing with n;
+3. at ``--agree-n`` values (small enough for memory): the in-memory engine against the stream engine
+   on the same values in parts, and whether the findings agree (exact figures equal; merged sums
+   within 1e-12; the medcouple and what depends on it within its stated bound);
+4. the Dask engine on a ``distributed.LocalCluster`` of ``--workers`` processes over all ``--n``
+   values: its time against the stream engine's (target at most 1.2 x), and whether its findings
+   equal the stream engine's.
 
 Prints one line per measurement with its target and ``met`` / ``NOT MET``; exits 1 if a target is missed.
 """
@@ -38,7 +41,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # tests/, for helpers.agreement
 from _common import EXTREMES, SEED, run_child  # noqa: E402
 
-STREAM_MEMORY_TARGET_MB = 1536.0
+STREAM_MEMORY_TARGET_MB = 1024.0
+READ_RATIO_TARGET = 6.0
+PASSES_TARGET = 2
+DASK_RATIO_TARGET = 1.2
 
 STREAM_CHILD = """
 import sys
@@ -46,6 +52,16 @@ from narrator.findings import dumps
 from narrator.scale import describe_source, open_source
 result = describe_source(open_source(sys.argv[1], "x"))
 open(sys.argv[2], "w", encoding="utf-8").write(dumps(result.findings))
+open(sys.argv[2] + ".passes", "w", encoding="utf-8").write(str(result.passes))
+"""
+
+READ_CHILD = """
+import sys, glob
+import pyarrow.parquet as pq
+total = 0
+for path in sorted(glob.glob(sys.argv[1] + "/*.parquet")):
+    total += pq.read_table(path, columns=["x"]).column("x").to_numpy().size
+print(total)
 """
 
 MEMORY_CHILD = """
@@ -136,34 +152,59 @@ def _verdict(ok: bool) -> str:
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--n", type=float, default=1e8)
-    parser.add_argument("--memory-n", type=float, default=1e7)
     parser.add_argument("--parts", type=int, default=100)
+    parser.add_argument("--runs", type=int, default=1, help="runs of the read and the stream engine, in turn")
+    parser.add_argument("--memory-sizes", default="2e7,2e8")
+    parser.add_argument("--agree-n", type=float, default=1e7)
     parser.add_argument("--workers", type=int, default=2)
     parser.add_argument("--folder", type=Path, default=Path(tempfile.gettempdir()) / "narrator-bench-scale")
     parser.add_argument("--skip-dask", action="store_true")
     args = parser.parse_args(argv)
-    n, memory_n = int(args.n), int(args.memory_n)
+    n, agree_n = int(args.n), int(args.agree_n)
     failed = False
+    output = Path(tempfile.mkdtemp(prefix="narrator-bench-"))
 
     big = _write_data(args.folder / f"lognormal-{n}-{SEED}", n, args.parts)
-    small = _write_data(args.folder / f"lognormal-{memory_n}-{SEED}", memory_n, max(4, args.parts // 10))
-    small_whole = _whole_file(small)
-    output = Path(tempfile.mkdtemp(prefix="narrator-bench-"))
     print(f"data: {n:,} values in {args.parts} Parquet files ({n * 8 / 2**20:,.0f} MB of float64); "
-          f"{memory_n:,} values for the in-memory comparison; folder {args.folder}")
-
-    seconds, peak = _run(STREAM_CHILD, str(big), str(output / "stream.json"))
-    ok = peak <= STREAM_MEMORY_TARGET_MB
+          f"folder {args.folder}")
+    reads, streams = [], []
+    for _ in range(args.runs):
+        reads.append(_run(READ_CHILD, str(big))[0])
+        streams.append(_run(STREAM_CHILD, str(big), str(output / "stream.json")))
+    read_seconds = float(np.median(reads))
+    stream_seconds = float(np.median([t for t, _ in streams]))
+    passes = int((output / "stream.json.passes").read_text())
+    ratio = stream_seconds / read_seconds
+    ok = ratio <= READ_RATIO_TARGET and passes <= PASSES_TARGET
     failed |= not ok
     stream_findings = _load(output / "stream.json")
-    print(f"stream n={n:,}: {seconds:.1f} s, peak {peak:,.0f} MB (target <= {STREAM_MEMORY_TARGET_MB:,.0f} MB) "
-          f"{_verdict(ok)}")
+    print(f"stream n={n:,}: {stream_seconds:.1f} s in {passes} passes; reading the column once with pyarrow "
+          f"{read_seconds:.1f} s; ratio {ratio:.1f} (targets <= {READ_RATIO_TARGET:.0f} x, <= {PASSES_TARGET} "
+          f"passes) {_verdict(ok)}; peak {max(m for _, m in streams):,.0f} MB")
 
+    peaks = []
+    for size in (int(float(v)) for v in args.memory_sizes.split(",")):
+        folder = _write_data(args.folder / f"lognormal-{size}-{SEED}", size, max(1, size // 1_000_000))
+        seconds, peak = _run(STREAM_CHILD, str(folder), str(output / f"stream-{size}.json"))
+        peaks.append(peak)
+        ok = peak <= STREAM_MEMORY_TARGET_MB
+        failed |= not ok
+        print(f"stream n={size:,}: {seconds:.1f} s, peak {peak:,.0f} MB (target <= {STREAM_MEMORY_TARGET_MB:,.0f} MB) "
+              f"{_verdict(ok)}")
+    if len(peaks) > 1:
+        growth = peaks[-1] / peaks[0]
+        ok = growth <= 1.25
+        failed |= not ok
+        print(f"peak memory from the smallest to the largest size: x{growth:.2f} (target: not growing, <= x1.25) "
+              f"{_verdict(ok)}")
+
+    small = _write_data(args.folder / f"lognormal-{agree_n}-{SEED}", agree_n, max(4, args.parts // 10))
+    small_whole = _whole_file(small)
     memory_seconds, memory_peak = _run(MEMORY_CHILD, str(small_whole), str(output / "memory-small.json"))
     small_seconds, small_peak = _run(STREAM_CHILD, str(small), str(output / "stream-small.json"))
     agree, detail = _agreement(_load(output / "memory-small.json"), _load(output / "stream-small.json"))
     failed |= not agree
-    print(f"n={memory_n:,}: in memory {memory_seconds:.1f} s, peak {memory_peak:,.0f} MB; "
+    print(f"n={agree_n:,}: in memory {memory_seconds:.1f} s, peak {memory_peak:,.0f} MB; "
           f"stream {small_seconds:.1f} s, peak {small_peak:,.0f} MB "
           f"(time ratio {small_seconds / memory_seconds:.2f}); findings agree: {detail} {_verdict(agree)}")
 
@@ -176,9 +217,12 @@ def main(argv: list[str] | None = None) -> int:
         from helpers.agreement import differences
 
         found = differences(stream_findings, _load(output / "dask.json"))
-        failed |= bool(found)
-        print(f"dask n={n:,}, {args.workers} workers: {dask_seconds:.1f} s (client process peak {dask_peak:,.0f} MB); "
-              f"findings equal the stream run's: {'yes' if not found else found[:3]} {_verdict(not found)}")
+        dask_ratio = dask_seconds / stream_seconds
+        ok = not found and dask_ratio <= DASK_RATIO_TARGET
+        failed |= not ok
+        print(f"dask n={n:,}, {args.workers} workers: {dask_seconds:.1f} s, {dask_ratio:.2f} x the stream engine "
+              f"(target <= {DASK_RATIO_TARGET}); client process peak {dask_peak:,.0f} MB; findings equal the "
+              f"stream run's: {'yes' if not found else found[:3]}; {_verdict(ok)}")
     print(json.dumps({"output": str(output)}))
     return 1 if failed else 0
 

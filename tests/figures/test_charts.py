@@ -173,11 +173,11 @@ def test_bin_sensitivity_panels_are_the_histograms_the_engine_counted(huron):
     sample, found = huron
     sensitivity = found.shape.bin_sensitivity
     fig = figures._draw_bin_sensitivity(found, sample, text_for("bin_sensitivity"), locale="en_US")
-    panels = fig.axes
+    panels = [patch for patch in fig.axes[0].patches if patch.get_fill()]  # one filled StepPatch per panel
     assert len(panels) == len(sensitivity.widths) * len(sensitivity.offsets)
-    for index, ax in enumerate(panels):
+    for index, patch in enumerate(panels):
         row, col = divmod(index, len(sensitivity.offsets))
-        counts = ax.patches[0].get_data().values  # the filled StepPatch of this panel
+        counts = patch.get_data().values
         assert counts.sum() == found.n
         assert count_visible_peaks(counts) == sensitivity.peak_counts[row][col]
 
