@@ -102,10 +102,21 @@ def request_from_arguments(args: argparse.Namespace):
 
 
 def read_and_describe(args: argparse.Namespace):
-    """Read the column the options name and describe it: (sample, findings)."""
+    """Read the column the options name and describe it: (sample, findings); a column with no number stops here."""
+    from narrator.reading.files import shown_name
     from narrator.request import describe_request
 
-    return describe_request(request_from_arguments(args))
+    sample, findings = describe_request(request_from_arguments(args))
+    require_numbers(sample, findings, f"{shown_name(Path(args.file).name)}: column {shown_name(repr(args.column))}")
+    return sample, findings
+
+
+def require_numbers(sample, findings, where: str) -> None:
+    """One clear message, not a report with n = 0, when a column holds no number at all."""
+    from narrator.reading.sample import no_numbers
+
+    if findings.n == 0:
+        raise NarratorError(f"{where} has no numbers to describe: {no_numbers(sample)}")
 
 
 def facts_table(findings, locale: str = "en_US") -> str:
@@ -177,6 +188,7 @@ def _say_notes(outcomes) -> None:
 def _draft_by_group(args: argparse.Namespace) -> int:
     from narrator.groups.analysis import analyse_file
     from narrator.progress import progress_for
+    from narrator.reading.files import shown_name
     from narrator.report import report_from_collection
     from narrator.request import engine_for, naming_the_input
     from narrator.safe_io import check_output
@@ -190,6 +202,9 @@ def _draft_by_group(args: argparse.Namespace) -> int:
             args.file, [request.variable], reading=request.reading, group_by=args.group_by,
             privacy_threshold=args.privacy_threshold, step=progress.step,
         )
+        for part in collection.variables:
+            require_numbers(part.sample, part.findings, f"{shown_name(Path(args.file).name)}: column "
+                                                        f"{shown_name(repr(args.column))}")
         with naming_the_input(request):
             outcome = report_from_collection(
                 collection, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
@@ -304,18 +319,21 @@ def command_demo(args: argparse.Namespace) -> int:
 
 
 def command_compare(args: argparse.Namespace) -> int:
-    from narrator.history.changes import compare
+    from narrator.history.changes import compare, compare_sets
     from narrator.history.sidecar import read_findings_file
     from narrator.phrasing.narrative import Narrative
     from narrator.phrasing.numbers import parse_locale
-    from narrator.phrasing.what_changed import changes_section
+    from narrator.phrasing.what_changed import changes_section, set_changes_narrative
 
-    old = read_findings_file(args.old).variables[0].findings
-    new = read_findings_file(args.new).variables[0].findings
-    section = changes_section(compare(old, new), old, new, locale=args.locale, currency=args.currency)
-    parsed = parse_locale(args.locale)
-    narrative = Narrative(audience="changes", locale=str(parsed), language=parsed.language,
-                          title=section.title, sections=(section,))
+    old, new = read_findings_file(args.old), read_findings_file(args.new)
+    if len(old.variables) == len(new.variables) == 1 and not old.group_by and not new.group_by:
+        before, after = old.variables[0].findings, new.variables[0].findings
+        section = changes_section(compare(before, after), before, after, locale=args.locale, currency=args.currency)
+        parsed = parse_locale(args.locale)
+        narrative = Narrative(audience="changes", locale=str(parsed), language=parsed.language,
+                              title=section.title, sections=(section,))
+    else:  # several variables, or groups: each variable, and each group both builds show
+        narrative = set_changes_narrative(compare_sets(old, new), locale=args.locale, currency=args.currency)
     sys.stdout.write(narrative.plain_text())
     return 0
 

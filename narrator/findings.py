@@ -11,6 +11,7 @@ Class                       What it holds
 :class:`Variable`           name, unit, bounds and valid range as declared
 :class:`Center`             mean, median, trimmed means, the lead measure
 :class:`Spread`             SD, quartiles (with their definition), MAD, range
+:class:`OrderCounts`        how many values lie below, at and above the median, quartiles, ends
 :class:`Shape`              label, strength, and every piece of evidence
 :class:`BinSensitivity`     visible peaks across bin widths and offsets
 :class:`Outliers`           rule, constants, fences, flagged values and rows
@@ -122,6 +123,34 @@ class Spread:
 
 
 @dataclass(frozen=True, slots=True)
+class OrderCounts:
+    """Counts of values by their place against the median, the quartiles and the two ends.
+
+    The words "half were lower", "no value is lower" or "58 % were 0" are said only when these
+    counts make them true (narrator.phrasing.licences).
+    """
+
+    below_median: int
+    at_median: int
+    above_median: int
+    below_q1: int  # strictly below Q1
+    above_q3: int  # strictly above Q3
+    at_min: int
+    at_max: int
+    next_above_min: float | None  # the smallest value above the minimum (None when all are equal)
+    next_below_max: float | None  # the largest value below the maximum
+
+    @property
+    def n(self) -> int:
+        return self.below_median + self.at_median + self.above_median
+
+    @property
+    def within_quartiles(self) -> int:
+        """Values from Q1 to Q3, both included."""
+        return self.n - self.below_q1 - self.above_q3
+
+
+@dataclass(frozen=True, slots=True)
 class BinSensitivity:
     base_width: float
     widths: tuple[float, ...]
@@ -130,6 +159,10 @@ class BinSensitivity:
     sensitive: bool  # the number of visible peaks changes across the grid
     min_peaks: int
     max_peaks: int
+    # The share of the values in the fullest bin at the base width, at the offset where it is smallest:
+    # when one bin holds almost every value at every offset, peaks cannot be told apart.
+    largest_bin_share: float | None = None
+    undecided: bool = False  # largest_bin_share at or above narrator.engine.bins.DOMINANT_BIN_SHARE
 
 
 @dataclass(frozen=True, slots=True)
@@ -180,6 +213,10 @@ class Outliers:
     listed_low: int = 0  # how many of ``values`` are low-side values
     low_range: tuple[float, float] | None = None  # (lowest, highest) of all low-side flagged values
     high_range: tuple[float, float] | None = None  # (lowest, highest) of all high-side flagged values
+    # The rule first chosen, when it was degenerate for these data and ``rule`` is the one used instead,
+    # and why: "medcouple_at_bound" (the skew-adjusted rule with |MC| = 1), "iqr_zero" (fences on the quartiles).
+    fallback_from: str | None = None
+    fallback_reason: str | None = None
 
     @property
     def low_values(self) -> tuple[float, ...]:
@@ -278,6 +315,7 @@ class QualityFlag:
     rows: tuple[int, ...] = ()  # first few source rows involved
     values: tuple[float, ...] = ()  # values involved (e.g. the suspected code)
     detail: dict[str, float] = field(default_factory=dict)
+    texts: tuple[str, ...] = ()  # cell texts involved, as read ("" for a blank cell), for exclusions
 
 
 @dataclass(frozen=True, slots=True)
@@ -530,6 +568,8 @@ class Findings:
     histogram_focus: HistogramPlan | None = None
     # The density curve over the same part of the axis (the same estimate, read on 512 points there).
     density_focus: Density | None = None
+    # Counts by place against the median, quartiles and ends (None when no value is usable).
+    order_counts: OrderCounts | None = None
     # What a memo leads with (narrator.engine.decision): clusters, unusual values and entry errors,
     # the total's concentration. A field that was not computed is None and ``not_computed`` gives
     # its reason code ("stream_engine", "no_spread", "negative_values", ...).

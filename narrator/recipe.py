@@ -136,6 +136,17 @@ class Recipe:
     outputs: tuple[Output, ...]
     variables: tuple[VariableRequest, ...]
     marked: tuple[Output, ...] = ()  # [outputs] marked: documents filled in place, audience "marked"
+    variable_lines: tuple[int | None, ...] = ()  # the line of each [[variables]] table's column key
+
+    def require_numbers(self, index: int, sample, findings) -> None:
+        """Stop with the recipe line that names a column holding no number at all."""
+        from narrator.reading.sample import no_numbers
+
+        if findings.n == 0:
+            line = self.variable_lines[index] if index < len(self.variable_lines) else None
+            where = f"{self.source.name}, line {line}" if line is not None else self.source.name
+            raise NarratorError(f"{where}: column {self.variables[index].column!r} of {self.data.path_text} has no "
+                                f"numbers to describe: {no_numbers(sample)}")
 
     @property
     def folder(self) -> Path:
@@ -561,7 +572,8 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
                            checker.line("variables", None, None))
     variables = tuple(_variable(checker, entry, values) for entry, values in enumerate(entries))
     return Recipe(source=source, data=data_settings, report=report_settings, outputs=outputs, variables=variables,
-                  marked=marked)
+                  marked=marked, variable_lines=tuple(checker.line("variables", entry, "column")
+                                                      for entry in range(len(entries))))
 
 
 # --------------------------------------------------------------------------- building
@@ -599,6 +611,7 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None, f
         # itself with the previous build's sidecar.
         announce(f"reading {data.path_text}" + (f" with the {engine} engine" if engine != "memory" else ""))
         sample, findings = describe_request(first)
+        recipe.require_numbers(0, sample, findings)
         outcomes = []
         for output in recipe.outputs:
             _make_folder_for(output)
@@ -611,6 +624,8 @@ def build_recipe(recipe: Recipe, *, step: Callable[[str], None] | None = None, f
         return outcomes
     collection = analyse_file(data.path, recipe.variables, reading=data.reading, group_by=data.group_by,
                               privacy_threshold=data.privacy_threshold, step=announce)
+    for index, part in enumerate(collection.variables):
+        recipe.require_numbers(index, part.sample, part.findings)
     outcomes = []
     for output in recipe.outputs:
         _make_folder_for(output)

@@ -227,3 +227,26 @@ def test_redraft_builds_every_output_from_another_folder(project, tmp_path, monk
         # airquality Ozone: 116 values, 37 missing (R's summary(airquality$Ozone), from memory: NA's 37)
         assert found.variables[0].findings.n == 116
     assert not list(tmp_path.iterdir())  # nothing was written in the current folder
+
+
+def test_redraft_names_the_recipe_line_of_a_column_with_no_numbers(tmp_path, capsys):
+    # Invented intake file: the recipe names the office column (text) by mistake.
+    (tmp_path / "intake.csv").write_text("office,wait\nnorth,12\nsouth,15\neast,9\n", encoding="utf-8")
+    recipe = write(tmp_path, """\
+        [data]
+        path = "intake.csv"
+
+        [outputs]
+        memo = "memo.docx"
+
+        [[variables]]
+        column = "wait"
+
+        [[variables]]
+        column = "office"
+        """)
+    assert main(["redraft", str(recipe), "--quiet"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert err.count("\n") == 0 and err.startswith("narrator: recipe.toml, line 11: column 'office' of intake.csv")
+    assert "has no numbers to describe: none of its 3 cells holds a number (for example 'north'" in err
+    assert not (tmp_path / "memo.docx").exists()

@@ -86,6 +86,9 @@ DEFAULT_OFFSETS = (0.0, 0.25, 0.5, 0.75)
 MAX_FINE_DIVISIONS = 64
 MAX_FINE_BINS = 2**24
 STRETCH_LIMIT = 0.5  # far-out values may widen the histogram's axis by at most half of the bulk's range
+# One bin holding this share of the values at every offset (at the base width): the grid cannot tell
+# how many peaks there are (our own cut; BinSensitivity.undecided).
+DOMINANT_BIN_SHARE = 0.9
 
 
 def _as_values(values, what: str) -> np.ndarray:
@@ -634,27 +637,42 @@ def sensitivity_grid(
 def sensitivity_from_counts(grid: SensitivityGrid, counts) -> BinSensitivity:
     """Visible peaks at every width x offset from the counts in ``grid.grids`` (in that order)."""
     peak_counts: list[tuple[int, ...]] = []
+    fullest: list[list[float]] = []  # [width][offset]: the share of the values in the fullest bin
+
+    def share_of_fullest(bin_counts) -> float:
+        bin_counts = np.asarray(bin_counts)
+        total = float(bin_counts.sum())
+        return float(bin_counts.max()) / total if total > 0 else 1.0
+
     if grid.fine is not None:
         step, _ = grid.fine
         fine_counts = np.asarray(counts[0])
         for w in grid.scaled_widths:
             steps_per_bin = round(w / step)
-            row = []
+            row, shares = [], []
             for o in grid.offsets:
                 # Fine bins before the offset are empty: the origin sits a whole period below the data.
                 shifted = fine_counts[round(o * w / step):]
                 padding = (-shifted.size) % steps_per_bin
                 coarse = np.concatenate((shifted, np.zeros(padding, dtype=shifted.dtype)))
-                row.append(count_visible_peaks(coarse.reshape(-1, steps_per_bin).sum(axis=1)))
+                summed = coarse.reshape(-1, steps_per_bin).sum(axis=1)
+                row.append(count_visible_peaks(summed))
+                shares.append(share_of_fullest(summed))
             peak_counts.append(tuple(row))
+            fullest.append(shares)
     else:
         columns = len(grid.offsets)
         for i in range(len(grid.scaled_widths)):
             peak_counts.append(tuple(count_visible_peaks(counts[i * columns + j]) for j in range(columns)))
+            fullest.append([share_of_fullest(counts[i * columns + j]) for j in range(columns)])
     flat = [count for row in peak_counts for count in row]
+    # At the base width (the row whose width is nearest the plan's), the offset that spreads the values most.
+    base_row = min(range(len(grid.widths)), key=lambda i: (abs(grid.widths[i] - grid.base_width), i))
+    largest = min(fullest[base_row])
     return BinSensitivity(
         base_width=grid.base_width, widths=grid.widths, offsets=grid.offsets, peak_counts=tuple(peak_counts),
         sensitive=len(set(flat)) > 1, min_peaks=min(flat), max_peaks=max(flat),
+        largest_bin_share=largest, undecided=largest >= DOMINANT_BIN_SHARE,
     )
 
 

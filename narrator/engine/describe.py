@@ -56,6 +56,7 @@ from narrator.engine.rules import (
     density_focus_of,
 )
 from narrator.engine.shape import MIN_FOR_SHAPE, is_clearly_skewed
+from narrator.engine.ties import order_counts_sorted
 from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.reading.sample import Exclusion, Sample, clean_label, guess_decimals
@@ -287,7 +288,8 @@ def describe(
         farthest=_farthest(sample, sorted_values, mean * factor, n), every_value=lambda: sorted_values,
         histogram=histogram_plan, density=density_estimate,
         density_focus=density_focus_of(density_estimate, fine_density, histogram_focus),
-        histogram_focus=histogram_focus, quality=quality)
+        histogram_focus=histogram_focus, quality=quality,
+        order_counts=order_counts_sorted(sorted_values, q1=q1 * factor, median=median * factor, q3=q3 * factor))
     return rules.decide(gathered, options, variable, provenance)
 
 

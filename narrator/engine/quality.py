@@ -51,7 +51,7 @@ from narrator.engine.shape import MIN_FOR_SHAPE
 from narrator.findings import Quality, QualityFlag
 from narrator.reading.sample import Sample
 
-CODE_NEIGHBOURHOOD = 0.1  # neighbours of a suspected code: within this share of the IQR
+CODE_NEIGHBOURHOOD = 0.5  # neighbours of a suspected code: within this share of the IQR
 SPIKE_RATIO = 3.0  # a code holds at least this many times its neighbours' typical count
 
 __all__ = [
@@ -98,6 +98,8 @@ def _is_spike(sorted_values: np.ndarray, left: int, right: int, half_width: floa
     common as the values beside it.
     """
     count = right - left
+    if count < rules.MIN_CODE_COUNT:
+        return False
     code = sorted_values[left]
     start = int(np.searchsorted(sorted_values, code - half_width, side="left"))
     stop = int(np.searchsorted(sorted_values, code + half_width, side="right"))
@@ -105,7 +107,7 @@ def _is_spike(sorted_values: np.ndarray, left: int, right: int, half_width: floa
     if neighbours.size == 0:
         return True
     distinct = 1 + int(np.count_nonzero(np.diff(neighbours)))
-    return count >= SPIKE_RATIO * neighbours.size / distinct
+    return count >= SPIKE_RATIO * max(1.0, neighbours.size / distinct)
 
 
 def _missing_codes(sorted_values: np.ndarray, values: np.ndarray, rows: np.ndarray) -> list[QualityFlag]:

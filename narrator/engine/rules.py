@@ -82,6 +82,7 @@ from narrator.findings import (
     HistogramPlan,
     Interval,
     Intervals,
+    OrderCounts,
     Outliers,
     Quality,
     QualityFlag,
@@ -125,6 +126,7 @@ HEAPING_P = 0.001  # and a one-sided binomial test below this
 HEAPING_MIN_N = 30
 SUSPECT_CODES = (-9.0, -99.0, -999.0, -9999.0, -99999.0, 99.0, 999.0, 9999.0, 99999.0, 999999.0, -1.0, -8.0)
 CODE_DISTANCE_IQR = 3.0  # a code must sit beyond the far-out fences of the other values
+MIN_CODE_COUNT = 2  # a lone 99 among real values is not a missing-value code
 ROWS_SHOWN = 10
 
 
@@ -279,6 +281,50 @@ class RuleChoice:
     rule: str
     chosen_by: str  # "user" or "auto"
     auto_reason: str | None  # "skewed" or "not_skewed" when chosen automatically
+    fallback_from: str | None = None  # the rule first chosen, when it was degenerate for these data
+    fallback_reason: str | None = None  # why: "medcouple_at_bound" or "iqr_zero"
+
+
+MEDCOUPLE_BOUND = 1.0 - 1e-12  # |MC| at or above this is at its bound (the medcouple lies in [-1, 1])
+
+
+def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: float | None) -> str | None:
+    """Why ``rule`` cannot work on these data, or None when it can (our own rule, stated in the findings):
+
+    * ``"medcouple_at_bound"``: the skew-adjusted rule with |MC| = 1. The values on one side of the
+      median all tie with it (half or more of a count are 0), so the medcouple measures the ties, not
+      the tail, and the fence on the long side moves e^3 = 20 IQRs out: the rule can flag almost nothing;
+    * ``"iqr_zero"``: Tukey's or the adjusted rule with IQR = 0: the fences sit on the quartiles and
+      every value that differs from them would be "unusual".
+
+    >>> degenerate_reason("adjusted", n=50, q1=0.0, q3=2.0, medcouple=1.0)
+    'medcouple_at_bound'
+    >>> degenerate_reason("tukey", n=50, q1=3.0, q3=3.0, medcouple=0.0)
+    'iqr_zero'
+    """
+    if n < MIN_VALUES or rule not in ("tukey", "adjusted"):
+        return None
+    if not q3 > q1:
+        return "iqr_zero"
+    if rule == "adjusted" and medcouple is not None and abs(medcouple) >= MEDCOUPLE_BOUND:
+        return "medcouple_at_bound"
+    return None
+
+
+def fallback_rule(reason: str) -> str:
+    """The rule that replaces a degenerate one: Tukey's fences (the adjusted rule with MC = 0) for a medcouple
+    at its bound, the modified z-score (with its MeanAD fallback when the MAD is 0 too) for an IQR of 0."""
+    return "tukey" if reason == "medcouple_at_bound" else "modified-z"
+
+
+def working_choice(choice: RuleChoice, n: int, *, q1: float, q3: float, medcouple: float | None) -> RuleChoice:
+    """``choice``, or the rule that replaces it when it is degenerate for these data (recorded in the choice). A rule
+    the user named is replaced the same way: a report must not call a quarter of the values unusual because the
+    fences collapsed."""
+    reason = degenerate_reason(choice.rule, n=n, q1=q1, q3=q3, medcouple=medcouple)
+    if reason is None:
+        return choice
+    return RuleChoice(fallback_rule(reason), choice.chosen_by, choice.auto_reason, choice.rule, reason)
 
 
 def rule_choice(rule: str | None, clearly_skewed: bool) -> RuleChoice:
@@ -364,8 +410,10 @@ def outlier_test(choice: RuleChoice, n: int, *, q1: float, median: float, q3: fl
     Hoaglin 1993) from the quartiles, the medcouple, the median and the MAD (all in x / factor units).
 
     ``mean_absolute_deviation()`` (the mean |x - median|) is asked for only when the MAD is 0: the
-    common-practice fallback scale for the modified z score.
+    common-practice fallback scale for the modified z score. A degenerate rule is replaced first
+    (:func:`working_choice`).
     """
+    choice = working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple)
     constants = rule_constants(choice, n, medcouple, coefficient=coefficient, far_coefficient=far_coefficient,
                                modified_z_threshold=modified_z_threshold)
     none = (None, None, None, None)
@@ -420,7 +468,8 @@ def outliers_found(test: OutlierTest, factor: float, *, low_values, low_rows, hi
         far_out_values=tuple(float(v) for v in values[far]), far_out_rows=tuple(int(r) for r in rows[far]),
         note=test.note if note is None else note, listed_low=int(low_values.size),
         low_range=None if low_range is None else (float(low_range[0]), float(low_range[1])),
-        high_range=None if high_range is None else (float(high_range[0]), float(high_range[1])))
+        high_range=None if high_range is None else (float(high_range[0]), float(high_range[1])),
+        fallback_from=test.choice.fallback_from, fallback_reason=test.choice.fallback_reason)
 
 
 def focus_layout_for(histogram: HistogramPlan | None, far_lower: float | None, far_upper: float | None,
@@ -587,9 +636,13 @@ def exclusion_flags(sample) -> list[QualityFlag]:
     total = max(sample.n_rows, 1)
     for exclusion in sample.exclusions:
         if exclusion.count:
+            # The cell texts the reader saw ("" for a blank), so the text can say what the cells held.
             flags.append(QualityFlag(code=exclusion.reason, count=exclusion.count, share=exclusion.count / total,
                                      rows=tuple(int(r) for r in exclusion.rows[:ROWS_SHOWN]),
-                                     values=tuple(float(v) for v in exclusion.values[:ROWS_SHOWN])))
+                                     values=tuple(float(v) for v in exclusion.values[:ROWS_SHOWN]),
+                                     texts=tuple(exclusion.examples),
+                                     detail={"texts_complete": float(exclusion.examples_complete)}
+                                     if exclusion.examples else {}))
     return flags
 
 
@@ -622,9 +675,9 @@ def reading_flags(sample) -> list[QualityFlag]:
 
 
 def code_worth_checking(code: float, count: int, n: int) -> bool:
-    """A suspect code is checked when it repeats (or is a long all-nines code) and at least 4 other values remain."""
-    all_nines = abs(code) >= 99 and set(str(int(abs(code)))) == {"9"}
-    return count > 0 and (count >= 2 or all_nines) and n - count >= 4
+    """A suspect code is checked when it repeats (``MIN_CODE_COUNT`` times: one value is never a spike, and a code
+    typed for "missing" is typed again and again) and at least 4 other values remain."""
+    return count >= MIN_CODE_COUNT and n - count >= 4
 
 
 def code_flag(code: float, count: int, n: int, *, q1: float, q3: float, others_sd: Callable[[], float],
@@ -757,6 +810,7 @@ class Gathered:
     density_focus: object
     histogram_focus: HistogramPlan | None
     quality: Quality
+    order_counts: OrderCounts | None = None  # counts at the median, quartiles and ends (narrator.engine.ties)
 
 
 def decide(g: Gathered, options: Options, variable: Variable, provenance: dict, accuracy=None) -> Findings:
@@ -802,6 +856,7 @@ def decide(g: Gathered, options: Options, variable: Variable, provenance: dict, 
         schema_version=SCHEMA_VERSION, variable=variable, n=n, n_missing=g.quality.n_missing, center=center,
         spread=spread, shape=g.shape, outliers=flagged, without_outliers=without, intervals=interval_findings,
         histogram=g.histogram, density=g.density, quality=g.quality, options=options.record(),
-        provenance=provenance, accuracy=accuracy, histogram_focus=g.histogram_focus, density_focus=g.density_focus)
+        provenance=provenance, accuracy=accuracy, histogram_focus=g.histogram_focus, density_focus=g.density_focus,
+        order_counts=g.order_counts)
     # What a memo leads with; the fields that need every value are recorded as not computed without them.
     return add_decision_findings(findings, None if g.every_value is None else g.every_value())

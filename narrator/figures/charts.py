@@ -6,7 +6,8 @@ Name                                What it draws
 :class:`RenderedFigure`             one finished picture (PNG bytes, size, texts)
 :func:`render_figures`              every figure the narrative asks for, in order
 :func:`histogram`                   the engine's bin plan, density curve, mean and median
-:func:`dot_plot`                    one dot per value, stacked in the plan's bins
+:func:`dot_plot`                    one dot per value, at its value, stacked in the plan's bins
+:func:`draws_curve`                 whether the histogram's density curve agrees with its bars
 :func:`with_and_without`            where flagged values sit; how mean and median move
 :func:`bin_sensitivity_panel`       small multiples over the bin widths and offsets tried
 :class:`LocaleTickFormatter`        axis tick labels through the report's number formatter
@@ -36,8 +37,10 @@ Design choices, and why:
   :data:`FLAGGED_DRAW_LIMIT` flagged values.
 
 The stacked dot plot follows Wilkinson (1999, "Dot plots", The American
-Statistician 53), with stacks at the histogram plan's bins (the "histodot"
-variant) so the dot plot and the histogram agree on where values fall.
+Statistician 53), with stacks counted in the histogram plan's bins (the
+"histodot" variant) so the dot plot and the histogram agree on where values
+fall; each dot is drawn at its own value, so no dot sits on the wrong side of
+the median line.
 """
 
 from __future__ import annotations
@@ -169,7 +172,7 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     _add_bars(ax, edges, counts, linewidth=0.6 if counts.size <= 120 else 0.0)
     ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
     top = float(counts.max()) if counts.size else 1.0
-    if curve_of is not None and curve_of.grid:
+    if curve_of is not None and curve_of.grid and draws_curve(findings, plan, curve_of):
         grid = np.asarray(curve_of.grid, dtype=float)
         curve = np.asarray(curve_of.values, dtype=float) * findings.n * plan.width
         ax.plot(grid, curve, color=CURVE, linewidth=1.5, zorder=3, solid_capstyle="round")
@@ -189,6 +192,44 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     _mark_center(ax, center.mean, center.median, labels)
     _finish_axes(ax, numbers, labels["x"], labels["y"], integer_y=True)
     return fig
+
+
+# A density curve is drawn over the bars only when it agrees with them (the issue a reader sees when it does
+# not: a curve half as high again as the bar at 0, or peaking two bins from the tallest bar). Our cut points.
+CURVE_HEIGHT_RANGE = (0.5, 1.5)  # the curve's highest point, in tallest bars
+CURVE_PEAK_REACH_BINS = 3  # the curve's highest point lies within this many bin widths of the tallest bar
+FEW_WHOLE_VALUES = 30  # whole numbers in bins of width 1 spanning at most this many: the bars are the distribution
+
+
+def draws_curve(findings: Findings, plan, curve_of) -> bool:
+    """Whether the histogram carries its density curve (see CURVE_HEIGHT_RANGE and CURVE_PEAK_REACH_BINS).
+
+    No curve for whole numbers with many ties: a count per whole number (bins of width 1 over at most
+    ``FEW_WHOLE_VALUES`` values, or a column the engine flagged for many ties or few distinct values) is
+    the distribution itself, and a smooth curve over it invents values between the whole numbers. Any
+    other curve is drawn only when its highest point is 0.5 to 1.5 times the tallest bar and within three
+    bin widths of it (the curve is scaled to counts: density x n x bin width).
+    """
+    counts = np.asarray(plan.counts, dtype=float)
+    if curve_of is None or not curve_of.grid or counts.size == 0 or counts.max() <= 0:
+        return False
+    quality = findings.quality
+    if findings.variable.integer_valued and (
+            quality.has("many_ties") or quality.has("few_distinct")
+            or (plan.width <= 1 and len(plan.counts) <= FEW_WHOLE_VALUES)):
+        return False
+    edges = np.asarray(plan.edges, dtype=float)
+    grid = np.asarray(curve_of.grid, dtype=float)
+    curve = np.asarray(curve_of.values, dtype=float) * findings.n * plan.width
+    shown = (grid >= edges[0]) & (grid <= edges[-1])
+    if not shown.any():
+        return False
+    peak = int(np.argmax(np.where(shown, curve, -np.inf)))
+    tallest = int(np.argmax(counts))
+    height = curve[peak] / counts[tallest]
+    centre = (edges[tallest] + edges[tallest + 1]) / 2
+    near = abs(grid[peak] - centre) <= CURVE_PEAK_REACH_BINS * plan.width
+    return CURVE_HEIGHT_RANGE[0] <= height <= CURVE_HEIGHT_RANGE[1] and near
 
 
 def _add_bars(ax: Axes, edges: np.ndarray, counts: np.ndarray, *, linewidth: float) -> None:
@@ -251,7 +292,8 @@ def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, loca
         level[position] = seen.get(bin_index, 0)
         seen[bin_index] = seen.get(bin_index, 0) + 1
     flagged = _flagged_mask(findings, sample)
-    x_dots, y_dots = centers[index], (level + 0.5) * diameter_pt
+    # Each dot sits at its own value (the caption says each dot is one value); the bins only stack them.
+    x_dots, y_dots = values, (level + 0.5) * diameter_pt
     ax.scatter(
         x_dots[~flagged], y_dots[~flagged], s=(0.86 * diameter_pt) ** 2, marker="o",
         facecolor=BAR_FILL, edgecolor=CURVE, linewidth=0.7, zorder=3, label=labels.get("kept") or None,
@@ -475,11 +517,11 @@ def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: s
 
 
 def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
-    """Stacked dot plot: one dot per value, stacked within bins aligned to the engine's plan.
+    """Stacked dot plot: one dot per value, at its value, stacked within bins aligned to the engine's plan.
 
     Wilkinson (1999) dot plot, "histodot" form: the dots of a bin are stacked
-    upward at the bin's centre, so the height of a stack is its count and the
-    dot diameter equals the bin width. The bins are the plan's own
+    upward, so the height of a stack is its count and the dot diameter equals
+    the bin width; each dot's horizontal place is its own value. The bins are the plan's own
     (``findings.histogram``) or, when the tallest stack would not fit the
     figure, the plan's bins split into 2, 4, 5, 10... equal parts, so every
     dot-plot bin lies inside one histogram bin and the two pictures agree.

@@ -8,22 +8,37 @@ Name                           What it is
 :func:`baseline_for`           which earlier findings a new build is compared with
 :class:`Change`                one compared quantity and whether it is worth saying
 :class:`Changes`               every comparison, and "little changed" when none is
+:func:`compare_sets`           two findings sets -> :class:`SetChanges` (variables, groups)
+:func:`standard_error`         a build's standard error, from its own interval
 =============================  ==================================================
 
 When a change is worth mentioning (our own rules, stated in the methods
 text through the reason codes):
 
-* **center** (the lead measure of the new build): the change is larger than
-  the half-width of the new build's confidence interval for that measure,
-  i.e. larger than the uncertainty of the estimate itself
-  (``beyond_interval``). Without an interval (the rows are the whole
-  population, or too few values) any change larger than ``POPULATION_SHARE``
-  of the SD is mentioned (``beyond_share_of_sd``).
+* **center** (the lead measure of the new build): judged by the difference of
+  the two estimates with its own interval, as Schenker & Gentleman (2001,
+  "On judging the significance of differences by examining the overlap
+  between confidence intervals", The American Statistician 55(3)) recommend
+  (overlapping intervals are not the test). Each build's standard error is
+  read off its own interval, se = (high - low) / (2 z), z the normal quantile
+  at (1 + level) / 2; the difference's is sqrt(se_old^2 + se_new^2), the rule
+  for independent builds. Builds of refreshed data usually share rows, and
+  positively correlated estimates make the true standard error of the
+  difference smaller, so this interval is wider than it needs to be: we
+  choose it so that no change is ever overstated. The change is mentioned
+  when the interval d +/- z se excludes 0 (``beyond_interval``; else
+  ``within_interval``). When either build has no interval (the rows are the
+  whole population, or too few values) any change larger than
+  ``POPULATION_SHARE`` of the new SD is mentioned (``beyond_share_of_sd``).
 * **spread** (SD and IQR): a relative change of more than ``SPREAD_SHARE``.
 * **n**: a relative change of more than ``COUNT_SHARE``, or any change in
   the number of values left out as missing or impossible.
-* **outliers**: any change in the number of flagged values.
+* **outliers**: any change in the number of flagged values (each build by its
+  own fences: the words say so when the fences moved).
 * **shape**: any change of label or strength; **lead**: any change of measure.
+
+:func:`compare_sets` compares two findings sets (several variables, groups)
+variable by variable and group by group, matched by name and label.
 
 Regeneration: a rebuild on unchanged data must give the same text. So the
 sidecar (:mod:`narrator.history.sidecar`) keeps, beside the new findings, the findings it was compared with
@@ -39,6 +54,8 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from narrator.engine.distributions import normal_isf
+from narrator.errors import NarratorError
 from narrator.findings import Findings
 
 POPULATION_SHARE = 0.1
@@ -55,7 +72,10 @@ class Change:
     relative: float | None  # (new - old) / |old|
     mention: bool
     reason: str  # "beyond_interval", "within_interval", "beyond_share_of_sd", "changed", "unchanged", ...
-    threshold: float | None = None
+    threshold: float | None = None  # for the center: the difference interval's half-width
+    low: float | None = None  # the center's difference interval (new - old), when judged by one
+    high: float | None = None
+    level: float | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -99,6 +119,35 @@ def _labels(key: str, old: Any, new: Any) -> Change:
     return Change(key, old, new, None, None, old != new, "changed" if old != new else "unchanged")
 
 
+def standard_error(interval) -> float | None:
+    """A build's standard error read off its own interval: (high - low) / (2 z), z at (1 + level) / 2."""
+    if interval is None or not (math.isfinite(interval.low) and math.isfinite(interval.high)):
+        return None
+    z = normal_isf((1.0 - interval.level) / 2.0)
+    return (interval.high - interval.low) / (2.0 * z)
+
+
+def _center_change(key: str, old: Findings, new: Findings, lead: str) -> Change:
+    old_value, new_value = getattr(old.center, lead), getattr(new.center, lead)
+    old_se = standard_error(getattr(old.intervals, lead))
+    new_se = standard_error(getattr(new.intervals, lead))
+    if old_se is not None and new_se is not None:
+        level = getattr(new.intervals, lead).level
+        half = normal_isf((1.0 - level) / 2.0) * math.hypot(old_se, new_se)
+        difference = new_value - old_value
+        if difference == 0:
+            return Change(key, old_value, new_value, 0.0, 0.0, False, "unchanged", half, -half, half, level)
+        low, high = difference - half, difference + half
+        mention = low > 0 or high < 0
+        relative = difference / abs(old_value) if old_value != 0 else None
+        return Change(key, old_value, new_value, difference, relative, mention,
+                      "beyond_interval" if mention else "within_interval", half, low, high, level)
+    sd = new.spread.sd if new.spread is not None else math.nan
+    threshold = POPULATION_SHARE * sd if math.isfinite(sd) else None
+    return _numbers(key, old_value, new_value, threshold=threshold, reason_over="beyond_share_of_sd",
+                    reason_under="within_share_of_sd")
+
+
 def compare(old: Findings, new: Findings) -> Changes:
     """Compare two builds of the same variable; the new build's lead measure sets the center compared."""
     items: list[Change] = [_relative_change("n", float(old.n), float(new.n), COUNT_SHARE)]
@@ -106,18 +155,7 @@ def compare(old: Findings, new: Findings) -> Changes:
     items.append(_labels("quality.n_impossible", old.quality.n_impossible, new.quality.n_impossible))
     lead = new.center.lead if new.center is not None else "median"
     if old.center is not None and new.center is not None:
-        interval = getattr(new.intervals, lead)
-        if interval is not None and math.isfinite(interval.low) and math.isfinite(interval.high):
-            threshold = (interval.high - interval.low) / 2
-            reasons = ("beyond_interval", "within_interval")
-        else:
-            sd = new.spread.sd if new.spread is not None else math.nan
-            threshold = POPULATION_SHARE * sd if math.isfinite(sd) else None
-            reasons = ("beyond_share_of_sd", "within_share_of_sd")
-        items.append(
-            _numbers(f"center.{lead}", getattr(old.center, lead), getattr(new.center, lead),
-                     threshold=threshold, reason_over=reasons[0], reason_under=reasons[1])
-        )
+        items.append(_center_change(f"center.{lead}", old, new, lead))
         items.append(_labels("center.lead", old.center.lead, new.center.lead))
     if old.spread is not None and new.spread is not None:
         items.append(_relative_change("spread.sd", old.spread.sd, new.spread.sd, SPREAD_SHARE))
@@ -128,6 +166,60 @@ def compare(old: Findings, new: Findings) -> Changes:
     items.append(_labels("shape.label", old.shape.label, new.shape.label))
     items.append(_labels("shape.strength", old.shape.strength, new.shape.strength))
     return Changes(variable=new.variable.name, lead=lead, items=tuple(items))
+
+
+@dataclass(frozen=True, slots=True)
+class PairedChange:
+    """One variable (or one group of it) in both builds, and their comparison."""
+
+    name: str  # the variable's name
+    group: str | None  # the group's label, or None for the whole variable
+    old: Findings
+    new: Findings
+    changes: Changes
+
+
+@dataclass(frozen=True, slots=True)
+class SetChanges:
+    """Two findings sets compared: every variable and group found in both, and what is only in one."""
+
+    group_by: str | None
+    pairs: tuple[PairedChange, ...]
+    only_old: tuple[str, ...]  # "name" or "name / label" in the old build only
+    only_new: tuple[str, ...]
+
+
+def compare_sets(old, new) -> SetChanges:
+    """Compare two findings sets (narrator.history.sidecar.FindingsSet), variable by variable (matched by
+    name) and, when both are grouped by the same column, group by group (matched by label)."""
+    old_by_name = {item.findings.variable.name: item for item in old.variables}
+    pairs: list[PairedChange] = []
+    only_new: list[str] = []
+    only_old = [name for name in old_by_name if name not in {i.findings.variable.name for i in new.variables}]
+    same_grouping = old.group_by is not None and old.group_by == new.group_by
+    for item in new.variables:
+        name = item.findings.variable.name
+        before = old_by_name.get(name)
+        if before is None:
+            only_new.append(name)
+            continue
+        pairs.append(PairedChange(name, None, before.findings, item.findings, compare(before.findings, item.findings)))
+        if not same_grouping:
+            continue
+        old_groups = {group.label: group for group in before.groups}
+        for group in item.groups:
+            earlier = old_groups.get(group.label)
+            if earlier is None:
+                only_new.append(f"{name} / {group.label}")
+                continue
+            pairs.append(PairedChange(name, group.label, earlier.findings, group.findings,
+                                      compare(earlier.findings, group.findings)))
+        new_labels = {group.label for group in item.groups}
+        only_old.extend(f"{name} / {label}" for label in old_groups if label not in new_labels)
+    if not pairs:
+        raise NarratorError("the two findings files have no variable in common (variables are matched by name)")
+    return SetChanges(group_by=new.group_by if same_grouping else None, pairs=tuple(pairs),
+                      only_old=tuple(only_old), only_new=tuple(only_new))
 
 
 def _comparable(findings: Findings) -> dict:

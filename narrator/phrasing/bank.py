@@ -10,6 +10,8 @@ installed wheel too.
 Name                       What it is
 =========================  ======================================================
 :class:`Noun`              a noun's forms by CLDR plural category, and its gender
+:class:`Condition`         one licence a variant needs (or needs not to hold)
+:class:`Variant`           one wording of a claim: its licences, its claim kind, its forms
 :class:`PhraseBank`        one language's messages, nouns and number words
 :func:`load_bank`          the bank for a language code ("en", "es"), cached
 :func:`available_languages` languages that have a bank
@@ -28,6 +30,31 @@ messages: a message is either a string or a *plural message*, a table whose
 keys are CLDR plural categories (``one``, ``other``...; a category it does not
 list falls back to ``other``, since the nouns inside it already carry the
 full plural forms).
+
+Claims. An entry that states something about the data is a *claim entry*: an
+array of tables, one per variant, in the order they are tried::
+
+    [[memo.lead.median]]
+    when = ["most_at_minimum"]          # licences (narrator.phrasing.licences), all must hold
+    claim = "share_at_minimum"          # what the sentence asserts (licences.CLAIM_KINDS)
+    text = "{share_at} of the {n_values} were {value}, the lowest value."
+
+    [[memo.lead.median]]
+    when = ["median_splits_values"]
+    claim = "median_splits"
+    text = "The middle value of the {n_values} was {median}: half were lower and half were higher."
+
+The planner says the first variant whose licences all hold (a name written
+``"not <licence>"`` must not hold); when none holds the sentence is not said.
+A single table with ``claim`` is a one-variant entry. A variant's words are
+``text``, or whole-sentence forms by the CLDR plural category of the
+sentence's subject count (``one``, ``few``, ``many``, ``other``...), and per
+grammatical gender of the subject noun (``one_feminine``, ``other_feminine``:
+genders listed in ``[grammar] genders``). A form is looked up as
+``<category>_<gender>``, ``<category>``, ``other_<gender>``, ``other``, then
+``text``. Every bank must give a claim entry the same variants, with the same
+licences and claim kinds, in the same order as the English bank; the loader
+checks it, so a new language inherits every licence.
 
 Substitution is safe: messages may only contain plain named fields
 (``{median}``); attribute access, indexing, conversions and format specs are
@@ -68,23 +95,101 @@ class Noun:
     gender: str = "default"
 
 
+@dataclass(frozen=True, slots=True)
+class Condition:
+    licence: str  # a name in narrator.phrasing.licences.LICENCES
+    negated: bool = False  # written "not <licence>": the licence must not hold
+
+    @classmethod
+    def parse(cls, text: str) -> Condition:
+        words = text.split()
+        if len(words) == 2 and words[0] == "not":
+            return cls(words[1], True)
+        if len(words) == 1:
+            return cls(words[0], False)
+        raise ValueError(text)
+
+    def __str__(self) -> str:
+        return f"not {self.licence}" if self.negated else self.licence
+
+
+@dataclass(frozen=True, slots=True)
+class Variant:
+    """One wording of a claim entry: the licences it needs, the claim kind it makes, its forms."""
+
+    when: tuple[Condition, ...]
+    claim: str
+    forms: dict[str, str]  # "text", or CLDR plural categories, optionally "<category>_<gender>"
+
+    def form(self, category: str | None, gender: str | None) -> str:
+        """The words for a subject of this plural category and gender (see the module docstring)."""
+        candidates = []
+        for cat in (category, "other") if category else ("other",):
+            if gender and gender != "default":
+                candidates.append(f"{cat}_{gender}")
+            candidates.append(cat)
+        candidates.append("text")
+        for name in candidates:
+            if name in self.forms:
+                return self.forms[name]
+        raise NarratorError(f"a variant for claim {self.claim!r} has no form for {category!r}")
+
+
 def _is_plural_message(value: Any) -> bool:
     return isinstance(value, dict) and bool(value) and set(value) <= set(PLURAL_CATEGORIES) and all(
         isinstance(item, str) for item in value.values()
     )
 
 
-def _flatten(table: dict[str, Any], prefix: str, into: dict[str, str | dict[str, str]], where: str) -> None:
+_VARIANT_KEYS = ("when", "claim")
+
+
+def _is_variant_table(value: Any) -> bool:
+    return isinstance(value, dict) and "claim" in value
+
+
+def _variant(table: dict[str, Any], key: str, where: str, genders: tuple[str, ...]) -> Variant:
+    when = table.get("when")
+    if not isinstance(when, list) or not all(isinstance(item, str) for item in when):
+        raise NarratorError(f"{where}: {key}: every variant needs when = [\"<licence>\", ...] (a list, may be empty)")
+    try:
+        conditions = tuple(Condition.parse(item) for item in when)
+    except ValueError as exc:
+        raise NarratorError(f"{where}: {key}: {str(exc)!r} is not a licence name or \"not <licence>\"") from None
+    claim = table.get("claim")
+    if not isinstance(claim, str) or not claim:
+        raise NarratorError(f"{where}: {key}: every variant needs claim = \"<kind>\"")
+    allowed = {"text", *PLURAL_CATEGORIES} | {f"{cat}_{gender}" for cat in PLURAL_CATEGORIES for gender in genders}
+    forms = {}
+    for name, text in table.items():
+        if name in _VARIANT_KEYS:
+            continue
+        if name not in allowed or not isinstance(text, str):
+            raise NarratorError(f"{where}: {key}: a variant's words are text or plural forms, not {name!r}")
+        forms[name] = text
+    if not forms:
+        raise NarratorError(f"{where}: {key}: a variant has no words")
+    if "text" not in forms and "other" not in forms:
+        raise NarratorError(f"{where}: {key}: a variant with plural forms needs an 'other' form")
+    return Variant(when=conditions, claim=claim, forms=forms)
+
+
+def _flatten(table: dict[str, Any], prefix: str, into: dict[str, Any], where: str,
+             genders: tuple[str, ...] = ()) -> None:
     for name, value in table.items():
         key = f"{prefix}.{name}" if prefix else name
         if isinstance(value, str) or _is_plural_message(value):
             into[key] = value
+        elif _is_variant_table(value):
+            into[key] = (_variant(value, key, where, genders),)
+        elif isinstance(value, list) and value and all(_is_variant_table(item) for item in value):
+            into[key] = tuple(_variant(item, key, where, genders) for item in value)
         elif isinstance(value, dict):
-            _flatten(value, key, into, where)
+            _flatten(value, key, into, where, genders)
         elif isinstance(value, list) and all(isinstance(item, str) for item in value):
             into[key] = value  # ordered word lists, e.g. the reference list
         else:
-            raise NarratorError(f"{where}: {key} must be text, a list of text, or a table")
+            raise NarratorError(f"{where}: {key} must be text, a list of text, a claim entry, or a table")
 
 
 _FORMATTER = string.Formatter()
@@ -132,9 +237,24 @@ class PhraseBank:
         except KeyError:
             raise NarratorError(f"phrase bank {self.language!r} has no message {key!r}") from None
 
+    def variants(self, key: str) -> tuple[Variant, ...]:
+        """The variants of a claim entry, in the order they are tried."""
+        entry = self.raw(key)
+        if not (isinstance(entry, tuple) and entry and isinstance(entry[0], Variant)):
+            raise NarratorError(f"phrase bank entry {key!r} is not a claim entry (it needs when = and claim =)")
+        return entry
+
+    def fill(self, key: str, text: str, **values: str) -> str:
+        """``text`` (one form of entry ``key``) filled with ``values``."""
+        mapping = _Values(values)
+        mapping.key = key
+        return text.format_map(mapping)
+
     def format(self, key: str, category: str | None = None, **values: str) -> str:
         """The message ``key`` filled with ``values``; for a plural message, the form for ``category``."""
         message = self.raw(key)
+        if isinstance(message, tuple):
+            raise NarratorError(f"phrase bank entry {key!r} is a claim entry: say it through its licences")
         if isinstance(message, dict):
             if category is None:
                 raise NarratorError(f"phrase bank message {key!r} is plural; a plural category is needed")
@@ -192,6 +312,7 @@ def load_bank(language: str) -> PhraseBank:
     for gender, words in number_words.items():
         if len(words) != spell_out_max + 1:
             raise NarratorError(f"{where}: grammar.number_words.{gender} needs {spell_out_max + 1} words")
+    genders = tuple(str(g) for g in grammar.get("genders", ()))
     categories = set(Locale.parse(language).plural_form.tags) | {"other"}
     nouns = {}
     for key, table in data.get("nouns", {}).items():
@@ -206,14 +327,19 @@ def load_bank(language: str) -> PhraseBank:
             continue
         if not isinstance(table, dict):
             raise NarratorError(f"{where}: top-level entry {table_name!r} must be a table")
-        _flatten(table, table_name, messages, where)
+        _flatten(table, table_name, messages, where, genders)
     for key, message in messages.items():
-        texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) else [message]
+        if isinstance(message, tuple):
+            texts = [text for variant in message for text in variant.forms.values()]
+        else:
+            texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) \
+                else [message]
         for text in texts:
             _check_fields(text, key, where)
         if isinstance(message, dict) and "other" not in message:
             raise NarratorError(f"{where}: plural message {key} needs an 'other' form")
-    return PhraseBank(
+    _check_licences(messages, where)
+    bank = PhraseBank(
         language=language,
         name=str(meta.get("name", language)),
         messages=messages,
@@ -221,6 +347,49 @@ def load_bank(language: str) -> PhraseBank:
         number_words=number_words,
         spell_out_max=spell_out_max,
     )
+    if language != REFERENCE_LANGUAGE and REFERENCE_LANGUAGE in available_languages():
+        check_same_claims(bank, load_bank(REFERENCE_LANGUAGE))
+    return bank
+
+
+REFERENCE_LANGUAGE = "en"  # every bank's claim entries must match this one's variants
+
+
+def _check_licences(messages: dict[str, Any], where: str) -> None:
+    """Every licence a variant names exists, and every claim kind is known."""
+    from narrator.phrasing.licences import CLAIM_KINDS, LICENCES
+
+    for key, message in messages.items():
+        if not isinstance(message, tuple):
+            continue
+        for variant in message:
+            for condition in variant.when:
+                if condition.licence not in LICENCES:
+                    raise NarratorError(f"{where}: {key}: unknown licence {condition.licence!r} "
+                                        "(licences are defined in narrator/phrasing/licences.py)")
+            if variant.claim not in CLAIM_KINDS:
+                raise NarratorError(f"{where}: {key}: unknown claim kind {variant.claim!r}")
+
+
+def check_same_claims(bank: PhraseBank, reference: PhraseBank) -> None:
+    """``bank`` gives every claim entry of ``reference`` the same variants: same count, licences, claim kinds."""
+    where = f"templates/phrases/{bank.language}.toml"
+    for key, message in reference.messages.items():
+        if not isinstance(message, tuple):
+            continue
+        other = bank.messages.get(key)
+        if not isinstance(other, tuple):
+            raise NarratorError(
+                f"{where}: {key} must be a claim entry, as in templates/phrases/{reference.language}.toml")
+        mine = [(variant.when, variant.claim) for variant in other]
+        theirs = [(variant.when, variant.claim) for variant in message]
+        if mine != theirs:
+            raise NarratorError(
+                f"{where}: {key} must have the variants of templates/phrases/{reference.language}.toml, in order: "
+                + "; ".join(f"when {[str(c) for c in when]} claim {claim}" for when, claim in theirs))
+    for key, message in bank.messages.items():
+        if isinstance(message, tuple) and not isinstance(reference.messages.get(key), tuple):
+            raise NarratorError(f"{where}: {key} is a claim entry here but not in {reference.language}.toml")
 
 
 def message_keys(bank: PhraseBank) -> frozenset[str]:

@@ -16,16 +16,18 @@ Name                           What it is
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 from babel.numbers import get_currency_precision
 from babel.units import get_unit_name
 
 from narrator.findings import Findings
-from narrator.phrasing.bank import PhraseBank, load_bank
+from narrator.phrasing.bank import PhraseBank, Variant, load_bank
 from narrator.phrasing.hedges import Hedge, shape_hedge
-from narrator.phrasing.narrative import Sentence
+from narrator.phrasing.licences import holds
+from narrator.phrasing.narrative import Claim, Sentence
 from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals
 
 COMPACT_FROM = 1_000_000  # memo numbers this large (without a unit) read better as "1.2 million"
@@ -59,21 +61,61 @@ class WordingContext:
     def text(self, key: str, category: str | None = None, **values: str) -> str:
         return self.bank.format(key, category, **values)
 
-    def sentence(self, key: str, keys: Sequence[str] = (), category: str | None = None, **values: str) -> Sentence:
-        """A sentence; when it opens with a filled-in field ("{outlier_count} stand out"), its first letter is
-        capitalized. Text the bank itself starts in lower case ("n = 141") stays as written."""
+    def choose(self, key: str, facts: Any = None) -> Variant | None:
+        """The first variant of claim entry ``key`` whose licences all hold for ``facts`` (default: this
+        context), or None when none does."""
+        facts = self if facts is None else facts
+        for variant in self.bank.variants(key):
+            if all(holds(c.licence, facts) != c.negated for c in variant.when):
+                return variant
+        return None
+
+    def _words(self, key: str, variant: Variant, subject: tuple[float, str | None] | None,
+               values: dict[str, str]) -> str:
+        template = variant.form(*self._category_gender(subject))
+        text = self.bank.fill(key, template, **values)
+        # A sentence opening with a filled-in field ("{outlier_count} stand out") gets a capital; text the
+        # bank itself starts in lower case ("n = 141") stays as written.
+        return capitalize_first(text) if template.startswith("{") else text
+
+    def say(self, key: str, keys: Sequence[str] = (), *, about: Any = None, subject: tuple | None = None,
+            claim: Mapping[str, Any] | None = None, claim_about: str = "", **values: str) -> Sentence | None:
+        """The sentence of claim entry ``key``: the first variant whose licences hold, its words for the
+        ``subject`` (count, noun key) filled with ``values``, recording its claim kind with the numbers in
+        ``claim``. None when no variant's licences hold: then nothing is said."""
+        variant = self.choose(key, about)
+        if variant is None:
+            return None
+        text = self._words(key, variant, subject, values)
+        when = tuple(str(condition) for condition in variant.when)
+        return Sentence(text, tuple(keys), (Claim(variant.claim, dict(claim or {}), claim_about, when),))
+
+    def part(self, key: str, *, about: Any = None, subject: tuple | None = None, **values: str) -> str | None:
+        """A licensed piece of a sentence (claim entry ``key``), or None when no variant's licences hold.
+        The claim it makes is recorded by the sentence it goes into."""
+        variant = self.choose(key, about)
+        if variant is None:
+            return None
+        return self.bank.fill(key, variant.form(*self._category_gender(subject)), **values)
+
+    def _category_gender(self, subject: tuple | None) -> tuple[str | None, str | None]:
+        if subject is None:
+            return None, None
+        count, noun = subject
+        return self.plural(count), (self.bank.noun(noun).gender if noun else None)
+
+    def caption(self, key: str, category: str | None = None, **values: str) -> str:
+        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field."""
         text = self.text(key, category, **values)
         template = self.bank.raw(key)
         if isinstance(template, dict):
             template = template.get(category or "other", template["other"])
-        return Sentence(capitalize_first(text) if template.startswith("{") else text, tuple(keys))
+        return capitalize_first(text) if template.startswith("{") else text
 
-    def caption(self, key: str, category: str | None = None, **values: str) -> str:
-        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field."""
-        return self.sentence(key, (), category, **values).text
-
-    def plural(self, count: int) -> str:
-        return self.fmt.locale.plural_form(int(count))
+    def plural(self, count: float) -> str:
+        """The CLDR plural category of ``count`` in this locale ("one", "few", "many", "other"...)."""
+        return self.fmt.locale.plural_form(count if isinstance(count, int) else int(count) if float(count).is_integer()
+                                           else count)
 
     def count(self, n: int, noun: str) -> str:
         return self.fmt.count(n, noun)

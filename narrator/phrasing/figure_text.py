@@ -18,10 +18,12 @@ keys: ``x``, ``y`` and legend words (``mean``, ``median``, ``density``,
 
 from __future__ import annotations
 
+from narrator.engine.bins import DOMINANT_BIN_SHARE
 from narrator.engine.window import histogram_window
 from narrator.phrasing.context import WordingContext
-from narrator.phrasing.narrative import FigureText
-from narrator.phrasing.technical import _width_decimals, width_text
+from narrator.phrasing.memo import flagged_claim
+from narrator.phrasing.narrative import Claim, FigureText
+from narrator.phrasing.technical import _width_decimals, grid_values, width_text
 
 
 def _labels(ctx: WordingContext, key: str, names: tuple[str, ...], **values: str) -> dict[str, str]:
@@ -57,7 +59,23 @@ def histogram_text(ctx: WordingContext) -> FigureText | None:
     alt_text = ctx.text("figures.histogram.alt", **values)
     labels = _labels(ctx, "histogram", ("x", "y", "mean", "median", "density"))
     caption, alt_text = _beyond_the_window(ctx, labels, caption, alt_text)
-    return FigureText(key="histogram", caption=caption, alt_text=alt_text, labels=labels)
+    claim = Claim("figure", {"figure": "histogram", **_common_claim(findings), "edges": tuple(plan.edges),
+                             "counts": tuple(plan.counts), "width": plan.width, "top": top,
+                             "below": plan.below, "above": plan.above, **_window_claim(ctx)})
+    return FigureText(key="histogram", caption=caption, alt_text=alt_text, labels=labels, claims=(claim,))
+
+
+def _common_claim(findings) -> dict:
+    return {"n": findings.n, "min": findings.spread.min, "max": findings.spread.max,
+            "median": findings.center.median, "mean": findings.center.mean}
+
+
+def _window_claim(ctx: WordingContext) -> dict:
+    window = histogram_window(ctx.findings)
+    if window is None:
+        return {}
+    return {"window_low": window.low, "window_high": window.high, "hidden_low": window.hidden_low,
+            "hidden_high": window.hidden_high, "lowest": window.lowest, "highest": window.highest}
 
 
 def _beyond_the_window(ctx: WordingContext, labels: dict[str, str], caption: str, alt_text: str) -> tuple[str, str]:
@@ -77,7 +95,7 @@ def _beyond_the_window(ctx: WordingContext, labels: dict[str, str], caption: str
             continue
         words = {"count": ctx.count(hidden, "value"), field: ctx.memo_recorded(extreme), "edge": ctx.memo(edge)}
         labels[f"beyond_{side}"] = ctx.text(f"figures.histogram.beyond_{side}", **words)
-        sentence = ctx.text(f"figures.histogram.caption_beyond_{side}", **words)
+        sentence = ctx.text(f"figures.histogram.caption_beyond_{side}", ctx.plural(hidden), **words)
         caption = f"{caption} {sentence}"
         alt_text = f"{alt_text} {sentence}"
     return caption, alt_text
@@ -107,6 +125,8 @@ def dotplot_text(ctx: WordingContext) -> FigureText | None:
         caption=ctx.caption("figures.dotplot.caption", **values),
         alt_text=ctx.text("figures.dotplot.alt", **values).strip(),
         labels=_labels(ctx, "dotplot", ("x", "y", "mean", "median", "flagged")),
+        claims=(Claim("figure", {"figure": "dotplot", **_common_claim(findings),
+                                 "flagged_count": flagged.count if flagged is not None else 0}),),
     )
 
 
@@ -126,8 +146,11 @@ def with_without_text(ctx: WordingContext) -> FigureText | None:
     }
     labels = _labels(ctx, "with_without", ("x", "y", "all", "without", "mean", "median"))
     caption, alt_text = _beyond_the_window(ctx, labels, ctx.caption("figures.with_without.caption", **values),
-                                           ctx.text("figures.with_without.alt", **values))
-    return FigureText(key="with_without", caption=caption, alt_text=alt_text, labels=labels)
+                                           ctx.text("figures.with_without.alt", ctx.plural(flagged.count), **values))
+    claim = Claim("figure", {"figure": "with_without", **_common_claim(findings), "flagged_count": flagged.count,
+                             "mean_without": without.mean, "median_without": without.median,
+                             **flagged_claim(findings), **_window_claim(ctx)})
+    return FigureText(key="with_without", caption=caption, alt_text=alt_text, labels=labels, claims=(claim,))
 
 
 def bin_sensitivity_text(ctx: WordingContext) -> FigureText | None:
@@ -143,18 +166,24 @@ def bin_sensitivity_text(ctx: WordingContext) -> FigureText | None:
         "min_peaks": ctx.whole(grid.min_peaks),
         "max_peaks": ctx.whole(grid.max_peaks),
     }
-    alt_key = "figures.bin_sensitivity.alt_sensitive" if grid.sensitive else "figures.bin_sensitivity.alt_stable"
+    if grid.undecided:
+        alt_key = "figures.bin_sensitivity.alt_undecided"
+    else:
+        alt_key = "figures.bin_sensitivity.alt_sensitive" if grid.sensitive else "figures.bin_sensitivity.alt_stable"
+    values["dominant"] = ctx.fmt.percent(DOMINANT_BIN_SHARE, 0)
     labels = _labels(ctx, "bin_sensitivity", ("x", "y"))
     # One label per panel row (width_0, width_1, ...) and column (offset_0, ...), in the grid's order.
     for index, width in enumerate(grid.widths):
         labels[f"width_{index}"] = ctx.text("figures.bin_sensitivity.width", width=width_text(ctx, width))
     for index, offset in enumerate(grid.offsets):
         labels[f"offset_{index}"] = ctx.text("figures.bin_sensitivity.offset", offset=ctx.fmt.fixed(offset, 2))
+    _, claim = grid_values(ctx)
     return FigureText(
         key="bin_sensitivity",
         caption=ctx.caption("figures.bin_sensitivity.caption", **values),
         alt_text=ctx.text(alt_key, **values),
         labels=labels,
+        claims=(Claim("bins", claim),),
     )
 
 

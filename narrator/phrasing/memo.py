@@ -1,17 +1,21 @@
 """The plain-language summary for managers: four to seven short sentences, no jargon.
 
-Order (each step one sentence; words from the bank's ``memo.*`` keys):
+Order (each step one sentence; words from the bank's ``memo.*`` claim entries, each said only
+when its licence holds, narrator.phrasing.licences):
 
-1. the lead center (``memo.lead.*``), with what was left out;
-2. the typical range: half of the values lie between Q1 and Q3 (``memo.range``);
-3. what the shape means in plain words, hedged by the ladder (``memo.shape.*``);
-4. why the lead center (``memo.why_median.*``), or the other center (``memo.mean_*``);
-5. the unusual values (``memo.outliers.*``) and
-6. the center without them (``memo.without.*``);
-7. one caution (``cautions.*``), the one that matters most here.
+1. the lead center (``memo.lead.*``): the share at the lowest or highest value when most values
+   sit there, else the middle value with what lies on each side of it, or the average;
+2. what was left out, and what those cells held (``memo.left_out_sentence``);
+3. a large share at one end, when the lead did not already say it (``memo.at_end``);
+4. the typical range: half of the values lie between Q1 and Q3, or the share that does, or the
+   range (``memo.range``);
+5. what the shape means in plain words, hedged by the ladder (``memo.shape.*``);
+6. why the lead center (``memo.why_median.*``), or the other center (``memo.other_center``);
+7. the unusual values (``memo.outliers.*``) and the center without them (``memo.without.*``);
+8. one caution, the one that matters most here.
 
-Step 4 is left out when it would only repeat step 3, and steps 5 and 6 when
-there is nothing to say; the summary never runs past seven sentences.
+To keep within seven sentences the "why" sentence goes first, then the share at one end, then
+the range (:data:`DROPPED_FIRST`).
 """
 
 from __future__ import annotations
@@ -19,24 +23,44 @@ from __future__ import annotations
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.narrative import Paragraph, Sentence
 
-LEFT_OUT_CODES = (("missing", "n_missing", "empty_row"), ("non_numeric", "quality.n_non_numeric", "row"),
-                  ("impossible", "quality.n_impossible", "value"))
+MAX_SENTENCES = 7
 
 
-def left_out_items(ctx: WordingContext, prefix: str) -> tuple[str, tuple[str, ...]]:
-    """The rows left out, as a locale list ("37 empty rows and 2 values outside ..."), and their keys."""
+def _missing_texts(ctx: WordingContext) -> str:
+    flag = ctx.findings.quality.get("missing")
+    if flag is None:
+        return ""
+    shown = [ctx.text("numbers.quoted", text=text) for text in flag.texts if text.strip()]
+    return ctx.fmt.list(shown, style="or") if shown else ""
+
+
+def left_out_items(ctx: WordingContext) -> tuple[str, tuple[str, ...], dict]:
+    """The rows left out, as a locale list ("37 rows where ozone was blank and 2 values outside ..."),
+    their findings keys, and the claim numbers (counts by reason)."""
     findings = ctx.findings
-    counts = {
-        "missing": findings.n_missing,
-        "non_numeric": findings.quality.n_non_numeric,
-        "impossible": findings.quality.n_impossible,
-    }
-    items, keys = [], []
-    for code, key, noun in LEFT_OUT_CODES:
-        if counts[code]:
-            items.append(ctx.text(f"{prefix}.{code}", count=ctx.count(counts[code], noun)))
+    quality = findings.quality
+    non_finite = quality.get("non_finite")
+    counts = (
+        ("missing", findings.n_missing, "n_missing", "row"),
+        ("non_numeric", quality.n_non_numeric, "quality.n_non_numeric", "row"),
+        ("impossible", quality.n_impossible, "quality.n_impossible", "value"),
+        ("non_finite", non_finite.count if non_finite is not None else 0, "quality.flags.non_finite", "row"),
+    )
+    items, keys, numbers = [], [], {}
+    for code, count, key, noun in counts:
+        numbers[code] = int(count)
+        if not count:
+            continue
+        text = ctx.part(f"memo.left_out.{code}", subject=(count, noun), count=ctx.count(count, noun), name=ctx.name,
+                        texts=_missing_texts(ctx))
+        if text is not None:
+            items.append(text)
             keys.append(key)
-    return ctx.fmt.list(items), tuple(keys)
+    flag = quality.get("missing")
+    if flag is not None and flag.texts:
+        numbers["missing_texts"] = tuple(flag.texts)
+        numbers["missing_texts_complete"] = bool(flag.detail.get("texts_complete"))
+    return ctx.fmt.list(items), tuple(keys), numbers
 
 
 def memo_caution(ctx: WordingContext) -> Sentence:
@@ -45,66 +69,147 @@ def memo_caution(ctx: WordingContext) -> Sentence:
     code = findings.quality.get("missing_code")
     if code is not None and code.values:
         # A value that may stand for "missing" can change every figure: it comes first.
-        return ctx.sentence("cautions.check_code", ("quality.flags",), code=ctx.recorded(code.values[0]),
-                            count_times=ctx.text("quality.times", ctx.plural(code.count), count=ctx.whole(code.count)))
-    if findings.outliers is not None and findings.outliers.count > 0:
-        return ctx.sentence("cautions.check_flagged", ("outliers.count",))
-    if 0 < findings.n < 20:
-        return ctx.sentence("cautions.small_sample", ("n",))
-    return ctx.sentence("cautions.descriptive")
+        sentence = ctx.say("cautions.check_code", ("quality.flags",), code=ctx.recorded(code.values[0]),
+                           count_times=ctx.text("quality.times", ctx.plural(code.count), count=ctx.whole(code.count)),
+                           claim={"value": code.values[0], "count": code.count})
+        if sentence is not None:
+            return sentence
+    for key, keys, numbers in (("cautions.check_flagged", ("outliers.count",), flagged_claim(findings)),
+                               ("cautions.small_sample", ("n",), {"n": findings.n})):
+        sentence = ctx.say(key, keys, claim=numbers)
+        if sentence is not None:
+            return sentence
+    return ctx.say("cautions.descriptive")
+
+
+def _share(ctx: WordingContext, count: int) -> str:
+    return ctx.fmt.percent(count / ctx.findings.n, 0)
 
 
 def _lead(ctx: WordingContext) -> list[Sentence]:
     findings = ctx.findings
-    center = findings.center
+    center, spread, counts = findings.center, findings.spread, findings.order_counts
     n_values = ctx.count(findings.n, "value")
     if findings.n == 1:
-        return [ctx.sentence("memo.lead.single", ("center.median",), median=ctx.memo(center.median))]
-    left_out, left_keys = left_out_items(ctx, "memo.left_out")
-    suffix = "_left_out" if left_out else ""
-    if center.lead == "median":
-        return [ctx.sentence(f"memo.lead.median{suffix}", ("n", "center.median", *left_keys),
-                             n_values=n_values, median=ctx.memo(center.median), left_out=left_out)]
-    return [ctx.sentence(f"memo.lead.mean{suffix}", ("n", "center.mean", *left_keys),
-                         n_values=n_values, mean=ctx.memo(center.mean), left_out=left_out)]
+        return [ctx.say("memo.lead.single", ("center.median",), median=ctx.memo_recorded(center.median),
+                        claim={"value": center.median})]
+    if spread.range == 0:
+        return [ctx.say("memo.lead.constant", ("spread.min",), n_values=n_values, value=ctx.memo_recorded(spread.min),
+                        claim={"value": spread.min, "n": findings.n})]
+    if center.lead == "mean":
+        return [ctx.say("memo.lead.mean", ("n", "center.mean"), n_values=n_values, mean=ctx.memo(center.mean),
+                        claim={"mean": center.mean, "n": findings.n})]
+    # Ranges write the unit once ("the others ran from 1 to 12 visits").
+    next_low, high = ctx.memo_recorded_pair(counts.next_above_min if counts.next_above_min is not None else spread.min,
+                                            spread.max)
+    low, next_high = ctx.memo_recorded_pair(spread.min,
+                                            counts.next_below_max if counts.next_below_max is not None else spread.max)
+    values = {
+        "n_values": n_values,
+        "median": ctx.memo(center.median),
+        "median_exact": ctx.recorded(center.median),
+        "min": ctx.memo_recorded(spread.min),
+        "max": ctx.memo_recorded(spread.max),
+        "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,
+        "share_below": _share(ctx, counts.below_median),
+        "share_at": _share(ctx, counts.at_median),
+        "share_above": _share(ctx, counts.above_median),
+        "share_at_min": _share(ctx, counts.at_min),
+        "share_at_max": _share(ctx, counts.at_max),
+        "next_low": ctx.memo_recorded(counts.next_above_min) if counts.next_above_min is not None else "",
+        "next_high": ctx.memo_recorded(counts.next_below_max) if counts.next_below_max is not None else "",
+    }
+    claim = {
+        "median": center.median, "n": findings.n,
+        "share_below": counts.below_median / findings.n, "share_at": counts.at_median / findings.n,
+        "share_above": counts.above_median / findings.n,
+        "min": spread.min, "max": spread.max, "share_at_min": counts.at_min / findings.n,
+        "share_at_max": counts.at_max / findings.n, "next_low": counts.next_above_min,
+        "next_high": counts.next_below_max,
+    }
+    return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), claim=claim, **values)]
 
 
-def _shape(ctx: WordingContext) -> Sentence:
+def _left_out(ctx: WordingContext) -> list[Sentence]:
+    left_out, keys, numbers = left_out_items(ctx)
+    if not left_out:
+        return []
+    sentence = ctx.say("memo.left_out_sentence", keys, left_out=left_out, claim=numbers)
+    return [sentence] if sentence is not None else []
+
+
+def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
+    """A quarter or more of the values at the lowest (or highest) value, when the lead did not say so."""
+    if lead.claims and lead.claims[0].kind in ("share_at_minimum", "share_at_maximum"):
+        return []
+    findings, counts = ctx.findings, ctx.findings.order_counts
+    if lead.claims and lead.claims[0].kind == "median_with_ties" and counts.at_min in (counts.below_median,
+                                                                                       counts.above_median):
+        return []  # "30% were lower" already said it: every value below the middle one is the lowest
+    sentence = ctx.say(
+        "memo.at_end", ("order_counts",), min=ctx.memo_recorded(findings.spread.min),
+        max=ctx.memo_recorded(findings.spread.max), share_at_min=_share(ctx, counts.at_min),
+        share_at_max=_share(ctx, counts.at_max),
+        claim={"min": findings.spread.min, "max": findings.spread.max, "share_at_min": counts.at_min / findings.n,
+               "share_at_max": counts.at_max / findings.n, "n": findings.n})
+    return [sentence] if sentence is not None else []
+
+
+def _range(ctx: WordingContext) -> Sentence | None:
+    findings = ctx.findings
+    spread, counts = findings.spread, findings.order_counts
+    q1, q3 = ctx.memo_pair(spread.q1, spread.q3)  # "between 13 and 28 days": the unit once
+    low, high = ctx.memo_recorded_pair(spread.min, spread.max)
+    return ctx.say(
+        "memo.range", ("spread.q1", "spread.q3"), q1=q1, q3=q3,
+        share_inside=_share(ctx, counts.within_quartiles), min=low, max=high,
+        claim={"q1": spread.q1, "q3": spread.q3, "share": counts.within_quartiles / findings.n, "low": spread.q1,
+               "high": spread.q3, "min": spread.min, "max": spread.max, "n": findings.n})
+
+
+def _shape(ctx: WordingContext) -> Sentence | None:
     findings = ctx.findings
     shape = findings.shape
-    hedge = ctx.hedge
-    n_values = ctx.count(findings.n, "value")
     keys = ("shape.label", "shape.evidence", "n")
-    if findings.spread is not None and findings.spread.range == 0:
-        return ctx.sentence("memo.shape.no_spread", ("spread.range",))
-    if hedge.level == "too_few":
-        return ctx.sentence("memo.shape.too_few", keys, n_values=n_values)
-    if hedge.level == "unclear":
-        return ctx.sentence("memo.shape.unclear", keys)
-    variant = "small" if "n_below_20" in hedge.reasons or findings.n < 20 else hedge.level
+    claim = {"label": shape.label, "strength": shape.strength, "n": findings.n}
+    n_values = ctx.count(findings.n, "value")
+    if ctx.hedge.level in ("too_few", "unclear"):
+        return ctx.say("memo.shape.unsettled", keys, n_values=n_values, claim=claim)
     tail = ""
     if shape.label in ("right-skewed", "left-skewed"):
         side = "high" if shape.label == "right-skewed" else "low"
         tail = ctx.text(f"memo.tail.{side}.{shape.strength or 'slight'}")
-    return ctx.sentence(f"memo.shape.{shape.label}.{variant}", keys, n_values=n_values, tail=tail)
+    heaping = findings.quality.get("heaping")
+    base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
+    return ctx.say(f"memo.shape.{shape.label}", keys, n_values=n_values, tail=tail, base=ctx.recorded(base),
+                   claim={**claim, "base": base})
 
 
 def _why(ctx: WordingContext) -> Sentence | None:
-    center = ctx.findings.center
-    reasons = center.lead_reasons
+    findings = ctx.findings
+    center = findings.center
+    flagged = findings.outliers
+    mean = ctx.memo(center.mean)
+    claim = {"mean": center.mean, "median": center.median, "mean_shown": mean,
+             "median_shown": ctx.memo(center.median), **flagged_claim(findings)}
     if center.lead == "median":
+        reasons = center.lead_reasons
         if "several_peaks" in reasons:
-            return ctx.sentence("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"),
-                                mean=ctx.memo(center.mean))
-        if center.mean_pull == "none":
-            return None
-        direction = "higher" if center.mean_pull == "higher" else "lower"
-        cause = "skewed" if "skewed" in reasons else "outliers"
-        return ctx.sentence(f"memo.why_median.{cause}_{direction}", ("center.lead_reasons", "center.mean"),
-                            mean=ctx.memo(center.mean))
-    median = ctx.memo(center.median)
-    key = "memo.mean_apart" if center.mean_median_gap_material else "memo.mean_close"
-    return ctx.sentence(key, ("center.median",), median=median)
+            return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
+                           claim={**claim, "label": findings.shape.label})
+        # The flagged values first when they move the mean: "the unusual value pulls the average up" is the more
+        # concrete of the two, and true when a single value, not a long tail, does the pulling.
+        count = flagged.count if flagged is not None else 0
+        said = None
+        if "outliers_move_mean" in reasons:
+            said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean"), subject=(count, "value"),
+                           mean=mean, claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
+        if said is None and "skewed" in reasons:
+            said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean"), mean=mean,
+                           claim={**claim, "cause": "tail", "label": findings.shape.label})
+        return said
+    return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
+                   claim={**claim, "sd": findings.spread.sd})
 
 
 def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, float]) -> str:
@@ -116,67 +221,81 @@ def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, fl
     return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=number, span=shown)
 
 
+def flagged_claim(findings) -> dict:
+    """The numbers a sentence about the flagged values asserts: rule, fences, counts, ranges."""
+    flagged = findings.outliers
+    if flagged is None:
+        return {"rule": None, "n": findings.n}
+    low = flagged.low_range or (None, None)
+    high = flagged.high_range or (None, None)
+    return {"rule": flagged.rule, "lower": flagged.lower_fence, "upper": flagged.upper_fence,
+            "count_low": flagged.count_low, "count_high": flagged.count_high, "low_min": low[0], "low_max": low[1],
+            "high_min": high[0], "high_max": high[1], "constants": dict(flagged.constants), "n": findings.n,
+            "fallback_from": flagged.fallback_from, "fallback_reason": flagged.fallback_reason}
+
+
 def _outliers(ctx: WordingContext) -> list[Sentence]:
     findings = ctx.findings
     flagged = findings.outliers
-    if flagged is None or flagged.note == "not_run_too_few":
-        return [ctx.sentence("memo.outliers.not_run", ("outliers.note",))]
-    if flagged.count == 0:
-        return [ctx.sentence("memo.outliers.none", ("outliers.count",))]
+    claim = flagged_claim(findings)
+    keys = ("outliers.count", "outliers.low_range", "outliers.high_range")
+    if flagged is None or flagged.count == 0:
+        sentence = ctx.say("memo.outliers.none", keys, claim=claim)
+        return [sentence] if sentence is not None else []
     lowest = (flagged.low_range or flagged.high_range)[0]
     highest = (flagged.high_range or flagged.low_range)[1]
     low_text, high_text = ctx.memo_recorded_pair(lowest, highest)  # "from 66 to 129 days": the unit once
     values = {"outlier_count": ctx.count(flagged.count, "value"), "lowest": low_text, "highest": high_text}
-    keys = ("outliers.count", "outliers.low_range", "outliers.high_range")
     if flagged.count_low and flagged.count_high:
         values["low_part"] = _side_part(ctx, "low", flagged.count_low, flagged.low_range)
         values["high_part"] = _side_part(ctx, "high", flagged.count_high, flagged.high_range)
-        sentences = [ctx.sentence("memo.outliers.both", keys, **values)]
+        sentences = [ctx.say("memo.outliers.both", keys, claim=claim, **values)]
     else:
         side = "high" if flagged.count_high else "low"
         same = "_same" if ctx.memo_recorded(lowest) == ctx.memo_recorded(highest) else ""  # not "from $150 to $150"
         if same:
             values["lowest"] = values["highest"] = ctx.memo_recorded(lowest)
-        sentences = [ctx.sentence(f"memo.outliers.{side}{same}", keys, ctx.plural(flagged.count), **values)]
+        sentences = [ctx.say(f"memo.outliers.{side}{same}", keys, subject=(flagged.count, "value"), claim=claim,
+                             **values)]
     without = findings.without_outliers
+    center = findings.center
     if without is not None and without.n > 0 and without.mean is not None:
-        center = findings.center
-        if center.lead == "median":
-            same = ctx.memo(without.median) == ctx.memo(center.median)
-            key = "memo.without.median_same" if same else "memo.without.changed"
-            sentences.append(ctx.sentence(
-                key, ("without_outliers.median", "without_outliers.mean", "center.median"), ctx.plural(flagged.count),
-                median=ctx.memo(center.median), median_without=ctx.memo(without.median),
-                mean_without=ctx.memo(without.mean)))
-        else:
-            same = ctx.memo(without.mean) == ctx.memo(center.mean)
-            key = "memo.without.mean_lead_same" if same else "memo.without.mean_lead_changed"
-            sentences.append(ctx.sentence(key, ("without_outliers.mean", "center.mean"), ctx.plural(flagged.count),
-                                          mean=ctx.memo(center.mean), mean_without=ctx.memo(without.mean)))
-    return sentences
+        claim = {"n_without": without.n, "mean_without": without.mean, "median_without": without.median,
+                 "mean": center.mean, "median": center.median, "median_shown": ctx.memo(center.median),
+                 "median_without_shown": ctx.memo(without.median), "mean_shown": ctx.memo(center.mean),
+                 "mean_without_shown": ctx.memo(without.mean), **flagged_claim(findings)}
+        key = "memo.without.median_lead" if center.lead == "median" else "memo.without.mean_lead"
+        sentence = ctx.say(key, ("without_outliers.median", "without_outliers.mean", f"center.{center.lead}"),
+                           subject=(flagged.count, "value"), median=ctx.memo(center.median),
+                           median_without=ctx.memo(without.median), mean=ctx.memo(center.mean),
+                           mean_without=ctx.memo(without.mean), claim=claim)
+        if sentence is not None:
+            sentences.append(sentence)
+    return [s for s in sentences if s is not None]
 
 
-MAX_SENTENCES = 7
+ORDER = ("lead", "left_out", "at_end", "range", "shape", "why", "outliers", "caution")
+DROPPED_FIRST = ("why", "at_end", "range")  # to keep within MAX_SENTENCES, in this order
 
 
 def memo_paragraph(ctx: WordingContext) -> Paragraph:
     """The memo summary paragraph (see the module docstring for its order)."""
     findings = ctx.findings
     if findings.n == 0 or findings.center is None:
-        return Paragraph((ctx.sentence("quality.no_values", ("n",)), memo_caution(ctx)))
-    spread = findings.spread
-    sentences = _lead(ctx)
-    if findings.n > 1 and spread.range > 0:
-        q1, q3 = ctx.memo_pair(spread.q1, spread.q3)  # "between 13 and 28 days": the unit once
-        sentences.append(ctx.sentence("memo.range", ("spread.q1", "spread.q3"), q1=q1, q3=q3))
-    sentences.append(_shape(ctx))
-    why = _why(ctx) if findings.n > 1 and spread.range > 0 else None
-    outliers = _outliers(ctx) if findings.n > 1 else []
-    caution = memo_caution(ctx)
-    # Keep to seven sentences: the "why" sentence is the first to go (the shape sentence already
-    # tells the reader the values are lopsided).
-    if why is not None and len(sentences) + 1 + len(outliers) + 1 <= MAX_SENTENCES:
-        sentences.append(why)
-    sentences.extend(outliers)
-    sentences.append(caution)  # at most 2 + 1 + 1 + 2 + 1 = 7 sentences without the "why"
-    return Paragraph(tuple(sentences))
+        return Paragraph((ctx.say("quality.no_values", ("n",), claim={"n": 0}), memo_caution(ctx)))
+    lead = _lead(ctx)
+    parts: dict[str, list[Sentence]] = {"lead": lead, "left_out": _left_out(ctx), "at_end": _at_end(ctx, lead[0])}
+    if findings.n > 1 and findings.spread.range > 0:
+        # A lead that gave the share at one end already said where the others run.
+        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+        parts["range"] = [] if said_range else [_range(ctx)]
+        parts["shape"] = [_shape(ctx)]
+        parts["why"] = [_why(ctx)]
+        parts["outliers"] = _outliers(ctx)
+    parts["caution"] = [memo_caution(ctx)]
+    parts = {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
+    for name in DROPPED_FIRST:
+        if sum(len(sentences) for sentences in parts.values()) <= MAX_SENTENCES:
+            break
+        parts[name] = []
+    return Paragraph(tuple(sentence for name in ORDER for sentence in parts.get(name, ())))

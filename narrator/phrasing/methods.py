@@ -4,8 +4,9 @@ The paragraph states, in order: n and exclusions; the reporting form and the
 values (SAMPL, Lang & Altman 2013); the quantile definition (Hyndman & Fan
 1996); the lead-measure rule and its constant; the shape measures; the
 outlier rule and its constants; the interval methods; the bin and bandwidth
-rules; the library versions from ``findings.provenance["libraries"]``.
-A rule that was not run is said not to have run (DESIGN.md principle 7).
+rules, with any cap, floor, fallback or focus window that changed a number; the library
+versions from ``findings.provenance["libraries"]``. A rule that was not run is said not to
+have run, and a rule is named only beside a number it produced (DESIGN.md principle 7).
 
 :func:`methods_paragraph` returns the paragraph; :func:`references_used`
 returns the bank keys (``references.<key>``) of the published methods it
@@ -18,12 +19,23 @@ modules, so the text cannot drift from the code.
 
 from __future__ import annotations
 
+import math
+
+from narrator.engine.bins import MAX_BINS
 from narrator.engine.center import MEAN_SHIFT_SHARE
+from narrator.engine.density import MAX_RANGE_IN_BANDWIDTHS
 from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
 from narrator.phrasing.context import WordingContext
-from narrator.phrasing.memo import left_out_items
-from narrator.phrasing.narrative import Paragraph, Sentence
-from narrator.phrasing.technical import interval_method, width_text
+from narrator.phrasing.memo import flagged_claim, left_out_items
+from narrator.phrasing.narrative import Claim, Paragraph, Sentence
+from narrator.phrasing.technical import (
+    grid_values,
+    interval_claim,
+    interval_values,
+    rule_words,
+    summary_claim,
+    width_text,
+)
 
 RULE_REFERENCES = {
     "tukey": "tukey_1977",
@@ -43,36 +55,41 @@ QUANTILE_REFERENCES = {"hyndman-fan-7": "hyndman_fan_1996"}
 LIBRARY_ORDER = ("narrator", "numpy", "scipy", "pandas", "matplotlib", "python-docx", "babel")
 
 
-def _outlier_sentence(ctx: WordingContext) -> Sentence:
+def _outlier_sentences(ctx: WordingContext) -> list[Sentence]:
     flagged = ctx.findings.outliers
-    if flagged is None or flagged.note == "not_run_too_few":
-        return ctx.sentence("methods.outlier_not_run", ("outliers.note",))
-    constants = flagged.constants
-    rule = ctx.text(f"words.outlier_rule.{flagged.rule}")
+    claim = flagged_claim(ctx.findings)
+    words = rule_words(ctx)
     keys = ("outliers.rule", "outliers.constants")
+    sentences = [ctx.say("methods.outlier_fallback", keys, claim=claim, **words)]
+    if flagged is None or flagged.note == "not_run_too_few":
+        return [s for s in [*sentences, ctx.say("methods.outlier_generic", keys, claim=claim, **words)] if s]
+    constants = flagged.constants
 
     def number(name: str, decimals: int = 1) -> str:
         return ctx.fmt.fixed(constants[name], decimals)
 
+    rule = words["rule"]
     if flagged.rule == "tukey" and {"coefficient", "far_coefficient"} <= set(constants):
-        return ctx.sentence("methods.outlier_tukey", keys, rule=rule, k=number("coefficient"),
-                            far_k=number("far_coefficient"))
-    if flagged.rule == "adjusted" and {"coefficient", "far_coefficient", "medcouple", "lower_exponent",
-                                       "upper_exponent"} <= set(constants):
-        return ctx.sentence("methods.outlier_adjusted", keys, rule=rule, k=number("coefficient"),
-                            far_k=number("far_coefficient"), mc=number("medcouple", 3),
-                            lower_exponent=number("lower_exponent", 0), upper_exponent=number("upper_exponent", 0))
-    if flagged.rule == "modified-z" and "threshold" in constants:
-        if "mean_ad_constant" in constants:
-            return ctx.sentence("methods.outlier_modified-z_fallback", keys, rule=rule,
-                                scale=number("mean_ad_constant", 6), threshold=number("threshold"))
-        if "consistency_constant" in constants:
-            return ctx.sentence("methods.outlier_modified-z", keys, rule=rule,
-                                scale=number("consistency_constant", 4), threshold=number("threshold"))
-    if flagged.rule == "esd" and {"alpha", "max_outliers"} <= set(constants):
-        return ctx.sentence("methods.outlier_esd", keys, rule=rule, alpha=number("alpha", 2),
-                            max_outliers=ctx.whole(constants["max_outliers"]))
-    return ctx.sentence("methods.outlier_generic", keys, rule=rule)
+        sentence = ctx.say("methods.outlier_tukey", keys, rule=rule, k=number("coefficient"),
+                           far_k=number("far_coefficient"), claim=claim)
+    elif flagged.rule == "adjusted" and {"coefficient", "far_coefficient", "medcouple", "lower_exponent",
+                                         "upper_exponent"} <= set(constants):
+        sentence = ctx.say("methods.outlier_adjusted", keys, rule=rule, k=number("coefficient"),
+                           far_k=number("far_coefficient"), mc=number("medcouple", 3),
+                           lower_exponent=number("lower_exponent", 0), upper_exponent=number("upper_exponent", 0),
+                           claim=claim)
+    elif flagged.rule == "modified-z" and "threshold" in constants and "mean_ad_constant" in constants:
+        sentence = ctx.say("methods.outlier_modified-z_fallback", keys, rule=rule,
+                           scale=number("mean_ad_constant", 6), threshold=number("threshold"), claim=claim)
+    elif flagged.rule == "modified-z" and "threshold" in constants and "consistency_constant" in constants:
+        sentence = ctx.say("methods.outlier_modified-z", keys, rule=rule, scale=number("consistency_constant", 4),
+                           threshold=number("threshold"), claim=claim)
+    elif flagged.rule == "esd" and {"alpha", "max_outliers"} <= set(constants):
+        sentence = ctx.say("methods.outlier_esd", keys, rule=rule, alpha=number("alpha", 2),
+                           max_outliers=ctx.whole(constants["max_outliers"]), claim=claim)
+    else:
+        sentence = ctx.say("methods.outlier_generic", keys, rule=rule, claim=claim)
+    return [s for s in (*sentences, sentence) if s is not None]
 
 
 def _libraries(ctx: WordingContext) -> str:
@@ -82,91 +99,126 @@ def _libraries(ctx: WordingContext) -> str:
     return ctx.fmt.list([ctx.text("format.library", name=name, version=str(versions[name])) for name in ordered])
 
 
+def _histogram_sentences(ctx: WordingContext) -> list[Sentence]:
+    """The rule that made each width the report shows, with any cap, fallback or focus window stated."""
+    findings = ctx.findings
+    histogram = findings.histogram
+    if histogram is None:
+        return []
+    fmt = ctx.fmt
+    aligned = ctx.text("words.methods.integer_aligned") if histogram.integer_aligned else ""
+    bin_rule = ctx.text(f"words.bin_rule.{histogram.rule}")
+    fallback_key = f"words.bin_fallback.{histogram.note}"
+    fallback = ctx.text(fallback_key) if ctx.bank.has(fallback_key) else ""
+    claim = {"rule": histogram.rule, "width": histogram.width, "raw_width": histogram.raw_width,
+             "note": histogram.note, "integer_aligned": histogram.integer_aligned, "max_bins": MAX_BINS,
+             "edges": (histogram.edges[0], histogram.edges[-1]), "bins": len(histogram.counts)}
+    sentences = [ctx.say("methods.histogram", ("histogram.rule", "histogram.width", "histogram.note"),
+                         bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned,
+                         raw_width=fmt.fixed(histogram.raw_width, _raw_decimals(histogram)),
+                         max_bins=ctx.whole(MAX_BINS), bin_fallback=fallback, claim=claim)]
+    focus = findings.histogram_focus
+    if focus is not None:
+        hidden = focus.below + focus.above
+        sentences.append(ctx.say(
+            "methods.histogram_focus", ("histogram_focus.width",), low=ctx.recorded(focus.edges[0]),
+            high=ctx.recorded(focus.edges[-1]), focus_width=width_text(ctx, focus.width), bin_rule=bin_rule,
+            hidden=ctx.count(hidden, "value"), subject=(hidden, "value"),
+            claim={**claim, "focus_width": focus.width, "focus_low": focus.edges[0], "focus_high": focus.edges[-1],
+                   "hidden": hidden}))
+    grid = findings.shape.bin_sensitivity
+    if grid is not None:
+        values, grid_claim = grid_values(ctx)
+        sentences.append(ctx.say("methods.bin_grid", ("shape.bin_sensitivity",), claim=grid_claim, **values))
+    return [s for s in sentences if s is not None]
+
+
+def _raw_decimals(histogram) -> int:
+    """Enough decimals to show the rule's raw width to two significant digits."""
+    raw = abs(histogram.raw_width)
+    if not raw > 0:
+        return 0
+    return max(0, 1 - math.floor(math.log10(raw)))
+
+
+def _density_sentence(ctx: WordingContext) -> Sentence | None:
+    density = ctx.findings.density
+    if density is None:
+        return None
+    fmt = ctx.fmt
+    bounds = [b for b in (density.lower_bound, density.upper_bound) if b is not None]
+    reflected = ctx.text("words.methods.reflected", bound=fmt.number_list([ctx.recorded(b) for b in bounds])) \
+        if density.reflected and bounds else ""
+    return ctx.say(
+        "methods.density", ("density.bandwidth", "density.bandwidth_rule", "density.method"),
+        bandwidth=fmt.fixed(density.bandwidth, ctx.methods_decimals + 1),
+        bandwidth_rule=ctx.text(f"words.bandwidth_rule.{density.bandwidth_rule}"),
+        density_method=ctx.text(f"words.density_method.{density.method}"), reflected=reflected,
+        floor_divisor=ctx.whole(MAX_RANGE_IN_BANDWIDTHS),
+        claim={"bandwidth": density.bandwidth, "rule": density.bandwidth_rule, "note": density.bandwidth_note,
+               "floor_divisor": MAX_RANGE_IN_BANDWIDTHS, "reflected": density.reflected,
+               "bounds": tuple(bounds)})
+
+
 def methods_paragraph(ctx: WordingContext) -> Paragraph:
     """One paragraph saying exactly what was computed and how (see the module docstring)."""
     findings = ctx.findings
     fmt = ctx.fmt
-    sentences = [ctx.sentence("methods.sample", ("n", "quality.n_rows"), n_values=ctx.count(findings.n, "value"),
-                              name=ctx.name, rows_read=ctx.count(findings.quality.n_rows, "row"))]
-    left_out, left_keys = left_out_items(ctx, "memo.left_out")
-    if left_out:
-        sentences.append(ctx.sentence("methods.left_out", left_keys, left_out=left_out))
-    else:
-        sentences.append(ctx.sentence("methods.none_left_out", ("n_missing",)))
-    if findings.variable.population:
-        sentences.append(ctx.sentence("methods.population", ("variable.population",)))
+    left_out, left_keys, counts = left_out_items(ctx)
+    sentences = [
+        ctx.say("methods.sample", ("n", "quality.n_rows"), n_values=ctx.count(findings.n, "value"), name=ctx.name,
+                rows_read=ctx.count(findings.quality.n_rows, "row"),
+                claim={"n": findings.n, "rows": findings.quality.n_rows}),
+        ctx.say("methods.left_out", left_keys or ("n_missing",), left_out=left_out, claim=counts),
+        ctx.say("methods.population", ("variable.population",), claim={"population": True}),
+    ]
     center, spread = findings.center, findings.spread
     if center is not None and findings.n > 1:
-        sentences.append(ctx.sentence(
+        sentences.append(ctx.say(
             "methods.reporting", ("center.median", "spread.q1", "spread.q3", "center.mean", "spread.sd"),
             median=ctx.exact(center.median), q1=ctx.exact(spread.q1), q3=ctx.exact(spread.q3),
-            mean=ctx.exact(center.mean), sd=ctx.exact(spread.sd)))
+            mean=ctx.exact(center.mean), sd=ctx.exact(spread.sd), claim=summary_claim(findings)))
         method = spread.quantile_method
         words = ctx.text(f"words.quantile_method.{method}") if ctx.bank.has(f"words.quantile_method.{method}") \
             else method
-        sentences.append(ctx.sentence("methods.quantiles", ("spread.quantile_method",), quantile_method=words))
-        sentences.append(ctx.sentence("methods.lead_rule", ("center.lead",), share=fmt.fixed(MEAN_SHIFT_SHARE, 1),
-                                      lead=ctx.text(f"words.lead.{center.lead}")))
-    if findings.shape.skewness is not None:
-        sentences.append(ctx.sentence("methods.shape_rule", ("shape.skewness", "shape.skewness_test_p"),
-                                      moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1),
-                                      test_min_n=ctx.whole(MIN_FOR_SHAPE),
-                                      bc_threshold=fmt.fixed(BIMODALITY_THRESHOLD, 3)))
+        sentences.append(ctx.say("methods.quantiles", ("spread.quantile_method",), quantile_method=words,
+                                 claim={"quantile_method": method}))
+        sentences.append(ctx.say("methods.lead_rule", ("center.lead",), share=fmt.fixed(MEAN_SHIFT_SHARE, 1),
+                                 lead=ctx.text(f"words.lead.{center.lead}"),
+                                 claim={"lead": center.lead, "reasons": tuple(center.lead_reasons),
+                                        "share": MEAN_SHIFT_SHARE, **flagged_claim(findings),
+                                        "label": findings.shape.label, "strength": findings.shape.strength}))
+    sentences.append(ctx.say("methods.shape_rule", ("shape.skewness", "shape.skewness_test_p"),
+                             moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1),
+                             test_min_n=ctx.whole(MIN_FOR_SHAPE), bc_threshold=fmt.fixed(BIMODALITY_THRESHOLD, 3),
+                             claim={"moderate": BULMER_MODERATE, "strong": BULMER_STRONG}))
     method_parts = findings.shape.medcouple_method.split(":")
-    if method_parts[0] == "subsample" and len(method_parts) == 3:
+    if len(method_parts) == 3:
         # The engine took the medcouple on a fixed-seed random subsample (large samples): say so, with both numbers.
-        sentences.append(ctx.sentence("methods.medcouple_subsample", ("shape.medcouple_method",),
-                                      size=ctx.whole(float(method_parts[1])), seed=method_parts[2]))
+        sentences.append(ctx.say("methods.medcouple_subsample", ("shape.medcouple_method",),
+                                 size=ctx.whole(float(method_parts[1])), seed=method_parts[2],
+                                 claim={"size": float(method_parts[1]), "seed": method_parts[2]}))
     accuracy = findings.accuracy
     if accuracy is not None and findings.n > 0:
         # Data larger than memory (narrator.scale): say what is exact, what is merged, what is approximate.
-        sentences.append(ctx.sentence("methods.scale_exact", ("accuracy.engine", "accuracy.sketch_rank_error"),
-                                      rank_error=fmt.percent(accuracy.sketch_rank_error or 0.0, 2)))
+        sentences.append(ctx.say("methods.scale_exact", ("accuracy.engine", "accuracy.sketch_rank_error"),
+                                 rank_error=fmt.percent(accuracy.sketch_rank_error or 0.0, 2),
+                                 claim={"rank_error": accuracy.sketch_rank_error}))
         for approximate in accuracy.approximate:
             fences = any(key.startswith("outliers.") for key in approximate.depends)
             key = "methods.scale_approximate_fences" if fences else "methods.scale_approximate_medcouple"
-            sentences.append(ctx.sentence(key, ("accuracy.approximate",), bound=fmt.fixed(approximate.bound, 3)))
-    sentences.append(_outlier_sentence(ctx))
-    if findings.outliers is not None and findings.outliers.count > 0:
-        sentences.append(ctx.sentence("methods.with_without", ("without_outliers",)))
-    intervals = findings.intervals
-    if intervals.reason == "population" or findings.variable.population:
-        sentences.append(ctx.sentence("methods.intervals_population", ("intervals.reason",)))
-    elif intervals.mean is None or intervals.median is None:
-        sentences.append(ctx.sentence("methods.intervals_too_few", ("intervals.reason",)))
-    else:
-        sentences.append(ctx.sentence("methods.intervals", ("intervals.mean.method", "intervals.median.method"),
-                                      level=fmt.percent(intervals.mean.level, 0),
-                                      mean_method=interval_method(ctx, intervals.mean),
-                                      median_method=interval_method(ctx, intervals.median)))
-    histogram = findings.histogram
-    if histogram is not None:
-        aligned = ctx.text("methods.integer_aligned") if histogram.integer_aligned else ""
-        bin_rule = ctx.text(f"words.bin_rule.{histogram.rule}")
-        grid = findings.shape.bin_sensitivity
-        if grid is not None:
-            sentences.append(ctx.sentence(
-                "methods.histogram", ("histogram.rule", "histogram.width", "shape.bin_sensitivity"),
-                bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned,
-                widths=fmt.number_list([width_text(ctx, w) for w in grid.widths]),
-                offsets=fmt.number_list([fmt.fixed(o, 2) for o in grid.offsets])))
-        else:
-            sentences.append(ctx.sentence("methods.histogram_no_grid", ("histogram.rule", "histogram.width"),
-                                          bin_rule=bin_rule, width=width_text(ctx, histogram.width), aligned=aligned))
-    density = findings.density
-    if density is not None:
-        bounds = [b for b in (density.lower_bound, density.upper_bound) if b is not None]
-        reflected = ctx.text("methods.reflected", bound=fmt.number_list([ctx.recorded(b) for b in bounds])) \
-            if density.reflected and bounds else ""
-        sentences.append(ctx.sentence(
-            "methods.density", ("density.bandwidth", "density.bandwidth_rule", "density.method"),
-            bandwidth=fmt.fixed(density.bandwidth, ctx.methods_decimals + 1),
-            bandwidth_rule=ctx.text(f"words.bandwidth_rule.{density.bandwidth_rule}"),
-            density_method=ctx.text(f"words.density_method.{density.method}"), reflected=reflected))
+            sentences.append(ctx.say(key, ("accuracy.approximate",), bound=fmt.fixed(approximate.bound, 3),
+                                     claim={"bound": approximate.bound}))
+    sentences.extend(_outlier_sentences(ctx))
+    sentences.append(ctx.say("methods.with_without", ("without_outliers",)))
+    sentences.append(ctx.say("methods.intervals", ("intervals.mean.method", "intervals.median.method"),
+                             claim=interval_claim(findings), **interval_values(ctx)))
+    sentences.extend(_histogram_sentences(ctx))
+    sentences.append(_density_sentence(ctx))
     libraries = _libraries(ctx)
     if libraries:
-        sentences.append(ctx.sentence("methods.libraries", ("provenance.libraries",), libraries=libraries))
-    return Paragraph(tuple(sentences))
+        sentences.append(ctx.say("methods.libraries", ("provenance.libraries",), libraries=libraries))
+    return Paragraph(tuple(sentence for sentence in sentences if sentence is not None))
 
 
 def references_used(ctx: WordingContext) -> tuple[str, ...]:
@@ -180,7 +232,7 @@ def references_used(ctx: WordingContext) -> tuple[str, ...]:
     shape = findings.shape
     if shape.skewness is not None:
         used.update({"joanes_gill_1998", "bulmer_1979", "bowley_1920", "brys_2004", "pfister_2013"})
-        if shape.skewness_test_p is not None:
+        if shape.skewness_test_p is not None and not findings.variable.population:
             used.add("dagostino_1970")
     if findings.outliers is not None and findings.outliers.note != "not_run_too_few":
         used.add(RULE_REFERENCES[findings.outliers.rule])
@@ -201,6 +253,9 @@ def references_used(ctx: WordingContext) -> tuple[str, ...]:
 
 
 def references_paragraphs(ctx: WordingContext) -> tuple[Paragraph, ...]:
-    return tuple(
-        Paragraph((Sentence(ctx.text(f"references.{key}")),), style="reference") for key in references_used(ctx)
-    )
+    return tuple(Paragraph((reference_sentence(ctx, key),), style="reference") for key in references_used(ctx))
+
+
+def reference_sentence(ctx: WordingContext, key: str) -> Sentence:
+    """One entry of the reference list: words about the report, not the data (claim kind "note")."""
+    return Sentence(ctx.text(f"references.{key}"), (), (Claim("note", {"reference": key}),))

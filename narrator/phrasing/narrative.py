@@ -1,21 +1,43 @@
 """Narrative: what the phrase builder hands the writer and the plain-text printer.
 
 Sections hold paragraphs of sentences; every sentence records the findings
-keys it states (dotted paths such as ``center.median``), so a test can check
-text against numbers and a regenerated report can say which statements
-changed. Tables and figure texts are already worded and formatted: the writer
-only lays them out.
+keys it states (dotted paths such as ``center.median``) and the claims it
+makes (:class:`Claim`: a kind from :data:`narrator.phrasing.licences.CLAIM_KINDS`
+and the numbers it asserts), so a checker can re-derive each claim from the
+raw values and a regenerated report can say which statements changed. Tables
+and figure texts are already worded and formatted: the writer only lays them
+out.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
+
+
+@dataclass(frozen=True, slots=True)
+class Claim:
+    """What one sentence asserts, in a form a checker can test against the raw values.
+
+    ``kind`` names the assertion (see :data:`narrator.phrasing.licences.CLAIM_KINDS` for what each
+    kind means); ``numbers`` holds the figures it asserts, unrounded, and the strings a reader sees
+    where the claim depends on rounding (``*_shown``); ``about`` says whose values the claim is
+    about: ``""`` for the variable of the narrative, ``"group:<label>"`` for one group,
+    ``"change"`` for two builds; ``when`` the licences its variant was said under, so a checker can
+    test each of those too.
+    """
+
+    kind: str
+    numbers: dict[str, Any] = field(default_factory=dict)
+    about: str = ""
+    when: tuple[str, ...] = ()  # the licences the sentence was said under ("not x" for one that must not hold)
 
 
 @dataclass(frozen=True, slots=True)
 class Sentence:
     text: str
     keys: tuple[str, ...] = ()  # findings keys this sentence states
+    claims: tuple[Claim, ...] = ()  # what the sentence asserts
 
 
 @dataclass(frozen=True, slots=True)
@@ -60,6 +82,7 @@ class FigureText:
     caption: str
     alt_text: str
     labels: dict[str, str] = field(default_factory=dict)  # axis labels and legend words
+    claims: tuple[Claim, ...] = ()  # what the caption and alt text assert
 
 
 @dataclass(frozen=True, slots=True)
@@ -94,6 +117,13 @@ class Narrative:
         for section in self.sections:
             for paragraph in section.paragraphs:
                 yield from paragraph.sentences
+
+    def claims(self):
+        """Every claim of the narrative, sentence by sentence, then the figures'."""
+        for sentence in self.sentences():
+            yield from sentence.claims
+        for figure in self.figures:
+            yield from figure.claims
 
     def plain_text(self) -> str:
         """The narrative as plain text, for pasting into an email."""

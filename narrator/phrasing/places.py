@@ -43,7 +43,7 @@ from dataclasses import dataclass, field
 from narrator.findings import Findings
 from narrator.history.sidecar import VariableFindings
 from narrator.phrasing.context import WordingContext, make_context
-from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Table
+from narrator.phrasing.narrative import Claim, FigureText, Narrative, Paragraph, Sentence, Table
 
 TARGET_KINDS: dict[str, str] = {
     "summary": "paragraphs",
@@ -149,7 +149,8 @@ def _changes(words: PlaceWords) -> PlaceText:
     baseline = words.item.baseline
     if baseline is None:
         ctx = words.context()
-        paragraph = Paragraph((ctx.sentence("places.changes_first", ()),))
+        # Words about the report (no earlier build yet), not about the data: claim kind "note".
+        paragraph = Paragraph((Sentence(ctx.text("places.changes_first"), (), (Claim("note"),)),))
         return PlaceText("changes", "paragraphs", paragraphs=(paragraph,), keys=("baseline",))
     from narrator.history.changes import compare
     from narrator.phrasing.what_changed import changes_section

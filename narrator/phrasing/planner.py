@@ -35,7 +35,7 @@ from narrator.findings import Findings
 from narrator.phrasing.bank import Plan, PlanSection, load_plan
 from narrator.phrasing.context import WordingContext, make_context
 from narrator.phrasing.figure_text import FIGURE_BUILDERS
-from narrator.phrasing.memo import memo_paragraph
+from narrator.phrasing.memo import flagged_claim, memo_paragraph
 from narrator.phrasing.methods import methods_paragraph, references_paragraphs
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence
 from narrator.phrasing.tables import TABLE_BUILDERS
@@ -52,40 +52,36 @@ from narrator.phrasing.technical import (
 AUDIENCES = ("memo", "methods", "full")
 
 
+CAUTIONS = ("cautions.descriptive", "cautions.check_flagged", "cautions.small_sample", "cautions.representative",
+            "cautions.population", "cautions.independence", "cautions.review", "cautions.privacy")
+
+
 def caution_paragraphs(ctx: WordingContext) -> tuple[Paragraph, ...]:
-    """The cautions a careful report carries (FIELD_NOTES section 9), those that apply, as bullets."""
-    findings = ctx.findings
-    keys = ["cautions.descriptive"]
-    if findings.outliers is not None and findings.outliers.count > 0:
-        keys.append("cautions.check_flagged")
-    if 0 < findings.n < 20:
-        keys.append("cautions.small_sample")
-    keys.append("cautions.population" if findings.variable.population else "cautions.representative")
-    if findings.intervals.mean is not None and not findings.variable.population:
-        keys.append("cautions.independence")
-    shows_ids = findings.outliers is not None and bool(findings.outliers.ids)
-    keys.extend(("cautions.review", "cautions.identifiers" if shows_ids else "cautions.privacy"))
-    return tuple(Paragraph((ctx.sentence(key),), style="bullet") for key in keys)
+    """The cautions a careful report carries (FIELD_NOTES section 9), those whose licences hold, as bullets."""
+    said = (ctx.say(key, claim=flagged_claim(ctx.findings)) for key in CAUTIONS)
+    return tuple(Paragraph((sentence,), style="bullet") for sentence in said if sentence is not None)
 
 
 def _body(sentences: list[Sentence]) -> tuple[Paragraph, ...]:
+    sentences = [sentence for sentence in sentences if sentence is not None]
     return (Paragraph(tuple(sentences)),) if sentences else ()
 
 
 def _outlier_section_sentences(ctx: WordingContext) -> list[Sentence]:
     sentences = outlier_sentences(ctx)
-    flagged = ctx.findings.outliers
-    if flagged is not None and flagged.count > 0:
-        privacy = "technical.outlier_identifiers" if flagged.ids else "technical.outlier_privacy"
-        sentences.append(ctx.sentence(privacy, ("outliers.rows",)))
+    sentences.append(ctx.say("technical.outlier_privacy", ("outliers.rows",)))
     return sentences
+
+
+def _of_kind(sentences: list[Sentence], kind: str) -> list[Sentence]:
+    return [sentence for sentence in sentences if sentence.claims and sentence.claims[0].kind == kind]
 
 
 PARAGRAPH_BUILDERS: dict[str, Callable[[WordingContext], tuple[Paragraph, ...]]] = {
     "summary": lambda ctx: (memo_paragraph(ctx),),
     "technical_summary": lambda ctx: (technical_summary(ctx),),
     "key_figures": lambda ctx: (),
-    "statistics": lambda ctx: _body(center_sentences(ctx)[1:2]),
+    "statistics": lambda ctx: _body(_of_kind(center_sentences(ctx), "summary")),
     "shape": lambda ctx: _body(shape_sentences(ctx)),
     "outliers": lambda ctx: _body(_outlier_section_sentences(ctx)),
     "with_without": lambda ctx: _body(without_sentences(ctx)),

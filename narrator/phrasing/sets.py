@@ -37,7 +37,8 @@ from dataclasses import dataclass, replace
 from narrator.findings import Findings, Interval
 from narrator.history.sidecar import FindingsSet, VariableFindings
 from narrator.phrasing.context import NOT_DEFINED, WordingContext, capitalize_first, make_context
-from narrator.phrasing.methods import references_used
+from narrator.phrasing.licences import GroupFacts
+from narrator.phrasing.methods import reference_sentence, references_used
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
 from narrator.phrasing.planner import caution_paragraphs, narrate
 
@@ -125,12 +126,12 @@ def _overview_section(contexts, findings_set: FindingsSet) -> Section:
     first = contexts[0]
     items = findings_set.variables
     names = first.fmt.list([ctx.name for ctx in contexts])
-    sentences = [first.sentence("collection.intro", ("variable.name",),
-                                count=first.count(len(items), "variable"), names=names)]
+    sentences = [first.say("collection.intro", ("variable.name",),
+                           count=first.count(len(items), "variable"), names=names)]
     if findings_set.group_by is not None:
         groups = len(items[0].groups)
-        sentences.append(first.sentence("collection.intro_grouped", ("groups",),
-                                        group=findings_set.group_by, count=first.count(groups, "group")))
+        sentences.append(first.say("collection.intro_grouped", ("groups",),
+                                   group=findings_set.group_by, count=first.count(groups, "group")))
         suppressed = items[0].suppressed_groups
         if suppressed:
             sentences.append(_suppressed_sentence(first, suppressed, findings_set.privacy_threshold))
@@ -144,8 +145,9 @@ def _overview_section(contexts, findings_set: FindingsSet) -> Section:
 
 
 def _suppressed_sentence(ctx: WordingContext, count: int, threshold: int | None) -> Sentence:
-    return ctx.sentence("groups.suppressed", ("suppressed_groups",), ctx.plural(count),
-                        groups=ctx.count(count, "group"), threshold=ctx.whole(threshold or 0))
+    return ctx.say("groups.suppressed", ("suppressed_groups",), subject=(count, "group"),
+                   groups=ctx.count(count, "group"), threshold=ctx.whole(threshold or 0),
+                   claim={"suppressed": count, "threshold": threshold})
 
 
 def _overlap(a: Interval | None, b: Interval | None) -> bool | None:
@@ -155,45 +157,53 @@ def _overlap(a: Interval | None, b: Interval | None) -> bool | None:
 
 
 def comparison_sentences(ctx: WordingContext, item: VariableFindings, group_by: str) -> list[Sentence]:
-    """Sentences comparing the shown groups' centers, hedged; descriptive only, never causal."""
+    """Sentences comparing the shown groups' centers, each said only when its licence holds
+    (narrator.phrasing.licences, subject "groups"); descriptive only, never causal."""
     overall = item.findings
-    shown = [group for group in item.groups if group.findings.center is not None]
-    if overall.center is None or not shown:
-        return [ctx.sentence("groups.none_shown", ("groups",), group=group_by)]
-    lead = overall.center.lead
+    shown = tuple(group for group in item.groups if group.findings.center is not None)
+    if overall.center is None:
+        shown = ()
+    lead = overall.center.lead if overall.center is not None else "median"
     measure = ctx.text(f"words.lead.{lead}")
+    ranked = sorted(shown, key=lambda group: (_lead_value(group.findings, lead), group.label))
+    values_of = tuple(_lead_value(group.findings, lead) for group in shown)
+    overlap = None
+    if len(ranked) >= 2:
+        overlap = _overlap(_lead_interval(ranked[0].findings, lead), _lead_interval(ranked[-1].findings, lead))
+    facts = GroupFacts(ctx=ctx, shown=shown, lead=lead, values=values_of, overlap=overlap,
+                       smallest_n=min((group.findings.n for group in shown), default=0))
     keys_of = [f"groups.{group.label}.center.{lead}" for group in shown]
+    claim = {"measure": lead, "groups": {group.label: value for group, value in zip(shown, values_of, strict=True)},
+             "shown": {group.label: ctx.memo(value) for group, value in zip(shown, values_of, strict=True)}}
+    if not shown:
+        return [s for s in (ctx.say("groups.none_shown", ("groups",), about=facts, group=group_by, claim=claim),)
+                if s is not None]
     if len(shown) == 1:
         only = shown[0]
-        return [ctx.sentence("groups.one_shown", keys_of, member=member(ctx, group_by, only.label),
-                             measure=measure, value=ctx.memo(_lead_value(only.findings, lead)))]
-    ranked = sorted(shown, key=lambda group: (_lead_value(group.findings, lead), group.label))
+        return [s for s in (ctx.say("groups.one_shown", keys_of, about=facts, member=member(ctx, group_by, only.label),
+                                    measure=measure, value=ctx.memo(values_of[0]), claim=claim),) if s is not None]
     low, high = ranked[0], ranked[-1]
-    low_value, high_value = ctx.memo(_lead_value(low.findings, lead)), ctx.memo(_lead_value(high.findings, lead))
     values = {
         "measure": measure,
         "high": member(ctx, group_by, high.label),
         "low": member(ctx, group_by, low.label),
-        "high_value": high_value,
-        "low_value": low_value,
+        "high_value": ctx.memo(_lead_value(high.findings, lead)),
+        "low_value": ctx.memo(_lead_value(low.findings, lead)),
+        "value": ctx.memo(_lead_value(high.findings, lead)),
         "group": group_by,
+        "level": ctx.fmt.percent(float(overall.options.get("level", 0.95)), 0),
+        "small": ctx.whole(SMALL_GROUP),
     }
-    if high_value == low_value:
-        return [ctx.sentence("groups.about_same", keys_of, value=high_value, **values),
-                ctx.sentence("groups.descriptive", ())]
-    sentences = [ctx.sentence("groups.two" if len(shown) == 2 else "groups.many", keys_of, **values)]
-    overlap = _overlap(_lead_interval(low.findings, lead), _lead_interval(high.findings, lead))
+    claim = {**claim, "high": high.label, "low": low.label}
     interval_keys = (f"groups.{low.label}.intervals.{lead}", f"groups.{high.label}.intervals.{lead}")
-    level = ctx.fmt.percent(float(overall.options.get("level", 0.95)), 0)
-    if overlap is True:
-        sentences.append(ctx.sentence("groups.overlap", interval_keys, level=level))
-    elif overlap is False:
-        sentences.append(ctx.sentence("groups.separate", interval_keys, level=level))
-    if any(group.findings.n < SMALL_GROUP for group in shown):
-        sentences.append(ctx.sentence("groups.small", tuple(f"groups.{g.label}.n" for g in shown),
-                                      small=ctx.whole(SMALL_GROUP)))
-    sentences.append(ctx.sentence("groups.descriptive", ()))
-    return sentences
+    sentences = [
+        ctx.say("groups.compared", keys_of, about=facts, claim=claim, **values),
+        ctx.say("groups.intervals", interval_keys, about=facts, claim={**claim, "overlap": overlap}, **values),
+        ctx.say("groups.small", tuple(f"groups.{g.label}.n" for g in shown), about=facts,
+                claim={"smallest_n": facts.smallest_n}, **values),
+        ctx.say("groups.descriptive", (), about=facts),
+    ]
+    return [sentence for sentence in sentences if sentence is not None]
 
 
 def groups_table(ctx: WordingContext, item: VariableFindings, group_by: str) -> Table:
@@ -260,12 +270,13 @@ def _groups_section(ctx: WordingContext, item: VariableFindings, findings_set: F
                     figures: list[FigureText]) -> Section:
     group_by = findings_set.group_by
     sentences = comparison_sentences(ctx, item, group_by)
-    notes = [ctx.sentence("groups.method", ("privacy_threshold",), group=group_by,
-                          threshold=ctx.whole(findings_set.privacy_threshold or 0))]
+    notes = [ctx.say("groups.method", ("privacy_threshold",), group=group_by,
+                     threshold=ctx.whole(findings_set.privacy_threshold or 0))]
     # How many groups were suppressed is said once, in the overview; here the rule is enough.
     if item.ungrouped_values:
-        notes.append(ctx.sentence("groups.ungrouped", ("ungrouped_values",), ctx.plural(item.ungrouped_values),
-                                  values=ctx.count(item.ungrouped_values, "value"), group=group_by))
+        notes.append(ctx.say("groups.ungrouped", ("ungrouped_values",), subject=(item.ungrouped_values, "value"),
+                             values=ctx.count(item.ungrouped_values, "value"), group=group_by,
+                             claim={"ungrouped": item.ungrouped_values}))
     text = groups_figure_text(ctx, item, group_by, figure_key(index, "groups"))
     if text is not None:
         figures.append(text)
@@ -354,12 +365,12 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
     if references:
         sections.append(Section(
             key="references", title=first.text("sections.references"),
-            paragraphs=tuple(Paragraph((Sentence(first.text(f"references.{key}")),), style="reference")
+            paragraphs=tuple(Paragraph((reference_sentence(first, key),), style="reference")
                              for key in sorted(references)),
         ))
     if cautions:
         if findings_set.group_by is not None:
-            cautions.insert(1, Paragraph((first.sentence("groups.caution", ()),), style="bullet"))
+            cautions.insert(1, Paragraph((first.say("groups.caution", ()),), style="bullet"))
         sections.append(Section(key="cautions", title=first.text("sections.cautions"),
                                 paragraphs=_unique_paragraphs(cautions)))
     return Narrative(

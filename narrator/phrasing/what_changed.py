@@ -4,50 +4,122 @@
 Name                           What it does
 =============================  ==================================================
 :func:`changes_section`        Changes + both Findings -> the "what changed" Section
+:func:`set_changes_narrative`  two findings sets -> a Narrative: each variable, each group
 =============================  ==================================================
 
-Sentences come in a fixed order (count, center, lead, spread, outliers,
-shape, missing, impossible, then the rule), so the same comparison always
-gives the same words. A change not worth mentioning is not said, except the
-center, which is always stated with its verdict.
+Sentences come in a fixed order (count, center, lead, spread, outliers, shape, missing,
+impossible, then the rule), so the same comparison always gives the same words. Each is a
+claim entry said only when its licence holds (narrator.phrasing.licences, subject "change"):
+the center "rose" or "fell" only when the interval of the difference between the builds
+excludes no change (Schenker & Gentleman 2001), and a change in the number of flagged values
+says when the fences moved, so it does not read as the same values changing.
 """
 
 from __future__ import annotations
 
 from narrator.findings import Findings
-from narrator.history.changes import COUNT_SHARE, POPULATION_SHARE, SPREAD_SHARE, Changes
+from narrator.history.changes import COUNT_SHARE, POPULATION_SHARE, SPREAD_SHARE, Changes, SetChanges
 from narrator.phrasing.context import WordingContext, make_context
-from narrator.phrasing.narrative import Paragraph, Section, Sentence
+from narrator.phrasing.licences import ChangeFacts
+from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence
 
 
-def _center_sentences(ctx: WordingContext, changes: Changes) -> list[Sentence]:
+def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sentence | None:
+    changes = facts.changes
     item = changes.item(f"center.{changes.lead}")
     if item is None:
-        return []
-    measure = ctx.text(f"changes.measure.{changes.lead}")
-    keys = (f"center.{changes.lead}",)
-    values = {"measure": measure, "old": ctx.memo(item.old), "new": ctx.memo(item.new)}
-    whole = item.reason in ("beyond_share_of_sd", "within_share_of_sd")
-    suffix = "_whole" if whole else ""
-    if item.reason == "unchanged" or values["old"] == values["new"] and not item.mention:
-        return [ctx.sentence("changes.center_same", keys, **values)]
-    if item.mention:
-        direction = "up" if item.difference > 0 else "down"
-        return [ctx.sentence(f"changes.center_{direction}{suffix}", keys, **values)]
-    return [ctx.sentence(f"changes.center_small{suffix}", keys, **values)]
+        return None
+    values = {"measure": ctx.text(f"changes.measure.{changes.lead}"), "old": ctx.memo(item.old),
+              "new": ctx.memo(item.new), "difference": _signed_quantity(ctx, item.difference or 0.0),
+              "low": _signed_quantity(ctx, item.low) if item.low is not None else "",
+              "high": _signed_quantity(ctx, item.high) if item.high is not None else "",
+              "level": ctx.fmt.percent(item.level or 0.95, 0)}
+    claim = {"measure": changes.lead, "old": item.old, "new": item.new, "difference": item.difference,
+             "low": item.low, "high": item.high, "level": item.level, "reason": item.reason,
+             "old_shown": values["old"], "new_shown": values["new"]}
+    return ctx.say("changes.center", (f"center.{changes.lead}",), about=facts, claim=claim, claim_about=about,
+                   **values)
 
 
-def _spread_sentence(ctx: WordingContext, changes: Changes, old: Findings, new: Findings) -> list[Sentence]:
-    key = "spread.iqr" if changes.lead == "median" else "spread.sd"
-    item = changes.item(key)
-    if item is None or not item.mention or old.spread is None or new.spread is None:
-        return []
+def _signed_quantity(ctx: WordingContext, value: float) -> str:
+    """A difference with its unit, at the memo's rounding, with a plus sign when it is above zero."""
+    amount = ctx.memo(value)
+    if value > 0 and amount != ctx.memo(0.0):
+        return ctx.text("format.signed_positive", number=amount)
+    return amount
+
+
+def _spread_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sentence | None:
+    old, new = facts.old, facts.new
+    if old.spread is None or new.spread is None:
+        return None
+    key = "spread.iqr" if facts.changes.lead == "median" else "spread.sd"
     old_low, old_high = ctx.memo_pair(old.spread.q1, old.spread.q3)  # the unit once: "13 to 28 days"
     new_low, new_high = ctx.memo_pair(new.spread.q1, new.spread.q3)
     old_range = ctx.text("format.range", low=old_low, high=old_high)
     new_range = ctx.text("format.range", low=new_low, high=new_high)
-    message = "changes.spread_wider" if item.difference > 0 else "changes.spread_narrower"
-    return [ctx.sentence(message, ("spread.q1", "spread.q3", key), new_range=new_range, old_range=old_range)]
+    item = facts.changes.item(key)
+    return ctx.say("changes.spread", ("spread.q1", "spread.q3", key), about=facts, new_range=new_range,
+                   old_range=old_range, claim_about=about,
+                   claim={"measure": key, "old": item.old if item else None, "new": item.new if item else None,
+                          "old_q1": old.spread.q1, "old_q3": old.spread.q3, "new_q1": new.spread.q1,
+                          "new_q3": new.spread.q3})
+
+
+def _fences(ctx: WordingContext, findings: Findings) -> str:
+    flagged = findings.outliers
+    if flagged is None or flagged.lower_fence is None or flagged.upper_fence is None:
+        return ""
+    return ctx.text("format.both", low=ctx.memo(flagged.lower_fence), high=ctx.memo(flagged.upper_fence))
+
+
+def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: Findings,
+                     about: str = "change") -> list[Sentence]:
+    """The sentences about one variable (or group) in two builds, in the fixed order."""
+    facts = ChangeFacts(ctx=ctx, changes=changes, old=old, new=new)
+    n_item = changes.item("n")
+    sentences = [
+        ctx.say("changes.little_changed", (), about=facts, claim_about=about),
+        ctx.say("changes.count", ("n",), about=facts, new_n=ctx.count(new.n, "value"), old_n=ctx.count(old.n, "value"),
+                claim={"old_n": old.n, "new_n": new.n, "reason": n_item.reason if n_item else None},
+                claim_about=about),
+        _center_sentence(ctx, facts, about),
+    ]
+    lead = changes.item("center.lead")
+    if lead is not None:
+        sentences.append(ctx.say("changes.lead_changed", ("center.lead",), about=facts,
+                                 new_measure=ctx.text(f"changes.measure.{lead.new}"),
+                                 old_measure=ctx.text(f"changes.measure.{lead.old}"),
+                                 claim={"old": lead.old, "new": lead.new}, claim_about=about))
+    sentences.append(_spread_sentence(ctx, facts, about))
+    flagged = changes.item("outliers.count")
+    if flagged is not None:
+        sentences.append(ctx.say(
+            "changes.flagged", ("outliers.count",), about=facts, old=ctx.whole(flagged.old), new=ctx.whole(flagged.new),
+            old_fences=_fences(ctx, old), new_fences=_fences(ctx, new), claim_about=about,
+            claim={"old": flagged.old, "new": flagged.new,
+                   "old_fences": (old.outliers.lower_fence, old.outliers.upper_fence) if old.outliers else None,
+                   "new_fences": (new.outliers.lower_fence, new.outliers.upper_fence) if new.outliers else None}))
+    sentences.append(ctx.say("changes.shape_changed", ("shape.label", "shape.strength"), about=facts,
+                             old_shape=_shape_words(ctx, old), new_shape=_shape_words(ctx, new), claim_about=about,
+                             claim={"old": (old.shape.label, old.shape.strength),
+                                    "new": (new.shape.label, new.shape.strength)}))
+    for key, message in (("quality.n_missing", "changes.missing_changed"),
+                         ("quality.n_impossible", "changes.impossible_changed")):
+        item = changes.item(key)
+        if item is not None:
+            sentences.append(ctx.say(message, (key,), about=facts, old=ctx.whole(item.old), new=ctx.whole(item.new),
+                                     claim={"old": item.old, "new": item.new, "key": key}, claim_about=about))
+    return [sentence for sentence in sentences if sentence is not None]
+
+
+def _rule_sentence(ctx: WordingContext, changes: Changes, old: Findings, new: Findings) -> Sentence:
+    facts = ChangeFacts(ctx=ctx, changes=changes, old=old, new=new)
+    center = changes.item(f"center.{changes.lead}")
+    level = center.level if center is not None and center.level is not None else 0.95
+    return ctx.say("changes.rule", (), about=facts, level=ctx.fmt.percent(level),
+                   sd_share=ctx.fmt.percent(POPULATION_SHARE), spread_share=ctx.fmt.percent(SPREAD_SHARE),
+                   count_share=ctx.fmt.percent(COUNT_SHARE))
 
 
 def changes_section(
@@ -62,56 +134,70 @@ def changes_section(
 ) -> Section:
     """The "what changed since the previous data" section, worded for any audience (everyday words)."""
     ctx = make_context(new, locale, currency=currency, unit=unit, name=name)
-    sentences: list[Sentence] = []
-    n_item = changes.item("n")
-    if changes.little_changed:
-        sentences.append(ctx.sentence("changes.little_changed", ()))
-    if n_item is not None and n_item.reason != "unchanged":
-        sentences.append(
-            ctx.sentence("changes.count_changed", ("n",), new_n=ctx.count(new.n, "value"),
-                         old_n=ctx.count(old.n, "value"))
-        )
-    else:
-        sentences.append(ctx.sentence("changes.count_same", ("n",), new_n=ctx.count(new.n, "value")))
-    sentences.extend(_center_sentences(ctx, changes))
-    lead = changes.item("center.lead")
-    if lead is not None and lead.mention:
-        sentences.append(
-            ctx.sentence("changes.lead_changed", ("center.lead",),
-                         new_measure=ctx.text(f"changes.measure.{lead.new}"),
-                         old_measure=ctx.text(f"changes.measure.{lead.old}"))
-        )
-    sentences.extend(_spread_sentence(ctx, changes, old, new))
-    simple = (
-        ("outliers.count", "changes.outliers_changed"),
-        ("quality.n_missing", "changes.missing_changed"),
-        ("quality.n_impossible", "changes.impossible_changed"),
-    )
-    for key, message in simple:
-        item = changes.item(key)
-        if item is not None and item.mention:
-            sentences.append(ctx.sentence(message, (key,), old=ctx.whole(item.old), new=ctx.whole(item.new)))
-    shape_label, shape_strength = changes.item("shape.label"), changes.item("shape.strength")
-    if (shape_label and shape_label.mention) or (shape_strength and shape_strength.mention):
-        sentences.append(
-            ctx.sentence("changes.shape_changed", ("shape.label", "shape.strength"),
-                         old_shape=_shape_words(ctx, old), new_shape=_shape_words(ctx, new))
-        )
-    shares = {
-        "spread_share": ctx.fmt.percent(SPREAD_SHARE),
-        "count_share": ctx.fmt.percent(COUNT_SHARE),
-    }
-    center = changes.item(f"center.{changes.lead}")
-    if center is not None and center.reason in ("beyond_share_of_sd", "within_share_of_sd"):
-        rule = ctx.sentence("changes.rule_whole", (), sd_share=ctx.fmt.percent(POPULATION_SHARE), **shares)
-    else:
-        level = new.intervals.mean.level if new.intervals.mean is not None else 0.95
-        rule = ctx.sentence("changes.rule", (), level=ctx.fmt.percent(level), **shares)
     return Section(
         key="changes",
         title=ctx.text("changes.title"),
-        paragraphs=(Paragraph(tuple(sentences)), Paragraph((rule,))),
+        paragraphs=(Paragraph(tuple(change_sentences(ctx, changes, old, new))),
+                    Paragraph((_rule_sentence(ctx, changes, old, new),))),
     )
+
+
+def set_changes_narrative(compared: SetChanges, *, locale: str = "en_US", currency: str | None = None) -> Narrative:
+    """What changed between two findings sets: a section per variable, and per group when both builds were
+    grouped by the same column, with a sentence naming the groups whose center moved clearly."""
+    from narrator.phrasing.sets import member
+
+    sections: list[Section] = []
+    first_ctx = None
+    rule = None
+    by_variable: dict[str, list] = {}
+    for pair in compared.pairs:
+        by_variable.setdefault(pair.name, []).append(pair)
+    for name, pairs in by_variable.items():
+        whole = next(pair for pair in pairs if pair.group is None)
+        ctx = make_context(whole.new, locale, currency=currency, unit=None, name=None)
+        first_ctx = first_ctx or ctx
+        rule = rule or _rule_sentence(ctx, whole.changes, whole.old, whole.new)
+        sections.append(Section(key=f"changes.{name}", title=ctx.text("changes.title") if len(by_variable) == 1
+                                else ctx.axis_name,
+                                paragraphs=(Paragraph(tuple(change_sentences(ctx, whole.changes, whole.old,
+                                                                             whole.new))),)))
+        groups = [pair for pair in pairs if pair.group is not None]
+        if not groups:
+            continue
+        moved, still = [], []
+        for pair in groups:
+            item = pair.changes.item(f"center.{pair.changes.lead}")
+            (moved if item is not None and item.mention else still).append(pair.group)
+        measure = ctx.text(f"changes.measure.{whole.changes.lead}")
+        group_by = compared.group_by or ""
+        summary = ctx.say("changes.groups_moved" if moved else "changes.groups_still", (), measure=measure,
+                          moved=ctx.fmt.list([member(ctx, group_by, label) for label in moved]), group=group_by,
+                          claim={"moved": tuple(moved), "still": tuple(still), "measure": whole.changes.lead},
+                          claim_about="change")
+        sections.append(Section(key=f"changes.{name}.groups", title=ctx.text("changes.group_title", group=group_by),
+                                paragraphs=(Paragraph((summary,)),), level=2))
+        for pair in groups:
+            group_ctx = make_context(pair.new, locale, currency=currency, unit=None, name=None)
+            sentences = change_sentences(group_ctx, pair.changes, pair.old, pair.new, about=f"change:{pair.group}")
+            sections.append(Section(key=f"changes.{name}.group.{pair.group}", title=member(ctx, group_by, pair.group),
+                                    paragraphs=(Paragraph(tuple(sentences)),), level=2))
+    notes = []
+    ctx = first_ctx
+    if ctx is not None:
+        for label in compared.only_new:
+            notes.append(ctx.say("changes.group_new", (), member=label))
+        for label in compared.only_old:
+            notes.append(ctx.say("changes.group_gone", (), member=label))
+    closing = [Paragraph(tuple(notes))] if notes else []
+    if rule is not None:
+        closing.append(Paragraph((rule,)))
+    if closing:
+        sections.append(Section(key="changes.rule", title="", paragraphs=tuple(closing)))
+    title = ctx.text("changes.title") if ctx is not None else ""
+    return Narrative(audience="changes", locale=ctx.fmt.locale_id if ctx else locale,
+                     language=ctx.bank.language if ctx else locale.split("_")[0], title=title,
+                     sections=tuple(sections))
 
 
 def _shape_words(ctx: WordingContext, findings: Findings) -> str:

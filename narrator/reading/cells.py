@@ -72,6 +72,7 @@ __all__ = [
     "CELL_NON_NUMERIC",
     "CELL_OK",
     "EXAMPLES_KEPT",
+    "EXAMPLES_SCANNED",
     "EXCLUSION_REASONS",
     "MISSING_TOKENS",
     "ROWS_KEPT",
@@ -109,7 +110,7 @@ EXCLUSION_REASONS: tuple[str, ...] = ("missing", "non_numeric", "non_finite", "i
 ROWS_KEPT = 10  # row numbers kept per exclusion reason
 EXAMPLES_KEPT = 5  # distinct cell texts kept per exclusion reason
 EXAMPLE_LENGTH = 40  # characters of one example before it is cut
-EXAMPLE_POSITIONS = 10_000  # excluded cells looked at per reason to find a few distinct texts
+EXAMPLES_SCANNED = 10_000  # excluded cells looked at per reason to find a few distinct texts
 MAX_DECIMALS = 6  # as narrator.reading.sample.guess_decimals
 
 # Status of one classified cell; the order of EXCLUSION_REASONS is the order of the
@@ -363,7 +364,7 @@ class Cells:
     def kept_examples(self, rules: CellRules) -> Cells:
         """The same cells, with the texts an exclusion may show copied out, so their source can go.
 
-        An exclusion shows texts from its first :data:`EXAMPLE_POSITIONS` cells, judged as
+        An exclusion shows texts from its first :data:`EXAMPLES_SCANNED` cells, judged as
         :func:`build_sample` will judge them under ``rules``; those texts are kept, nothing else.
         """
         shown = self._shown(rules, 0)
@@ -374,7 +375,7 @@ class Cells:
         final = _final_status(self.values, self.status, rules)
         shown: dict[int, str] = {}
         for status in _STATUS_OF_REASON.values():
-            for position in np.flatnonzero(final == status)[:EXAMPLE_POSITIONS].tolist():
+            for position in np.flatnonzero(final == status)[:EXAMPLES_SCANNED].tolist():
                 shown[offset + position] = self.display(position)
         return shown
 
@@ -711,7 +712,7 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
                values: np.ndarray) -> Exclusion:
     positions = np.flatnonzero(status == _STATUS_OF_REASON[reason])
     examples: list[str] = []
-    for position in positions[:EXAMPLE_POSITIONS].tolist():  # enough to find a few distinct texts
+    for position in positions[:EXAMPLES_SCANNED].tolist():  # enough to find a few distinct texts
         shown = display(position)
         if shown not in examples:
             examples.append(shown)
@@ -722,6 +723,7 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
         count=int(positions.size),
         rows=tuple(int(row) for row in rows[positions[:ROWS_KEPT]]),
         examples=tuple(examples),
+        examples_complete=len(examples) < EXAMPLES_KEPT and positions.size <= EXAMPLES_SCANNED,
         values=tuple(float(v) for v in values[positions[:ROWS_KEPT]]) if reason == "impossible" else (),
     )
 

@@ -7,6 +7,7 @@ Name                   What it is
 :class:`Sample`        values ready for the engine, with their source rows
 :func:`guess_decimals` decimals needed to write values as recorded
 :func:`clean_label`    a name taken from the data, made safe to show anywhere
+:func:`no_numbers`     why a column gave no number to describe, in words
 =====================  ========================================================
 """
 
@@ -64,6 +65,7 @@ class Exclusion:
     examples: tuple[str, ...] = ()  # first offending cell texts, already made printable
     # For values left out as impossible: the values of ``rows``, same order (empty for other reasons).
     values: tuple[float, ...] = ()
+    examples_complete: bool = False  # the examples are every distinct text these cells held
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -141,3 +143,22 @@ def guess_decimals(values: np.ndarray, cap: int = 6) -> int:
         if np.all(np.abs(scaled - np.round(scaled)) <= 1e-6 * np.maximum(1.0, np.abs(scaled))):
             return decimals
     return cap
+
+
+def no_numbers(sample: Sample) -> str:
+    """Why ``sample`` holds no value to describe, for the one-line message a command stops with.
+
+    >>> no_numbers(Sample(values=np.zeros(0), rows=np.zeros(0, dtype=np.int64), name="v", n_rows=0))
+    'the file has a header but no data rows'
+    """
+    if sample.n_rows == 0:
+        return "the file has a header but no data rows"
+    text = sample.excluded("non_numeric")
+    if text is not None and text.count:
+        shown = ", ".join(repr(example) for example in text.examples[:3])
+        example = f" (for example {shown})" if shown else ""
+        return f"none of its {sample.n_rows} cells holds a number{example}"
+    impossible = sample.excluded("impossible")
+    if impossible is not None and impossible.count == sample.n_rows - sample.n_missing and impossible.count:
+        return "every value lies outside the valid range"
+    return f"all of its {sample.n_rows} cells are blank or marked as missing"

@@ -60,6 +60,7 @@ from narrator.engine.rules import (
     Options,
 )
 from narrator.engine.shape import MIN_FOR_SHAPE, is_clearly_skewed
+from narrator.engine.ties import order_counts_from
 from narrator.errors import NarratorError
 from narrator.findings import Accuracy, ApproximateFigure, Findings, Outliers, QualityFlag
 from narrator.reading.sample import Sample, clean_label
@@ -273,8 +274,9 @@ def describe_source(
     parts["mad"] = mad_plan.counter()
     trim_points = {statistics(r) for cut in cuts.values() for r in (cut, n - cut - 1)}
     tie_candidates = sorted({statistics(r) for r in tie_ranks})
-    parts["points"] = PartitionCounts(np.array(sorted(trim_points | set(tie_candidates)), dtype=np.float64),
-                                      np.zeros(len(trim_points | set(tie_candidates)) + 1, dtype=bool))
+    order_points = {q1 * factor, median * factor, q3 * factor}  # for the order counts (narrator.engine.ties)
+    points = sorted(trim_points | set(tie_candidates) | order_points)
+    parts["points"] = PartitionCounts(np.array(points, dtype=np.float64), np.zeros(len(points) + 1, dtype=bool))
     for proportion, cut in cuts.items():
         parts[f"trim{proportion}"] = RangeMean(statistics(cut), statistics(n - cut - 1), factor)
     for plan in code_plans:
@@ -294,6 +296,8 @@ def describe_source(
         choices = ([rules.rule_choice(None, True), rules.rule_choice(None, False)] if options.outlier_rule is None
                    else [rules.rule_choice(options.outlier_rule, False)])
         for choice in choices:
+            if rules.working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple_value).rule == "modified-z":
+                continue  # a rule that gives way to the modified z score needs the MAD: it waits for this pass
             test = rules.outlier_test(choice, n, q1=q1, median=median, q3=q3, mad=math.nan,
                                       medcouple=medcouple_value if medcouple_value is not None else 0.0,
                                       mean_absolute_deviation=lambda: math.nan)
@@ -316,7 +320,9 @@ def describe_source(
     choice = rules.rule_choice(options.outlier_rule, is_clearly_skewed(shape))
     flagged_pass = third
     if choice.rule in candidates:
-        test = replace(candidates[choice.rule], choice=choice)
+        # The candidate's limits, with the final choice's words (and the rule that replaced it, if any).
+        test = replace(candidates[choice.rule], choice=rules.working_choice(
+            choice, n, q1=q1, q3=q3, medcouple=medcouple_value if medcouple_value is not None else 0.0))
     else:  # ---- pass 4 (modified z only): the values it flags and the rest
         test = rules.outlier_test(
             choice, n, q1=q1, median=median, q3=q3, mad=mad, medcouple=None,
@@ -366,7 +372,8 @@ def describe_source(
         every_value=(lambda: np.sort(reservoir.values)) if whole_reservoir else None, histogram=histogram_plan,
         density=density_estimate, density_focus=rules.density_focus_of(density_estimate, fine_density,
                                                                         histogram_focus),
-        histogram_focus=histogram_focus, quality=quality)
+        histogram_focus=histogram_focus, quality=quality, order_counts=_order_counts(third["points"], n, q1, median, q3,
+                                                                                 factor, extremes))
     approximate = _approximations(n, whole_reservoir, reservoir, seed, flagged)
     findings = rules.decide(gathered, options, variable, provenance,
                             _accuracy(runner, first, n, approximate, seed, reservoir_size))
@@ -586,6 +593,18 @@ def _code_quartiles(plan: dict, statistics, n: int) -> None:
         return np.array([statistics(int(i) if i < left else int(i) + count) for i in index])
 
     plan["q1"], plan["q3"] = (float(v) for v in linear_quantiles(others_at, n - count, [0.25, 0.75]))
+
+
+def _order_counts(counted: PartitionCounts, n: int, q1: float, median: float, q3: float, factor: float,
+                  extremes: ExtremeSummary):
+    """narrator.engine.ties' order counts from the exact counts at the quartiles and the median."""
+    return order_counts_from(
+        n=n, below_q1=counted.count_below(q1 * factor), below_median=counted.count_below(median * factor),
+        at_median=counted.count_equal(median * factor),
+        above_q3=n - counted.count_below(q3 * factor) - counted.count_equal(q3 * factor),
+        at_min=extremes.low_count, at_max=extremes.high_count,
+        next_above_min=extremes.second_low if math.isfinite(extremes.second_low) else None,
+        next_below_max=extremes.second_high if math.isfinite(extremes.second_high) else None)
 
 
 def _quality_flags(n, first, third, code_plans, tie_candidates, distinct, extremes: ExtremeSummary, iqr,

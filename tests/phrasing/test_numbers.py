@@ -358,7 +358,11 @@ def _bank_digit_runs(language: str) -> set[str]:
     bank = load_bank(language)
     runs = set()
     for message in bank.messages.values():
-        texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) else [message]
+        if isinstance(message, tuple):  # a claim entry: every form of every variant
+            texts = [text for variant in message for text in variant.forms.values()]
+        else:
+            texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) \
+                else [message]
         for text in texts:
             runs.update(re.findall(r"\d+", text))
     return runs

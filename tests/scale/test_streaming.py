@@ -317,3 +317,29 @@ def test_many_flagged_values_are_listed_the_same_way_and_counted_in_full(tmp_pat
     assert np.array_equal(flagged.high_values, np.sort(high)[-LISTED_PER_SIDE:])
     assert streamed.outliers.rows == flagged.rows
     assert memory.without_outliers.n == values.size - low.size - high.size
+
+
+@pytest.mark.parametrize("kind", ["zero_heavy", "all_tied_quartiles", "heavy_ties"])
+def test_the_claims_facts_agree_with_memory(tmp_path, kind):
+    # Generated columns whose sentences depend on the new facts: the order counts, a degenerate outlier rule
+    # replaced (medcouple at its bound; an IQR of 0), the undecided bin grid. Stream and memory must agree.
+    rng = np.random.default_rng(SEED + len(kind))
+    if kind == "zero_heavy":
+        values = np.where(rng.random(900) < 0.7, 0.0, rng.poisson(4, 900) + 1.0)
+    elif kind == "all_tied_quartiles":
+        values = np.concatenate([np.full(700, 5.0), rng.integers(0, 60, 60).astype(float)])
+    else:
+        values = rng.choice([1.0, 2.0, 3.0, 4.0, 5.0], size=800, p=[0.1, 0.15, 0.45, 0.2, 0.1])
+    folder = tmp_path / "parts"
+    whole = _write_parts(folder, "v", rng.permutation(values), parts=3)
+    options = {"outlier_rule": "adjusted"} if kind != "heavy_ties" else {}
+    memory = describe(read_column(whole, "v"), **options)
+    streamed = describe_source(open_source(folder, "v", chunk_rows=97), **options).findings
+    assert differences(memory, streamed) == []
+    assert memory.order_counts == streamed.order_counts
+    if kind == "zero_heavy":
+        assert memory.outliers.fallback_reason == "medcouple_at_bound"
+    if kind == "all_tied_quartiles":
+        assert memory.outliers.fallback_reason == "iqr_zero" and memory.outliers.rule == "modified-z"
+    if kind == "heavy_ties":
+        assert memory.order_counts.at_median == int((values == np.median(values)).sum())
