@@ -523,7 +523,7 @@ def load_recipe(path: str | os.PathLike[str]) -> Recipe:
         raise checker.fail(f"[data] privacy_threshold must be at least 1, not {threshold}",
                            checker.line("data", None, "privacy_threshold"))
     engine = data_table.get("engine")
-    from narrator.scale.entry import ENGINES, choose_engine
+    from narrator.scale.engine_choice import ENGINES, choose_engine
 
     if engine is not None and engine not in ENGINES:
         raise checker.fail(f"[data] engine = \"{engine}\" is not one of {', '.join(ENGINES)}",

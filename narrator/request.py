@@ -128,7 +128,7 @@ def engine_for(request: ColumnRequest, *, group_by: str | None = None, variables
     A stream or dask engine asked for together with something only the memory engine
     does is one :class:`~narrator.errors.NarratorError` naming every such thing.
     """
-    from narrator.scale.entry import choose_engine
+    from narrator.scale.engine_choice import choose_engine
 
     engine = choose_engine(request.reading.engine, request.path)
     if engine == "memory":
@@ -164,7 +164,7 @@ def describe_request(request: ColumnRequest, *, client=None) -> tuple[Sample, Fi
     """Read and describe the request's column: (the Sample figures are drawn from, the Findings).
 
     The memory engine describes every value; the stream and dask engines give the same
-    findings from passes (:func:`narrator.scale.entry.describe_large`) and a Sample of a
+    findings from passes (:func:`narrator.scale.engine_choice.describe_large`) and a Sample of a
     fixed-seed reservoir with the extreme and flagged values. ``client`` is a Dask client
     to use instead of connecting to the request's scheduler.
     """
@@ -179,7 +179,7 @@ def describe_request(request: ColumnRequest, *, client=None) -> tuple[Sample, Fi
             found = describe(sample, **options)
             # Clusters are checked against the file's text columns (narrator.groups.analysis).
             return sample, separation_in_file(found, sample, request.path, reading=request.reading)
-        from narrator.scale.entry import describe_large
+        from narrator.scale.engine_choice import describe_large
 
         reading = request.reading
         return describe_large(

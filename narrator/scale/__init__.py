@@ -11,7 +11,7 @@ Name                             What it is
 :class:`StreamRunner`            reads the passes on this machine (:mod:`.streaming`)
 :class:`DaskRunner`              reads them on a Dask cluster (:mod:`.distributed`)
 :func:`describe_large`           path + column -> (Sample, Findings): the door the
-                                 command line and recipes use (:mod:`.entry`)
+                                 command line and recipes use (:mod:`.engine_choice`)
 :func:`choose_engine`            the engine asked for, or the input's default
 :data:`ENGINES`                  the engine names the command line and recipes accept
 ===============================  ===================================================
@@ -29,7 +29,7 @@ import importlib
 # memory costs no import of the passes; Dask loads only when a cluster is asked for.
 _HOMES = {
     "ScaleResult": "assemble", "describe_source": "assemble",
-    "ENGINES": "entry", "choose_engine": "entry", "describe_large": "entry",
+    "ENGINES": "engine_choice", "choose_engine": "engine_choice", "describe_large": "engine_choice",
     "ColumnSource": "sources", "is_large_input": "sources", "open_source": "sources",
     "StreamRunner": "streaming", "DaskRunner": "distributed",
 }
