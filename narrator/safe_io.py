@@ -467,22 +467,34 @@ def clean_stale(report: str | os.PathLike[str]) -> None:
     pause("cleaned")
 
 
-def commit_report_pair(report: str | os.PathLike[str], report_bytes: bytes, sidecar: Mapping[str, Any], *,
-                       protect: Sequence[str | os.PathLike[str] | None] = (), force: bool = False) -> Path:
+def commit_report_pair(report: str | os.PathLike[str], report_bytes: bytes | None, sidecar: Mapping[str, Any], *,
+                       protect: Sequence[str | os.PathLike[str] | None] = (), force: bool = False,
+                       checked: bool = False) -> Path:
     """Write ``report_bytes`` to ``report`` and the JSON of ``sidecar`` beside it, as one pair; the sidecar's path.
 
     The sidecar gets :data:`REPORT_HASH_KEY`, the SHA-256 of ``report_bytes``. The output is
     checked (:func:`check_output`, with ``protect`` and ``force``) under the output's lock,
-    which is taken here unless the caller holds it. See the module notes for the order of
-    the writes and what a reader sees at any moment.
+    which is taken here unless the caller holds it; ``checked=True`` says the caller has
+    applied output rules of its own (``narrator fill`` writes the user's own document, which
+    is not a report). ``report_bytes=None`` says the report on disk is already the one the
+    sidecar describes: only the sidecar is written, with that file's hash. See the module
+    notes for the order of the writes and what a reader sees at any moment.
     """
     target = Path(report)
     sidecar_file = sidecar_path(target)
     with output_lock(target):
-        check_output(target, protect=protect, force=force)
+        if not checked:
+            check_output(target, protect=protect, force=force)
         record = dict(sidecar)
-        record[REPORT_HASH_KEY] = hashlib.sha256(report_bytes).hexdigest()
+        record[REPORT_HASH_KEY] = (hashlib.sha256(report_bytes).hexdigest() if report_bytes is not None
+                                   else _sha256_of(target))
         sidecar_bytes = (json.dumps(record, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode("utf-8")
+        if report_bytes is None:
+            sidecar_temp = _write_temp(sidecar_file, sidecar_bytes, "sidecar-temp-partial", "sidecar-temp-written")
+            _replace(sidecar_temp, sidecar_file)
+            pause("sidecar-committed")
+            _sync_folder(target.parent if str(target.parent) else Path("."))
+            return sidecar_file
         report_temp = _write_temp(target, report_bytes, "report-temp-partial", "report-temp-written")
         try:
             sidecar_temp = _write_temp(sidecar_file, sidecar_bytes, "sidecar-temp-partial", "sidecar-temp-written")

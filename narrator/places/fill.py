@@ -44,7 +44,15 @@ from narrator.phrasing.places import PlaceText, PlaceWords
 from narrator.places.package import Control, Filling, WordPackage, refusal
 from narrator.places.tags import Tag, TagProblem, is_marker_text, parse_tag
 from narrator.reading.sample import Sample
-from narrator.safe_io import atomic_write_bytes, atomic_write_text, refuse_same_file, sidecar_path
+from narrator.safe_io import (
+    REPORT_HASH_KEY,
+    atomic_write_bytes,
+    clean_stale,
+    commit_report_pair,
+    output_lock,
+    refuse_same_file,
+    sidecar_path,
+)
 
 RECORD_KEY = "places"
 RECORD_VERSION = 1
@@ -264,95 +272,100 @@ def fill_document(
             "; put one around each place to fill, tagged narrator:<target> (see the README), or type markers " \
             "such as [narrator:median] and run narrator mark"
         raise NarratorError(f"{source.name} has no content controls{hint}")
-    in_place = target == source or (target.exists() and os.path.samefile(target, source))
-    previous, record, ignored_note = _read_previous(sidecar, replace_edits or not in_place)
-    # Hand edits are looked for in the document being filled in place; a copy written elsewhere is made
-    # anew from the source each time, so the record only tells it what changed.
-    edits_record = record if in_place else []
-    earlier = {item.findings.variable.name: item for item in previous.variables} if previous is not None else {}
-    baselines = []
-    for part in collection.variables:
-        match = earlier.get(part.findings.variable.name)
-        baselines.append(None if match is None else baseline_for(part.findings, match.findings, match.baseline))
-    findings_set = collection.findings_set(baselines)
-    variables = _Variables(collection)
-    words = [PlaceWords(item, locale=locale, currency=currency, group_by=findings_set.group_by)
-             for item in findings_set.variables]
-    figures: dict[int, object] = {}
+    with output_lock(target):
+        clean_stale(target)
+        in_place = target == source or (target.exists() and os.path.samefile(target, source))
+        previous, record, ignored_note = _read_previous(sidecar, replace_edits or not in_place)
+        # Hand edits are looked for in the document being filled in place; a copy written elsewhere is made
+        # anew from the source each time, so the record only tells it what changed.
+        edits_record = record if in_place else []
+        earlier = {item.findings.variable.name: item for item in previous.variables} if previous is not None else {}
+        baselines = []
+        for part in collection.variables:
+            match = earlier.get(part.findings.variable.name)
+            baselines.append(None if match is None else baseline_for(part.findings, match.findings, match.baseline))
+        findings_set = collection.findings_set(baselines)
+        variables = _Variables(collection)
+        words = [PlaceWords(item, locale=locale, currency=currency, group_by=findings_set.group_by)
+                 for item in findings_set.variables]
+        figures: dict[int, object] = {}
 
-    def figure_for(index: int, text: PlaceText):
-        if index not in figures:
-            from narrator.figures.charts import DRAWERS
+        def figure_for(index: int, text: PlaceText):
+            if index not in figures:
+                from narrator.figures.charts import DRAWERS
 
-            part = collection.variables[index]
-            figures[index] = DRAWERS[text.figure.key](part.findings, part.sample, text.figure, locale=locale)
-        return figures[index]
+                part = collection.variables[index]
+                figures[index] = DRAWERS[text.figure.key](part.findings, part.sample, text.figure, locale=locale)
+            return figures[index]
 
-    notes: dict[tuple[str, int], PlaceNote] = {}
-    fillings: dict[tuple[str, int], Filling] = {}
-    placed: dict[tuple[str, int], tuple[Tag, PlaceText]] = {}
-    ordinals: dict[tuple[str, str], int] = {}
-    for control in controls:
-        shown, parsed = _tag_of(control)
-        if _inside_filled(control, controls, fillings):
-            continue  # inside a place being filled: replaced with it
-        if parsed is None:
-            notes[control.ref] = PlaceNote(control.part, control.index, shown, "foreign")
-            continue
-        if isinstance(parsed, TagProblem):
-            notes[control.ref] = PlaceNote(control.part, control.index, shown, "unknown", parsed.reason)
-            continue
-        ordinal = ordinals.get((control.part, parsed.text), 0)
-        ordinals[(control.part, parsed.text)] = ordinal + 1
-        found = variables.find(parsed)
-        if isinstance(found, str):
-            notes[control.ref] = PlaceNote(control.part, control.index, shown, "unknown", found)
-            continue
-        text = words[found].text(parsed.target)
-        filling = _filling(text, figure_for(found, text) if text.kind == "figure" else None)
-        why = refusal(control, filling)
-        if why is not None:
-            notes[control.ref] = PlaceNote(control.part, control.index, shown, "refused", why)
-            continue
-        fresh = control.showing_placeholder or not control.text.strip() or is_marker_text(control.text, parsed)
-        entry = None if fresh else _record_match(edits_record, control, parsed, ordinal)
-        if entry is not None and entry.get("fingerprint") != control.fingerprint and not replace_edits:
-            notes[control.ref] = PlaceNote(control.part, control.index, shown, "kept")
-            continue
-        fillings[control.ref] = filling
-        placed[control.ref] = (parsed, text)
-        notes[control.ref] = PlaceNote(control.part, control.index, shown, "unchanged")
-    if not fillings and not any(note.state in ("kept", "refused") for note in notes.values()):
-        unknown = [note for note in notes.values() if note.state == "unknown"]
-        detail = f"; {unknown[0].tag!r}: {unknown[0].reason}" if unknown else \
-            "; a place of narrator's has a tag such as narrator:median (see the README)"
-        raise NarratorError(f"{source.name} has {len(controls)} content control{'s' if len(controls) != 1 else ''} "
-                            f"but no place narrator can fill{detail}")
+        notes: dict[tuple[str, int], PlaceNote] = {}
+        fillings: dict[tuple[str, int], Filling] = {}
+        placed: dict[tuple[str, int], tuple[Tag, PlaceText]] = {}
+        ordinals: dict[tuple[str, str], int] = {}
+        for control in controls:
+            shown, parsed = _tag_of(control)
+            if _inside_filled(control, controls, fillings):
+                continue  # inside a place being filled: replaced with it
+            if parsed is None:
+                notes[control.ref] = PlaceNote(control.part, control.index, shown, "foreign")
+                continue
+            if isinstance(parsed, TagProblem):
+                notes[control.ref] = PlaceNote(control.part, control.index, shown, "unknown", parsed.reason)
+                continue
+            ordinal = ordinals.get((control.part, parsed.text), 0)
+            ordinals[(control.part, parsed.text)] = ordinal + 1
+            found = variables.find(parsed)
+            if isinstance(found, str):
+                notes[control.ref] = PlaceNote(control.part, control.index, shown, "unknown", found)
+                continue
+            text = words[found].text(parsed.target)
+            filling = _filling(text, figure_for(found, text) if text.kind == "figure" else None)
+            why = refusal(control, filling)
+            if why is not None:
+                notes[control.ref] = PlaceNote(control.part, control.index, shown, "refused", why)
+                continue
+            fresh = control.showing_placeholder or not control.text.strip() or is_marker_text(control.text, parsed)
+            entry = None if fresh else _record_match(edits_record, control, parsed, ordinal)
+            if entry is not None and entry.get("fingerprint") != control.fingerprint and not replace_edits:
+                notes[control.ref] = PlaceNote(control.part, control.index, shown, "kept")
+                continue
+            fillings[control.ref] = filling
+            placed[control.ref] = (parsed, text)
+            notes[control.ref] = PlaceNote(control.part, control.index, shown, "unchanged")
+        if not fillings and not any(note.state in ("kept", "refused") for note in notes.values()):
+            unknown = [note for note in notes.values() if note.state == "unknown"]
+            detail = f"; {unknown[0].tag!r}: {unknown[0].reason}" if unknown else \
+                "; a place of narrator's has a tag such as narrator:median (see the README)"
+            raise NarratorError(f"{source.name} has {len(controls)} content control{'s' if len(controls) != 1 else ''} "
+                                f"but no place narrator can fill{detail}")
 
-    moment = generation_time(generated_at)
-    result = package.fill(fillings, moment=moment)
-    written_bytes = result.data if result.data is not None else package_bytes(source)
-    new_package = WordPackage.from_bytes(written_bytes, target.name) if result.data is not None else package
-    entries, changed = _new_record(controls, new_package.controls(), placed, record, notes)
-    for ref in changed:
-        notes[ref] = PlaceNote(ref[0], ref[1], notes[ref].tag, "filled")
-    payload = findings_set.to_dict()
-    payload[RECORD_KEY] = {
-        "version": RECORD_VERSION,
-        "document": target.name,
-        "document_sha256": hashlib.sha256(written_bytes).hexdigest(),
-        "controls": entries,
-    }
-    sidecar_text = json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-    document_changed = written_bytes != (package_bytes(target) if target.is_file() else None)
-    sidecar_changed = not sidecar.is_file() or sidecar.read_text(encoding="utf-8") != sidecar_text
-    if document_changed or sidecar_changed:
-        _commit(target, written_bytes if document_changed else None, sidecar, sidecar_text)
-    ordered = tuple(notes[control.ref] for control in controls if control.ref in notes)
-    if ignored_note:
-        ordered += (PlaceNote("", 0, sidecar.name, "note", ignored_note),)
-    return FillOutcome(target, sidecar, document_changed, document_changed or sidecar_changed, ordered,
-                       result.changed + result.added + result.removed)
+        moment = generation_time(generated_at)
+        result = package.fill(fillings, moment=moment)
+        written_bytes = result.data if result.data is not None else package_bytes(source)
+        new_package = WordPackage.from_bytes(written_bytes, target.name) if result.data is not None else package
+        entries, changed = _new_record(controls, new_package.controls(), placed, record, notes)
+        for ref in changed:
+            notes[ref] = PlaceNote(ref[0], ref[1], notes[ref].tag, "filled")
+        payload = findings_set.to_dict()
+        payload[RECORD_KEY] = {
+            "version": RECORD_VERSION,
+            "document": target.name,
+            "document_sha256": hashlib.sha256(written_bytes).hexdigest(),
+            "controls": entries,
+        }
+        expected = {**payload, REPORT_HASH_KEY: hashlib.sha256(written_bytes).hexdigest()}
+        sidecar_text = json.dumps(expected, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+        document_changed = written_bytes != (package_bytes(target) if target.is_file() else None)
+        sidecar_changed = not sidecar.is_file() or sidecar.read_text(encoding="utf-8") != sidecar_text
+        if document_changed or sidecar_changed:
+            # The document and its record as one pair, under the output's lock (narrator.safe_io); the
+            # output rules of a fill are its own (_check_paths): the document is the user's, not a report.
+            commit_report_pair(target, written_bytes if document_changed else None, payload, checked=True)
+        ordered = tuple(notes[control.ref] for control in controls if control.ref in notes)
+        if ignored_note:
+            ordered += (PlaceNote("", 0, sidecar.name, "note", ignored_note),)
+        return FillOutcome(target, sidecar, document_changed, document_changed or sidecar_changed, ordered,
+                           result.changed + result.added + result.removed)
 
 
 def package_bytes(path: Path) -> bytes:
@@ -430,21 +443,6 @@ def _check_paths(source: Path, target: Path, protect: Sequence[str | os.PathLike
             ours = False
         if not ours:
             raise NarratorError(f"{target} exists and is not a document with marked places; choose another name")
-
-
-def _commit(document: Path, data: bytes | None, sidecar: Path, sidecar_text: str) -> None:
-    """Write the filled document and its sidecar: the one place a fill writes files.
-
-    Each file is replaced atomically (narrator.safe_io), the document first;
-    when the pair commit of narrator.safe_io arrives, this body becomes one
-    call to it, so a reader never sees a new document beside an old record.
-    Either way a failure between the two leaves a record that no longer
-    matches its places, so the next fill keeps them as edited rather than
-    overwriting anything.
-    """
-    if data is not None:
-        atomic_write_bytes(document, data)
-    atomic_write_text(sidecar, sidecar_text)
 
 
 # --------------------------------------------------------------------------- marking
