@@ -173,12 +173,9 @@ def describe_request(request: ColumnRequest, *, client=None) -> tuple[Sample, Fi
     with naming_the_input(request):
         if engine == "memory":
             from narrator.engine.describe import describe
-            from narrator.groups.analysis import separation_in_file
 
             sample = read_sample(request)
-            found = describe(sample, **options)
-            # Clusters are checked against the file's text columns (narrator.groups.analysis).
-            return sample, separation_in_file(found, sample, request.path, reading=request.reading)
+            return sample, _separation_checked(describe(sample, **options), sample, request)
         from narrator.scale.engine_choice import describe_large
 
         reading = request.reading
@@ -187,6 +184,22 @@ def describe_request(request: ColumnRequest, *, client=None) -> tuple[Sample, Fi
             chunk_rows=reading.chunk_rows, unit=request.variable.unit, decimal_comma=reading.decimal_comma,
             missing=reading.missing, encoding=reading.encoding, **options,
         )
+
+
+def _separation_checked(found: Findings, sample: Sample, request: ColumnRequest) -> Findings:
+    """Where the values form clusters: the findings with the file's text columns checked against them
+    (:mod:`narrator.engine.separation`)."""
+    if found.clusters is None or found.clusters.count < 2:
+        return found
+    from narrator.engine.separation import DEFAULT_PRIVACY_THRESHOLD, MAX_COLUMNS_CHECKED, check_separation
+    from narrator.reading.columns import label_columns
+
+    reading = request.reading
+    column = sample.source.get("column")
+    columns = label_columns(request.path, sheet=reading.sheet, decimal_comma=reading.decimal_comma,
+                            missing=reading.missing, encoding=reading.encoding,
+                            leave_out=(column,) if column else (), limit=MAX_COLUMNS_CHECKED)
+    return check_separation(found, sample, columns, DEFAULT_PRIVACY_THRESHOLD)
 
 
 @contextlib.contextmanager

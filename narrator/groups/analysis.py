@@ -10,11 +10,8 @@ Name                           What it is
 :func:`split_by_group`         a sample cut into groups, small groups suppressed
 :func:`suppressed_labels`      the groups too small for any variable
 :func:`analyse_file`           read, group and describe every variable of a file
-:func:`group_order`            the order groups are shown in
+:func:`group_order`            the order groups are shown in (:mod:`narrator.engine.separation`)
 :func:`compare_parts`          the shown groups of one variable compared pair by pair
-:func:`cluster_separation`     whether one categorical column separates the clusters
-:func:`check_separation`       the file's categorical columns checked against the clusters
-:func:`separation_in_file`     the same for a report on one column of a file
 :data:`DEFAULT_PRIVACY_THRESHOLD` groups with fewer values are suppressed
 =============================  ================================================
 
@@ -31,15 +28,9 @@ grouping cell is blank stay in the overall figures and belong to no group.
 Groups compared: every pair of shown groups by :func:`narrator.engine.group_difference.compare_groups`,
 with the overall findings' lead measure and interval level (``VariablePart.comparison``).
 
-Clusters checked against the file's categorical columns (where the values form two or more
-clusters, :mod:`narrator.engine.clusters`): the grouping column and every text column
-(:func:`narrator.reading.columns.list_label_columns`, at most ``MAX_COLUMNS_CHECKED``). A column
-*separates* the clusters when it has 2 to ``MAX_CATEGORIES`` categories, at least
-``MIN_LABELLED_SHARE`` of the values have a category, and Goodman and Kruskal's lambda (1954,
-*JASA* 49, "Measures of association for cross classifications": the share of the errors of
-guessing the most common cluster for every value that knowing the category removes) is at
-least ``SEPARATION_LAMBDA`` (0.8, our threshold). Categories with fewer values than the privacy
-threshold are counted, never named.
+Clusters checked against the file's categorical columns: :mod:`narrator.engine.separation`
+(the grouping column and the file's text columns, read by
+:func:`narrator.reading.columns.label_columns`).
 """
 
 from __future__ import annotations
@@ -50,17 +41,19 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from narrator.engine.separation import (  # noqa: F401 (SEPARATION_LAMBDA: the rule's public constant)
+    DEFAULT_PRIVACY_THRESHOLD,
+    MAX_COLUMNS_CHECKED,
+    SEPARATION_LAMBDA,
+    check_separation,
+    group_order,
+    labels_of,
+)
 from narrator.errors import NarratorError
-from narrator.findings import ColumnSeparation, Findings, GroupComparison
+from narrator.findings import Findings, GroupComparison
 from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
 from narrator.reading.sample import Sample
 from narrator.request import ColumnRequest, ReadingOptions, VariableRequest, describe_options, read_sample
-
-DEFAULT_PRIVACY_THRESHOLD = 10
-MAX_CATEGORIES = 12  # a column with more categories is not a grouping a reader can act on
-MAX_COLUMNS_CHECKED = 10
-MIN_LABELLED_SHARE = 0.8
-SEPARATION_LAMBDA = 0.8
 
 
 @dataclass(frozen=True, slots=True)
@@ -110,32 +103,9 @@ class Collection:
         )
 
 
-def group_order(labels: Sequence[str]) -> list[str]:
-    """Distinct labels in reading order: by number when every label is a number, else alphabetically.
-
-    >>> group_order(["10", "9", "B", "a"])
-    ['10', '9', 'a', 'B']
-    >>> group_order(["10", "9", "5"])
-    ['5', '9', '10']
-    """
-    distinct = sorted(set(labels))
-    try:
-        return sorted(distinct, key=lambda label: (float(label), label))
-    except ValueError:
-        return sorted(distinct, key=lambda label: (label.casefold(), label))
-
-
-def _labels_of(sample: Sample, labels: Sequence[str | None]) -> list[str | None]:
-    # Sample rows are spreadsheet rows (header row 1), so data position = row - 2.
-    positions = np.asarray(sample.rows, dtype=np.int64) - 2
-    if positions.size and (positions.min() < 0 or positions.max() >= len(labels)):
-        raise NarratorError(f"{sample.name}: the grouping column has fewer rows than the data column")
-    return [labels[int(k)] for k in positions]
-
-
 def _group_counts(sample: Sample, labels: Sequence[str | None]) -> dict[str, int]:
     counts: dict[str, int] = {}
-    for label in _labels_of(sample, labels):
+    for label in labels_of(sample, labels):
         if label is not None:
             counts[label] = counts.get(label, 0) + 1
     return counts
@@ -173,7 +143,7 @@ def split_by_group(
     Group samples carry only their own values; their rows-read count is their
     number of values (missing cells are not attributed to groups).
     """
-    row_labels = _labels_of(sample, labels)
+    row_labels = labels_of(sample, labels)
     hidden = np.fromiter((label in suppressed for label in row_labels), dtype=bool, count=len(row_labels))
     overall = _subset(sample, ~hidden, dropped_rows_count=int(hidden.sum()))
     kept_labels = [label for label, drop in zip(row_labels, hidden, strict=True) if not drop]
@@ -301,82 +271,12 @@ def compare_parts(overall: Findings, groups: Sequence[GroupPart]) -> GroupCompar
                           population=overall.variable.population)
 
 
-def cluster_separation(sample: Sample, cuts: Sequence[float], column: str, labels: Sequence[str | None],
-                       privacy_threshold: int) -> ColumnSeparation:
-    """Whether the categories of ``labels`` (one per data row) separate the clusters split at ``cuts``.
-
-    See the module docstring for the rule. Categories are listed in :func:`group_order`.
-    """
-    from narrator.engine.clusters import cluster_of
-
-    row_labels = _labels_of(sample, labels)
-    named = np.fromiter((label is not None for label in row_labels), dtype=bool, count=len(row_labels))
-    n_labelled = int(named.sum())
-    kept = [label for label in row_labels if label is not None]
-    categories = group_order(kept)
-
-    def result(separates: bool, reason: str, **extra) -> ColumnSeparation:
-        return ColumnSeparation(column=column, separates=separates, reason=reason, n_labelled=n_labelled,
-                                n_categories=len(categories), **extra)
-
-    if len(categories) > MAX_CATEGORIES:
-        return result(False, "too_many_categories")
-    if len(categories) < 2:
-        return result(False, "one_category")
-    if n_labelled < MIN_LABELLED_SHARE * sample.values.size:
-        return result(False, "too_few_labelled")
-    clusters = cluster_of(sample.values[named], cuts)
-    index = {label: k for k, label in enumerate(categories)}
-    category_of = np.fromiter((index[label] for label in kept), dtype=np.int64, count=n_labelled)
-    table = np.zeros((len(categories), len(cuts) + 1), dtype=np.int64)
-    np.add.at(table, (category_of, clusters), 1)
-    best_overall = int(table.sum(axis=0).max())
-    best_within = int(table.max(axis=1).sum())
-    association = (best_within - best_overall) / (n_labelled - best_overall) if n_labelled > best_overall else 0.0
-    sizes = table.sum(axis=1)
-    listed = tuple((label, int(table[k].argmax()), int(sizes[k]))
-                   for k, label in enumerate(categories) if sizes[k] >= privacy_threshold)
-    separates = association >= SEPARATION_LAMBDA
-    return result(separates, "separates" if separates else "weak_association", agreement=best_within / n_labelled,
-                  association=association, categories=listed, small_categories=len(categories) - len(listed))
-
-
-def check_separation(findings: Findings, sample: Sample, columns: Sequence[tuple[str, Sequence[str | None]]],
-                     privacy_threshold: int) -> Findings:
-    """``findings`` with ``clusters.separation`` filled from the (column, labels) pairs given."""
-    clusters = findings.clusters
-    if clusters is None or clusters.count < 2:
-        return findings
-    checked = tuple(cluster_separation(sample, clusters.cuts, column, labels, privacy_threshold)
-                    for column, labels in columns)
-    return replace(findings, clusters=replace(clusters, separation=checked, separation_checked=True))
-
-
-def separation_in_file(findings: Findings, sample: Sample, path: str | os.PathLike[str], *,
-                       reading: ReadingOptions | None = None,
-                       privacy_threshold: int = DEFAULT_PRIVACY_THRESHOLD) -> Findings:
-    """For a report on one column of ``path``: the clusters checked against the file's text columns."""
-    if findings.clusters is None or findings.clusters.count < 2:
-        return findings
-    column = sample.source.get("column")
-    columns = _label_columns(path, reading or ReadingOptions(), None, (), [column] if column else [])
-    return check_separation(findings, sample, columns, privacy_threshold)
-
-
 def _label_columns(path, reading: ReadingOptions, group_column, group_labels,
                    variable_columns: Sequence[str]) -> list[tuple[str, tuple[str | None, ...]]]:
     """The grouping column (with the labels already read) and the file's other text columns, read as labels."""
-    from narrator.reading.columns import list_label_columns, read_labels
+    from narrator.reading.columns import label_columns
 
-    found: list[tuple[str, tuple[str | None, ...]]] = []
-    if group_column is not None:
-        found.append((group_column, tuple(group_labels)))
-    for header in list_label_columns(path, sheet=reading.sheet, decimal_comma=reading.decimal_comma,
-                                     encoding=reading.encoding):
-        if len(found) >= MAX_COLUMNS_CHECKED:
-            break
-        if header in (group_column, *variable_columns) or not header:
-            continue
-        found.append(read_labels(path, header, sheet=reading.sheet, missing=reading.missing,
-                                 encoding=reading.encoding))
-    return found
+    found = [(group_column, tuple(group_labels))] if group_column is not None else []
+    return found + label_columns(path, sheet=reading.sheet, decimal_comma=reading.decimal_comma,
+                                 missing=reading.missing, encoding=reading.encoding,
+                                 leave_out=(group_column, *variable_columns), limit=MAX_COLUMNS_CHECKED - len(found))

@@ -2,7 +2,7 @@
 
 Every builder in narrator.phrasing (prose sections, tables, figure texts)
 takes a :class:`WordingContext`, so all of them round and format the same
-way (DESIGN.md principle 6: one door for numbers).
+way (one door for numbers).
 
 =============================  ===================================================
 Name                           What it is
@@ -10,6 +10,7 @@ Name                           What it is
 :class:`WordingContext`        findings + bank + formatter + decimals for each use
 :func:`make_context`           builds it, applying the rounding policy
 :func:`capitalize_first`       upper-cases the first letter of a sentence
+:func:`member`                 how the text names one group ("site B", "Eastgate office")
 =============================  ===================================================
 """
 
@@ -246,3 +247,12 @@ def make_context(
         data_decimals=data_decimals,
         hedge=shape_hedge(findings),
     )
+
+
+def member(ctx: WordingContext, group_by: str, label: str) -> str:
+    """How the text names one group: a bare code gets the column's name ("Month 5", "site B");
+    a label that names itself ("Eastgate office") stands alone."""
+    names_itself = any(char.isalpha() for char in label) and len(label) > 2
+    if names_itself:
+        return label
+    return ctx.text("groups.member", group=group_by, label=label)

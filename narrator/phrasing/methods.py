@@ -6,7 +6,7 @@ values (SAMPL, Lang & Altman 2013); the quantile definition (Hyndman & Fan
 outlier rule and its constants; the interval methods; the bin and bandwidth
 rules, with any cap, floor, fallback or focus window that changed a number; the library
 versions from ``findings.provenance["libraries"]``. A rule that was not run is said not to
-have run, and a rule is named only beside a number it produced (DESIGN.md principle 7).
+have run, and a rule is named only beside a number it produced.
 
 :func:`methods_paragraph` returns the paragraph; :func:`references_used`
 returns the bank keys (``references.<key>``) of the published methods it

@@ -1,4 +1,4 @@
-"""One door for numbers: every number a reader sees is formatted here (DESIGN.md, principle 6).
+"""One door for numbers: every number a reader sees is formatted here (the project's rule: one door for numbers).
 
 Locale knowledge comes from CLDR through babel; words (spelled-out small
 numbers, nouns and their plural forms, the words a user types for a unit,

@@ -57,7 +57,7 @@ CAUTIONS = ("cautions.descriptive", "cautions.check_flagged", "cautions.small_sa
 
 
 def caution_paragraphs(ctx: WordingContext) -> tuple[Paragraph, ...]:
-    """The cautions a careful report carries (FIELD_NOTES section 9), those whose licences hold, as bullets."""
+    """The cautions a careful report carries, those whose licences hold, as bullets."""
     said = (ctx.say(key, claim=flagged_claim(ctx.findings)) for key in CAUTIONS)
     return tuple(Paragraph((sentence,), style="bullet") for sentence in said if sentence is not None)
 

@@ -36,7 +36,7 @@ from dataclasses import dataclass, replace
 
 from narrator.findings import Findings, Interval
 from narrator.history.sidecar import FindingsSet, VariableFindings
-from narrator.phrasing.context import NOT_DEFINED, WordingContext, capitalize_first, make_context
+from narrator.phrasing.context import NOT_DEFINED, WordingContext, capitalize_first, make_context, member
 from narrator.phrasing.licences import GroupFacts
 from narrator.phrasing.methods import reference_sentence, references_used
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
@@ -82,15 +82,6 @@ def _lead_value(findings: Findings, lead: str | None = None) -> float | None:
 
 def _lead_interval(findings: Findings, lead: str) -> Interval | None:
     return findings.intervals.median if lead == "median" else findings.intervals.mean
-
-
-def member(ctx: WordingContext, group_by: str, label: str) -> str:
-    """How the text names one group: a bare code gets the column's name ("Month 5", "site B");
-    a label that names itself ("Eastgate office") stands alone."""
-    names_itself = any(char.isalpha() for char in label) and len(label) > 2
-    if names_itself:
-        return label
-    return ctx.text("groups.member", group=group_by, label=label)
 
 
 # --------------------------------------------------------------------------- overview

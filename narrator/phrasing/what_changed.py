@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from narrator.findings import Findings
 from narrator.history.changes import COUNT_SHARE, POPULATION_SHARE, SPREAD_SHARE, Changes, SetChanges
-from narrator.phrasing.context import WordingContext, make_context
+from narrator.phrasing.context import WordingContext, make_context, member
 from narrator.phrasing.licences import ChangeFacts
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence
 
@@ -145,8 +145,6 @@ def changes_section(
 def set_changes_narrative(compared: SetChanges, *, locale: str = "en_US", currency: str | None = None) -> Narrative:
     """What changed between two findings sets: a section per variable, and per group when both builds were
     grouped by the same column, with a sentence naming the groups whose center moved clearly."""
-    from narrator.phrasing.sets import member
-
     sections: list[Section] = []
     first_ctx = None
     rule = None

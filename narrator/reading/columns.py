@@ -7,6 +7,7 @@ Name                          What it does
                               accounted for
 :func:`list_numeric_columns`  headers of the columns that mostly hold numbers
 :func:`list_label_columns`    headers of the columns that hold text labels
+:func:`label_columns`         those columns read as labels (a bounded number, some left out)
 :func:`read_labels`           one column as text labels (a grouping column)
 :data:`NUMERIC_PROBE_ROWS`    rows :func:`list_numeric_columns` looks at
 ============================  ==================================================
@@ -46,7 +47,8 @@ from narrator.reading.cells import (
 from narrator.reading.files import check_file, file_format, file_sha256, loose, select_column, shown_name
 from narrator.reading.sample import Sample, clean_label
 
-__all__ = ["NUMERIC_PROBE_ROWS", "list_label_columns", "list_numeric_columns", "read_column", "read_labels"]
+__all__ = ["NUMERIC_PROBE_ROWS", "label_columns", "list_label_columns", "list_numeric_columns", "read_column",
+           "read_labels"]
 
 NUMERIC_PROBE_ROWS = 10_000  # list_numeric_columns looks at this many data rows (fewer in a very wide file)
 _PROBE_CELLS = 2_000_000  # ... and at most this many cells in all
@@ -334,3 +336,17 @@ def read_labels(
         text = None if text is None else " ".join(clean_label(text).split())
         labels.append(None if text is None or loose(text) in absent else text)
     return headers[index], tuple(labels)
+
+
+def label_columns(path: str | os.PathLike[str], *, sheet=None, decimal_comma: bool = False, missing=(),
+                  encoding: str | None = None, leave_out=(), limit: int) -> list[tuple[str, tuple[str | None, ...]]]:
+    """The file's text columns other than ``leave_out``, at most ``limit`` of them, each read as
+    (header, one label per data row) by :func:`read_labels`, in the file's column order."""
+    found: list[tuple[str, tuple[str | None, ...]]] = []
+    for header in list_label_columns(path, sheet=sheet, decimal_comma=decimal_comma, encoding=encoding):
+        if len(found) >= limit:
+            break
+        if header in leave_out or not header:
+            continue
+        found.append(read_labels(path, header, sheet=sheet, missing=missing, encoding=encoding))
+    return found

