@@ -344,7 +344,7 @@ def _difference_claim(difference: Difference, first: tuple[str, ...], second: tu
                       shown: dict[str, str]) -> dict[str, Any]:
     return {"first": list(first), "second": list(second), "shift": difference.shift, "low": difference.low,
             "high": difference.high, "level": difference.level, "verdict": difference.verdict,
-            "direction": difference.direction, "ranks": list(difference.ranks or ()),
+            "direction": difference.direction, "ranks": list(difference.ranks or ()), "rank_method": difference.rank_method,
             "small_bound": difference.small_bound, "ruled_out_bound": difference.ruled_out_bound, "shown": shown}
 
 

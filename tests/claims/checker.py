@@ -868,6 +868,24 @@ def check_change_flagged(c, pair, p, when=()):
 
 NORMAL_IQR = 1.349  # IQR of the standard normal (scipy.stats.norm.ppf(0.75) * 2 = 1.3490)
 RANK_SLACK = 2
+EXACT_PAIRS = 40_000  # up to this many pairs the rank is checked against scipy's exact Mann-Whitney test
+
+
+def _u_cdf(k: int, m: int, n: int) -> float:
+    """P(U <= k) for the Mann-Whitney count U of m and n values under no difference, from scipy's exact test:
+    n values placed among m so that exactly k pairs have the second above the first."""
+    if k < 0:
+        return 0.0
+    if k >= m * n:
+        return 1.0
+    x = np.arange(m, dtype=float)
+    counts, left = [], k
+    for _ in range(n):
+        take = min(m, left)
+        counts.append(take)
+        left -= take
+    y = np.asarray(counts, dtype=float) - 0.5
+    return float(stats.mannwhitneyu(y, x, alternative="less", method="exact").pvalue)
 
 
 def _recorded_decimals(values: np.ndarray) -> int:
@@ -922,9 +940,15 @@ def check_group_shift(c, raw_groups, p):
         _problem(k2 == m * n + 1 - k1, f"the interval's ranks {k1}, {k2} are not symmetric", p)
         _problem(d[k1 - 1] == c["low"] and d[k2 - 1] == c["high"], "the interval's limits are not those order "
                  "statistics of the differences", p)
-        z = stats.norm.ppf(1 - (1 - c["level"]) / 2)
-        k_normal = math.floor(m * n / 2 - z * math.sqrt(m * n * (m + n + 1) / 12) + 0.5)
-        _problem(abs(k1 - k_normal) <= RANK_SLACK, f"rank {k1} far from the Mann-Whitney rank {k_normal}", p)
+        alpha = 1 - c["level"]
+        if c.get("rank_method") == "exact" and m * n <= EXACT_PAIRS:
+            # k is the largest rank with P(U <= k - 1) <= alpha / 2 under no difference (scipy's exact test)
+            _problem(_u_cdf(k1 - 1, m, n) <= alpha / 2 + 1e-12 < _u_cdf(k1, m, n) + 1e-12,
+                     f"rank {k1} is not the Mann-Whitney rank for level {c['level']}", p)
+        else:
+            z = stats.norm.ppf(1 - alpha / 2)
+            k_normal = math.floor(m * n / 2 - z * math.sqrt(m * n * (m + n + 1) / 12) + 0.5)
+            _problem(abs(k1 - k_normal) <= RANK_SLACK, f"rank {k1} far from the Mann-Whitney rank {k_normal}", p)
         _problem(c["low"] <= c["shift"] <= c["high"], "the shift lies outside its interval", p)
     verdict = _verdict(c["shift"], c.get("low"), c.get("high"), scale, half)
     if verdict:
@@ -991,15 +1015,25 @@ def _check_far(c, raw, p):
         _same("far upper fence", c["far_upper"], fences[1], raw, p)
 
 
+def _beyond(c, raw, value) -> bool:
+    """Beyond the far fences; a rule without a far band (the ESD test): flagged by the rule itself."""
+    if c.get("far_lower") is None or c.get("far_upper") is None:
+        _, _, low, high = raw.flagged(c["rule"])
+        return bool(np.isin(value, low) or np.isin(value, high))
+    return value < c["far_lower"] or value > c["far_upper"]
+
+
 def check_stand_out(c, raw, p):
     _check_far(c, raw, p)
     for value in c["values"]:
         _problem(bool(np.isin(value, raw.values)), f"{value} is not among the values", p)
-        _problem(value < c["far_lower"] or value > c["far_upper"], f"{value} lies inside the far fences", p)
+        _problem(_beyond(c, raw, value), f"{value} lies inside the far fences", p)
 
 
 def check_stand_out_none(c, raw, p):
     _check_far(c, raw, p)
+    if c.get("far_lower") is None or c.get("far_upper") is None:
+        return
     beyond = int(((raw.values < c["far_lower"]) | (raw.values > c["far_upper"])).sum())
     _problem(beyond == c["count_far_out"], f"{beyond} values beyond the far fences, not {c['count_far_out']}", p)
 
@@ -1025,7 +1059,7 @@ def check_entry_error_possible(c, raw, p):
     _check_far(c, raw, p)
     for value, _row in c["errors"]:
         _problem(bool(np.isin(value, raw.values)), f"{value} is not among the values", p)
-        _problem(value < c["far_lower"] or value > c["far_upper"], f"{value} lies inside the far fences", p)
+        _problem(_beyond(c, raw, value), f"{value} lies inside the far fences", p)
 
 
 def check_concentration(c, raw, p):
