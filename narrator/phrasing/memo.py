@@ -441,7 +441,9 @@ def _group_difference(ctx: WordingContext, message: Message, groups: MemoGroups 
         if sentence is not None:
             out.append(sentence)
             said.pairs.update(k for k, pair in enumerate(comparison.pairs) if rest.group in (pair.first, pair.second))
-            if not message.numbers.get("together"):
+            if message.numbers.get("together"):  # "Northgate and Eastgate are about the same." right after
+                out += _together_sentences(ctx, groups, said)
+            else:
                 # The others do not clearly go together: how they compare among themselves, sized.
                 for k, pair in enumerate(comparison.pairs):
                     if pair.first in rest.others and pair.second in rest.others and not set(
@@ -600,7 +602,7 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
         unusual = findings.unusual
         if unusual.reason != "computed":
             return []
-        sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess"),
+        sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
                            subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
                            claim={"rule": unusual.fence_rule, "far_lower": unusual.far_lower_fence,
                                   "far_upper": unusual.far_upper_fence, "count_far_out": unusual.count_far_out,

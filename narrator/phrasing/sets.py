@@ -32,8 +32,8 @@ them). The methods and full reports add each pair's shift and interval in
 technical words and name the method in the methods paragraph. Words hedge when
 a group is small (fewer than :data:`SMALL_GROUP` values).
 
-A memo about one variable leaves out the overview (the summary says it all) and,
-when grouped, shows the groups' figure and table in plain column names ("Typical
+A memo leaves out the overview (each variable's summary says it; about one
+variable, the title names it) and, when grouped, shows the groups' figure and table in plain column names ("Typical
 value", "Middle half") in place of the distribution figure and key figures: one
 page, one figure, one small table.
 """
@@ -156,6 +156,12 @@ def _suppressed_sentence(ctx: WordingContext, count: int, threshold: int | None)
                    claim={"suppressed": count, "threshold": threshold})
 
 
+def _level(ctx: WordingContext, level: float) -> str:
+    """ "95%", "98.3%": a level in whole percent when it is one, else to a tenth."""
+    whole = abs(level * 100 - round(level * 100)) < 1e-9
+    return ctx.fmt.percent(level, 0 if whole else 1)
+
+
 def shift_sentences(ctx: WordingContext, groups: MemoGroups) -> list[Sentence]:
     """Each pair's Hodges-Lehmann shift and its interval, in technical words (methods and full reports)."""
     comparison = groups.comparison
@@ -169,7 +175,7 @@ def shift_sentences(ctx: WordingContext, groups: MemoGroups) -> list[Sentence]:
         values = {"first": member(ctx, groups.group_by, pair.first),
                   "second": member(ctx, groups.group_by, pair.second),
                   "shift": ctx.exact(difference.shift), "verdict": ctx.text(f"groups.verdict.{difference.verdict}"),
-                  "level": ctx.fmt.percent(level, 1) if level is not None else "",
+                  "level": _level(ctx, level) if level is not None else "",
                   "low": ctx.exact(difference.low) if difference.low is not None else "",
                   "high": ctx.exact(difference.high) if difference.high is not None else ""}
         claim = {"first": [pair.first], "second": [pair.second], "shift": difference.shift, "low": difference.low,
@@ -189,7 +195,7 @@ def method_sentence(ctx: WordingContext, groups: MemoGroups) -> Sentence | None:
     adjusted = ""
     if comparison.adjustment == "bonferroni" and comparison.level is not None:
         adjusted = ctx.text("groups.method_adjusted", pairs=ctx.whole(len(comparison.pairs)),
-                            level=ctx.fmt.percent(comparison.level, 1),
+                            level=_level(ctx, comparison.level),
                             family_level=ctx.fmt.percent(comparison.family_level or 0.95, 0))
     return ctx.say("groups.method_difference", ("comparison.method", "comparison.level"),
                    claim={"numbers": {"small": SMALL_EFFECT, "medium": RULED_OUT_EFFECT, "level": comparison.level}},
@@ -198,7 +204,7 @@ def method_sentence(ctx: WordingContext, groups: MemoGroups) -> Sentence | None:
 
 
 def comparison_sentences(ctx: WordingContext, item: VariableFindings, group_by: str,
-                         audience: str = "full") -> list[Sentence]:
+                         audience: str = "full", summary_said: bool = False) -> list[Sentence]:
     """Sentences comparing the shown groups, each said only when its licence holds (subjects "groups" and
     "difference"); descriptive only, never causal. The memo's summary already leads with the groups'
     messages, so a memo's groups section keeps only the hedges; the methods and full reports give the
@@ -225,7 +231,8 @@ def comparison_sentences(ctx: WordingContext, item: VariableFindings, group_by: 
     groups = memo_groups(item, group_by)
     sentences: list[Sentence | None] = []
     if groups is not None and audience != "memo":
-        sentences += group_sentences(ctx, groups)
+        if not summary_said:  # a plan without the plain summary: the groups' messages here, in plain words
+            sentences += group_sentences(ctx, groups)
         sentences += shift_sentences(ctx, groups)
     sentences += [
         ctx.say("groups.small", tuple(f"groups.{g.label}.n" for g in shown), about=facts,
@@ -314,9 +321,10 @@ def groups_figure_text(ctx: WordingContext, item: VariableFindings, group_by: st
 
 
 def _groups_section(ctx: WordingContext, item: VariableFindings, findings_set: FindingsSet, index: int,
-                    figures: list[FigureText], audience: str = "full", overview: bool = True) -> Section:
+                    figures: list[FigureText], audience: str = "full", overview: bool = True,
+                    summary_said: bool = False) -> Section:
     group_by = findings_set.group_by
-    sentences = comparison_sentences(ctx, item, group_by, audience)
+    sentences = comparison_sentences(ctx, item, group_by, audience, summary_said)
     notes = [ctx.say("groups.method", ("privacy_threshold",), group=group_by,
                      threshold=ctx.whole(findings_set.privacy_threshold or 0))]
     if not overview and item.suppressed_groups:
@@ -349,6 +357,9 @@ def _changes_part(item: VariableFindings, options: SetOptions, index: int) -> Se
 
     section = changes_section(compare(item.baseline, item.findings), item.baseline, item.findings,
                               locale=options.locale, currency=options.currency)
+    if options.audience == "memo" and len(section.paragraphs) > 1:
+        # A memo keeps what changed; how a change is judged is for the methods and full reports.
+        section = replace(section, paragraphs=section.paragraphs[:1])
     return replace(section, key=f"{index}.{section.key}", level=2)
 
 
@@ -383,8 +394,9 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
     """
     options = options or SetOptions()
     contexts = [_context(item, options) for item in findings_set.variables]
-    # A memo about one variable needs no overview: its summary says it, and the page is the memo's.
-    overview = not (options.audience == "memo" and len(findings_set.variables) == 1)
+    # A memo needs no overview: each variable's summary says it, and each page is that variable's.
+    overview = options.audience != "memo"
+    single = len(findings_set.variables) == 1
     sections: list[Section] = [_overview_section(contexts, findings_set)] if overview else []
     figures: list[FigureText] = []
     references: set[str] = set()
@@ -398,7 +410,7 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
         audience = part.audience
         renamed = {text.key: figure_key(index, text.key) for text in part.figures}
         figures.extend(replace(text, key=renamed[text.key]) for text in part.figures)
-        if overview:  # one variable's memo: the title names it
+        if overview or not single:  # one variable's memo: the title names it
             sections.append(Section(key=f"variable.{index}", title=capitalize_first(ctx.axis_name)))
         grouped_memo = findings_set.group_by is not None and part.audience == "memo"
         inner = []
@@ -421,7 +433,8 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
             figures[:] = [figure for figure in figures if figure.key in kept or not figure.key.startswith(f"v{index}-")]
         if findings_set.group_by is not None:
             inner.insert(min(1, len(inner)), _groups_section(ctx, item, findings_set, index, figures,
-                                                             part.audience, overview))
+                                                             part.audience, overview,
+                                                             part.section("summary") is not None))
         if item.baseline is not None:
             inner.insert(min(1, len(inner)), _changes_part(item, options, index))
         sections.extend(inner)
