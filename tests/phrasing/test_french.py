@@ -129,6 +129,11 @@ def test_french_counts_agree_with_their_noun():
     assert fmt.count(1, "row") == "une ligne" and fmt.count(2, "row") == "deux lignes"
     assert fmt.count(21, "value") == "21 valeurs"
     assert fmt.count(1000, "value") == "1\u202f000 valeurs"
+    # CLDR plural rules (babel): a compact million has exponent operand 6, "many" in fr and es ("e not in 0..5").
+    assert fmt.count(1_500_000, "value") == "1,5 million de valeurs"
+    assert fmt.count(1_000_000, "row") == "1 million de lignes"
+    assert NumberFormatter("es_ES").count(2_300_000, "row") == "2,3 millones de filas"
+    assert NumberFormatter("en_US").count(1_500_000, "value") == "1.5 million values"  # en has no "many"
 
 
 # ------------------------------------------------------------------------------------ typography
