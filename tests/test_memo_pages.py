@@ -15,7 +15,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from helpers.office import convert, pdf_text, require_office
 
 

@@ -344,7 +344,8 @@ def _difference_claim(difference: Difference, first: tuple[str, ...], second: tu
                       shown: dict[str, str]) -> dict[str, Any]:
     return {"first": list(first), "second": list(second), "shift": difference.shift, "low": difference.low,
             "high": difference.high, "level": difference.level, "verdict": difference.verdict,
-            "direction": difference.direction, "ranks": list(difference.ranks or ()), "rank_method": difference.rank_method,
+            "direction": difference.direction, "ranks": list(difference.ranks or ()),
+            "rank_method": difference.rank_method,
             "small_bound": difference.small_bound, "ruled_out_bound": difference.ruled_out_bound, "shown": shown}
 
 
@@ -507,6 +508,7 @@ def _clusters(ctx: WordingContext, message: Message, groups, said) -> list:
         sentence = ctx.say("memo.clusters.two", message.keys, claim=claim,
                            share_low=ctx.text("memo.clusters.tenths", tenths=ctx.whole(low_tenths)),
                            share_high=ctx.text("memo.clusters.tenths", tenths=ctx.whole(10 - low_tenths)),
+                           tenths_low=ctx.whole(low_tenths), tenths_high=ctx.whole(10 - low_tenths),
                            median_low=ctx.memo_recorded(parts[0].median),
                            median_high=ctx.memo_recorded(parts[1].median),
                            range_low=span(parts[0]), range_high=span(parts[1]))

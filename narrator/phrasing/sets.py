@@ -180,7 +180,8 @@ def shift_sentences(ctx: WordingContext, groups: MemoGroups) -> list[Sentence]:
                   "high": ctx.exact(difference.high) if difference.high is not None else ""}
         claim = {"first": [pair.first], "second": [pair.second], "shift": difference.shift, "low": difference.low,
                  "high": difference.high, "level": difference.level, "verdict": difference.verdict,
-                 "direction": difference.direction, "ranks": list(difference.ranks or ()), "rank_method": difference.rank_method,
+                 "direction": difference.direction, "ranks": list(difference.ranks or ()),
+                 "rank_method": difference.rank_method,
                  "small_bound": difference.small_bound, "ruled_out_bound": difference.ruled_out_bound}
         sentence = ctx.say("groups.shift", (f"comparison.pairs.{index}.difference",), about=facts, claim=claim,
                            **values)
