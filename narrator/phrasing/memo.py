@@ -90,14 +90,17 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
     findings = ctx.findings
     center, spread, counts = findings.center, findings.spread, findings.order_counts
     n_values = ctx.count(findings.n, "value")
+    subject = (findings.n, "value")  # a bank may word the lead by its count ("de 1 millón de valores", es)
     if findings.n == 1:
         return [ctx.say("memo.lead.single", ("center.median",), median=ctx.memo_recorded(center.median),
                         claim={"value": center.median})]
     if spread.range == 0:
-        return [ctx.say("memo.lead.constant", ("spread.min",), n_values=n_values, value=ctx.memo_recorded(spread.min),
+        return [ctx.say("memo.lead.constant", ("spread.min",), subject=subject, n_values=n_values,
+                        value=ctx.memo_recorded(spread.min),
                         claim={"value": spread.min, "n": findings.n})]
     if center.lead == "mean":
-        return [ctx.say("memo.lead.mean", ("n", "center.mean"), n_values=n_values, mean=ctx.memo(center.mean),
+        return [ctx.say("memo.lead.mean", ("n", "center.mean"), subject=subject, n_values=n_values,
+                        mean=ctx.memo(center.mean),
                         claim={"mean": center.mean, "n": findings.n})]
     # Ranges write the unit once ("the others ran from 1 to 12 visits").
     next_low, high = ctx.memo_recorded_pair(counts.next_above_min if counts.next_above_min is not None else spread.min,
@@ -127,7 +130,8 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "share_at_max": counts.at_max / findings.n, "next_low": counts.next_above_min,
         "next_high": counts.next_below_max,
     }
-    return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), claim=claim, **values)]
+    return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), subject=subject, claim=claim,
+                    **values)]
 
 
 def _left_out(ctx: WordingContext) -> list[Sentence]:

@@ -73,7 +73,8 @@ COUNT_NOUNS = {
 SUBJECT_FIELD = {"figures.with_without.alt": "flagged_count", "methods.sample": "n_values", "changes.count": "new_n"}
 # Messages whose {count} is a bare number the builder writes with the noun in the bank's words
 # (memo.side_words: "{count} valores bajos"), or a table cell.
-BARE_COUNT = ("memo.outliers.side_low", "memo.outliers.side_high", "quality.times", "figures.with_without.alt")
+BARE_COUNT = ("memo.outliers.side_low", "memo.outliers.side_high")
+WHOLE_COUNT = ("quality.times", "figures.with_without.alt")  # ctx.whole: digits, never "1 million"
 NOT_COUNTS = ("report.left_out_item", "facts.more", "format.count", "figures.histogram.beyond_high",
               "figures.histogram.beyond_low")
 
@@ -234,7 +235,8 @@ def renders(bank: PhraseBank, locale: str, counts=COUNTS) -> Iterator[Rendered]:
                 values = {name: _filler(fmt, name) for name in _fields(template)}
                 subject = None
                 if field is not None and field in values:
-                    subject = fmt.count_number(count, noun) if key in BARE_COUNT else fmt.count(count, noun)
+                    subject = fmt.count_number(count, noun) if key in BARE_COUNT else fmt.fixed(count, 0) \
+                        if key in WHOLE_COUNT else fmt.count(count, noun)
                     values[field] = subject
                 for other in subject_fields[1:]:
                     if other in values:

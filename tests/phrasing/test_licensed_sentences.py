@@ -106,9 +106,14 @@ def test_whole_sentence_forms_follow_the_cldr_plural_category_and_gender():
     # alone, changes with the count, and Spanish picks the feminine form for "fila".
     assert set(Locale.parse("es").plural_form.tags) >= {"one", "many"}
     spanish = load_bank("es")
-    variant = spanish.variants("memo.left_out.missing")[0]
-    assert variant.form("one", "feminine").startswith("{count} en la que")
+    variant = spanish.variants("memo.left_out.missing")[1]
+    assert variant.form("one", "feminine").startswith("{count} marcada como")
+    assert variant.form("other", "feminine").startswith("{count} marcadas como")
     assert variant.form("many", "feminine") == variant.form("other", "feminine")  # falls back to "other"
+    # "many" (CLDR: millions, with the compact exponent e): "de 1 millón de valores", never "de los 1 millón".
+    lead = spanish.variants("memo.lead.median")[-1]
+    assert lead.form("many", None).startswith("El valor central de {n_values}")
+    assert lead.form("other", None).startswith("El valor central de los {n_values}")
     english = load_bank("en")
     without = english.variants("memo.without.median_lead")[0]
     assert without.form("one", None).startswith("Without it,") and without.form("other", None).startswith(
