@@ -766,13 +766,18 @@ class NumberFormatter:
         shown = round_half_up(n / 10**exponent, 1)
         return compact_plural_form(self.locale, shown, exponent)
 
-    def count_number(self, n: int, noun_key: str, *, spell_out: bool = True) -> str:
+    def count_number(self, n: int, noun_key: str, *, spell_out: bool = True, alone: bool = False) -> str:
         """The number part of :meth:`count`: spelled out when small (agreeing with the noun's
-        gender), "3.5 million" from a million up, else the whole number."""
+        gender), "3.5 million" from a million up, else the whole number. ``alone``: the number stands
+        without its noun ("one below the lower fence"), which takes the bank's ``number_words.alone``
+        where the language has one (Spanish "uno", not "un")."""
         n = int(n)
         bank = self.bank
         if spell_out and 0 <= n <= bank.spell_out_max:
-            return bank.number_word(n, bank.noun(noun_key).gender)
+            gender = bank.noun(noun_key).gender
+            if alone and gender == "default" and "alone" in bank.number_words:
+                gender = "alone"
+            return bank.number_word(n, gender)
         if abs(n) >= 1_000_000:
             return self.compact(n)
         return self.fixed(n, 0)

@@ -201,8 +201,8 @@ def outlier_sentences(ctx: WordingContext) -> list[Sentence]:
                                outlier_count=ctx.count(flagged.count, "value"), claim=claim,
                                # The parts are written like the total: "seven values: zero below ... and seven
                                # above", "12 values: 4 below ... and 8 above" (Chicago, from memory).
-                               low=ctx.fmt.count_number(flagged.count_low, "value", spell_out=spell_out),
-                               high=ctx.fmt.count_number(flagged.count_high, "value", spell_out=spell_out)))
+                               low=ctx.fmt.count_number(flagged.count_low, "value", spell_out=spell_out, alone=True),
+                               high=ctx.fmt.count_number(flagged.count_high, "value", spell_out=spell_out, alone=True)))
     return sentences
 
 

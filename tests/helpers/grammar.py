@@ -26,8 +26,9 @@ Checks that need no subject (:func:`text_errors`, also run on whole reports): a 
 with a digit (Chicago Manual of Style and AP Stylebook: spell the number out or recast the
 sentence, from memory; the same advice is given for Spanish by Fundéu, from memory); a word written
 twice in a row ("va de de"); in Spanish, "millón"/"millones" followed by a noun without "de" (RAE,
-Ortografía 2010: "un millón de personas", from memory), and a plural article or determiner before
-a singular count ("de los 1 millón", "todos los un").
+Ortografía 2010: "un millón de personas", from memory), a plural article or determiner before a
+singular count ("de los 1 millón", "todos los un"), and "un" with no noun after it ("un por debajo":
+"uno", from memory).
 
 Its limits, said plainly:
 
@@ -322,6 +323,7 @@ def _sentence_errors(item: Rendered, language: str) -> list[str]:
 _OPENING_DIGIT = re.compile(r"(?:^|[.!?]\s+)[\"“‘«¿¡(]?([+\-−]?\d)")
 _DOUBLED = re.compile(r"\b(\w+)\s+\1\b", re.IGNORECASE | re.UNICODE)
 _MILLION_NO_DE = re.compile(r"\b(millón|millones)\s+(?!de\b)([a-záéíóúñ]+)", re.IGNORECASE)
+_APOCOPE_ALONE = re.compile(r"\bun\s+(?=por\b|y\b|o\b|[,;:.])", re.IGNORECASE)  # "un por debajo": "uno"
 _PLURAL_BEFORE_ONE = re.compile(r"\b(los|las|unos|unas|estos|estas|esos|esas)\s+(un|una|uno|1)\b(?![.,]\d)",
                                 re.IGNORECASE)
 
@@ -340,6 +342,8 @@ def text_errors(text: str, language: str) -> list[str]:
     if language == "es":
         for match in _MILLION_NO_DE.finditer(text):
             errors.append(f"'millón' without 'de' before its noun: {match.group(0)!r}")
+        for match in _APOCOPE_ALONE.finditer(text):
+            errors.append(f"'un' without its noun (write 'uno'): {text[match.start():match.start() + 30]!r}")
         for match in _PLURAL_BEFORE_ONE.finditer(text):
             errors.append(f"a plural article before a singular count: {match.group(0)!r}")
     return errors

@@ -81,6 +81,8 @@ SEEN = [
     ("es", Rendered("x", 1_500_000, "plural", "Se usaron 1,5 millones valores.", None, True)),
     ("es", Rendered("x", 19, "plural", "La mitad central ahora va de de 19 a 45.", None, True)),
     ("es", Rendered("x", 19, "plural", "19 valores destacan como inusuales.", "19 valores", True)),
+    ("es", Rendered("x", 1, "singular", "La regla señala un valor: un por debajo de la valla inferior.", None,
+                    True)),
 ]
 
 
