@@ -758,6 +758,8 @@ class NumberFormatter:
 
         >>> NumberFormatter("es_ES").count_category(1_500_000), NumberFormatter("es_ES").count_category(21)
         ('many', 'other')
+        >>> NumberFormatter("fr_FR").count(1_500_000, "value")
+        '1,5 million de valeurs'
         """
         n = int(n)
         if abs(n) < 1_000_000 or abs(Decimal(n)) >= SCIENTIFIC_FROM:

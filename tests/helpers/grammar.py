@@ -148,7 +148,8 @@ LEXICONS = {
                       "signalées marqués marquées écrits écrites élevés élevées basses"),
         pronouns_singular=_words("il elle lui"),
         pronouns_plural=_words("ils elles eux"),
-        boundaries=("où", "mais", "parce", "donc", "alors que", "la médiane", "la moyenne", "les autres",
+        boundaries=("où", "mais", "parce", "donc", "alors que", "qui n", "ses", "leurs", "il y a", "la médiane",
+                    "la moyenne", "les autres",
                     "la moitié", ";", ":", ".", "(", "—", "«"),
         prepositions=_words("de des du avec sur pour parmi à en sur par"),
     ),
@@ -277,6 +278,22 @@ def _tokens(text: str) -> list[str]:
     return [token.lower() for token in _TOKEN.findall(text)]
 
 
+_IMPERSONAL = (("il", "y", "a"), ("il", "faut"), ("il", "est", "difficile"))  # French "il" that stands for nothing
+
+
+def _without_impersonal(tokens: list[str]) -> list[str]:
+    kept, index = [], 0
+    while index < len(tokens):
+        for phrase in _IMPERSONAL:
+            if tuple(tokens[index:index + len(phrase)]) == phrase:
+                index += len(phrase)
+                break
+        else:
+            kept.append(tokens[index])
+            index += 1
+    return kept
+
+
 def _clause(tokens: list[str], boundaries: tuple[str, ...]) -> list[str]:
     phrases = [tuple(b.split()) for b in boundaries]
     for index in range(len(tokens)):
@@ -304,7 +321,7 @@ def agreement_errors(item: Rendered, language: str) -> list[str]:
                               f"{item.text}")
     else:
         after = _tokens(item.text)
-    for word in after:
+    for word in _without_impersonal(after):
         if word in wrong_pronouns:
             errors.append(f"{item.key} at {item.count}: pronoun {word!r} for a {item.number} subject: {item.text}")
     return errors + _sentence_errors(item, language)
