@@ -424,6 +424,7 @@ def _together_sentences(ctx: WordingContext, groups: MemoGroups, said: _Said, *,
                             pair.difference.high] for _, pair in inside]}
         key = "memo.groups.all_alike" if all_alike and limits else "memo.groups.together"
         sentence = ctx.say(key, tuple(f"comparison.pairs.{k}.difference.verdict" for k, _ in inside), claim=claim,
+                           subject=(len(together), "group"),
                            groups=_group_list(ctx, groups, together),
                            bound=_size(ctx, max(limits)) if limits else "")
         if sentence is not None:
@@ -555,6 +556,7 @@ def _entry_error(ctx: WordingContext, message: Message, groups, said) -> list:
     claim = {"errors": [[value, row] for value, row, _ in errors], "n": ctx.findings.n}
     if message.numbers["pattern"]:
         sentence = ctx.say("memo.entry_error.many", message.keys, claim=claim,
+                           subject=(message.numbers["count"], "value"),
                            count=ctx.count(message.numbers["count"], "value"), items=_items(ctx, errors))
     elif len(errors) == 1:
         value, row, suggested = errors[0]
@@ -563,7 +565,7 @@ def _entry_error(ctx: WordingContext, message: Message, groups, said) -> list:
                            value=ctx.memo_recorded(value), row=ctx.whole(row),
                            suggested=ctx.memo_recorded(suggested) if suggested is not None else "")
     else:
-        sentence = ctx.say("memo.entry_error.several", message.keys, claim=claim,
+        sentence = ctx.say("memo.entry_error.several", message.keys, claim=claim, subject=(len(errors), "value"),
                            count=ctx.count(len(errors), "value"), items=_items(ctx, errors))
     return [sentence] if sentence is not None else []
 
@@ -584,6 +586,7 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
                                values=shown))
         elif unusual.complete:
             out.append(ctx.say("memo.unusual.values_many", message.keys, claim={**far, "values": list(values)},
+                               subject=(len(values), "value"),
                                count=ctx.count(len(values), "value"), values=shown))
         else:
             out.append(ctx.say("memo.unusual.values_some", message.keys, claim={**far, "values": list(values)},
