@@ -431,6 +431,12 @@ def skewness_computed(ctx) -> bool:
     return ctx.findings.shape.skewness is not None
 
 
+@licence("variable", "G1 was computed and the shape was judged (8 values or more, with spread)")
+def shape_judged(ctx) -> bool:
+    shape = ctx.findings.shape
+    return shape.skewness is not None and shape.label != "undetermined"
+
+
 @licence("variable", "the density and the bimodality coefficient were computed")
 def peaks_computed(ctx) -> bool:
     shape = ctx.findings.shape
@@ -620,6 +626,11 @@ def intervals_computed(ctx) -> bool:
 def only_mean_interval(ctx) -> bool:
     intervals = ctx.findings.intervals
     return intervals.mean is not None and intervals.median is None and estimating_allowed(ctx)
+
+
+@licence("variable", "the mean's interval is a BCa bootstrap because Student's t interval reached past the values' range")
+def mean_bootstrap_for_range(ctx) -> bool:
+    return ctx.findings.intervals.mean_method_reason == "t_past_range_bootstrap"
 
 
 @licence("variable", "no interval was computed because there are too few distinct values")

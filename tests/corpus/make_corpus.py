@@ -328,6 +328,23 @@ def sidecar(text: str) -> Writer:
     return both(text_file("data.csv", "days\n" + GOOD), text_file("report.findings.json", text))
 
 
+def marked_report(name: str = "report.docx") -> Writer:
+    """A Word package carrying narrator's report mark (the custom property it sets), as an earlier build left."""
+    def write(folder: Path) -> None:
+        import zipfile
+
+        from narrator.safe_io import REPORT_MARK
+
+        custom = ('<?xml version="1.0" encoding="UTF-8" standalone="yes"?>'
+                  '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties">'
+                  f'<property fmtid="{{D5CDD505-2E9C-101B-9397-08002B2CF9AE}}" pid="2" name="{REPORT_MARK}">'
+                  '<vt:lpwstr xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">1'
+                  '</vt:lpwstr></property></Properties>')
+        with zipfile.ZipFile(folder / name, "w") as package:
+            package.writestr("docProps/custom.xml", custom)
+    return write
+
+
 def findings_text(**change: object) -> str:
     """The findings of GOOD (computed when the corpus is built), with some fields replaced: a foreign sidecar."""
     import json as json_module
@@ -651,9 +668,16 @@ CASES: tuple[Case, ...] = (
     Case("demo_into_a_folder_of_the_users", user_folder, ("demo", "-o", "mine", "--quiet"), 2,
          message=("mine is not empty and is not a folder the demo wrote",)),
     # ----- one build, one truth: a previous sidecar that is damaged or foreign, what a killed build left
-    Case("previous_sidecar_not_json", sidecar("{not json"), draft("data.csv", "--column", "days"), 0,
-         note=("previous findings report.findings.json were ignored", "not valid JSON"),
-         changes=("report.findings.json",), values={"n": 40}),
+    Case("previous_sidecar_not_json", both(sidecar("{not json"), marked_report()), draft("data.csv", "--column", "days"),
+         0, note=("previous findings report.findings.json were ignored", "not valid JSON"),
+         changes=("report.docx", "report.findings.json"), values={"n": 40}),
+    # A file of the user's at the sidecar's name, with no report of narrator's beside it, is not a sidecar.
+    Case("sidecar_name_holds_a_users_file", sidecar('{"my notes": ["keep these"]}'),
+         draft("data.csv", "--column", "days"), 2,
+         message=("report.findings.json exists and is not a findings file narrator wrote",)),
+    Case("sidecar_name_holds_a_users_file_forced", sidecar("my notes, not JSON"),
+         draft("data.csv", "--column", "days", "--force"), 0, note=("were ignored", "not valid JSON"),
+         changes=("report.findings.json",)),
     Case("previous_sidecar_wrong_types", sidecar(findings_text(n="forty")), draft("data.csv", "--column", "days"), 0,
          note=("were ignored", "findings.n must be a whole number, not text"), changes=("report.findings.json",)),
     Case("previous_sidecar_huge_integer", sidecar(findings_text().replace('"n": 40', '"n": 1' + "0" * 5000, 1)),
