@@ -112,3 +112,19 @@ def test_a_pile_at_the_lower_bound_is_not_called_rounding():
     assert describe(heaped, name="hours").quality.has("heaping")
     assert describe(np.concatenate([np.zeros(60), heaped + 5]), name="hours").quality.has("heaping")
     assert_claims_hold(values, {"lower_bound": 0})
+
+
+def test_two_separated_clusters_are_called_probably_bimodal_not_limited_evidence():
+    # Invented call-handling minutes: 150 phone calls near 20 minutes and 120 walk-ins near 60.
+    rng = np.random.default_rng(7)
+    values = np.concatenate([rng.normal(20, 3, 150), rng.normal(60, 5, 120)]).round(1)
+    g1, g2 = stats.skew(values, bias=False), stats.kurtosis(values, bias=False)
+    n = values.size
+    bc = (g1**2 + 1) / (g2 + 3 * (n - 1) ** 2 / ((n - 2) * (n - 3)))  # Pfister et al. (2013)
+    assert bc > 5 / 9
+    findings = describe(values, name="minutes")
+    assert findings.shape.label == "bimodal" and findings.shape.bin_sensitivity.sensitive
+    text = narrate(findings, "full").plain_text()
+    assert "The distribution is probably bimodal (two peaks)." in text
+    assert "the evidence is limited" not in text
+    assert_claims_hold(values, {})
