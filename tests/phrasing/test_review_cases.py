@@ -128,3 +128,28 @@ def test_two_separated_clusters_are_called_probably_bimodal_not_limited_evidence
     assert "The distribution is probably bimodal (two peaks)." in text
     assert "the evidence is limited" not in text
     assert_claims_hold(values, {})
+
+
+def test_the_middle_half_place_of_a_users_document_holds_a_range_only_when_half_the_values_lie_there():
+    # The place sits in the user's own sentence ("half of these families waited [middle-half]").
+    from narrator.history.sidecar import VariableFindings
+    from narrator.phrasing.places import PlaceWords
+
+    def place(values, locale="en_US"):
+        findings = describe(np.asarray(values, dtype=float), name="wait", unit="days")
+        return PlaceWords(VariableFindings(findings), locale=locale).text("middle-half")
+
+    # Invented: two waits, no value between Q1 and Q3 (49.5 and 50.5 by numpy's linear method).
+    two = place([49, 51])
+    assert two.kind == "note" and "too few values" in two.phrase
+    assert place([49, 51], "es_ES").phrase.startswith("no se da")
+    # Invented visits: 62 % at 0, so 0 to Q3 holds far more than half.
+    rng = np.random.default_rng(7)
+    visits = np.where(rng.random(300) < 0.62, 0, rng.poisson(3, 300) + 1)
+    q1, q3 = np.percentile(visits, [25, 75])
+    assert np.mean((visits >= q1) & (visits <= q3)) > 0.6
+    assert place(visits).kind == "note" and "tie at a quartile" in place(visits).phrase
+    # Invented waits spread out: the range, with the unit once.
+    waits = rng.gamma(4, 5, 300).round()
+    shown = place(waits)
+    assert shown.kind == "phrase" and shown.phrase.endswith("days") and " to " in shown.phrase
