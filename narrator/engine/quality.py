@@ -14,6 +14,7 @@ Flag code                    When it is raised
 ``percent_signs``            cells carried a "%"; the numbers were kept as written
 ``currency_marks``           cells carried a currency symbol or code, set aside
 ``encoding_guessed``         the text file was not UTF-8; a fallback codec was used
+``groups_suppressed``        the rows of groups below the privacy threshold were left out (a count of groups)
 ``missing_code``             values such as -99 or 9999 sit far from the rest (kept, flagged)
 ``heaping``                  far more values at round numbers than chance gives
 ``few_distinct``             ten or fewer distinct values

@@ -684,6 +684,10 @@ def reading_flags(sample) -> list[QualityFlag]:
                                  detail={"distinct_marks": float(len(currencies))}))
     if source.get("encoding_guessed"):
         flags.append(QualityFlag(code="encoding_guessed", count=1))
+    if source.get("suppressed_groups"):
+        # The rows of groups below the privacy threshold were taken out before describing: the count is of
+        # groups (the overview says it), never of their rows.
+        flags.append(QualityFlag(code="groups_suppressed", count=int(source["suppressed_groups"])))
     return flags
 
 

@@ -227,6 +227,11 @@ def all_equal(ctx) -> bool:
     return _n(ctx) >= 2 and not _has_spread(ctx)
 
 
+@licence("variable", "the rows of groups too small to show (privacy) were left out before describing")
+def groups_left_out(ctx) -> bool:
+    return ctx.findings.quality.has("groups_suppressed")
+
+
 @licence("variable", "some rows were left out (missing, not numbers, impossible or not finite)")
 def some_left_out(ctx) -> bool:
     quality = ctx.findings.quality

@@ -32,7 +32,8 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
     left_out = findings.n_missing + findings.quality.n_non_numeric + findings.quality.n_impossible
     rows = [
         (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
-        (ctx.text(f"{key}.left_out"), ctx.whole(left_out)),
+        (ctx.text(f"{key}.left_out"), ctx.text(f"{key}.left_out_groups", count=ctx.whole(left_out))
+         if findings.quality.has("groups_suppressed") else ctx.whole(left_out)),
         (ctx.text(f"{key}.median"), ctx.memo(center.median)),
         (ctx.text(f"{key}.mean"), ctx.memo(center.mean)),
         *_quartile_rows(ctx, key),
@@ -83,7 +84,8 @@ def statistics_table(ctx: WordingContext) -> Table | None:
     rows = [
         (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
         (ctx.text(f"{key}.missing"), ctx.whole(findings.n_missing)),
-        (ctx.text(f"{key}.excluded"), ctx.whole(excluded)),
+        (ctx.text(f"{key}.excluded"), ctx.text("tables.key_figures.left_out_groups", count=ctx.whole(excluded))
+         if findings.quality.has("groups_suppressed") else ctx.whole(excluded)),
         (ctx.text(f"{key}.mean_sd"), ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))),
         (ctx.text(f"{key}.median_iqr"),
          ctx.text("format.median_iqr", median=x(center.median), iqr_range=ctx.exact_range(spread.q1, spread.q3))),

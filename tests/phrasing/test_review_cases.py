@@ -153,3 +153,46 @@ def test_the_middle_half_place_of_a_users_document_holds_a_range_only_when_half_
     waits = rng.gamma(4, 5, 300).round()
     shown = place(waits)
     assert shown.kind == "phrase" and shown.phrase.endswith("days") and " to " in shown.phrase
+
+
+def _docx_text(path) -> str:
+    import docx
+
+    document = docx.Document(str(path))
+    parts = [paragraph.text for paragraph in document.paragraphs]
+    for table in document.tables:
+        for row in table.rows:
+            parts.append(" | ".join(cell.text for cell in row.cells))
+    return "\n".join(parts)
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES"])
+def test_a_report_with_a_group_too_small_to_show_never_says_no_rows_were_left_out(tmp_path, locale):
+    # Invented days to first payment at five offices, one with 8 applications (below the threshold of 10).
+    import pandas as pd
+
+    from narrator.cli import main
+
+    rng = np.random.default_rng(3)
+    offices = np.repeat(["north", "south", "east", "west", "harbour"], [80, 80, 80, 80, 8])
+    days = np.round(rng.gamma(5, 4, offices.size), 1)
+    data = tmp_path / "offices.csv"
+    pd.DataFrame({"office": offices, "days": days}).to_csv(data, index=False)
+    out = tmp_path / "offices.docx"
+    assert main(["draft", str(data), "--column", "days", "--group-by", "office", "--audience", "full",
+                 "--locale", locale, "-o", str(out), "--quiet"]) == 0
+    text = _docx_text(out)
+    shown = 320
+    if locale == "en_US":
+        for false in ("no rows were left out", "No rows were left out", "Left out for other reasons | 0\n",
+                      "Rows left out | 0\n", "Rows read | "):
+            assert false not in text + "\n", false
+        assert f"n = {shown}, in the groups shown" in text
+        assert f"Rows read, in the groups shown | {shown}" in text
+        assert "Fewest values a group needs to be shown | 10" in text
+    else:
+        assert "no se dejó fuera ninguna fila" not in text.lower()
+        assert f"n = {shown}, en los grupos que se muestran" in text
+    # The small group's size is never given: not its rows (8), nor the file's (328), nor its name.
+    assert "harbour" not in text and "328" not in text
+    assert not any(line.strip().endswith("| 8") for line in text.splitlines())
