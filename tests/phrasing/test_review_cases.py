@@ -196,3 +196,14 @@ def test_a_report_with_a_group_too_small_to_show_never_says_no_rows_were_left_ou
     # The small group's size is never given: not its rows (8), nor the file's (328), nor its name.
     assert "harbour" not in text and "328" not in text
     assert not any(line.strip().endswith("| 8") for line in text.splitlines())
+
+
+def test_the_facts_table_words_the_reason_for_leading_with_the_mean():
+    # Invented: eight repair hours, symmetric; the engine's reason code is "not_skewed".
+    from narrator.phrasing.facts import facts_table
+
+    findings = describe(np.array([4.0, 5.0, 5.5, 6.0, 6.0, 6.5, 7.0, 8.0]), name="hours")
+    assert findings.center.lead == "mean" and findings.center.lead_reasons == ("not_skewed",)
+    for locale in ("en_US", "es_ES"):
+        text = str(facts_table(findings, locale))
+        assert "not_skewed" not in text, locale
