@@ -633,7 +633,7 @@ def only_mean_interval(ctx) -> bool:
     return intervals.mean is not None and intervals.median is None and estimating_allowed(ctx)
 
 
-@licence("variable", "the mean's interval is a BCa bootstrap because Student's t interval reached past the values' range")
+@licence("variable", "the mean's interval is a BCa bootstrap: Student's t interval reached past the values' range")
 def mean_bootstrap_for_range(ctx) -> bool:
     return ctx.findings.intervals.mean_method_reason == "t_past_range_bootstrap"
 

