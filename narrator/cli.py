@@ -357,7 +357,7 @@ def build_parser() -> argparse.ArgumentParser:
     add_reading_options(tell)
     tell.add_argument("--audience", default="memo", choices=("memo", "methods", "full"),
                       help="who the text is for (default: memo)")
-    tell.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES")
+    tell.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES, fr_FR")
     tell.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
     tell.set_defaults(handler=command_tell)
 
@@ -366,7 +366,7 @@ def build_parser() -> argparse.ArgumentParser:
     draft.add_argument("-o", "--output", required=True, metavar="REPORT.docx", help="where to write the report")
     draft.add_argument("--audience", default="full", choices=("memo", "methods", "full"),
                        help="who the report is for (default: full)")
-    draft.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES")
+    draft.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES, fr_FR")
     draft.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
     draft.add_argument("--title", help="report title (default: from the phrase bank)")
     draft.add_argument("--organisation", help="organisation named under the title")
@@ -412,7 +412,7 @@ def build_parser() -> argparse.ArgumentParser:
         if action.dest == "file":
             action.metavar = "RECIPE.toml|DATA"
             action.help = "a recipe (.toml), or a CSV, TSV, Excel (.xlsx) or Parquet file read with the options"
-    fill.add_argument("--locale", help="CLDR locale for words and numbers, e.g. en_US, es_ES (default: en_US)")
+    fill.add_argument("--locale", help="CLDR locale for words and numbers, e.g. en_US, es_ES, fr_FR (default: en_US)")
     fill.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
     fill.add_argument("--group-by", metavar="COLUMN", help="groups for the groups table (site, program, year...)")
     fill.add_argument("--privacy-threshold", type=int, default=10, metavar="N",

@@ -65,6 +65,7 @@ already made, filled in with ``str.format_map``. No expression is ever run.
 from __future__ import annotations
 
 import functools
+import re
 import string
 import tomllib
 from dataclasses import dataclass
@@ -77,6 +78,7 @@ from narrator.errors import NarratorError
 
 PLURAL_CATEGORIES = ("zero", "one", "two", "few", "many", "other")
 _NON_MESSAGE_TABLES = ("meta", "grammar", "nouns")
+_TERRITORY_OVERRIDE = re.compile(r"^typography\.[A-Z]{2}\.")  # [typography.<TERRITORY>] overrides
 
 
 def _templates():
@@ -393,8 +395,13 @@ def check_same_claims(bank: PhraseBank, reference: PhraseBank) -> None:
 
 
 def message_keys(bank: PhraseBank) -> frozenset[str]:
-    """Every message key and noun key of a bank; all banks must have the same set."""
-    return frozenset(bank.messages) | frozenset(f"nouns.{key}" for key in bank.nouns)
+    """Every message key and noun key of a bank; all banks must have the same set.
+
+    A territory's typography overrides (``typography.<TERRITORY>.*``, such as fr's
+    ``[typography.CA]``) are optional by design and not counted.
+    """
+    return frozenset(key for key in bank.messages if not _TERRITORY_OVERRIDE.match(key)) | frozenset(
+        f"nouns.{key}" for key in bank.nouns)
 
 
 @dataclass(frozen=True, slots=True)

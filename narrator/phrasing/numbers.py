@@ -687,8 +687,24 @@ class NumberFormatter:
         """
         n = int(n)
         noun = self.bank.noun(noun_key)
-        word = noun.forms.get(self.locale.plural_form(n), noun.forms["other"])
+        word = noun.forms.get(self.count_category(n), noun.forms["other"])
         return self.bank.format("format.count", number=self.count_number(n, noun_key, spell_out=spell_out), noun=word)
+
+    def count_category(self, n: int) -> str:
+        """The CLDR plural category of a count as :meth:`count_number` writes it.
+
+        From a million up the count is written in compact form ("1,5 million"), whose CLDR
+        exponent operand is 6: where the language's ``many`` rule takes every exponent beyond 5
+        (CLDR plurals.xml, "e not in 0..5": fr, es, it, pt...), the category is ``many``, so the
+        noun takes its ``many`` form, "1,5 million de valeurs", "2,3 millones de filas".
+
+        >>> NumberFormatter("fr_FR").count(1_500_000, "value")
+        '1,5 million de valeurs'
+        """
+        n = int(n)
+        if abs(n) >= 1_000_000 and "e not in 0..5" in self.locale.plural_form.rules.get("many", ""):
+            return "many"
+        return self.locale.plural_form(n)
 
     def count_number(self, n: int, noun_key: str, *, spell_out: bool = True) -> str:
         """The number part of :meth:`count`: spelled out when small (agreeing with the noun's

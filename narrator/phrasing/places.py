@@ -38,13 +38,15 @@ Name                           What it is
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import functools
+from dataclasses import dataclass, field, replace
 
 from narrator.findings import Findings
 from narrator.history.sidecar import VariableFindings
 from narrator.phrasing.context import WordingContext, make_context
 from narrator.phrasing.licences import middle_half_holds_half, too_few_for_quartiles
 from narrator.phrasing.narrative import Claim, FigureText, Narrative, Paragraph, Sentence, Table
+from narrator.phrasing.typography import typeset, typography_for
 
 TARGET_KINDS: dict[str, str] = {
     "summary": "paragraphs",
@@ -127,11 +129,31 @@ class PlaceWords:
     def text(self, target: str) -> PlaceText:
         """The words for ``target`` (one of :data:`TARGETS`)."""
         if target not in self._made:
-            self._made[target] = _BUILDERS[target](self)
+            self._made[target] = _typeset_place(_BUILDERS[target](self), self.locale)
         return self._made[target]
 
     def note(self, target: str, key: str) -> PlaceText:
         return PlaceText(target, "note", phrase=self.context().text(f"places.{key}"))
+
+
+def _typeset_place(place: PlaceText, locale: str) -> PlaceText:
+    """The place's words with the language's punctuation spacing, as every Narrative has (words made outside
+    a Narrative, such as a "what changed" section or a note, need it here; typeset text is left as it is)."""
+    if not typography_for(locale).active:
+        return place
+    t = functools.partial(typeset, locale=locale)
+    paragraphs = tuple(replace(paragraph, sentences=tuple(replace(s, text=t(s.text)) for s in paragraph.sentences))
+                       for paragraph in place.paragraphs)
+    table = place.table
+    if table is not None:
+        table = replace(table, caption=t(table.caption), header=tuple(t(c) for c in table.header),
+                        rows=tuple(tuple(t(c) for c in row) for row in table.rows))
+    figure = place.figure
+    if figure is not None:
+        figure = replace(figure, caption=t(figure.caption), alt_text=t(figure.alt_text),
+                         labels={k: t(v) for k, v in figure.labels.items()})
+    return replace(place, paragraphs=paragraphs, table=table, figure=figure,
+                   phrase=t(place.phrase) if place.phrase else place.phrase)
 
 
 def _summary(words: PlaceWords) -> PlaceText:

@@ -79,7 +79,10 @@ def _patterns(rules: Typography) -> list[tuple[re.Pattern[str], str]]:
         marks = re.escape(rules.space_before)
         # A mark used as punctuation: after a word or a closing mark, and followed by a space, a closing
         # mark or the end (so "10:30", "p=0.05" and "http://" keep their colons untouched).
-        patterns.append((re.compile(rf"(?<=[^\s{_SPACES}])[{_SPACES}]*([{marks}])(?=[\s{_SPACES})»\]]|$)"),
+        # A space after the mark that only leads to another mark ("!\u202f?", typeset) is not that mark's end,
+        # so typesetting typeset text changes nothing.
+        patterns.append((re.compile(rf"(?<=[^\s{_SPACES}])[{_SPACES}]*([{marks}])"
+                                    rf"(?=[\s{_SPACES}](?![{_SPACES}]*[{marks}])|[)»\]]|$)"),
                          rules.space + r"\1"))
     if rules.inside_guillemets:
         patterns.append((re.compile(rf"«[{_SPACES}]*(?=\S)"), "«" + rules.space))

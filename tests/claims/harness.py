@@ -46,26 +46,26 @@ def _grouped_set(values, labels, options):
     return FindingsSet(variables=(item,), group_by="site", privacy_threshold=PRIVACY_THRESHOLD), raws
 
 
-def _narratives(case):
+def _narratives(case, locales=LOCALES):
     """(what, narrative, raw values by claim subject) for every text the case is worded into."""
     out = []
     if case.family == "grouped":
         findings_set, raws = _grouped_set(case.values, case.labels, case.options)
         for audience in AUDIENCES:
-            for locale in LOCALES:
+            for locale in locales:
                 narrative = narrate_set(findings_set, SetOptions(audience=audience, locale=locale))
                 out.append((f"{audience} {locale}", narrative, {"": raws[""], "groups": raws}))
         return out
     raw = Raw.of(case.values, case.options)
     findings = _describe(case.values, case.options)
     for audience in AUDIENCES:
-        for locale in LOCALES:
+        for locale in locales:
             narrative = narrate(findings, audience, locale, currency=case.currency)
             out.append((f"{audience} {locale}", narrative, {"": raw}))
     if case.previous is not None:
         old_raw = Raw.of(case.previous, case.options)
         old = _describe(case.previous, case.options)
-        for locale in LOCALES:
+        for locale in locales:
             section = changes_section(compare(old, findings), old, findings, locale=locale)
             out.append((f"changes {locale}", section, {"": raw, "change": (old_raw, raw)}))
         if case.labels is not None:
@@ -74,7 +74,7 @@ def _narratives(case):
             pairs = {"": new_raws[""], "change": (old_raws[""], new_raws[""])}
             pairs.update({f"change:{label}": (old_raws[label], new_raws[label])
                           for label in new_raws if label and label in old_raws})
-            for locale in LOCALES:
+            for locale in locales:
                 narrative = set_changes_narrative(compare_sets(old_set, new_set), locale=locale)
                 out.append((f"set changes {locale}", narrative, pairs))
     return out
@@ -93,9 +93,9 @@ def _claims(text):
     return claims
 
 
-def check_case(case) -> list[str]:
+def check_case(case, locales=LOCALES) -> list[str]:
     problems = []
-    for what, text, raws in _narratives(case):
+    for what, text, raws in _narratives(case, locales):
         language = what.split()[-1][:2]
         for sentence in _sentences(text):
             if not sentence.claims:

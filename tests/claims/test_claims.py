@@ -1,5 +1,7 @@
 """Every claim of every audience, in English and Spanish, holds for its data: a generated corpus, checked.
 
+French (fr_FR) goes through the same checker on a subset of the corpus.
+
 The corpus (tests/claims/corpus.py, generated with fixed seeds) covers 14 families of data; each
 case is described, narrated for the memo, methods and full audiences in en_US and es_ES, and
 every claim every sentence records is re-derived from the raw values by tests/claims/checker.py,
@@ -51,6 +53,22 @@ def test_one_case_of_each_family_goes_through_the_claims(family):
     # Quick, per family, so a broken family is named on its own.
     case = corpus(1)[FAMILIES.index(family)]
     assert not check_case(case)
+
+
+FRENCH_PER_FAMILY = 12  # a subset in French: 14 families x 12 cases, each worded for three audiences
+
+
+def test_every_claim_holds_in_french_on_a_subset_of_the_corpus():
+    # The same checker on French words (fr_FR): the claims a sentence records are the bank's, whatever the
+    # language, and a population's report must not hedge in French either.
+    cases = corpus(FRENCH_PER_FAMILY)
+    assert len(cases) == FRENCH_PER_FAMILY * len(FAMILIES)
+    checked = 0
+    for case in cases:
+        problems = check_case(case, locales=("fr_FR",))
+        assert not problems, f"case {case.name} in fr_FR:\n" + "\n".join(problems[:8])
+        checked += 1
+    assert checked == len(cases)
 
 
 WRITTEN_FAMILIES = ("zero_inflated", "heavy_ties", "money", "tiny", "constant", "population", "missing_codes",

