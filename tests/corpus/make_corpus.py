@@ -141,6 +141,14 @@ def formulas_and_errors(sheet) -> None:
     sheet["A18"] = "2024-03-05"
 
 
+def trailing_formulas(sheet) -> None:
+    sheet.append(["hours"])
+    for hours in waits(12, 2):
+        sheet.append([int(hours)])
+    for row in (14, 15, 16):  # the last rows: formulas openpyxl saves without a result
+        sheet[f"A{row}"] = f"=A{row - 12}*2"
+
+
 def typed_excel(sheet) -> None:
     import datetime as dt
 
@@ -541,6 +549,9 @@ CASES: tuple[Case, ...] = (
     Case("excel_formulas_and_errors", workbook("book.xlsx", formulas_and_errors),
          facts("book.xlsx", "--column", "hours"), 0, flags={"non_numeric": 4},
          flag_rows={"non_numeric": (15, 16, 17, 18)}, values={"n": 12}),
+    Case("excel_trailing_unsaved_formulas", workbook("book.xlsx", trailing_formulas),
+         facts("book.xlsx", "--column", "hours"), 0, flags={"non_numeric": 3},
+         flag_rows={"non_numeric": (14, 15, 16)}, values={"n": 12, "quality.n_rows": 15}),
     Case("excel_typed_dates_booleans", workbook("book.xlsx", typed_excel), facts("book.xlsx", "--column", "hours"),
          0, flags={"non_numeric": 2}, flag_rows={"non_numeric": (12, 13)}, values={"n": 10}),
     Case("excel_that_is_csv", text_file("book.xlsx", "hours\n1\n2\n"), facts("book.xlsx", "--column", "hours"), 2,

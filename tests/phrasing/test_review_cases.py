@@ -207,3 +207,13 @@ def test_the_facts_table_words_the_reason_for_leading_with_the_mean():
     for locale in ("en_US", "es_ES"):
         text = str(facts_table(findings, locale))
         assert "not_skewed" not in text, locale
+
+
+def test_a_constant_column_is_not_said_to_have_other_values_to_flag():
+    # Invented: forty inspections all scored 7; Tukey's fences fall back on an IQR of 0.
+    findings = describe(np.full(40, 7.0), name="score")
+    assert findings.outliers.fallback_reason == "iqr_zero"
+    for locale, false in (("en_US", "every other value"), ("es_ES", "cualquier otro valor"),
+                          ("fr_FR", "toutes les autres valeurs")):
+        assert false not in narrate(findings, "full", locale).plain_text(), locale
+    assert_claims_hold(np.full(40, 7.0), {})
