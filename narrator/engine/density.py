@@ -897,7 +897,21 @@ def _peaks_and_prominences(curve: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     From each peak the search runs outwards while the curve is not higher than the peak; the
     base on each side is the lowest point passed, and the prominence is the peak's height above
     the higher of the two bases.
+
+    Short curves (histogram bars) are scanned point by point; longer ones (density grids, fine
+    histograms) are handled for all points at once, which costs a fixed ~0.2 ms but no Python loop.
     """
+    if np.size(curve) <= _SCAN_MAX_POINTS:
+        return _peaks_by_scan(curve)
+    return _peaks_vectorised(curve)
+
+
+_SCAN_MAX_POINTS = 200  # below this a Python scan is faster than the vectorised search (measured)
+
+
+def _peaks_by_scan(curve: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_peaks_and_prominences` by one scan for the maxima and a stack scan each way for the
+    nearest strictly higher point on each side of every point."""
     x = np.ascontiguousarray(curve, dtype=np.float64)
     values = x.tolist()  # Python floats: the scans below read one value at a time
     last = x.size - 1
@@ -936,4 +950,60 @@ def _peaks_and_prominences(curve: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     for k, peak in enumerate(found.tolist()):
         start, stop = higher_left[peak] + 1, higher_right[peak]
         prominences[k] = values[peak] - max(x[start : peak + 1].min(), x[peak:stop].min())
+    return found, prominences
+
+
+def _peaks_vectorised(curve: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_peaks_and_prominences` with whole-array steps: runs of equal values for the maxima,
+    binary lifting over tables of range maxima and minima for the bases."""
+    x = np.ascontiguousarray(curve, dtype=np.float64)
+    size = x.size
+    if size < 3:
+        return np.zeros(0, dtype=np.intp), np.empty(0)
+    # Runs of equal values (NaN is never equal, so each NaN is a run of its own); a run is a peak when
+    # it has a neighbour on each side and both are lower (a run reaching either end is not).
+    run_starts = np.concatenate(([0], np.flatnonzero(x[1:] != x[:-1]) + 1))
+    run_ends = np.concatenate((run_starts[1:] - 1, [size - 1]))
+    inner = (run_starts >= 1) & (run_ends <= size - 2)
+    starts, ends = run_starts[inner], run_ends[inner]
+    rising = x[starts - 1] < x[starts]
+    falling = x[ends + 1] < x[ends]
+    found = ((starts + ends) // 2)[rising & falling].astype(np.intp)
+    prominences = np.empty(found.size)
+    if found.size == 0:
+        return found, prominences
+    # On each side of a peak the nearest strictly higher point (or NaN, which no point passes) bounds
+    # the search; the base is the lowest point before it. Both are found for all peaks at once with
+    # tables of range maxima and minima over spans of 1, 2, 4, ... points (binary lifting).
+    barrier = np.where(np.isnan(x), np.inf, x)
+    highest, lowest = [barrier], [x]
+    while 2 ** len(highest) <= size:
+        half = 2 ** (len(highest) - 1)
+        highest.append(np.maximum(highest[-1][:-half], highest[-1][half:]))
+        lowest.append(np.minimum(lowest[-1][:-half], lowest[-1][half:]))
+    heights = x[found]
+    start = found.copy()  # the left search: start - span .. start - 1 is not higher, for each span taken
+    stop = found + 1
+    for level in range(len(highest) - 1, -1, -1):
+        span = 2**level
+        table = highest[level]
+        can = start - span >= 0
+        index = np.where(can, start - span, 0)
+        take = can & (table[index] <= heights)
+        start = np.where(take, start - span, start)
+        can = stop + span <= size
+        index = np.where(can, stop, 0)
+        take = can & (table[index] <= heights)
+        stop = np.where(take, stop + span, stop)
+
+    def range_min(first: np.ndarray, last: np.ndarray) -> np.ndarray:  # min of x[first..last], inclusive
+        level = np.floor(np.log2(last - first + 1)).astype(np.intp)
+        out = np.empty(first.size)
+        for k in np.unique(level).tolist():
+            chosen = level == k
+            table = lowest[k]
+            out[chosen] = np.minimum(table[first[chosen]], table[last[chosen] - 2**k + 1])
+        return out
+
+    prominences = heights - np.maximum(range_min(start, found), range_min(found, stop - 1))
     return found, prominences

@@ -337,7 +337,7 @@ class _Kernel:
             widths = np.maximum(right - left + 1, 0)
             cumulative = np.cumsum(widths)
             size = _SAMPLE_SIZE
-            draws = generator.integers(0, total, size)
+            draws = np.sort(generator.integers(0, total, size))  # ascending: the row lookups run in order
             rows = np.searchsorted(cumulative, draws, side="right")
             columns = left[rows] + draws - (cumulative[rows] - widths[rows])
             sample = -self.at(rows, columns)  # negated: np.partition orders ascending, ranks here descend

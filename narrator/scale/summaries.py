@@ -482,6 +482,13 @@ class RoundCounts:
         self.hits = np.zeros(len(self.bases), dtype=np.int64)
 
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> RoundCounts:
+        # A value near a multiple of any base (10, 5, 1) is near a whole number: one cheap test keeps
+        # those (with a wide allowance), and the exact test of each base runs on them alone, value by
+        # value the same arithmetic as on the whole chunk.
+        if values.size and all(float(base).is_integer() and 1.0 <= base <= 100.0 for base in self.bases):
+            near_whole = np.abs(values - np.round(values)) < 1e-6 * np.maximum(np.abs(values), 1.0)
+            if not near_whole.all():
+                values = values[near_whole]
         for k, base in enumerate(self.bases):
             ratio = values if base == 1.0 else values / base
             distance = np.abs(ratio - np.round(ratio))

@@ -93,8 +93,11 @@ def test_fast_length_matches_scipy_fft():
 
 
 def test_peaks_and_prominences_match_scipy_signal():
-    for trial in range(300):
-        curve = RNG.integers(0, 6, int(RNG.integers(1, 80))).astype(float) if trial % 2 else RNG.normal(size=60)
+    # Short curves take the point-by-point scan, long ones (above density._SCAN_MAX_POINTS) the
+    # vectorised search: both against scipy.signal, plateaus included.
+    for trial in range(400):
+        size = int(RNG.integers(1, 80)) if trial < 300 else int(RNG.integers(150, 1500))
+        curve = RNG.integers(0, 6, size).astype(float) if trial % 2 else RNG.normal(size=size)
         found, prominences = density._peaks_and_prominences(curve)
         expected, properties = signal.find_peaks(curve, prominence=0.0)
         assert np.array_equal(found, expected)
