@@ -10,6 +10,7 @@ Name                           What it is
 :class:`WordingContext`        findings + bank + formatter + decimals for each use
 :func:`make_context`           builds it, applying the rounding policy
 :func:`capitalize_first`       upper-cases the first letter of a sentence
+:func:`sentence_start`         a capital first, and a numeral never first (recast by the bank)
 :func:`member`                 how the text names one group ("site B", "Eastgate office")
 =============================  ===================================================
 """
@@ -47,6 +48,16 @@ def capitalize_first(text: str) -> str:
     return text
 
 
+def sentence_start(bank: PhraseBank, text: str) -> str:
+    """A sentence that opens with a filled-in field: a capital ("{outlier_count} stand out" -> "Eight values
+    stand out"), and never a numeral first: "21 values stand out" is recast with the bank's
+    ``format.numeral_opening`` ("In all, 21 values stand out"), as style guides advise (Chicago Manual of
+    Style and AP Stylebook: spell the number out or recast the sentence, from memory)."""
+    if text[:1].isdigit() or (text[:1] in "+-\u2212" and text[1:2].isdigit()):
+        return bank.format("format.numeral_opening", sentence=text)
+    return capitalize_first(text)
+
+
 @dataclass(frozen=True, slots=True)
 class WordingContext:
     findings: Findings
@@ -75,9 +86,12 @@ class WordingContext:
                values: dict[str, str]) -> str:
         template = variant.form(*self._category_gender(subject))
         text = self.bank.fill(key, template, **values)
-        # A sentence opening with a filled-in field ("{outlier_count} stand out") gets a capital; text the
-        # bank itself starts in lower case ("n = 141") stays as written.
-        return capitalize_first(text) if template.startswith("{") else text
+        if not template.startswith("{"):
+            return text  # text the bank itself starts in lower case ("n = 141") stays as written
+        return self.sentence_start(text)
+
+    def sentence_start(self, text: str) -> str:
+        return sentence_start(self.bank, text)
 
     def say(self, key: str, keys: Sequence[str] = (), *, about: Any = None, subject: tuple | None = None,
             claim: Mapping[str, Any] | None = None, claim_about: str = "", **values: str) -> Sentence | None:
@@ -103,7 +117,9 @@ class WordingContext:
         if subject is None:
             return None, None
         count, noun = subject
-        return self.plural(count), (self.bank.noun(noun).gender if noun else None)
+        # A subject is a count written by ctx.count: its category is the one of the number as written.
+        category = self.fmt.count_category(count) if float(count).is_integer() else self.plural(count)
+        return category, (self.bank.noun(noun).gender if noun else None)
 
     def caption(self, key: str, category: str | None = None, **values: str) -> str:
         """A table or figure caption; capitalized like a sentence when it opens with a filled-in field."""

@@ -90,14 +90,17 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
     findings = ctx.findings
     center, spread, counts = findings.center, findings.spread, findings.order_counts
     n_values = ctx.count(findings.n, "value")
+    subject = (findings.n, "value")  # a bank may word the lead by its count ("de 1 millón de valores", es)
     if findings.n == 1:
         return [ctx.say("memo.lead.single", ("center.median",), median=ctx.memo_recorded(center.median),
                         claim={"value": center.median})]
     if spread.range == 0:
-        return [ctx.say("memo.lead.constant", ("spread.min",), n_values=n_values, value=ctx.memo_recorded(spread.min),
+        return [ctx.say("memo.lead.constant", ("spread.min",), subject=subject, n_values=n_values,
+                        value=ctx.memo_recorded(spread.min),
                         claim={"value": spread.min, "n": findings.n})]
     if center.lead == "mean":
-        return [ctx.say("memo.lead.mean", ("n", "center.mean"), n_values=n_values, mean=ctx.memo(center.mean),
+        return [ctx.say("memo.lead.mean", ("n", "center.mean"), subject=subject, n_values=n_values,
+                        mean=ctx.memo(center.mean),
                         claim={"mean": center.mean, "n": findings.n})]
     # Ranges write the unit once ("the others ran from 1 to 12 visits").
     next_low, high = ctx.memo_recorded_pair(counts.next_above_min if counts.next_above_min is not None else spread.min,
@@ -127,7 +130,8 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "share_at_max": counts.at_max / findings.n, "next_low": counts.next_above_min,
         "next_high": counts.next_below_max,
     }
-    return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), claim=claim, **values)]
+    return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), subject=subject, claim=claim,
+                    **values)]
 
 
 def _left_out(ctx: WordingContext) -> list[Sentence]:
@@ -212,12 +216,14 @@ def _why(ctx: WordingContext) -> Sentence | None:
                    claim={**claim, "sd": findings.spread.sd})
 
 
-def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, float]) -> str:
-    """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; span = (lowest, highest)."""
+def _side_part(ctx: WordingContext, side: str, count: int, span: tuple[float, float], spell_out: bool = True) -> str:
+    """ "four low values (135 to 202 miles)" / "one high value (3,710 miles)"; span = (lowest, highest).
+    ``spell_out`` False writes the count in digits, as the total it goes with (Chicago: numbers of one kind
+    in one sentence are written alike, from memory)."""
     low, high = ctx.memo_recorded_pair(span[0], span[1])
     single = ctx.memo_recorded(span[0])
     shown = single if single == ctx.memo_recorded(span[1]) else ctx.text("format.range", low=low, high=high)
-    number = ctx.fmt.count_number(count, "value")
+    number = ctx.fmt.count_number(count, "value", spell_out=spell_out)
     return ctx.text(f"memo.outliers.side_{side}", ctx.plural(count), count=number, span=shown)
 
 
@@ -247,8 +253,10 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
     low_text, high_text = ctx.memo_recorded_pair(lowest, highest)  # "from 66 to 129 days": the unit once
     values = {"outlier_count": ctx.count(flagged.count, "value"), "lowest": low_text, "highest": high_text}
     if flagged.count_low and flagged.count_high:
-        values["low_part"] = _side_part(ctx, "low", flagged.count_low, flagged.low_range)
-        values["high_part"] = _side_part(ctx, "high", flagged.count_high, flagged.high_range)
+        # "11 values stand out: 8 low values ... and 3 high values", never "11 ...: eight ... and three".
+        spell_out = flagged.count <= ctx.bank.spell_out_max
+        values["low_part"] = _side_part(ctx, "low", flagged.count_low, flagged.low_range, spell_out)
+        values["high_part"] = _side_part(ctx, "high", flagged.count_high, flagged.high_range, spell_out)
         sentences = [ctx.say("memo.outliers.both", keys, claim=claim, **values)]
     else:
         side = "high" if flagged.count_high else "low"

@@ -55,6 +55,13 @@ Part 3, Numbers):
   as "0, 25, 0, 50...".
 - plural ranges (CLDR supplemental pluralRanges.xml): the plural form of a
   unit after a range, "0 to 1 days" in English.
+- the plural operand ``e`` (LDML Part 3, "Plural Operand Meanings": the
+  exponent of the power of ten of a compact form): babel 2.19 sets it to 0, so
+  the CLDR rule "many: ... or e != 0..5" of es and fr never fires for a count
+  written "1,5 millones". :func:`compact_plural_form` evaluates the locale's
+  CLDR rules with it, so the noun after a compact count takes its "many" form
+  ("1,5 millones de valores"; "1.5 million values" in English, which has no
+  such rule).
 
 Rules of our own (documented here and in DEVELOPERS.md):
 
@@ -227,6 +234,60 @@ def minimum_grouping_digits(locale: Locale | str) -> int:
             return MINIMUM_GROUPING_DIGITS[identifier]
         identifier = _parent(identifier)
     return 1
+
+
+def _operand(node, operands: dict[str, Decimal]) -> Decimal:
+    kind, args = node
+    if kind == "value":
+        return Decimal(args[0])
+    if kind == "mod":
+        left, right = (_operand(arg, operands) for arg in args)
+        return left % right
+    return operands[kind]  # n, i, v, w, f, t, c, e
+
+
+def _holds(node, operands: dict[str, Decimal]) -> bool:
+    """One node of babel's parsed CLDR plural rule (PluralRule.abstract), evaluated with our operands."""
+    kind, args = node
+    if kind == "or":
+        return _holds(args[0], operands) or _holds(args[1], operands)
+    if kind == "and":
+        return _holds(args[0], operands) and _holds(args[1], operands)
+    if kind == "not":
+        return not _holds(args[0], operands)
+    if kind == "relation":
+        method, expression, (_, ranges) = args
+        value = _operand(expression, operands)
+        for low, high in ranges:
+            low_value, high_value = _operand(low, operands), _operand(high, operands)
+            if method == "within" and low_value <= value <= high_value:
+                return True
+            if method == "in" and value == value.to_integral_value() and low_value <= value <= high_value:
+                return True
+        return False
+    raise NarratorError(f"unknown CLDR plural rule node {kind!r}")
+
+
+def compact_plural_form(locale: Locale | str, shown: Decimal, exponent: int) -> str:
+    """The CLDR plural category of a number written in compact form: ``shown`` (the number as written,
+    e.g. Decimal("1.5")) times 10^``exponent``, with the operand ``e`` = ``exponent`` (LDML Part 3,
+    "Plural Operand Meanings", example 1.2c6: n = i = 1200000, e = 6), which babel does not set.
+
+    >>> compact_plural_form("es", Decimal("1.5"), 6), compact_plural_form("en", Decimal("1.5"), 6)
+    ('many', 'other')
+    """
+    rules = (locale if isinstance(locale, Locale) else Locale.parse(locale)).plural_form
+    value = abs(shown.scaleb(exponent))
+    fraction = format(value, "f").partition(".")[2]
+    operands = {
+        "n": value, "i": Decimal(int(value)), "v": Decimal(len(fraction)), "w": Decimal(len(fraction.rstrip("0"))),
+        "f": Decimal(int(fraction or 0)), "t": Decimal(int(fraction.rstrip("0") or 0)),
+        "c": Decimal(exponent), "e": Decimal(exponent),
+    }
+    for tag, node in rules.abstract:
+        if _holds(node, operands):
+            return tag
+    return "other"
 
 
 def plural_range(language: str, start: str, end: str) -> str:
@@ -691,28 +752,34 @@ class NumberFormatter:
         return self.bank.format("format.count", number=self.count_number(n, noun_key, spell_out=spell_out), noun=word)
 
     def count_category(self, n: int) -> str:
-        """The CLDR plural category of a count as :meth:`count_number` writes it.
+        """The CLDR plural category of a count as :meth:`count_number` writes it: a count of a million
+        or more is written in compact form ("1,5 millones"), whose category takes the exponent into
+        account (:func:`compact_plural_form`).
 
-        From a million up the count is written in compact form ("1,5 million"), whose CLDR
-        exponent operand is 6: where the language's ``many`` rule takes every exponent beyond 5
-        (CLDR plurals.xml, "e not in 0..5": fr, es, it, pt...), the category is ``many``, so the
-        noun takes its ``many`` form, "1,5 million de valeurs", "2,3 millones de filas".
-
+        >>> NumberFormatter("es_ES").count_category(1_500_000), NumberFormatter("es_ES").count_category(21)
+        ('many', 'other')
         >>> NumberFormatter("fr_FR").count(1_500_000, "value")
         '1,5 million de valeurs'
         """
         n = int(n)
-        if abs(n) >= 1_000_000 and "e not in 0..5" in self.locale.plural_form.rules.get("many", ""):
-            return "many"
-        return self.locale.plural_form(n)
+        if abs(n) < 1_000_000 or abs(Decimal(n)) >= SCIENTIFIC_FROM:
+            return self.locale.plural_form(n)
+        exponent = 3 * ((len(str(abs(n))) - 1) // 3)
+        shown = round_half_up(n / 10**exponent, 1)
+        return compact_plural_form(self.locale, shown, exponent)
 
-    def count_number(self, n: int, noun_key: str, *, spell_out: bool = True) -> str:
+    def count_number(self, n: int, noun_key: str, *, spell_out: bool = True, alone: bool = False) -> str:
         """The number part of :meth:`count`: spelled out when small (agreeing with the noun's
-        gender), "3.5 million" from a million up, else the whole number."""
+        gender), "3.5 million" from a million up, else the whole number. ``alone``: the number stands
+        without its noun ("one below the lower fence"), which takes the bank's ``number_words.alone``
+        where the language has one (Spanish "uno", not "un")."""
         n = int(n)
         bank = self.bank
         if spell_out and 0 <= n <= bank.spell_out_max:
-            return bank.number_word(n, bank.noun(noun_key).gender)
+            gender = bank.noun(noun_key).gender
+            if alone and gender == "default" and "alone" in bank.number_words:
+                gender = "alone"
+            return bank.number_word(n, gender)
         if abs(n) >= 1_000_000:
             return self.compact(n)
         return self.fixed(n, 0)

@@ -197,9 +197,13 @@ def outlier_sentences(ctx: WordingContext) -> list[Sentence]:
         return sentences
     sentences += _kept(ctx.say("technical.mad_zero_fallback", ("outliers.note",),
                                claim={"constants": dict(flagged.constants)}))
+    spell_out = flagged.count <= ctx.bank.spell_out_max
     sentences += _kept(ctx.say("technical.flagged", ("outliers.count", "outliers.count_low", "outliers.count_high"),
-                               outlier_count=ctx.count(flagged.count, "value"), low=ctx.whole(flagged.count_low),
-                               high=ctx.whole(flagged.count_high), claim=claim))
+                               outlier_count=ctx.count(flagged.count, "value"), claim=claim,
+                               # The parts are written like the total: "seven values: zero below ... and seven
+                               # above", "12 values: 4 below ... and 8 above" (Chicago, from memory).
+                               low=ctx.fmt.count_number(flagged.count_low, "value", spell_out=spell_out, alone=True),
+                               high=ctx.fmt.count_number(flagged.count_high, "value", spell_out=spell_out, alone=True)))
     return sentences
 
 

@@ -29,8 +29,12 @@ def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sen
     item = changes.item(f"center.{changes.lead}")
     if item is None:
         return None
-    values = {"measure": ctx.text(f"changes.measure.{changes.lead}"), "old": ctx.memo(item.old),
-              "new": ctx.memo(item.new), "difference": _signed_quantity(ctx, item.difference or 0.0),
+    # "rose from 23 to 29 days": the unit once, after the second number (numbers.quantity_pair); a currency
+    # symbol stays on both.
+    old_shown, new_shown = ctx.memo_pair(item.old, item.new)
+    values = {"measure": ctx.text(f"changes.measure.{changes.lead}"), "old": old_shown,
+              "new": ctx.memo(item.new) if ctx.memo(item.old) == ctx.memo(item.new) else new_shown,
+              "difference": _signed_quantity(ctx, item.difference or 0.0),
               "low": _signed_quantity(ctx, item.low) if item.low is not None else "",
               "high": _signed_quantity(ctx, item.high) if item.high is not None else "",
               "level": ctx.fmt.percent(item.level or 0.95, 0)}

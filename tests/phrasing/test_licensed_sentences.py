@@ -106,9 +106,14 @@ def test_whole_sentence_forms_follow_the_cldr_plural_category_and_gender():
     # alone, changes with the count, and Spanish picks the feminine form for "fila".
     assert set(Locale.parse("es").plural_form.tags) >= {"one", "many"}
     spanish = load_bank("es")
-    variant = spanish.variants("memo.left_out.missing")[0]
-    assert variant.form("one", "feminine").startswith("{count} en la que")
+    variant = spanish.variants("memo.left_out.missing")[1]
+    assert variant.form("one", "feminine").startswith("{count} marcada como")
+    assert variant.form("other", "feminine").startswith("{count} marcadas como")
     assert variant.form("many", "feminine") == variant.form("other", "feminine")  # falls back to "other"
+    # "many" (CLDR: millions, with the compact exponent e): "de 1 millón de valores", never "de los 1 millón".
+    lead = spanish.variants("memo.lead.median")[-1]
+    assert lead.form("many", None).startswith("El valor central de {n_values}")
+    assert lead.form("other", None).startswith("El valor central de los {n_values}")
     english = load_bank("en")
     without = english.variants("memo.without.median_lead")[0]
     assert without.form("one", None).startswith("Without it,") and without.form("other", None).startswith(
@@ -129,7 +134,7 @@ def test_item1_zero_heavy_counts_lead_with_the_share_at_zero_and_never_half_lowe
         assert "half were lower" not in text and "la mitad quedó por debajo" not in text
         assert "may be a floor" not in text and "puede haber un suelo" not in text
     lead = memo(findings)
-    assert lead.startswith(f"{share:.0%} of the 300 values were 0, the lowest possible value; the others ran from "
+    assert lead.startswith(f"Of the 300 values, {share:.0%} were 0, the lowest possible value; the others ran from "
                            f"{values[values > 0].min():.0f} to {values.max():.0f}.")
     quality = narrate(findings, "full").section("data_quality")
     assert any("sit exactly at the lowest possible value, 0." in p.text for p in quality.paragraphs)
@@ -151,7 +156,7 @@ def test_item1_ties_at_the_median_are_said_with_their_shares():
     q1, q3 = np.quantile(values, [0.25, 0.75])
     inside = np.mean((values >= q1) & (values <= q3))
     assert inside > 0.6 and "Half of all values were between" not in text
-    assert f"{inside:.0%} of the values were between" in text
+    assert f"Of all values, {inside:.0%} were between" in text
     assert_claims_hold(values, {})
 
 
@@ -232,7 +237,7 @@ def test_item5_missing_cells_are_said_to_be_what_they_held(tmp_path):
     assert "We left out five rows where wait was blank or marked as missing (“-99”)." in text
     assert "empty row" not in every_text(findings)
     spanish = memo(findings, "es_ES")
-    assert "cinco filas en las que wait estaba en blanco o marcado como ausente («-99»)" in spanish
+    assert "cinco filas sin dato de wait (en blanco o con la marca «-99»)" in spanish
     quality = narrate(findings, "full").section("data_quality").paragraphs[0].text
     assert "had no value (blank, or marked “-99”)" in quality
 

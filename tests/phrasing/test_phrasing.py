@@ -386,7 +386,7 @@ def test_tell_prints_the_narrative(tmp_path, capsys):
     assert main(["tell", str(path), "--column", "hours", "--unit", "hours", "--locale", "es_ES"]) == 0
     out = capsys.readouterr().out
     assert out.startswith("Resumen\n")
-    assert "Dejamos fuera una fila en la que hours estaba en blanco." in out  # the cell was blank, not the row
+    assert "Dejamos fuera una fila con hours en blanco." in out  # the cell was blank, not the row
     assert main(["tell", str(path), "--column", "hours", "--audience", "methods"]) == 0
     assert "Hyndman & Fan (1996)" in capsys.readouterr().out
     assert main(["tell", str(path), "--column", "hours", "--locale", "xx_NOWHERE"]) == 2
