@@ -319,7 +319,7 @@ def command_demo(args: argparse.Namespace) -> int:
 
 
 def command_compare(args: argparse.Namespace) -> int:
-    from narrator.history.changes import compare, compare_sets
+    from narrator.history.changes import check_comparable, compare, compare_sets
     from narrator.history.sidecar import read_findings_file
     from narrator.phrasing.narrative import Narrative
     from narrator.phrasing.numbers import parse_locale
@@ -328,6 +328,7 @@ def command_compare(args: argparse.Namespace) -> int:
     old, new = read_findings_file(args.old), read_findings_file(args.new)
     if len(old.variables) == len(new.variables) == 1 and not old.group_by and not new.group_by:
         before, after = old.variables[0].findings, new.variables[0].findings
+        check_comparable(before, after)
         section = changes_section(compare(before, after), before, after, locale=args.locale, currency=args.currency)
         parsed = parse_locale(args.locale)
         narrative = Narrative(audience="changes", locale=str(parsed), language=parsed.language,

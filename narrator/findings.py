@@ -271,7 +271,7 @@ class Intervals:
     mean: Interval | None
     median: Interval | None
     reason: str  # "computed", "population", "too_few"
-    mean_method_reason: str | None = None  # "default_t", "small_skewed_bootstrap"
+    mean_method_reason: str | None = None  # "default_t", "small_skewed_bootstrap", "t_past_range_bootstrap"
 
 
 @dataclass(frozen=True, slots=True)

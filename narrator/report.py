@@ -191,7 +191,8 @@ def _single_baseline(findings: Findings, previous: Previous) -> Findings | None:
     if previous.findings_set is None or not previous.single:
         return None
     earlier = previous.findings_set.variables[0]
-    if earlier.findings.variable.name != findings.variable.name:
+    if earlier.findings.variable.name != findings.variable.name or \
+            (earlier.findings.variable.unit or None) != (findings.variable.unit or None):
         return None
     return baseline_for(findings, earlier.findings, earlier.baseline)
 
@@ -335,6 +336,8 @@ def _baselines(collection: Collection, previous: FindingsSet | None) -> list[Fin
     chosen = []
     for part in collection.variables:
         match = earlier.get(part.findings.variable.name)
+        if match is not None and (match.findings.variable.unit or None) != (part.findings.variable.unit or None):
+            match = None  # another unit: no comparison, rather than a wrong one
         chosen.append(None if match is None else baseline_for(part.findings, match.findings, match.baseline))
     return chosen
 

@@ -45,7 +45,8 @@ hard links), and its sidecar is not one either; and an existing file is
 replaced only when it is a report narrator wrote (it carries the custom
 document property :data:`REPORT_MARK`) or the caller gave consent
 (``--force``). The sidecar's name is narrator's (``<report>.findings.json``)
-and is replaced as part of the pair.
+and is replaced as part of the pair; a file there with no report beside it is replaced only when
+it reads as a findings file (:func:`looks_like_sidecar`) or with ``--force``.
 """
 
 from __future__ import annotations
@@ -257,7 +258,25 @@ def check_output(report: str | os.PathLike[str], *, protect: Sequence[str | os.P
     if target.exists() and not target.is_symlink() and not force and not is_narrator_report(target):
         raise NarratorError(f"{shown} exists and is not a report narrator wrote; choose another name, or add "
                             "--force to replace it")
+    side = sidecar_path(target)
+    if side.exists() and not side.is_symlink() and not force and not side.is_dir() \
+            and not (target.exists() and not target.is_symlink()) and not looks_like_sidecar(side):
+        # No report of narrator's beside it: the file at the sidecar's name is someone else's.
+        raise NarratorError(f"{_shown(side)} exists and is not a findings file narrator wrote, and the report "
+                            f"{shown} is not there; choose another report name, or add --force to replace it")
     return target
+
+
+def looks_like_sidecar(path: str | os.PathLike[str]) -> bool:
+    """Whether ``path`` reads as a findings file narrator wrote, even a damaged one: its text opens a
+    JSON object that names ``schema_version`` near its start (narrator writes that key first)."""
+    try:
+        with open(path, "rb") as handle:
+            head = handle.read(4096)
+    except OSError:
+        return False
+    text = head.decode("utf-8", "replace").lstrip("\ufeff \t\r\n")
+    return text.startswith("{") and '"schema_version"' in text[:200]
 
 
 # --------------------------------------------------------------------------- the lock

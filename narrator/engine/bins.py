@@ -600,7 +600,9 @@ def sensitivity_grid(
     )
     factor = 1.0 if -100 < size_log2 < 100 else math.ldexp(1.0, min(math.floor(size_log2), 1023))
     if whole:
-        scaled_widths = tuple(max(1.0, float(round(base_width * f))) for f in width_factors)
+        # Rounded to whole numbers, two factors can give one width (0.5 and 1 of a width of 1): each
+        # width is drawn and counted once, so the grid's size is the number of histograms it holds.
+        scaled_widths = tuple(dict.fromkeys(max(1.0, float(round(base_width * f))) for f in width_factors))
     else:
         scaled_widths = tuple(float((base_width / factor) * f) for f in width_factors)
     # Reported in data units; a width past the largest double (values near 1.8e308) reads as that.

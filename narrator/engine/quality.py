@@ -14,6 +14,7 @@ Flag code                    When it is raised
 ``percent_signs``            cells carried a "%"; the numbers were kept as written
 ``currency_marks``           cells carried a currency symbol or code, set aside
 ``encoding_guessed``         the text file was not UTF-8; a fallback codec was used
+``groups_suppressed``        the rows of groups below the privacy threshold were left out (a count of groups)
 ``missing_code``             values such as -99 or 9999 sit far from the rest (kept, flagged)
 ``heaping``                  far more values at round numbers than chance gives
 ``few_distinct``             ten or fewer distinct values
@@ -204,13 +205,13 @@ def assess_quality(
     distinct = 0
     if n:
         flags.extend(_missing_codes(sorted_values, sample.values, sample.rows))
+        low, high = float(sorted_values[0]), float(sorted_values[-1])
+        ends = (low, _run_length(sorted_values, low), high, _run_length(sorted_values, high))
         if iqr is not None:
-            flags.extend(rules.heaping_flags(n, decimals, iqr, _round_hits(sorted_values)))
+            flags.extend(rules.heaping_flags(n, decimals, iqr, _round_hits(sorted_values), ends))
         distinct = _distinct_up_to(sorted_values, FEW_DISTINCT)
         longest = None
         if n >= MIN_FOR_CONFIDENT and distinct > 1:
             longest = _longest_run(sorted_values, rules.tie_run_length(n))
-        low, high = float(sorted_values[0]), float(sorted_values[-1])
-        extremes = (low, _run_length(sorted_values, low), high, _run_length(sorted_values, high))
-        flags.extend(rules.tie_flags(n, distinct, longest, extremes))
+        flags.extend(rules.tie_flags(n, distinct, longest, ends))
     return rules.quality_of(sample, n, flags), distinct

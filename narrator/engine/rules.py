@@ -618,6 +618,19 @@ def intervals_of(n: int, has_spread: bool, options: Options, *, moments: Moments
         half_width = float(t_ppf((1.0 + level) / 2.0, n - 1)) * moments.sd / math.sqrt(n)
         mean_interval = Interval(low=(moments.mean - half_width) * factor, high=(moments.mean + half_width) * factor,
                                  level=level, method="t")
+        # A t interval that reaches past the smallest or largest value (a few huge values among many
+        # small ones) claims means the data cannot have: the BCa bootstrap's stay within the values'
+        # range (its resampled means do), so it replaces the t interval when every value is at hand.
+        past_range = mean_interval.low < value_at(0) or mean_interval.high > value_at(n - 1)
+        if past_range and method == "t" and every_value is not None and \
+                intervals.BOOTSTRAP_MIN_N <= n <= intervals.BOOTSTRAP_MAX_N:
+            unit_values, unit = scaled(every_value())
+            try:
+                found = intervals.mean_interval(unit_values, level=level, method="bca-bootstrap", seed=options.seed)
+                mean_interval = replace(found, low=found.low * unit, high=found.high * unit)
+                method_reason = "t_past_range_bootstrap"
+            except NarratorError:
+                pass  # degenerate resamples: the t interval stays, and the text says where it reaches
     median_interval = None
     rank = intervals.median_rank(n, level)
     if rank is not None:
@@ -671,6 +684,10 @@ def reading_flags(sample) -> list[QualityFlag]:
                                  detail={"distinct_marks": float(len(currencies))}))
     if source.get("encoding_guessed"):
         flags.append(QualityFlag(code="encoding_guessed", count=1))
+    if source.get("suppressed_groups"):
+        # The rows of groups below the privacy threshold were taken out before describing: the count is of
+        # groups (the overview says it), never of their rows.
+        flags.append(QualityFlag(code="groups_suppressed", count=int(source["suppressed_groups"])))
     return flags
 
 
@@ -706,19 +723,44 @@ def heaping_checks(decimals: int, iqr: float) -> list[tuple[float, float]]:
     return []
 
 
-def heaping_flags(n: int, decimals: int, iqr: float, hits: Callable[[float], int]) -> list[QualityFlag]:
-    """Excess of values at round numbers; ``hits(base)`` counts the values at multiples of ``base``."""
+def _on_multiple(value: float, base: float) -> bool:
+    """Whether ``value`` sits on a multiple of ``base`` (the tolerance of the engines' round counts)."""
+    ratio = value / base
+    return abs(ratio - round(ratio)) < 1e-9 * max(1.0, abs(ratio))
+
+
+def heaping_flags(n: int, decimals: int, iqr: float, hits: Callable[[float], int],
+                  ends: tuple[float, int, float, int] | None = None) -> list[QualityFlag]:
+    """Excess of values at round numbers; ``hits(base)`` counts the values at multiples of ``base``.
+
+    ``ends`` is (smallest, its count, largest, its count). A pile-up at an end (a floor such as 0 days,
+    flagged on its own) is set aside before the test: a third of the values at 0 are not rounding,
+    and would otherwise make every whole number look heaped. The flag still counts every value.
+    """
     if n < HEAPING_MIN_N:
         return []
+    piles = []
+    if ends is not None:
+        low, low_run, high, high_run = ends
+        piles = [(value, run) for value, run in ((low, low_run), (high, high_run))
+                 if run >= PILE_UP_MIN_COUNT and run / n >= PILE_UP_SHARE]
+        if len(piles) == 2 and piles[0][0] == piles[1][0]:
+            piles = piles[:1]
     for base, chance in heaping_checks(decimals, iqr):
         count = int(hits(base))
-        observed = count / n
+        rest_n = n - sum(run for _, run in piles)
+        rest = count - sum(run for value, run in piles if _on_multiple(value, base))
+        if rest_n < HEAPING_MIN_N:
+            continue
+        observed = rest / rest_n
         if observed >= HEAPING_RATIO * chance:
             # One-sided binomial test, P(B >= hits): scipy.stats.binomtest(..., alternative="greater").
-            p = min(1.0, binomial_sf(count - 1, n, chance))
+            p = min(1.0, binomial_sf(rest - 1, rest_n, chance))
             if p < HEAPING_P:
-                return [QualityFlag(code="heaping", count=count, share=observed, values=(base,),
-                                    detail={"base": base, "expected_share": chance, "p_value": p})]
+                detail = {"base": base, "expected_share": chance, "p_value": p}
+                if rest_n < n:
+                    detail["set_aside"] = float(n - rest_n)
+                return [QualityFlag(code="heaping", count=count, share=count / n, values=(base,), detail=detail)]
     return []
 
 

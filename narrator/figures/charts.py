@@ -451,8 +451,9 @@ def _draw_bin_sensitivity(
     x_low, x_high = _padded(low, high, 0.02)
     # Panels are placed in units of a power of ten when the values reach past HUGE_AXIS, so no
     # transform multiplies a span near the largest double (see _value_scale); labels show the values.
-    top = max(abs(low), abs(high))
-    unit = 10.0 ** math.floor(math.log10(top)) if math.isfinite(top) and top > HUGE_AXIS else 1.0
+    # (``largest``, not ``top``: ``top`` is the panels' upper edge on the page, used below.)
+    largest = max(abs(low), abs(high))
+    unit = 10.0 ** math.floor(math.log10(largest)) if math.isfinite(largest) and largest > HUGE_AXIS else 1.0
     x_low, x_high = x_low / unit, x_high / unit
     ticks = [t for t in ticker.MaxNLocator(nbins=3, steps=[1, 2, 2.5, 5, 10]).tick_values(x_low, x_high)
              if x_low <= t <= x_high]

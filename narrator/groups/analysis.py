@@ -146,6 +146,11 @@ def split_by_group(
     row_labels = labels_of(sample, labels)
     hidden = np.fromiter((label in suppressed for label in row_labels), dtype=bool, count=len(row_labels))
     overall = _subset(sample, ~hidden, dropped_rows_count=int(hidden.sum()))
+    if hidden.any():
+        # Said in the report (the rows read and left out are those of the groups shown): how many groups,
+        # never how many rows.
+        hidden_groups = {label for label, drop in zip(row_labels, hidden, strict=True) if drop}
+        overall = replace(overall, source={**(overall.source or {}), "suppressed_groups": len(hidden_groups)})
     kept_labels = [label for label, drop in zip(row_labels, hidden, strict=True) if not drop]
     groups = []
     for label in group_order([label for label in kept_labels if label is not None]):

@@ -189,6 +189,18 @@ class SetChanges:
     only_new: tuple[str, ...]
 
 
+def check_comparable(before: Findings, after: Findings) -> None:
+    """NarratorError when two findings are not of one variable in one unit: comparing waits in days with
+    awards in dollars, or hours with days, would call the difference a change."""
+    old_var, new_var = before.variable, after.variable
+    if old_var.name != new_var.name:
+        raise NarratorError(f"the two findings files describe different variables ({old_var.name!r} and "
+                            f"{new_var.name!r}); variables are matched by name")
+    if (old_var.unit or None) != (new_var.unit or None):
+        raise NarratorError(f"the two findings files give {new_var.name!r} in different units "
+                            f"({old_var.unit or 'none'} and {new_var.unit or 'none'}); compare builds in one unit")
+
+
 def compare_sets(old, new) -> SetChanges:
     """Compare two findings sets (narrator.history.sidecar.FindingsSet), variable by variable (matched by
     name) and, when both are grouped by the same column, group by group (matched by label)."""
@@ -203,6 +215,7 @@ def compare_sets(old, new) -> SetChanges:
         if before is None:
             only_new.append(name)
             continue
+        check_comparable(before.findings, item.findings)
         pairs.append(PairedChange(name, None, before.findings, item.findings, compare(before.findings, item.findings)))
         if not same_grouping:
             continue

@@ -145,11 +145,16 @@ def _appendix_rows(fmt: NumberFormatter, bank: PhraseBank, part: VariableFacts,
     if source.get("sha256"):
         rows.append(("report.sha256", bank.format("report.sha256"), str(source["sha256"])))
     rows.append(("report.column", bank.format("report.column"), str(source.get("column") or part.sample_name)))
-    rows.append(("report.rows_read", bank.format("report.rows_read"),
+    # With groups too small to show, the rows counted are those of the groups shown (their own number is
+    # never given): the labels say so.
+    suppressed = findings.quality.has("groups_suppressed")
+    rows.append(("report.rows_read", bank.format("report.rows_read_shown" if suppressed else "report.rows_read"),
                  fmt.fixed(part.n_rows or findings.quality.n_rows, 0)))
     rows.append(("report.values_used", bank.format("report.values_used"), fmt.fixed(findings.n, 0)))
     left_out = [bank.format("report.left_out_item", count=fmt.fixed(count, 0), reason=_reason(bank, code))
                 for code, count in part.exclusions if count]
+    if suppressed:
+        left_out.append(bank.format("report.left_out_groups"))
     rows.append(("report.left_out", bank.format("report.left_out"), fmt.list(left_out) or bank.format("report.none")))
     every_setting = {**findings.options, **{k: source[k] for k in READING_SETTINGS if k in source}}
     every_setting.update(settings)

@@ -29,7 +29,10 @@ some sign of skew that the label set aside (``skew_from_few_values`` or a
 test p < 0.05) scores 2. Then subtract one for each disagreement between
 signals: the robust measures lean another way (``robust_disagree``), or the
 histogram's peak count changes with bin width and offset
-(``bins_change_picture``) for a label about peaks. Fewer than 20 values cap
+(``bins_change_picture``) for a label about peaks whose evidence counted every
+histogram as agreeing (when some histograms showed fewer peaks, the engine's
+evidence is already a level lower for that, and it is not taken off twice).
+Fewer than 20 values cap
 the level at ``tentative``.
 
 Sources. The IPCC AR5 guidance note on consistent treatment of uncertainties
@@ -106,7 +109,10 @@ def shape_hedge(findings: Findings) -> Hedge:
         if "robust_disagree" in shape.reasons:
             score -= 1
             reasons.append("robust_disagree")
-        if shape.label in _PEAK_LABELS and "bins_change_picture" in shape.reasons:
+        # A peak count that changes with the bins lowers the hedge once: when the histograms did not all
+        # show the peaks, the evidence is already a level lower for it (narrator.engine.shape, rule 2).
+        if shape.label in _PEAK_LABELS and "bins_change_picture" in shape.reasons \
+                and "histogram_peaks" in shape.reasons:
             score -= 1
             reasons.append("bins_change_picture")
     level = _SCORE_LEVEL[max(0, min(3, score))]

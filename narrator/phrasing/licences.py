@@ -253,6 +253,11 @@ def all_equal(ctx) -> bool:
     return _n(ctx) >= 2 and not _has_spread(ctx)
 
 
+@licence("variable", "the rows of groups too small to show (privacy) were left out before describing")
+def groups_left_out(ctx) -> bool:
+    return ctx.findings.quality.has("groups_suppressed")
+
+
 @licence("variable", "some rows were left out (missing, not numbers, impossible or not finite)")
 def some_left_out(ctx) -> bool:
     quality = ctx.findings.quality
@@ -457,6 +462,12 @@ def skewness_computed(ctx) -> bool:
     return ctx.findings.shape.skewness is not None
 
 
+@licence("variable", "G1 was computed and the shape was judged (8 values or more, with spread)")
+def shape_judged(ctx) -> bool:
+    shape = ctx.findings.shape
+    return shape.skewness is not None and shape.label != "undetermined"
+
+
 @licence("variable", "the density and the bimodality coefficient were computed")
 def peaks_computed(ctx) -> bool:
     shape = ctx.findings.shape
@@ -646,6 +657,11 @@ def intervals_computed(ctx) -> bool:
 def only_mean_interval(ctx) -> bool:
     intervals = ctx.findings.intervals
     return intervals.mean is not None and intervals.median is None and estimating_allowed(ctx)
+
+
+@licence("variable", "the mean's interval is a BCa bootstrap: Student's t interval reached past the values' range")
+def mean_bootstrap_for_range(ctx) -> bool:
+    return ctx.findings.intervals.mean_method_reason == "t_past_range_bootstrap"
 
 
 @licence("variable", "no interval was computed because there are too few distinct values")

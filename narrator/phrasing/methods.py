@@ -230,7 +230,7 @@ def references_used(ctx: WordingContext) -> tuple[str, ...]:
     if findings.spread is not None:
         used.add(QUANTILE_REFERENCES.get(findings.spread.quantile_method, "hyndman_fan_1996"))
     shape = findings.shape
-    if shape.skewness is not None:
+    if shape.skewness is not None and shape.label != "undetermined":
         used.update({"joanes_gill_1998", "bulmer_1979", "bowley_1920", "brys_2004", "pfister_2013"})
         if shape.skewness_test_p is not None and not findings.variable.population:
             used.add("dagostino_1970")

@@ -44,6 +44,7 @@ from dataclasses import dataclass, field, replace
 from narrator.findings import Findings
 from narrator.history.sidecar import VariableFindings
 from narrator.phrasing.context import WordingContext, make_context
+from narrator.phrasing.licences import middle_half_holds_half, too_few_for_quartiles
 from narrator.phrasing.narrative import Claim, FigureText, Narrative, Paragraph, Sentence, Table
 from narrator.phrasing.typography import typeset, typography_for
 
@@ -233,6 +234,10 @@ def _middle_half(words: PlaceWords) -> PlaceText:
     if spread is None or words.findings.center is None:
         return words.note("middle-half", "no_values")
     ctx = words.context()
+    # The place sits in the user's sentence about half the values: Q1 to Q3 goes there only when about half
+    # of them lie there (the memo's licence); with few values or many tied at a quartile, a true note.
+    if not middle_half_holds_half(ctx):
+        return words.note("middle-half", "middle_half_too_few" if too_few_for_quartiles(ctx) else "middle_half_ties")
     low, high = ctx.memo_pair(spread.q1, spread.q3)  # the unit once: "13 to 28 days"
     phrase = ctx.text("format.range", low=low, high=high)
     return PlaceText("middle-half", "phrase", phrase=phrase, keys=("spread.q1", "spread.q3"))

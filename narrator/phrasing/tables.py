@@ -17,6 +17,7 @@ statistics at the methods precision (one decimal beyond the data, Cole
 from __future__ import annotations
 
 from narrator.phrasing.context import WordingContext
+from narrator.phrasing.licences import has_spread, middle_half_holds_half
 from narrator.phrasing.narrative import Table
 
 OUTLIER_ROWS_SHOWN = 50  # longer lists are cut, and the caption says so
@@ -31,10 +32,11 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
     left_out = findings.n_missing + findings.quality.n_non_numeric + findings.quality.n_impossible
     rows = [
         (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
-        (ctx.text(f"{key}.left_out"), ctx.whole(left_out)),
+        (ctx.text(f"{key}.left_out"), ctx.text(f"{key}.left_out_groups", count=ctx.whole(left_out))
+         if findings.quality.has("groups_suppressed") else ctx.whole(left_out)),
         (ctx.text(f"{key}.median"), ctx.memo(center.median)),
         (ctx.text(f"{key}.mean"), ctx.memo(center.mean)),
-        (ctx.text(f"{key}.middle_half"), ctx.fmt.range_words(*ctx.memo_pair(spread.q1, spread.q3))),
+        *_quartile_rows(ctx, key),
         (ctx.text(f"{key}.lowest"), ctx.memo_recorded(spread.min)),
         (ctx.text(f"{key}.highest"), ctx.memo_recorded(spread.max)),
     ]
@@ -49,6 +51,16 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
               "outliers.count"),
         align=("left", "right"),
     )
+
+
+def _quartile_rows(ctx: WordingContext, key: str) -> tuple[tuple[str, str], ...]:
+    """Q1 to Q3 as "the middle half" only when about half the values lie there (the memo's licence);
+    as the quartiles when not (few values, or many tied at a quartile); no row for one value or no spread."""
+    spread = ctx.findings.spread
+    if not has_spread(ctx):
+        return ()
+    label = "middle_half" if middle_half_holds_half(ctx) else "quartiles"
+    return ((ctx.text(f"{key}.{label}"), ctx.fmt.range_words(*ctx.memo_pair(spread.q1, spread.q3))),)
 
 
 def trimmed_share(options: dict) -> float:
@@ -72,7 +84,8 @@ def statistics_table(ctx: WordingContext) -> Table | None:
     rows = [
         (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
         (ctx.text(f"{key}.missing"), ctx.whole(findings.n_missing)),
-        (ctx.text(f"{key}.excluded"), ctx.whole(excluded)),
+        (ctx.text(f"{key}.excluded"), ctx.text("tables.key_figures.left_out_groups", count=ctx.whole(excluded))
+         if findings.quality.has("groups_suppressed") else ctx.whole(excluded)),
         (ctx.text(f"{key}.mean_sd"), ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))),
         (ctx.text(f"{key}.median_iqr"),
          ctx.text("format.median_iqr", median=x(center.median), iqr_range=ctx.exact_range(spread.q1, spread.q3))),

@@ -111,6 +111,7 @@ def grid_values(ctx: WordingContext) -> tuple[dict, dict]:
         "dominant": ctx.fmt.percent(DOMINANT_BIN_SHARE, 0),
     }
     claim = {"widths": tuple(grid.widths), "offsets": tuple(grid.offsets), "base_width": grid.base_width,
+             "grids": len(grid.widths) * len(grid.offsets),
              "min_peaks": grid.min_peaks, "max_peaks": grid.max_peaks, "undecided": grid.undecided,
              "sensitive": grid.sensitive, "largest_bin_share": grid.largest_bin_share,
              "integer_aligned": bool(ctx.findings.histogram.integer_aligned) if ctx.findings.histogram else False}
@@ -294,7 +295,7 @@ def interval_method(ctx: WordingContext, interval) -> str:
 
 
 _FLAG_NOUNS = {"missing": "row", "non_numeric": "row", "non_finite": "row", "ambiguous_grouping": "row",
-               "percent_signs": "row"}
+               "percent_signs": "row", "groups_suppressed": "group"}
 
 
 def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:

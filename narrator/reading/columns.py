@@ -174,12 +174,24 @@ def _read_excel(path: Path, column, sheet, rules, id_column):
                 return [index]
             return [index, _select_id_column(headers, id_column, index, where)]
 
-        headers, indices, columns = excel.sheet_columns(workbook, sheet_name, choose, name)
+        dropped: list[int] = []
+        headers, indices, columns = excel.sheet_columns(workbook, sheet_name, choose, name, dropped=dropped)
     finally:
         workbook.close()
     index = indices[0]
     raw = columns[0]
     blank = {position for position, cell in enumerate(raw) if cell is None}
+    # Rows at the end that look empty may hold formulas never calculated (a workbook written by a program
+    # that does not compute): they are rows of the sheet, read as cells without a number, never dropped.
+    trailing = set(range(len(raw), len(raw) + (dropped[0] if dropped else 0)))
+    if trailing:
+        found_after = excel.unsaved_formulas(path, sheet_name, index, trailing)
+        if found_after:
+            extra = max(found_after) + 1 - len(raw)
+            raw = [*raw, *([None] * extra)]
+            for part in range(1, len(columns)):
+                columns[part] = [*columns[part], *([None] * extra)]
+            blank |= set(range(len(raw) - extra, len(raw)))
     formulas = excel.unsaved_formulas(path, sheet_name, index, blank) if blank else {}
     cells = excel.excel_cells(raw, rules, formulas)
     facts = {"sha256": file_sha256(path), "sheet": sheet_name, "encoding": None, "encoding_guessed": False,

@@ -163,11 +163,13 @@ def _blank(cell: object) -> bool:
 
 
 def sheet_columns(workbook, sheet_name: str, choose: Callable[[list[str]], Sequence[int]], file_name: str,
-                  limit: int | None = None) -> tuple[list[str], list[int], list[list[object]]]:
+                  limit: int | None = None, dropped: list[int] | None = None
+                  ) -> tuple[list[str], list[int], list[list[object]]]:
     """(headers, chosen indices, the chosen columns' data cells) of one sheet, read to its real end.
 
     ``choose`` gets the header texts and returns the 0-based indices to keep; ``limit``
-    stops after that many data rows. Trailing fully empty rows are dropped.
+    stops after that many data rows. Trailing fully empty rows are dropped; ``dropped``, when
+    given, receives how many (rows that look empty may hold formulas never calculated).
     """
     worksheet = workbook[sheet_name]
     stored_width = getattr(worksheet, "max_column", None) or 0
@@ -200,6 +202,8 @@ def sheet_columns(workbook, sheet_name: str, choose: Callable[[list[str]], Seque
         count += 1
     if last_filled + 1 < count:
         columns = [column[: last_filled + 1] for column in columns]
+    if dropped is not None:
+        dropped.append(count - (last_filled + 1))
     if last_filled < 0 and all(_blank(cell) for cell in first):
         raise NarratorError(f"{file_name}: sheet '{shown_name(sheet_name)}' is empty")
     return headers, indices, columns

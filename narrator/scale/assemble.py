@@ -622,7 +622,8 @@ def _quality_flags(n, first, third, code_plans, tie_candidates, distinct, extrem
                                is_spike=None, rows=lambda plan=plan: codes.rows[plan["index"]])
         if flag is not None:
             flags.append(flag)
-    flags.extend(rules.heaping_flags(n, decimals, iqr, first["round"].count))
+    flags.extend(rules.heaping_flags(n, decimals, iqr, first["round"].count,
+                                     (extremes.low, extremes.low_count, extremes.high, extremes.high_count)))
     longest = None
     if n >= MIN_FOR_CONFIDENT and distinct > 1:
         points: PartitionCounts = third["points"]

@@ -141,6 +141,14 @@ def formulas_and_errors(sheet) -> None:
     sheet["A18"] = "2024-03-05"
 
 
+def trailing_formulas(sheet) -> None:
+    sheet.append(["hours"])
+    for hours in waits(12, 2):
+        sheet.append([int(hours)])
+    for row in (14, 15, 16):  # the last rows: formulas openpyxl saves without a result
+        sheet[f"A{row}"] = f"=A{row - 12}*2"
+
+
 def typed_excel(sheet) -> None:
     import datetime as dt
 
@@ -326,6 +334,23 @@ def million_columns(folder: Path) -> None:
 
 def sidecar(text: str) -> Writer:
     return both(text_file("data.csv", "days\n" + GOOD), text_file("report.findings.json", text))
+
+
+def marked_report(name: str = "report.docx") -> Writer:
+    """A Word package carrying narrator's report mark (the custom property it sets), as an earlier build left."""
+    def write(folder: Path) -> None:
+        import zipfile
+
+        from narrator.safe_io import REPORT_MARK
+
+        custom = ('<?xml version="1.0" encoding="UTF-8" standalone="yes"?>'
+                  '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties">'
+                  f'<property fmtid="{{D5CDD505-2E9C-101B-9397-08002B2CF9AE}}" pid="2" name="{REPORT_MARK}">'
+                  '<vt:lpwstr xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">1'
+                  '</vt:lpwstr></property></Properties>')
+        with zipfile.ZipFile(folder / name, "w") as package:
+            package.writestr("docProps/custom.xml", custom)
+    return write
 
 
 def findings_text(**change: object) -> str:
@@ -524,6 +549,9 @@ CASES: tuple[Case, ...] = (
     Case("excel_formulas_and_errors", workbook("book.xlsx", formulas_and_errors),
          facts("book.xlsx", "--column", "hours"), 0, flags={"non_numeric": 4},
          flag_rows={"non_numeric": (15, 16, 17, 18)}, values={"n": 12}),
+    Case("excel_trailing_unsaved_formulas", workbook("book.xlsx", trailing_formulas),
+         facts("book.xlsx", "--column", "hours"), 0, flags={"non_numeric": 3},
+         flag_rows={"non_numeric": (14, 15, 16)}, values={"n": 12, "quality.n_rows": 15}),
     Case("excel_typed_dates_booleans", workbook("book.xlsx", typed_excel), facts("book.xlsx", "--column", "hours"),
          0, flags={"non_numeric": 2}, flag_rows={"non_numeric": (12, 13)}, values={"n": 10}),
     Case("excel_that_is_csv", text_file("book.xlsx", "hours\n1\n2\n"), facts("book.xlsx", "--column", "hours"), 2,
@@ -651,9 +679,17 @@ CASES: tuple[Case, ...] = (
     Case("demo_into_a_folder_of_the_users", user_folder, ("demo", "-o", "mine", "--quiet"), 2,
          message=("mine is not empty and is not a folder the demo wrote",)),
     # ----- one build, one truth: a previous sidecar that is damaged or foreign, what a killed build left
-    Case("previous_sidecar_not_json", sidecar("{not json"), draft("data.csv", "--column", "days"), 0,
+    Case("previous_sidecar_not_json", both(sidecar("{not json"), marked_report()),
+         draft("data.csv", "--column", "days"), 0,
          note=("previous findings report.findings.json were ignored", "not valid JSON"),
-         changes=("report.findings.json",), values={"n": 40}),
+         changes=("report.docx", "report.findings.json"), values={"n": 40}),
+    # A file of the user's at the sidecar's name, with no report of narrator's beside it, is not a sidecar.
+    Case("sidecar_name_holds_a_users_file", sidecar('{"my notes": ["keep these"]}'),
+         draft("data.csv", "--column", "days"), 2,
+         message=("report.findings.json exists and is not a findings file narrator wrote",)),
+    Case("sidecar_name_holds_a_users_file_forced", sidecar("my notes, not JSON"),
+         draft("data.csv", "--column", "days", "--force"), 0, note=("were ignored", "not valid JSON"),
+         changes=("report.findings.json",)),
     Case("previous_sidecar_wrong_types", sidecar(findings_text(n="forty")), draft("data.csv", "--column", "days"), 0,
          note=("were ignored", "findings.n must be a whole number, not text"), changes=("report.findings.json",)),
     Case("previous_sidecar_huge_integer", sidecar(findings_text().replace('"n": 40', '"n": 1' + "0" * 5000, 1)),
@@ -672,6 +708,14 @@ CASES: tuple[Case, ...] = (
                                          text_file("new.findings.json", findings_text())),
          ("compare", "old.findings.json", "new.findings.json"), 2,
          message=("old.findings.json: not a findings file", "not valid JSON")),
+    # Two builds of different variables, or of one variable in different units, are not a change.
+    Case("compare_different_variables", both(text_file("old.findings.json", findings_text(variable__name="litres")),
+                                             text_file("new.findings.json", findings_text(variable__name="days"))),
+         ("compare", "old.findings.json", "new.findings.json"), 2,
+         message=("describe different variables ('litres' and 'days')",)),
+    Case("compare_different_units", both(text_file("old.findings.json", findings_text(variable__unit="hours")),
+                                         text_file("new.findings.json", findings_text(variable__unit="days"))),
+         ("compare", "old.findings.json", "new.findings.json"), 2, message=("in different units (hours and days)",)),
     Case("compare_foreign_sidecar", both(text_file("old.findings.json", findings_text(center__lead="mode")),
                                          text_file("new.findings.json", findings_text())),
          ("compare", "old.findings.json", "new.findings.json"), 2,

