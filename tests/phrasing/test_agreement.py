@@ -13,7 +13,6 @@ from decimal import Decimal
 
 import numpy as np
 import pytest
-
 from helpers.grammar import (
     COUNTS,
     LEXICONS,
@@ -23,6 +22,7 @@ from helpers.grammar import (
     sentence_renders,
     text_errors,
 )
+
 from narrator.engine.describe import describe
 from narrator.phrasing import narrate
 from narrator.phrasing.bank import available_languages, load_bank
