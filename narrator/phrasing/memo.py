@@ -555,7 +555,10 @@ def _entry_error(ctx: WordingContext, message: Message, groups, said) -> list:
     errors = message.numbers["errors"]
     claim = {"errors": [[value, row] for value, row, _ in errors], "n": ctx.findings.n}
     if message.numbers["pattern"]:
-        sentence = ctx.say("memo.entry_error.many", message.keys, claim=claim,
+        # "such as" only when the sentence names fewer values than it counts.
+        named = min(len(errors), LISTED)
+        key = "memo.entry_error.many_some" if message.numbers["count"] > named else "memo.entry_error.many"
+        sentence = ctx.say(key, message.keys, claim=claim,
                            subject=(message.numbers["count"], "value"),
                            count=ctx.count(message.numbers["count"], "value"), items=_items(ctx, errors))
     elif len(errors) == 1:
