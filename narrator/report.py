@@ -41,7 +41,7 @@ from narrator.phrasing.numbers import parse_locale
 from narrator.phrasing.what_changed import changes_section
 from narrator.reading.sample import Sample
 from narrator.request import ReadingOptions
-from narrator.safe_io import check_output, clean_stale, output_lock
+from narrator.safe_io import check_output, clean_stale, output_lock, sidecar_path
 
 if TYPE_CHECKING:
     from narrator.figures.helper_process import DrawingHelper
@@ -160,7 +160,7 @@ def report_from_findings(
         }
         frame = report_frame(
             bank, findings, sample, locale=locale, organisation=organisation, generated_at=moment,
-            settings=report_settings,
+            settings=report_settings, sidecar=sidecar_path(output).name,
         )
         properties = {
             "title": narrative.title,
@@ -215,6 +215,7 @@ def report_frame(
     organisation: str | None,
     generated_at: dt.datetime,
     settings: Mapping[str, Any],
+    sidecar: str | None = None,
 ) -> ReportFrame:
     """Title lines, caption numbering and the reproducibility appendix (worded by narrator.phrasing.frame).
 
@@ -224,7 +225,7 @@ def report_frame(
     the frame takes the bank of ``locale``'s language).
     """
     return _frame([_variable_facts(findings, sample)], locale=locale, organisation=organisation,
-                  generated_at=generated_at, settings=settings)
+                  generated_at=generated_at, settings=settings, sidecar=sidecar)
 
 
 def _variable_facts(findings: Findings, sample: Sample):
@@ -234,12 +235,17 @@ def _variable_facts(findings: Findings, sample: Sample):
                          n_rows=sample.n_rows, exclusions=[(item.reason, item.count) for item in sample.exclusions])
 
 
+MEMO_FIGURE_SCALE = 0.55  # a memo's figure at 55 % of the text width: summary, figure, table and block on one page
+
+
 def _frame(parts, **options) -> ReportFrame:
     from narrator.phrasing.frame import frame_words
     from narrator.writer import ReportFrame
 
     words = frame_words(parts, **options)
+    memo = options.get("settings", {}).get("audience") == "memo"
     return ReportFrame(
+        figure_scale=MEMO_FIGURE_SCALE if memo else 1.0,
         details=words.details,
         figure_number=words.figure_number,
         table_number=words.table_number,
@@ -247,6 +253,7 @@ def _frame(parts, **options) -> ReportFrame:
         appendix_intro=words.appendix_intro,
         appendix_header=words.appendix_header,
         appendix_rows=words.appendix_rows,
+        appendix_lines=words.appendix_lines,
     )
 
 
@@ -303,7 +310,7 @@ def report_from_collection(
             "group_by": collection.group_by, "privacy_threshold": collection.privacy_threshold,
         }
         frame = collection_frame(bank, collection, locale=locale, organisation=organisation, generated_at=moment,
-                                 settings=settings)
+                                 settings=settings, sidecar=sidecar_path(output).name)
         names = [part.findings.variable.name for part in collection.variables]
         properties = {
             "title": narrative.title,
@@ -363,6 +370,7 @@ def collection_frame(
     organisation: str | None,
     generated_at: dt.datetime,
     settings: Mapping[str, Any],
+    sidecar: str | None = None,
 ) -> ReportFrame:
     """The frame of a report on several variables: one data line, and per-variable rows in the appendix.
 
@@ -373,4 +381,5 @@ def collection_frame(
     name; settings all variables share are listed once.
     """
     parts = [_variable_facts(part.findings, part.sample) for part in collection.variables]
-    return _frame(parts, locale=locale, organisation=organisation, generated_at=generated_at, settings=settings)
+    return _frame(parts, locale=locale, organisation=organisation, generated_at=generated_at, settings=settings,
+                  sidecar=sidecar)

@@ -113,6 +113,8 @@ class ReportFrame:
     appendix_intro: str | None = None
     appendix_header: tuple[str, str] | None = None
     appendix_rows: tuple[tuple[str, str], ...] = ()
+    appendix_lines: tuple[str, ...] = ()  # a memo's compact block: written as lines in place of the table
+    figure_scale: float = 1.0  # figures at this share of the full width (a memo's, so its page holds it all)
 
 
 def default_template() -> bytes:
@@ -173,7 +175,9 @@ def build_document(
         document.add_paragraph(xml_safe(line), style=STYLE_NAMES["details"])
     for section in narrative.sections:
         _add_section(document, section, by_key, frame, counters, bullets_numbered)
-    if frame.appendix_rows:
+    if frame.appendix_lines:
+        _add_compact_appendix(document, frame)
+    elif frame.appendix_rows:
         _add_appendix(document, frame)
 
     _set_properties(document, properties, generated_at, narrative.locale)
@@ -278,7 +282,7 @@ def _add_section(document, section: Section, by_key, frame: ReportFrame, counter
                 f"section {section.key!r} shows figure {key!r}, but no such figure was rendered"
             )
         counters["figure"] += 1
-        _add_figure(document, figure, frame.figure_number, counters["figure"])
+        _add_figure(document, figure, frame.figure_number, counters["figure"], frame.figure_scale)
 
 
 def _add_paragraph(document, paragraph: Paragraph, bullets_numbered: bool) -> None:
@@ -387,13 +391,13 @@ def _keep_row_together(row) -> None:
     trpr.append(OxmlElement("w:cantSplit"))
 
 
-def _add_figure(document, figure: RenderedFigure, pattern: str | None, number: int) -> None:
+def _add_figure(document, figure: RenderedFigure, pattern: str | None, number: int, scale: float = 1.0) -> None:
     if not figure.alt_text.strip():
         raise NarratorError(f"figure {figure.key!r} has no alt text; every picture needs one")
     paragraph = document.add_paragraph(style=STYLE_NAMES["figure"])
     paragraph.alignment = WD_ALIGN_PARAGRAPH.CENTER
     paragraph.paragraph_format.keep_with_next = True
-    width = Emu(min(int(MAX_FIGURE_WIDTH), int(_text_width(document))))
+    width = Emu(int(min(int(MAX_FIGURE_WIDTH), int(_text_width(document))) * scale))
     shape = paragraph.add_run().add_picture(io.BytesIO(figure.png), width=width)
     properties = shape._inline.docPr
     properties.set("descr", xml_safe(figure.alt_text))
@@ -432,6 +436,19 @@ def _set_widths(grid, widths: Sequence[Emu]) -> None:
     for row in grid.rows:
         for cell, width in zip(row.cells, widths, strict=True):
             cell.width = width
+
+
+def _add_compact_appendix(document, frame: ReportFrame) -> None:
+    """A memo's "How this report was made": a heading and a few short lines in the table text's size."""
+    if frame.appendix_title:
+        heading = document.add_paragraph(xml_safe(frame.appendix_title), style=STYLE_NAMES["heading_2"])
+        heading.paragraph_format.keep_with_next = True
+    for index, line in enumerate(frame.appendix_lines):
+        paragraph = document.add_paragraph(xml_safe(line), style=STYLE_NAMES["table_text"])
+        paragraph.paragraph_format.space_after = Cm(0)
+        paragraph.paragraph_format.keep_together = True
+        if index < len(frame.appendix_lines) - 1:
+            paragraph.paragraph_format.keep_with_next = True
 
 
 def _add_appendix(document, frame: ReportFrame) -> None:

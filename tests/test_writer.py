@@ -154,10 +154,12 @@ def test_sidecar_is_the_findings(full_report):
 
 
 def test_same_inputs_and_pinned_time_give_the_same_bytes(rivers_csv, tmp_path):
+    # Same name in two folders: a memo names its sidecar ("All settings: memo.findings.json").
     made = []
-    for name in ("a.docx", "b.docx"):
-        build_report(rivers_csv, "dat", tmp_path / name, audience="memo", generated_at=PINNED)
-        made.append((tmp_path / name).read_bytes())
+    for folder in ("a", "b"):
+        (tmp_path / folder).mkdir()
+        build_report(rivers_csv, "dat", tmp_path / folder / "memo.docx", audience="memo", generated_at=PINNED)
+        made.append((tmp_path / folder / "memo.docx").read_bytes())
     assert made[0] == made[1]
 
 
@@ -165,7 +167,11 @@ def test_same_inputs_and_pinned_time_give_the_same_bytes(rivers_csv, tmp_path):
 def test_other_audiences_write_their_plan(rivers_csv, tmp_path, audience):
     outcome = build_report(rivers_csv, "dat", tmp_path / f"{audience}.docx", audience=audience, generated_at=PINNED)
     document = docx.Document(str(outcome.report))
-    assert headings(document)[:-1] == [s.title for s in outcome.narrative.sections if s.title]
+    # The sections' headings, then "How this report was made" (a memo's compact block has a smaller heading).
+    titles = [s.title for s in outcome.narrative.sections if s.title]
+    assert [h for h in headings(document) if h != "How this report was made"] == titles
+    appendix = [p.text for p in document.paragraphs if p.text == "How this report was made"]
+    assert len(appendix) == 1
     assert len(pictures(document)) == sum(len(s.figures) for s in outcome.narrative.sections)
 
 

@@ -51,7 +51,10 @@ class FrameWords:
     appendix_intro: str
     appendix_header: tuple[str, str]
     appendix_rows: tuple[tuple[str, str], ...]
+    appendix_lines: tuple[str, ...] = ()  # the memo's compact block, in place of the rows
 
+
+COMPACT_LINES = 8  # the memo's "How this report was made" holds at most this many lines
 
 def setting_label(bank: PhraseBank, name: str) -> str:
     """The bank's label for a setting; an unknown setting keeps its name inside the bank's words."""
@@ -169,6 +172,7 @@ def frame_words(
     organisation: str | None,
     generated_at: dt.datetime,
     settings: Mapping[str, Any],
+    sidecar: str | None = None,
 ) -> FrameWords:
     """Title lines, caption numbering and the reproducibility appendix of a report on ``parts``.
 
@@ -177,6 +181,12 @@ def frame_words(
     left out, and any setting that differs between variables) repeat for
     every variable, prefixed with its name; settings all share are listed
     once. Settings left unset (the default applied) are not listed.
+
+    A memo (``settings["audience"] == "memo"``) gets a compact block of at most
+    :data:`COMPACT_LINES` lines in place of the table: software, the input file with its
+    SHA-256 on one line (a no-break space joins the label to the hash, which has no break
+    inside), rows read and values used, the generation time, and where every setting is
+    kept: the sidecar ``sidecar`` beside the report.
     """
     if not parts:
         raise NarratorError("a report frame needs at least one variable")
@@ -212,6 +222,9 @@ def frame_words(
     rows.append((bank.format("report.generated"),
                  format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)))
     t = functools.partial(typeset, locale=fmt.locale_id)  # the language's punctuation spacing, as in the narrative
+    lines: tuple[str, ...] = ()
+    if settings.get("audience") == "memo":
+        lines = tuple(t(line) for line in _compact_lines(fmt, bank, parts, moment, sidecar))
     return FrameWords(
         details=tuple(t(line) for line in details),
         figure_number=t(bank.format("report.figure_number", number="{number}")),
@@ -220,7 +233,48 @@ def frame_words(
         appendix_intro=t(bank.format("report.appendix_intro")),
         appendix_header=(t(bank.format("report.item")), t(bank.format("report.value"))),
         appendix_rows=tuple((t(label), t(value)) for label, value in rows),
+        appendix_lines=lines,
     )
+
+
+NO_BREAK_SPACE = "\u00a0"
+NO_BREAK_HYPHEN = "\u2011"
+
+
+def _compact_lines(fmt: NumberFormatter, bank: PhraseBank, parts: Sequence[VariableFacts], moment: dt.datetime,
+                   sidecar: str | None) -> list[str]:
+    """The memo's "How this report was made": at most COMPACT_LINES lines."""
+    first = parts[0]
+    libraries = first.findings.provenance.get("libraries", {})
+    software = fmt.list([bank.format("format.library", name=name, version=str(version))
+                         for name, version in libraries.items()])
+    lines = [bank.format("report.compact.software", software=software)]
+    file_name, sha = first.source.get("file"), first.source.get("sha256")
+    if file_name and sha:
+        line = bank.format("report.compact.input", file=str(file_name), sha256=str(sha))
+        # The hash never breaks: a no-break space before it, no-break hyphens in the label before it.
+        label_end = line.index(str(sha))
+        label = line[:label_end].rstrip(" ")
+        cut = label.rfind(" ", 0, len(label))
+        label = label[:cut + 1] + label[cut + 1:].replace("-", NO_BREAK_HYPHEN)
+        lines.append(label + NO_BREAK_SPACE + line[label_end:])
+    elif file_name:
+        lines.append(bank.format("report.compact.input_file", file=str(file_name)))
+    used = [(str(part.source.get("column") or part.sample_name), part) for part in parts]
+    rows_read = fmt.fixed(first.n_rows or first.findings.quality.n_rows, 0)
+    time = format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)
+    if len(used) == 1:
+        lines.append(bank.format("report.compact.rows", rows=rows_read, used=fmt.fixed(first.findings.n, 0),
+                                 time=time))
+    else:
+        items = fmt.list([bank.format("report.compact.used_item", column=column, used=fmt.fixed(part.findings.n, 0))
+                          for column, part in used])
+        lines.append(bank.format("report.compact.rows_several", rows=rows_read, items=items, time=time))
+    if sidecar:
+        lines.append(bank.format("report.compact.settings", sidecar=sidecar))
+    else:
+        lines.append(bank.format("report.compact.settings_unnamed"))
+    return lines[:COMPACT_LINES]
 
 
 def _reason(bank: PhraseBank, code: str) -> str:

@@ -15,6 +15,8 @@ Subject         Facts object the predicate receives
                 a reader sees, the bank)
 ``groups``      a :class:`GroupFacts`: the groups of one variable, compared on one measure
 ``change``      a :class:`ChangeFacts`: two builds of one variable and their comparison
+``difference``  a :class:`DifferenceFacts`: one difference between groups (Hodges-Lehmann shift,
+                its interval and verdict, narrator.engine.group_difference)
 ==============  ===========================================================================
 
 A licence never computes a statistic: it reads findings (the engine counted, e.g.
@@ -161,8 +163,32 @@ CLAIM_KINDS: dict[str, str] = {
               "its count, values beyond the axis) are those of the values",
     # groups and changes
     "groups_compared": "the groups' `measure` values are those given; `order`: the highest and the lowest",
-    "groups_intervals": "the groups' intervals `overlap` (or not)",
     "groups_same": "every group shown has the same `measure` at the memo's rounding",
+    "group_shift": "the Hodges-Lehmann shift (median of all differences) of the values of the groups `second` "
+                   "minus those of `first` is `shift`; its distribution-free interval (Mann-Whitney inverted, "
+                   "Bonferroni-adjusted level `level`) runs from `low` to `high`; the verdict `verdict` follows "
+                   "from the interval and the pooled spread (IQR / 1.349): different, slightly_different, alike "
+                   "or unclear; `direction` is the sign of the shift",
+    "groups_alike": "every pair in `pairs` (first, second, shift, low, high) is about the same: its interval "
+                    "includes 0 and lies within half a pooled spread; `bound` is the largest limit in size",
+    "groups_unclear": "no pair in `pairs` is clearly different; `bound` is the largest interval limit in size",
+    "clusters": "the values split into the `parts` (share, median, low, high): each part's share and median are "
+                "those of the values from `low` to `high`, the parts hold every value, and the stated tenths "
+                "`tenths` are within half a tenth of the shares",
+    "clusters_separated": "the column `column` matches the clusters: each category in `categories` (category, "
+                          "cluster, count) sits in one cluster, agreement `agreement`",
+    "entry_error": "each value in `errors` (value, row) is among the values and is at least 10 times the median "
+                   "or at most a tenth of it, or a decimal shift of it lands among the typical values",
+    "entry_error_possible": "each value in `errors` (value, row) is among the values and beyond the far fences",
+    "stand_out": "each value in `values` is among the values and beyond the far fences `far_lower`, "
+                 "`far_upper` of the rule `rule`",
+    "stand_out_none": "the rule `rule` flags some values, but no value lies beyond its far fences `far_lower`, "
+                      "`far_upper` in a way the fitted shape does not predict (`count_far_out` lie beyond them)",
+    "stand_out_excess": "`count` values lie beyond the rule's fences, more than the `expected` the fitted shape "
+                        "predicts",
+    "concentration": "the values add up to `total`; the largest `top_count` hold a share `top_share` and the "
+                     "largest `tenth_count` a share `tenth_share` of it; `notable`: the largest 1 % hold at "
+                     "least 20 % or the largest tenth at least half",
     "change_count": "the number of values went from `old_n` to `new_n`",
     "change_center": "the `measure` went from `old` to `new`; `verdict` 'up'/'down' when the difference "
                      "interval (Schenker & Gentleman 2001) excludes 0, 'within' when it includes 0",
@@ -753,24 +779,91 @@ def groups_differ_as_shown(facts: GroupFacts) -> bool:
     return len(shown) > 1
 
 
-@licence("groups", "exactly two groups are shown")
-def two_groups(facts: GroupFacts) -> bool:
-    return len(facts.shown) == 2
-
-
-@licence("groups", "the 95 % intervals of the highest and lowest groups overlap")
-def group_intervals_overlap(facts: GroupFacts) -> bool:
-    return facts.overlap is True and not facts.ctx.findings.variable.population
-
-
-@licence("groups", "the 95 % intervals of the highest and lowest groups do not overlap")
-def group_intervals_apart(facts: GroupFacts) -> bool:
-    return facts.overlap is False and not facts.ctx.findings.variable.population
-
-
 @licence("groups", "some shown group has fewer than 20 values")
 def some_group_small(facts: GroupFacts) -> bool:
     return bool(facts.shown) and facts.smallest_n < SMALL_SAMPLE
+
+
+@licence("variable", "the values are money and the largest 1 % hold at least 20 % of the total, or the largest "
+                     "tenth at least half (narrator.phrasing.selection)")
+def money_concentrated(ctx) -> bool:
+    from narrator.phrasing.selection import TOP_PERCENT_NOTABLE, TOP_TENTH_NOTABLE
+
+    found = ctx.findings.concentration
+    return found is not None and (found.top_percent_share >= TOP_PERCENT_NOTABLE
+                                  or found.top_tenth_share >= TOP_TENTH_NOTABLE)
+
+
+IMPOSSIBLE_SHOWN = 5  # values left out as impossible that a memo shows one by one, at most
+
+
+@licence("variable", "every value left out as outside the valid range is known with its row, and there are at "
+                     "most 5 of them")
+def impossible_values_known(ctx) -> bool:
+    flag = ctx.findings.quality.get("impossible")
+    return (flag is not None and 0 < flag.count <= IMPOSSIBLE_SHOWN and len(flag.values) == flag.count
+            and len(flag.rows) == flag.count)
+
+
+# --------------------------------------------------------------------------------------- difference
+
+
+@dataclass(frozen=True, slots=True)
+class DifferenceFacts:
+    """One difference between groups (narrator.findings.Difference), second minus first."""
+
+    ctx: Any  # the WordingContext of the whole variable
+    difference: Any  # narrator.findings.Difference
+
+
+def _has_interval(facts: DifferenceFacts) -> bool:
+    d = facts.difference
+    return d.low is not None and d.high is not None and d.shift is not None
+
+
+@licence("difference", "the groups clearly differ: the interval excludes 0 and the shift is not small")
+def difference_clear(facts: DifferenceFacts) -> bool:
+    return facts.difference.verdict == "different" and _has_interval(facts)
+
+
+@licence("difference", "whole populations that differ by more than a small amount (no interval: nothing estimated)")
+def difference_whole(facts: DifferenceFacts) -> bool:
+    return facts.difference.verdict == "different" and not _has_interval(facts) and facts.difference.shift is not None
+
+
+@licence("difference", "the interval excludes 0 but the shift is small against the spread")
+def difference_slight(facts: DifferenceFacts) -> bool:
+    return facts.difference.verdict == "slightly_different" and _has_interval(facts)
+
+
+@licence("difference", "about the same: the interval includes 0 and rules out a medium difference")
+def difference_alike(facts: DifferenceFacts) -> bool:
+    return facts.difference.verdict == "alike" and _has_interval(facts)
+
+
+@licence("difference", "whole populations whose difference is small against the spread")
+def difference_alike_whole(facts: DifferenceFacts) -> bool:
+    return facts.difference.verdict == "alike" and not _has_interval(facts) and facts.difference.shift is not None
+
+
+@licence("difference", "the data cannot tell: the interval includes 0 but does not rule out a medium difference")
+def difference_unclear(facts: DifferenceFacts) -> bool:
+    return facts.difference.verdict == "unclear" and _has_interval(facts)
+
+
+@licence("difference", "the difference has an interval (the rows are a sample)")
+def difference_has_interval(facts: DifferenceFacts) -> bool:
+    return _has_interval(facts)
+
+
+@licence("difference", "the second side's values are typically higher (the shift is above 0)")
+def difference_higher(facts: DifferenceFacts) -> bool:
+    return facts.difference.shift is not None and facts.difference.shift > 0
+
+
+@licence("difference", "the second side's values are typically lower (the shift is below 0)")
+def difference_lower(facts: DifferenceFacts) -> bool:
+    return facts.difference.shift is not None and facts.difference.shift < 0
 
 
 # ------------------------------------------------------------------------------------------- change

@@ -20,8 +20,16 @@ the range (:data:`DROPPED_FIRST`).
 
 from __future__ import annotations
 
-from narrator.phrasing.context import WordingContext
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import Any
+
+from narrator.findings import Difference, GroupComparison
+from narrator.phrasing.context import WordingContext, member
+from narrator.phrasing.licences import DifferenceFacts
 from narrator.phrasing.narrative import Paragraph, Sentence
+from narrator.phrasing.selection import Message, select_messages
 
 MAX_SENTENCES = 7
 
@@ -47,12 +55,18 @@ def left_out_items(ctx: WordingContext) -> tuple[str, tuple[str, ...], dict]:
         ("non_finite", non_finite.count if non_finite is not None else 0, "quality.flags.non_finite", "row"),
     )
     items, keys, numbers = [], [], {}
+    impossible = quality.get("impossible")
+    shown = ""
+    if impossible is not None and impossible.values:
+        shown = ctx.fmt.list([ctx.text("memo.left_out.impossible_item", value=ctx.recorded(value), row=ctx.whole(row))
+                              for value, row in zip(impossible.values, impossible.rows, strict=False)])
+        numbers["impossible_values"] = tuple(impossible.values)
     for code, count, key, noun in counts:
         numbers[code] = int(count)
         if not count:
             continue
         text = ctx.part(f"memo.left_out.{code}", subject=(count, noun), count=ctx.count(count, noun), name=ctx.name,
-                        texts=_missing_texts(ctx))
+                        texts=_missing_texts(ctx), shown=shown)
         if text is not None:
             items.append(text)
             keys.append(key)
@@ -63,8 +77,9 @@ def left_out_items(ctx: WordingContext) -> tuple[str, tuple[str, ...], dict]:
     return ctx.fmt.list(items), tuple(keys), numbers
 
 
-def memo_caution(ctx: WordingContext) -> Sentence:
-    """The one caution a memo ends with: the most pressing for these findings."""
+def memo_caution(ctx: WordingContext, flagged_said: bool = True) -> Sentence:
+    """The one caution a memo ends with: the most pressing for these findings. ``flagged_said``: the memo
+    named unusual values, so "check the unusual values" points at something it said."""
     findings = ctx.findings
     code = findings.quality.get("missing_code")
     if code is not None and code.values:
@@ -76,6 +91,8 @@ def memo_caution(ctx: WordingContext) -> Sentence:
             return sentence
     for key, keys, numbers in (("cautions.check_flagged", ("outliers.count",), flagged_claim(findings)),
                                ("cautions.small_sample", ("n",), {"n": findings.n})):
+        if key == "cautions.check_flagged" and not flagged_said:
+            continue
         sentence = ctx.say(key, keys, claim=numbers)
         if sentence is not None:
             return sentence
@@ -282,28 +299,446 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
     return [s for s in sentences if s is not None]
 
 
-ORDER = ("lead", "left_out", "at_end", "range", "shape", "why", "outliers", "caution")
-DROPPED_FIRST = ("why", "at_end", "range")  # to keep within MAX_SENTENCES, in this order
+# --------------------------------------------------------------------------- the memo, message by message
+
+CENTER_ORDER = ("lead", "at_end", "range", "shape", "why")
+DROPPED_FIRST = ("why", "at_end", "range", "shape")  # to keep within MAX_SENTENCES, in this order
+LISTED = 5  # values named in one sentence at most; the full report lists them all
 
 
-def memo_paragraph(ctx: WordingContext) -> Paragraph:
-    """The memo summary paragraph (see the module docstring for its order)."""
+@dataclass(frozen=True, slots=True)
+class MemoGroups:
+    """The groups a memo compares: the engine's comparison and the column the groups come from."""
+
+    comparison: GroupComparison
+    group_by: str
+
+
+@dataclass
+class _Said:
+    """What the memo has said so far, so no sentence repeats another."""
+
+    together: set = field(default_factory=set)
+    apart: set = field(default_factory=set)
+    pairs: set = field(default_factory=set)
+    lead: bool = False
+
+
+def _places_pair(ctx: WordingContext, low: float, high: float, *, keep_nonzero: bool) -> tuple[str, str]:
+    """Both ends of a memo range with the unit once, at memo rounding never finer than the values were
+    recorded (a shift between whole days is whole or half a day); more places while a non-zero end would
+    print as 0."""
+    start = places = min(ctx.memo_decimals, ctx.data_decimals)
+    zero = ctx.fmt.quantity_pair(0.0, 0.0, ctx._memo_places(places))[0]
+    pair = ctx.fmt.quantity_pair(low, high, ctx._memo_places(places))
+    while keep_nonzero and places < start + 3 and (
+            (low != 0 and pair[0] == zero) or (high != 0 and pair[1].split()[0] == zero.split()[0])):
+        places += 1
+        pair = ctx.fmt.quantity_pair(low, high, ctx._memo_places(places))
+    return pair
+
+
+def _size(ctx: WordingContext, value: float) -> str:
+    """A size in a memo, with its unit; more places while a non-zero size would print as 0."""
+    return _places_pair(ctx, abs(value), abs(value), keep_nonzero=True)[1]
+
+
+def _signed_amount(ctx: WordingContext, value: float, text: str) -> str:
+    kind = "higher" if value > 0 else "lower" if value < 0 else "none"
+    return ctx.text(f"memo.groups.amount.{kind}", amount=text)
+
+
+def _difference_claim(difference: Difference, first: tuple[str, ...], second: tuple[str, ...],
+                      shown: dict[str, str]) -> dict[str, Any]:
+    return {"first": list(first), "second": list(second), "shift": difference.shift, "low": difference.low,
+            "high": difference.high, "level": difference.level, "verdict": difference.verdict,
+            "direction": difference.direction, "ranks": list(difference.ranks or ()),
+            "rank_method": difference.rank_method,
+            "small_bound": difference.small_bound, "ruled_out_bound": difference.ruled_out_bound, "shown": shown}
+
+
+def _difference_values(ctx: WordingContext, difference: Difference) -> dict[str, str]:
+    """The words of one difference: the shift's size, its likely range in size (same sign), or signed ends."""
+    values = {"shift": _size(ctx, difference.shift)} if difference.shift is not None else {}
+    if difference.low is None or difference.high is None:
+        return values
+    low, high = difference.low, difference.high
+    if low > 0 or high < 0:  # both ends on one side: sizes, "between 4 and 9 days higher"
+        small, large = sorted((abs(low), abs(high)))
+        values["low"], values["high"] = _places_pair(ctx, small, large, keep_nonzero=True)
+    else:  # "between 1 day lower and 5 days higher"
+        low_text, high_text = _places_pair(ctx, abs(low), abs(high), keep_nonzero=True)
+        low_full = _places_pair(ctx, abs(low), abs(low), keep_nonzero=True)[1]
+        values["low"] = _signed_amount(ctx, low, low_full)
+        values["high"] = _signed_amount(ctx, high, high_text)
+    values["bound"] = _size(ctx, max(abs(low), abs(high)))
+    return values
+
+
+def _group_list(ctx: WordingContext, groups: MemoGroups, labels) -> str:
+    return ctx.fmt.list([member(ctx, groups.group_by, label) for label in labels])
+
+
+def _say_difference(ctx: WordingContext, key: str, difference: Difference, first: tuple[str, ...],
+                    second: tuple[str, ...], groups: MemoGroups, keys: tuple[str, ...],
+                    **extra: str) -> Sentence | None:
+    shown = _difference_values(ctx, difference)
+    return ctx.say(key, keys, about=DifferenceFacts(ctx, difference),
+                   claim=_difference_claim(difference, first, second, shown),
+                   first=_group_list(ctx, groups, first), second=_group_list(ctx, groups, second),
+                   **shown, **extra)
+
+
+def _index(key: str) -> int:
+    return int(key.split(".")[2])
+
+
+def _pair_sentence(ctx: WordingContext, groups: MemoGroups, index: int, said: _Said) -> Sentence | None:
+    pair = groups.comparison.pairs[index]
+    if index in said.pairs:
+        return None
+    said.pairs.add(index)
+    key = {"different": "memo.groups.pair", "slightly_different": "memo.groups.slight",
+           "alike": "memo.groups.alike_pair", "unclear": "memo.groups.unclear_pair"}.get(pair.difference.verdict)
+    if key is None:
+        return None
+    prefix = f"comparison.pairs.{index}"
+    return _say_difference(ctx, key, pair.difference, (pair.first,), (pair.second,), groups,
+                           (f"{prefix}.first", f"{prefix}.second", f"{prefix}.difference"))
+
+
+def _together_sentences(ctx: WordingContext, groups: MemoGroups, said: _Said, *, all_alike: bool = False) -> list:
+    """ "East and North are about the same." for each set of groups that go together, once."""
+    comparison = groups.comparison
+    out = []
+    for together in comparison.together:
+        if len(together) < 2 or together in said.together:
+            continue
+        said.together.add(together)
+        inside = [(k, pair) for k, pair in enumerate(comparison.pairs)
+                  if pair.first in together and pair.second in together]
+        limits = [abs(value) for _, pair in inside for value in (pair.difference.low, pair.difference.high)
+                  if value is not None]
+        claim = {"groups": list(together), "bound": max(limits) if limits else None,
+                 "pairs": [[pair.first, pair.second, pair.difference.shift, pair.difference.low,
+                            pair.difference.high] for _, pair in inside]}
+        key = "memo.groups.all_alike" if all_alike and limits else "memo.groups.together"
+        sentence = ctx.say(key, tuple(f"comparison.pairs.{k}.difference.verdict" for k, _ in inside), claim=claim,
+                           subject=(len(together), "group"),
+                           groups=_group_list(ctx, groups, together),
+                           bound=_size(ctx, max(limits)) if limits else "")
+        if sentence is not None:
+            said.pairs.update(k for k, _ in inside)
+            out.append(sentence)
+    return out
+
+
+def _group_difference(ctx: WordingContext, message: Message, groups: MemoGroups | None, said: _Said) -> list:
+    if groups is None:
+        return []
+    comparison = groups.comparison
+    first_key = message.keys[0]
+    out = []
+    if first_key.startswith("comparison.versus_rest."):
+        index = _index(first_key)
+        rest = comparison.versus_rest[index]
+        prefix = f"comparison.versus_rest.{index}"
+        sentence = _say_difference(ctx, "memo.groups.apart", rest.difference, tuple(rest.others), (rest.group,),
+                                   groups, (f"{prefix}.group", f"{prefix}.others", f"{prefix}.difference"),
+                                   group=member(ctx, groups.group_by, rest.group),
+                                   others=_group_list(ctx, groups, rest.others))
+        said.apart.add(rest.group)
+        if sentence is not None:
+            out.append(sentence)
+            said.pairs.update(k for k, pair in enumerate(comparison.pairs) if rest.group in (pair.first, pair.second))
+            if message.numbers.get("together"):  # "Northgate and Eastgate are about the same." right after
+                out += _together_sentences(ctx, groups, said)
+            else:
+                # The others do not clearly go together: how they compare among themselves, sized.
+                for k, pair in enumerate(comparison.pairs):
+                    if pair.first in rest.others and pair.second in rest.others and not set(
+                            (pair.first, pair.second)) & said.apart:
+                        out += [s for s in (_pair_sentence(ctx, groups, k, said),) if s is not None]
+        else:  # the pooled others straddle it: its clear differences pair by pair
+            for k, pair in enumerate(comparison.pairs):
+                if rest.group in (pair.first, pair.second) and pair.difference.verdict == "different":
+                    out += [s for s in (_pair_sentence(ctx, groups, k, said),) if s is not None]
+    else:
+        out += [s for s in (_pair_sentence(ctx, groups, _index(first_key), said),) if s is not None]
+    return out
+
+
+def _groups_alike(ctx: WordingContext, message: Message, groups: MemoGroups | None, said: _Said) -> list:
+    if groups is None:
+        return []
+    if len(groups.comparison.pairs) == 1:
+        return [s for s in (_pair_sentence(ctx, groups, 0, said),) if s is not None]
+    return _together_sentences(ctx, groups, said, all_alike=True)
+
+
+def _groups_unclear(ctx: WordingContext, message: Message, groups: MemoGroups | None, said: _Said) -> list:
+    if groups is None:
+        return []
+    comparison = groups.comparison
+    if len(comparison.pairs) == 1:
+        return [s for s in (_pair_sentence(ctx, groups, 0, said),) if s is not None]
+    limits = [abs(value) for pair in comparison.pairs for value in (pair.difference.low, pair.difference.high)
+              if value is not None]
+    out = []
+    if limits:
+        claim = {"bound": max(limits), "pairs": [[pair.first, pair.second, pair.difference.shift, pair.difference.low,
+                                                  pair.difference.high, pair.difference.verdict]
+                                                 for pair in comparison.pairs]}
+        sentence = ctx.say("memo.groups.unclear_many", ("comparison.pairs",), claim=claim, group=groups.group_by,
+                           count=ctx.count(len({label for pair in comparison.pairs
+                                                for label in (pair.first, pair.second)}), "group"),
+                           bound=_size(ctx, max(limits)))
+        if sentence is not None:
+            out.append(sentence)
+    return out + _together_sentences(ctx, groups, said)
+
+
+def _tenths(share: float) -> int:
+    return min(9, max(1, math.floor(share * 10 + 0.5)))
+
+
+def _clusters(ctx: WordingContext, message: Message, groups, said) -> list:
+    clusters = ctx.findings.clusters
+    parts = clusters.parts
+    claim = {"parts": [[part.share, part.median, part.low, part.high] for part in parts], "n": ctx.findings.n}
+
+    def span(part) -> str:
+        low, high = ctx.memo_recorded_pair(part.low, part.high)
+        return ctx.text("format.range", low=low, high=high)
+
+    if len(parts) == 2:
+        low_tenths = _tenths(parts[0].share)
+        claim["tenths"] = [low_tenths, 10 - low_tenths]
+        sentence = ctx.say("memo.clusters.two", message.keys, claim=claim,
+                           share_low=ctx.text("memo.clusters.tenths", tenths=ctx.whole(low_tenths)),
+                           share_high=ctx.text("memo.clusters.tenths", tenths=ctx.whole(10 - low_tenths)),
+                           tenths_low=ctx.whole(low_tenths), tenths_high=ctx.whole(10 - low_tenths),
+                           median_low=ctx.memo_recorded(parts[0].median),
+                           median_high=ctx.memo_recorded(parts[1].median),
+                           range_low=span(parts[0]), range_high=span(parts[1]))
+    else:
+        claim["tenths"] = [_tenths(part.share) for part in parts]
+        items = [ctx.text("memo.clusters.part", share=ctx.text("memo.clusters.tenths", tenths=ctx.whole(tenths)),
+                          median=ctx.memo_recorded(part.median), range=span(part))
+                 for part, tenths in zip(parts, claim["tenths"], strict=True)]
+        sentence = ctx.say("memo.clusters.many", message.keys, claim=claim,
+                           clusters=ctx.count(len(parts), "cluster"), parts=ctx.fmt.list(items))
+    out = [sentence] if sentence is not None else []
+    separating = next((item for item in clusters.separation if item.separates), None)
+    if separating is not None and clusters.separation_checked:
+        by_cluster: dict[int, list[str]] = {}
+        for category, index, _count in separating.categories:
+            by_cluster.setdefault(index, []).append(ctx.text("numbers.quoted", text=category))
+        pairs = [ctx.text("memo.clusters.category", categories=ctx.fmt.list(names[:3]),
+                          median=ctx.memo_recorded(parts[index].median))
+                 for index, names in sorted(by_cluster.items()) if index < len(parts)]
+        sentence = ctx.say("memo.clusters.separated", ("clusters.separation",),
+                           claim={"column": separating.column, "agreement": separating.agreement,
+                                  "categories": [list(item) for item in separating.categories]},
+                           column=separating.column, pairs=ctx.fmt.list(pairs))
+        if sentence is not None:
+            out.append(sentence)
+    return out
+
+
+def _items(ctx: WordingContext, errors) -> str:
+    return ctx.fmt.list([ctx.text("memo.entry_error.item", value=ctx.memo_recorded(value), row=ctx.whole(row))
+                         for value, row, *_ in errors[:LISTED]])
+
+
+def _entry_error(ctx: WordingContext, message: Message, groups, said) -> list:
+    errors = message.numbers["errors"]
+    claim = {"errors": [[value, row] for value, row, _ in errors], "n": ctx.findings.n}
+    if message.numbers["pattern"]:
+        sentence = ctx.say("memo.entry_error.many", message.keys, claim=claim,
+                           subject=(message.numbers["count"], "value"),
+                           count=ctx.count(message.numbers["count"], "value"), items=_items(ctx, errors))
+    elif len(errors) == 1:
+        value, row, suggested = errors[0]
+        key = "memo.entry_error.one_suggested" if suggested is not None else "memo.entry_error.one"
+        sentence = ctx.say(key, message.keys, claim={**claim, "suggested": suggested},
+                           value=ctx.memo_recorded(value), row=ctx.whole(row),
+                           suggested=ctx.memo_recorded(suggested) if suggested is not None else "")
+    else:
+        sentence = ctx.say("memo.entry_error.several", message.keys, claim=claim, subject=(len(errors), "value"),
+                           count=ctx.count(len(errors), "value"), items=_items(ctx, errors))
+    return [sentence] if sentence is not None else []
+
+
+def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
+    unusual = ctx.findings.unusual
+    numbers = message.numbers
+    far = {"rule": unusual.fence_rule, "far_lower": unusual.far_lower_fence, "far_upper": unusual.far_upper_fence,
+           **flagged_claim(ctx.findings)}
+    out = []
+    values = numbers["values"]
+    if values:
+        distinct = list(dict.fromkeys(ctx.memo_recorded(value) for value in values))
+        shown = ctx.fmt.list(distinct[:LISTED])
+        if unusual.complete and len(values) <= LISTED and len(distinct) == len(values):
+            out.append(ctx.say("memo.unusual.values", message.keys, subject=(len(values), "value"),
+                               claim={**far, "values": list(values)}, count=ctx.count(len(values), "value"),
+                               values=shown))
+        elif unusual.complete:
+            out.append(ctx.say("memo.unusual.values_many", message.keys, claim={**far, "values": list(values)},
+                               subject=(len(values), "value"),
+                               count=ctx.count(len(values), "value"), values=shown))
+        else:
+            out.append(ctx.say("memo.unusual.values_some", message.keys, claim={**far, "values": list(values)},
+                               values=shown))
+    if numbers["excess"]:
+        out.append(ctx.say("memo.unusual.excess", ("unusual.excess", "unusual.count_beyond_fences"),
+                           claim={**far, "count": numbers["count_beyond_fences"],
+                                  "expected": numbers["expected_beyond_fences"]},
+                           count=ctx.whole(numbers["count_beyond_fences"]),
+                           expected=ctx.whole(numbers["expected_beyond_fences"])))
+    possible = numbers["possible_errors"]
+    if possible:
+        out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
+                           claim={**far, "errors": [list(item) for item in possible]},
+                           items=_items(ctx, possible)))
+    return [sentence for sentence in out if sentence is not None]
+
+
+def _nothing_stands_out(ctx: WordingContext) -> list:
+    """No value stands out: none flagged, or the flagged ones are what the shape predicts."""
+    findings = ctx.findings
+    flagged = findings.outliers
+    if flagged is None or flagged.count == 0:
+        sentence = ctx.say("memo.outliers.none", ("outliers.count",), claim=flagged_claim(findings))
+    else:
+        unusual = findings.unusual
+        if unusual.reason != "computed":
+            return []
+        sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
+                           subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
+                           claim={"rule": unusual.fence_rule, "far_lower": unusual.far_lower_fence,
+                                  "far_upper": unusual.far_upper_fence, "count_far_out": unusual.count_far_out,
+                                  **flagged_claim(findings)})
+    return [sentence] if sentence is not None else []
+
+
+def _money(ctx: WordingContext, message: Message, groups, said) -> list:
+    numbers = message.numbers
+    found = ctx.findings.concentration
+    claim = {"total": found.total, "top_count": found.top_percent_count, "top_share": found.top_percent_share,
+             "tenth_count": found.top_tenth_count, "tenth_share": found.top_tenth_share, "n": found.n}
+    values = {"n_values": ctx.count(ctx.findings.n, "value"), "total": ctx.memo(numbers["total"]),
+              "top_count": ctx.count(found.top_percent_count, "value"),
+              "top_share": ctx.fmt.percent(found.top_percent_share, 0),
+              "tenth_count": ctx.count(found.top_tenth_count, "value"),
+              "tenth_share": ctx.fmt.percent(found.top_tenth_share, 0)}
+    if message.code == "money_total":
+        key = "memo.money.total"
+    elif found.top_tenth_count <= found.top_percent_count:
+        key = "memo.money.concentrated_short"
+    else:
+        key = "memo.money.concentrated"
+    sentence = ctx.say(key, message.keys, subject=(found.top_percent_count, "value"), claim=claim, **values)
+    return [sentence] if sentence is not None else []
+
+
+def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool) -> dict[str, list[Sentence]]:
+    """The center and the typical range; none when the values form clusters (no single middle describes them)."""
+    findings = ctx.findings
+    if clustered:  # no single middle: where the middle half lies, and the clusters say the rest
+        if findings.n > 1 and findings.spread.range > 0:
+            return {"range": [s for s in (_range(ctx),) if s is not None]}
+        return {}
+    lead = _lead(ctx)
+    parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}
+    if said.lead:  # the share at one value already gave the lead
+        parts["lead"] = parts["at_end"] = []
+    if findings.n > 1 and findings.spread.range > 0:
+        # A lead that gave the share at one end already said where the other values run.
+        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+        parts["range"] = [] if said_range else [_range(ctx)]
+        if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
+            parts["shape"] = [_shape(ctx)]
+            parts["why"] = [_why(ctx)]
+    return {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
+
+
+WORDERS: dict[str, Callable] = {
+    "group_difference": _group_difference,
+    "entry_error": _entry_error,
+    "concentration": _money,
+    "money_total": _money,
+    "clusters": _clusters,
+    "groups_alike": _groups_alike,
+    "groups_unclear": _groups_unclear,
+    "stand_out": _stand_out,
+}
+
+
+def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Paragraph:
+    """The memo summary paragraph: the messages of narrator.phrasing.selection, in its order, then one caution.
+
+    The first sentence states the top message. The center and range (message ``center_range``)
+    keep their own order (lead, share at one end, range, shape, why); what was left out follows
+    the first message. Without the shape judgement of :mod:`narrator.engine.entry_errors` (an
+    engine that did not compute it) the rule's flagged values are listed as before.
+    """
     findings = ctx.findings
     if findings.n == 0 or findings.center is None:
         return Paragraph((ctx.say("quality.no_values", ("n",), claim={"n": 0}), memo_caution(ctx)))
-    lead = _lead(ctx)
-    parts: dict[str, list[Sentence]] = {"lead": lead, "left_out": _left_out(ctx), "at_end": _at_end(ctx, lead[0])}
+    messages = select_messages(findings, comparison=groups.comparison if groups is not None else None,
+                               currency=ctx.fmt.currency_code)
+    clustered = any(message.code == "clusters" for message in messages)
+    said = _Said()
+    blocks: list[tuple[str, list[Sentence]]] = []
+    center: dict[str, list[Sentence]] = {}
+    for message in messages:
+        if message.code == "center_range":
+            center = _center(ctx, message, groups, said, clustered)
+            blocks.append(("center", []))
+        elif message.code == "share_at_one_value":
+            # The center's lead states it (the share at the lowest or highest value, or the ties at the middle);
+            # said here, in the message's place, even when clusters leave the rest of the center out.
+            lead = _lead(ctx)
+            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0])) if s is not None]))
+            said.lead = True
+        elif message.code in WORDERS:
+            blocks.append((message.code, WORDERS[message.code](ctx, message, groups, said)))
     if findings.n > 1 and findings.spread.range > 0:
-        # A lead that gave the share at one end already said where the others run.
-        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
-        parts["range"] = [] if said_range else [_range(ctx)]
-        parts["shape"] = [_shape(ctx)]
-        parts["why"] = [_why(ctx)]
-        parts["outliers"] = _outliers(ctx)
-    parts["caution"] = [memo_caution(ctx)]
-    parts = {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
+        if findings.unusual is None:
+            blocks.append(("outliers", _outliers(ctx)))  # an engine without the shape judgement: the rule's list
+        elif not any(message.code in ("stand_out", "entry_error") for message in messages):
+            blocks.append(("calm", _nothing_stands_out(ctx)))
+    if groups is not None:
+        blocks.append(("together", _together_sentences(ctx, groups, said)))
+    mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)
+    fixed = sum(len(sentences) for _, sentences in blocks) + len(_left_out(ctx)) + 1
     for name in DROPPED_FIRST:
-        if sum(len(sentences) for sentences in parts.values()) <= MAX_SENTENCES:
+        if fixed + sum(len(sentences) for sentences in center.values()) <= MAX_SENTENCES:
             break
-        parts[name] = []
-    return Paragraph(tuple(sentence for name in ORDER for sentence in parts.get(name, ())))
+        center[name] = []
+    sentences: list[Sentence] = []
+    for code, block in blocks:
+        if code == "center":
+            block = [s for name in CENTER_ORDER for s in center.get(name, ())]
+        sentences.extend(block)
+        if block and not any(s.claims and s.claims[0].kind == "left_out" for s in sentences):
+            sentences.extend(_left_out(ctx))
+    if not any(s.claims and s.claims[0].kind == "left_out" for s in sentences):
+        sentences.extend(_left_out(ctx))
+    sentences.append(memo_caution(ctx, mentioned_unusual or findings.unusual is None))
+    return Paragraph(tuple(sentences))
+
+
+GROUP_CODES = ("group_difference", "groups_alike", "groups_unclear")
+
+
+def group_sentences(ctx: WordingContext, groups: MemoGroups) -> list[Sentence]:
+    """The groups' messages alone, in the selection's order, in plain words (a report's groups section)."""
+    said = _Said()
+    out: list[Sentence] = []
+    for message in select_messages(ctx.findings, comparison=groups.comparison):
+        if message.code in GROUP_CODES:
+            out += WORDERS[message.code](ctx, message, groups, said)
+    return out + _together_sentences(ctx, groups, said)

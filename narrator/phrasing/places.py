@@ -185,8 +185,9 @@ def _changes(words: PlaceWords) -> PlaceText:
 
 
 def _key_figures(words: PlaceWords) -> PlaceText:
-    section = words.narrative("memo").section("key_figures")
-    tables = [table for table in (section.tables if section is not None else ()) if table.key == "key_figures"]
+    # The memo's key-figures table, in whichever section its plan puts it (the summary's).
+    tables = [table for section in words.narrative("memo").sections for table in section.tables
+              if table.key == "key_figures"]
     if not tables:
         return words.note("key-figures", "no_values")
     return PlaceText("key-figures", "table", table=tables[0], keys=tables[0].keys)

@@ -29,13 +29,14 @@ histogram for a constant column) is left out of the section.
 from __future__ import annotations
 
 from collections.abc import Callable
+from dataclasses import replace
 
 from narrator.errors import NarratorError
 from narrator.findings import Findings
 from narrator.phrasing.bank import Plan, PlanSection, load_plan
 from narrator.phrasing.context import WordingContext, make_context
 from narrator.phrasing.figure_text import FIGURE_BUILDERS
-from narrator.phrasing.memo import flagged_claim, memo_paragraph
+from narrator.phrasing.memo import MemoGroups, flagged_claim, memo_paragraph
 from narrator.phrasing.methods import methods_paragraph, references_paragraphs
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence
 from narrator.phrasing.tables import TABLE_BUILDERS
@@ -112,6 +113,7 @@ def narrate(
     unit: str | None = None,
     title: str | None = None,
     name: str | None = None,
+    groups: MemoGroups | None = None,
 ) -> Narrative:
     """Word the findings for one audience in one locale, following templates/plans/<audience>.toml.
 
@@ -121,7 +123,8 @@ def narrate(
     CLDR unit where one fits) override the unit the findings carry; ``name``
     is what the text calls the variable (default: its column name); ``title``
     replaces the plan's title. Pure and deterministic: the same arguments give
-    the same Narrative, word for word.
+    the same Narrative, word for word. ``groups`` (the groups' comparison and their column) lets
+    the summary lead with a difference between groups (narrator.phrasing.selection).
 
     Reporting conventions: SAMPL (Lang & Altman 2013); digits: Ehrenberg
     (1981) for memos, Cole (2015) for methods; plain language: US Federal
@@ -136,11 +139,17 @@ def narrate(
     for builder in FIGURE_BUILDERS:
         figure = builder(ctx)
         if figure is not None:
+            if plan.audience == "memo" and "density" in figure.labels:
+                # A manager's word for the curve ("smoothed shape"), not the method's.
+                figure = replace(figure, labels={**figure.labels, "density": ctx.text("figures.memo.density")})
             made[figure.key] = figure
     sections = []
     for section in plan.sections:
         tables = tuple(table for table in (TABLE_BUILDERS[key](ctx) for key in section.tables) if table is not None)
-        paragraphs = PARAGRAPH_BUILDERS[section.key](ctx)
+        if section.key == "summary":
+            paragraphs = (memo_paragraph(ctx, groups),)
+        else:
+            paragraphs = PARAGRAPH_BUILDERS[section.key](ctx)
         figures = _figure_keys(section, plan, ctx, made)
         if not paragraphs and not tables and not figures:
             continue

@@ -22,11 +22,20 @@ Figure keys are made unique per variable (``v1-histogram``, ``v2-groups``),
 so the writer numbers the figures continuously through the document.
 
 Group comparisons are descriptive only. The wording never says a group
-*causes* anything; it says where values were typically higher, with the
-lead measure's numbers, and hedges when a group is small (fewer than
-:data:`SMALL_GROUP` values) or when the highest and lowest groups' 95 %
-intervals for the lead measure overlap (overlapping intervals do not prove
-the centers equal, so the words say the data do not clearly separate them).
+*causes* anything. Groups are compared the way a statistician would, by the
+engine's Hodges-Lehmann shift and its interval (narrator.engine.group_difference):
+the memo's summary leads with a clear difference, sized in the reader's unit
+with its likely range, says which groups stand apart and which go together,
+and calls alike groups "about the same" without ranking them
+(narrator.phrasing.selection orders these messages; narrator.phrasing.memo words
+them). The methods and full reports add each pair's shift and interval in
+technical words and name the method in the methods paragraph. Words hedge when
+a group is small (fewer than :data:`SMALL_GROUP` values).
+
+A memo leaves out the overview (each variable's summary says it; about one
+variable, the title names it) and, when grouped, shows the groups' figure and table in plain column names ("Typical
+value", "Middle half") in place of the distribution figure and key figures: one
+page, one figure, one small table.
 """
 
 from __future__ import annotations
@@ -34,10 +43,12 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
-from narrator.findings import Findings, Interval
+from narrator.engine.group_difference import NORMAL_IQR, RULED_OUT_EFFECT, SMALL_EFFECT
+from narrator.findings import Findings
 from narrator.history.sidecar import FindingsSet, VariableFindings
 from narrator.phrasing.context import NOT_DEFINED, WordingContext, capitalize_first, make_context, member
-from narrator.phrasing.licences import GroupFacts
+from narrator.phrasing.licences import DifferenceFacts, GroupFacts
+from narrator.phrasing.memo import MemoGroups, group_sentences
 from narrator.phrasing.methods import reference_sentence, references_used
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
 from narrator.phrasing.planner import caution_paragraphs, narrate
@@ -80,8 +91,12 @@ def _lead_value(findings: Findings, lead: str | None = None) -> float | None:
     return center.median if (lead or center.lead) == "median" else center.mean
 
 
-def _lead_interval(findings: Findings, lead: str) -> Interval | None:
-    return findings.intervals.median if lead == "median" else findings.intervals.mean
+def memo_groups(item: VariableFindings, group_by: str | None) -> MemoGroups | None:
+    """The groups a variable's summary compares, when the engine compared them."""
+    comparison = item.comparison
+    if group_by is None or comparison is None or comparison.reason != "computed" or not comparison.pairs:
+        return None
+    return MemoGroups(comparison, group_by)
 
 
 # --------------------------------------------------------------------------- overview
@@ -141,27 +156,68 @@ def _suppressed_sentence(ctx: WordingContext, count: int, threshold: int | None)
                    claim={"suppressed": count, "threshold": threshold})
 
 
-def _overlap(a: Interval | None, b: Interval | None) -> bool | None:
-    if a is None or b is None:
-        return None
-    return a.low <= b.high and b.low <= a.high
+def _level(ctx: WordingContext, level: float) -> str:
+    """ "95%", "98.3%": a level in whole percent when it is one, else to a tenth."""
+    whole = abs(level * 100 - round(level * 100)) < 1e-9
+    return ctx.fmt.percent(level, 0 if whole else 1)
 
 
-def comparison_sentences(ctx: WordingContext, item: VariableFindings, group_by: str) -> list[Sentence]:
-    """Sentences comparing the shown groups' centers, each said only when its licence holds
-    (narrator.phrasing.licences, subject "groups"); descriptive only, never causal."""
+def shift_sentences(ctx: WordingContext, groups: MemoGroups) -> list[Sentence]:
+    """Each pair's Hodges-Lehmann shift and its interval, in technical words (methods and full reports)."""
+    comparison = groups.comparison
+    level = comparison.level
+    out = []
+    for index, pair in enumerate(comparison.pairs):
+        difference = pair.difference
+        if difference.shift is None:
+            continue
+        facts = DifferenceFacts(ctx, difference)
+        values = {"first": member(ctx, groups.group_by, pair.first),
+                  "second": member(ctx, groups.group_by, pair.second),
+                  "shift": ctx.exact(difference.shift), "verdict": ctx.text(f"groups.verdict.{difference.verdict}"),
+                  "level": _level(ctx, level) if level is not None else "",
+                  "low": ctx.exact(difference.low) if difference.low is not None else "",
+                  "high": ctx.exact(difference.high) if difference.high is not None else ""}
+        claim = {"first": [pair.first], "second": [pair.second], "shift": difference.shift, "low": difference.low,
+                 "high": difference.high, "level": difference.level, "verdict": difference.verdict,
+                 "direction": difference.direction, "ranks": list(difference.ranks or ()),
+                 "rank_method": difference.rank_method,
+                 "small_bound": difference.small_bound, "ruled_out_bound": difference.ruled_out_bound}
+        sentence = ctx.say("groups.shift", (f"comparison.pairs.{index}.difference",), about=facts, claim=claim,
+                           **values)
+        if sentence is not None:
+            out.append(sentence)
+    return out
+
+
+def method_sentence(ctx: WordingContext, groups: MemoGroups) -> Sentence | None:
+    """How the groups were compared, naming the method (the methods paragraph of a grouped report)."""
+    comparison = groups.comparison
+    adjusted = ""
+    if comparison.adjustment == "bonferroni" and comparison.level is not None:
+        adjusted = ctx.text("groups.method_adjusted", pairs=ctx.whole(len(comparison.pairs)),
+                            level=_level(ctx, comparison.level),
+                            family_level=ctx.fmt.percent(comparison.family_level or 0.95, 0))
+    return ctx.say("groups.method_difference", ("comparison.method", "comparison.level"),
+                   claim={"numbers": {"small": SMALL_EFFECT, "medium": RULED_OUT_EFFECT, "level": comparison.level}},
+                   adjusted=adjusted, small=ctx.stat(SMALL_EFFECT), medium=ctx.stat(RULED_OUT_EFFECT),
+                   normal_iqr=ctx.fmt.fixed(NORMAL_IQR, 3), zero=ctx.whole(0))
+
+
+def comparison_sentences(ctx: WordingContext, item: VariableFindings, group_by: str,
+                         audience: str = "full", summary_said: bool = False) -> list[Sentence]:
+    """Sentences comparing the shown groups, each said only when its licence holds (subjects "groups" and
+    "difference"); descriptive only, never causal. The memo's summary already leads with the groups'
+    messages, so a memo's groups section keeps only the hedges; the methods and full reports give the
+    plain messages and each pair's shift and interval."""
     overall = item.findings
     shown = tuple(group for group in item.groups if group.findings.center is not None)
     if overall.center is None:
         shown = ()
     lead = overall.center.lead if overall.center is not None else "median"
     measure = ctx.text(f"words.lead.{lead}")
-    ranked = sorted(shown, key=lambda group: (_lead_value(group.findings, lead), group.label))
     values_of = tuple(_lead_value(group.findings, lead) for group in shown)
-    overlap = None
-    if len(ranked) >= 2:
-        overlap = _overlap(_lead_interval(ranked[0].findings, lead), _lead_interval(ranked[-1].findings, lead))
-    facts = GroupFacts(ctx=ctx, shown=shown, lead=lead, values=values_of, overlap=overlap,
+    facts = GroupFacts(ctx=ctx, shown=shown, lead=lead, values=values_of, overlap=None,
                        smallest_n=min((group.findings.n for group in shown), default=0))
     keys_of = [f"groups.{group.label}.center.{lead}" for group in shown]
     claim = {"measure": lead, "groups": {group.label: value for group, value in zip(shown, values_of, strict=True)},
@@ -173,35 +229,43 @@ def comparison_sentences(ctx: WordingContext, item: VariableFindings, group_by: 
         only = shown[0]
         return [s for s in (ctx.say("groups.one_shown", keys_of, about=facts, member=member(ctx, group_by, only.label),
                                     measure=measure, value=ctx.memo(values_of[0]), claim=claim),) if s is not None]
-    low, high = ranked[0], ranked[-1]
-    values = {
-        "measure": measure,
-        "high": member(ctx, group_by, high.label),
-        "low": member(ctx, group_by, low.label),
-        "high_value": ctx.memo(_lead_value(high.findings, lead)),
-        "low_value": ctx.memo(_lead_value(low.findings, lead)),
-        "value": ctx.memo(_lead_value(high.findings, lead)),
-        "group": group_by,
-        "level": ctx.fmt.percent(float(overall.options.get("level", 0.95)), 0),
-        "small": ctx.whole(SMALL_GROUP),
-    }
-    claim = {**claim, "high": high.label, "low": low.label}
-    interval_keys = (f"groups.{low.label}.intervals.{lead}", f"groups.{high.label}.intervals.{lead}")
-    sentences = [
-        ctx.say("groups.compared", keys_of, about=facts, claim=claim, **values),
-        ctx.say("groups.intervals", interval_keys, about=facts, claim={**claim, "overlap": overlap}, **values),
+    groups = memo_groups(item, group_by)
+    sentences: list[Sentence | None] = []
+    if groups is not None and audience != "memo":
+        if not summary_said:  # a plan without the plain summary: the groups' messages here, in plain words
+            sentences += group_sentences(ctx, groups)
+        sentences += shift_sentences(ctx, groups)
+    sentences += [
         ctx.say("groups.small", tuple(f"groups.{g.label}.n" for g in shown), about=facts,
-                claim={"smallest_n": facts.smallest_n}, **values),
-        ctx.say("groups.descriptive", (), about=facts),
+                claim={"smallest_n": facts.smallest_n}, small=ctx.whole(SMALL_GROUP)),
+        ctx.say("groups.descriptive", (), about=facts) if audience != "memo" else None,
     ]
     return [sentence for sentence in sentences if sentence is not None]
 
 
-def groups_table(ctx: WordingContext, item: VariableFindings, group_by: str) -> Table:
-    """n, the lead measure's summary (median (IQR) or mean (SD)) and the outlier count per shown group."""
+def groups_table(ctx: WordingContext, item: VariableFindings, group_by: str, audience: str = "full") -> Table:
+    """n, the lead measure's summary (median (IQR) or mean (SD)) and the outlier count per shown group; in a
+    memo, n, the typical value and the middle half, in plain column names."""
     key = "tables.groups"
     lead = item.findings.center.lead if item.findings.center is not None else "median"
     x = ctx.exact
+    if audience == "memo":
+        def typical(findings: Findings) -> tuple[str, str]:
+            if findings.center is None:
+                return NOT_DEFINED, NOT_DEFINED
+            return (ctx.memo(_lead_value(findings, lead)),
+                    ctx.fmt.range_words(*ctx.memo_pair(findings.spread.q1, findings.spread.q3)))
+
+        plain = [(group.label, ctx.whole(group.findings.n), *typical(group.findings)) for group in item.groups]
+        plain.append((ctx.text(f"{key}.all"), ctx.whole(item.findings.n), *typical(item.findings)))
+        return Table(
+            key="groups",
+            caption=ctx.caption(f"{key}.caption", name=ctx.axis_name, group=group_by),
+            header=(group_by, ctx.text(f"{key}.n"), ctx.text(f"{key}.typical"), ctx.text(f"{key}.middle_half")),
+            rows=tuple(plain),
+            keys=("groups", "n", f"center.{lead}", "spread.q1", "spread.q3"),
+            align=("left", "right", "right", "right"),
+        )
 
     def summary(findings: Findings) -> str:
         center, spread = findings.center, findings.spread
@@ -258,12 +322,15 @@ def groups_figure_text(ctx: WordingContext, item: VariableFindings, group_by: st
 
 
 def _groups_section(ctx: WordingContext, item: VariableFindings, findings_set: FindingsSet, index: int,
-                    figures: list[FigureText]) -> Section:
+                    figures: list[FigureText], audience: str = "full", overview: bool = True,
+                    summary_said: bool = False) -> Section:
     group_by = findings_set.group_by
-    sentences = comparison_sentences(ctx, item, group_by)
+    sentences = comparison_sentences(ctx, item, group_by, audience, summary_said)
     notes = [ctx.say("groups.method", ("privacy_threshold",), group=group_by,
                      threshold=ctx.whole(findings_set.privacy_threshold or 0))]
-    # How many groups were suppressed is said once, in the overview; here the rule is enough.
+    if not overview and item.suppressed_groups:
+        notes.append(_suppressed_sentence(ctx, item.suppressed_groups, findings_set.privacy_threshold))
+    # How many groups were suppressed is said once, in the overview (when there is one); here the rule is enough.
     if item.ungrouped_values:
         notes.append(ctx.say("groups.ungrouped", ("ungrouped_values",), subject=(item.ungrouped_values, "value"),
                              values=ctx.count(item.ungrouped_values, "value"), group=group_by,
@@ -274,8 +341,8 @@ def _groups_section(ctx: WordingContext, item: VariableFindings, findings_set: F
     return Section(
         key="groups",
         title=ctx.text("groups.section_title", group=group_by),
-        paragraphs=(Paragraph(tuple(sentences)), Paragraph(tuple(notes))),
-        tables=(groups_table(ctx, item, group_by),),
+        paragraphs=tuple(Paragraph(tuple(part)) for part in (sentences, notes) if part),
+        tables=(groups_table(ctx, item, group_by, audience),),
         figures=(text.key,) if text is not None else (),
         level=2,
     )
@@ -291,6 +358,9 @@ def _changes_part(item: VariableFindings, options: SetOptions, index: int) -> Se
 
     section = changes_section(compare(item.baseline, item.findings), item.baseline, item.findings,
                               locale=options.locale, currency=options.currency)
+    if options.audience == "memo" and len(section.paragraphs) > 1:
+        # A memo keeps what changed; how a change is judged is for the methods and full reports.
+        section = replace(section, paragraphs=section.paragraphs[:1])
     return replace(section, key=f"{index}.{section.key}", level=2)
 
 
@@ -325,7 +395,10 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
     """
     options = options or SetOptions()
     contexts = [_context(item, options) for item in findings_set.variables]
-    sections: list[Section] = [_overview_section(contexts, findings_set)]
+    # A memo needs no overview: each variable's summary says it, and each page is that variable's.
+    overview = options.audience != "memo"
+    single = len(findings_set.variables) == 1
+    sections: list[Section] = [_overview_section(contexts, findings_set)] if overview else []
     figures: list[FigureText] = []
     references: set[str] = set()
     cautions: list[Paragraph] = []
@@ -333,23 +406,45 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
     locale_id = contexts[0].fmt.locale_id
     audience = options.audience
     for index, (ctx, item) in enumerate(zip(contexts, findings_set.variables, strict=True), start=1):
-        part = narrate(item.findings, options.audience, options.locale, currency=options.currency)
+        groups = memo_groups(item, findings_set.group_by)
+        part = narrate(item.findings, options.audience, options.locale, currency=options.currency, groups=groups)
         audience = part.audience
         renamed = {text.key: figure_key(index, text.key) for text in part.figures}
         figures.extend(replace(text, key=renamed[text.key]) for text in part.figures)
-        sections.append(Section(key=f"variable.{index}", title=capitalize_first(ctx.axis_name)))
-        inner = [
-            replace(section, key=f"{index}.{section.key}", level=2,
-                    figures=tuple(renamed[key] for key in section.figures))
-            for section in part.sections if section.key not in DOCUMENT_WIDE
-        ]
+        if overview or not single:  # one variable's memo: the title names it
+            sections.append(Section(key=f"variable.{index}", title=capitalize_first(ctx.axis_name)))
+        grouped_memo = findings_set.group_by is not None and part.audience == "memo"
+        inner = []
+        for section in part.sections:
+            if section.key in DOCUMENT_WIDE:
+                continue
+            # A grouped memo's one figure and small table are the groups' own.
+            shown = () if grouped_memo else tuple(renamed[key] for key in section.figures)
+            if grouped_memo:
+                section = replace(section, tables=())
+            paragraphs = section.paragraphs
+            if section.key == "methods" and groups is not None:
+                said = method_sentence(ctx, groups)
+                if said is not None and paragraphs:
+                    paragraphs = (Paragraph((*paragraphs[0].sentences, said), paragraphs[0].style), *paragraphs[1:])
+            inner.append(replace(section, key=f"{index}.{section.key}", level=2, figures=shown,
+                                 paragraphs=paragraphs))
+        if grouped_memo:
+            kept = {key for section in inner for key in section.figures}
+            figures[:] = [figure for figure in figures if figure.key in kept or not figure.key.startswith(f"v{index}-")]
         if findings_set.group_by is not None:
-            inner.insert(min(1, len(inner)), _groups_section(ctx, item, findings_set, index, figures))
+            inner.insert(min(1, len(inner)), _groups_section(ctx, item, findings_set, index, figures,
+                                                             part.audience, overview,
+                                                             part.section("summary") is not None))
         if item.baseline is not None:
             inner.insert(min(1, len(inner)), _changes_part(item, options, index))
         sections.extend(inner)
         if part.section("references") is not None:
             references.update(references_used(ctx))
+            if groups is not None:
+                references.update({"hodges_lehmann_1963", "cohen_1988"})
+                if groups.comparison.adjustment == "bonferroni":
+                    references.add("dunn_1961")
         if part.section("cautions") is not None:
             cautions.extend(caution_paragraphs(ctx))
     first = contexts[0]

@@ -260,6 +260,10 @@ def check_left_out(c, raw, p):
             _problem(c[name] == actual, f"{name}: claimed {c[name]}, the raw column has {actual}", p)
     if c.get("non_numeric"):
         p.append("rows of text claimed, the raw column has none")
+    for value in c.get("impossible_values", ()):
+        inside = ((raw.valid_min is None or value >= raw.valid_min)
+                  and (raw.valid_max is None or value <= raw.valid_max))
+        _problem(not inside, f"{value} was left out as impossible but lies inside the valid range", p)
 
 
 def check_mean_value(c, raw, p):
@@ -861,6 +865,231 @@ def check_change_flagged(c, pair, p, when=()):
         _problem(c["old_fences"] != c["new_fences"], "'the fences moved' but they did not", p)
 
 
+# ----------------------------------------------------------------------- the memo's messages
+# Group differences: the Hodges-Lehmann shift is the median of all m n differences second - first
+# (Hodges & Lehmann 1963); its interval's limits are the k-th smallest and k-th largest differences,
+# k from the Mann-Whitney null distribution (Hollander, Wolfe & Chicken 2014, ch. 4), checked here
+# against the normal approximation with continuity correction (exact for small groups differs by
+# a rank or two); the size is judged against the pooled IQR / 1.349 (0.2 and 0.5 of it, Cohen 1988,
+# plus half the unit the values are recorded in, as the methods text states it).
+
+NORMAL_IQR = 1.349  # IQR of the standard normal (scipy.stats.norm.ppf(0.75) * 2 = 1.3490)
+RANK_SLACK = 2
+EXACT_PAIRS = 40_000  # up to this many pairs the rank is checked against scipy's exact Mann-Whitney test
+
+
+def _u_cdf(k: int, m: int, n: int) -> float:
+    """P(U <= k) for the Mann-Whitney count U of m and n values under no difference, from scipy's exact test:
+    n values placed among m so that exactly k pairs have the second above the first."""
+    if k < 0:
+        return 0.0
+    if k >= m * n:
+        return 1.0
+    x = np.arange(m, dtype=float)
+    counts, left = [], k
+    for _ in range(n):
+        take = min(m, left)
+        counts.append(take)
+        left -= take
+    y = np.asarray(counts, dtype=float) - 0.5
+    return float(stats.mannwhitneyu(y, x, alternative="less", method="exact").pvalue)
+
+
+def _recorded_decimals(values: np.ndarray) -> int:
+    for decimals in range(7):
+        scaled = values * 10.0**decimals
+        if np.all(np.abs(scaled - np.round(scaled)) < 1e-6 * np.maximum(1.0, np.abs(scaled))):
+            return decimals
+    return 6
+
+
+def _pooled_values(raw_groups, labels) -> np.ndarray:
+    return np.sort(np.concatenate([raw_groups[label].values for label in labels]))
+
+
+def _robust_spread(values: np.ndarray) -> tuple[float, float]:
+    q1, q3 = np.quantile(values, [0.25, 0.75])
+    return float(q3 - q1) / NORMAL_IQR, float(np.std(values, ddof=1)) if values.size > 1 else 0.0
+
+
+def _pooled_scale(x: np.ndarray, y: np.ndarray) -> float:
+    (rx, sx), (ry, sy) = _robust_spread(x), _robust_spread(y)
+    if rx == 0 and ry == 0:
+        rx, ry = sx, sy
+    return math.sqrt(((x.size - 1) * rx**2 + (y.size - 1) * ry**2) / (x.size + y.size - 2))
+
+
+def _shift_facts(raw_groups, first, second):
+    x, y = _pooled_values(raw_groups, first), _pooled_values(raw_groups, second)
+    differences = np.sort((y[None, :] - x[:, None]).ravel())
+    half = 0.5 * 10.0 ** -max(_recorded_decimals(x), _recorded_decimals(y))
+    return x, y, differences, _pooled_scale(x, y), half
+
+
+def _verdict(shift, low, high, scale, half) -> str:
+    if scale <= 0:
+        return ""  # no spread: not re-derived here
+    small = abs(shift) <= 0.2 * scale + half + 1e-9 * max(1.0, scale)
+    if low is None:
+        return "alike" if small else "different"
+    if low > 0 or high < 0:
+        return "slightly_different" if small else "different"
+    inside = max(abs(low), abs(high)) <= 0.5 * scale + half + 1e-9 * max(1.0, scale)
+    return "alike" if small and inside else "unclear"
+
+
+def check_group_shift(c, raw_groups, p):
+    x, y, d, scale, half = _shift_facts(raw_groups, c["first"], c["second"])
+    _same("shift", c["shift"], float(np.median(d)), Raw(d), p)
+    m, n = x.size, y.size
+    if c.get("low") is not None:
+        k1, k2 = c["ranks"]
+        _problem(k2 == m * n + 1 - k1, f"the interval's ranks {k1}, {k2} are not symmetric", p)
+        _problem(d[k1 - 1] == c["low"] and d[k2 - 1] == c["high"], "the interval's limits are not those order "
+                 "statistics of the differences", p)
+        alpha = 1 - c["level"]
+        if c.get("rank_method") == "exact" and m * n <= EXACT_PAIRS:
+            # k is the largest rank with P(U <= k - 1) <= alpha / 2 under no difference (scipy's exact test)
+            _problem(_u_cdf(k1 - 1, m, n) <= alpha / 2 + 1e-12 < _u_cdf(k1, m, n) + 1e-12,
+                     f"rank {k1} is not the Mann-Whitney rank for level {c['level']}", p)
+        else:
+            z = stats.norm.ppf(1 - alpha / 2)
+            k_normal = math.floor(m * n / 2 - z * math.sqrt(m * n * (m + n + 1) / 12) + 0.5)
+            _problem(abs(k1 - k_normal) <= RANK_SLACK, f"rank {k1} far from the Mann-Whitney rank {k_normal}", p)
+        _problem(c["low"] <= c["shift"] <= c["high"], "the shift lies outside its interval", p)
+    verdict = _verdict(c["shift"], c.get("low"), c.get("high"), scale, half)
+    if verdict:
+        _problem(verdict == c["verdict"], f"verdict {c['verdict']!r}, the values give {verdict!r}", p)
+    if c["verdict"] in ("different", "slightly_different"):
+        _problem((c["shift"] > 0) == (c["direction"] == "higher"), "the direction of the difference", p)
+
+
+def _check_pairs(c, raw_groups, p, allowed: tuple[str, ...]):
+    limits = []
+    for first, second, shift, low, high, *_ in c["pairs"]:
+        x, y, d, scale, half = _shift_facts(raw_groups, [first], [second])
+        _same(f"{first}-{second} shift", shift, float(np.median(d)), Raw(d), p)
+        verdict = _verdict(shift, low, high, scale, half)
+        if verdict:
+            _problem(verdict in allowed, f"{first} and {second}: {verdict}, not {allowed}", p)
+        limits += [abs(value) for value in (low, high) if value is not None]
+    if c.get("bound") is not None and limits:
+        _same("bound", c["bound"], max(limits), Raw(np.asarray(limits)), p)
+
+
+def check_groups_alike(c, raw_groups, p):
+    _check_pairs(c, raw_groups, p, ("alike",))
+
+
+def check_groups_unclear(c, raw_groups, p):
+    _check_pairs(c, raw_groups, p, ("alike", "unclear", "slightly_different"))
+
+
+def check_clusters(c, raw, p):
+    x = raw.values
+    total = 0
+    previous_high = -math.inf
+    for (share, median, low, high), tenths in zip(c["parts"], c["tenths"], strict=True):
+        inside = x[(x >= low) & (x <= high)]
+        total += inside.size
+        _problem(inside.size > 0 and low > previous_high, f"cluster {low} to {high} is empty or overlaps", p)
+        previous_high = high
+        _same(f"share of {low} to {high}", share, inside.size / raw.n, raw, p)
+        if inside.size:
+            _same(f"median of {low} to {high}", median, float(np.median(inside)), raw, p)
+        _problem(abs(share - tenths / 10) <= 0.05 + 1e-9, f"{tenths} in 10 for a share of {share}", p)
+    _problem(total == raw.n, "the clusters do not hold every value", p)
+
+
+def check_clusters_separated(c, raw, p):
+    # The category column is not part of the raw values; its agreement is checked by the engine's tests
+    # (tests/engine/test_separation.py). Here: the counts it names fit the values.
+    _problem(sum(count for _, _, count in c["categories"]) <= raw.n and (c["agreement"] or 0) > 0.5,
+             "the categories do not fit the values", p)
+
+
+def _far_fences(raw: Raw, rule: str | None):
+    if rule != "tukey":
+        return None
+    q1, q3 = raw.quartiles
+    return q1 - 3 * (q3 - q1), q3 + 3 * (q3 - q1)
+
+
+def _check_far(c, raw, p):
+    fences = _far_fences(raw, c.get("rule"))
+    if fences is not None and c.get("far_lower") is not None:
+        _same("far lower fence", c["far_lower"], fences[0], raw, p)
+        _same("far upper fence", c["far_upper"], fences[1], raw, p)
+
+
+def _beyond(c, raw, value) -> bool:
+    """Beyond the far fences; a rule without a far band (the ESD test): flagged by the rule itself."""
+    if c.get("far_lower") is None or c.get("far_upper") is None:
+        _, _, low, high = raw.flagged(c["rule"])
+        return bool(np.isin(value, low) or np.isin(value, high))
+    return value < c["far_lower"] or value > c["far_upper"]
+
+
+def check_stand_out(c, raw, p):
+    _check_far(c, raw, p)
+    for value in c["values"]:
+        _problem(bool(np.isin(value, raw.values)), f"{value} is not among the values", p)
+        _problem(_beyond(c, raw, value), f"{value} lies inside the far fences", p)
+
+
+def check_stand_out_none(c, raw, p):
+    _check_far(c, raw, p)
+    if c.get("far_lower") is None or c.get("far_upper") is None:
+        return
+    beyond = int(((raw.values < c["far_lower"]) | (raw.values > c["far_upper"])).sum())
+    _problem(beyond == c["count_far_out"], f"{beyond} values beyond the far fences, not {c['count_far_out']}", p)
+
+
+def check_stand_out_excess(c, raw, p):
+    _, _, low, high = raw.flagged(c["rule"])
+    _problem(low.size + high.size == c["count"], f"{low.size + high.size} beyond the fences, not {c['count']}", p)
+    _problem(c["count"] > (c["expected"] or 0), "no more values beyond the fences than expected", p)
+
+
+def check_entry_error(c, raw, p):
+    median = raw.median
+    p10, p90 = np.quantile(raw.values, [0.1, 0.9])
+    for value, _row in c["errors"]:
+        _problem(bool(np.isin(value, raw.values)), f"{value} is not among the values", p)
+        ratio = value >= 10 * median or value <= median / 10
+        shifted = any(p10 <= value / 10.0**k <= p90 or p10 <= value * 10.0**k <= p90 for k in (1, 2, 3))
+        _problem(median > 0 and value > 0 and (ratio or shifted), f"{value} is no slip of typing for a median of "
+                 f"{median}", p)
+
+
+def check_entry_error_possible(c, raw, p):
+    _check_far(c, raw, p)
+    for value, _row in c["errors"]:
+        _problem(bool(np.isin(value, raw.values)), f"{value} is not among the values", p)
+        _problem(_beyond(c, raw, value), f"{value} lies inside the far fences", p)
+
+
+def check_concentration(c, raw, p):
+    x = np.sort(raw.values)[::-1]
+    total = math.fsum(x)
+    _same("total", c["total"], total, raw, p)
+    _problem(c["top_count"] == math.ceil(raw.n / 100) and c["tenth_count"] == math.ceil(raw.n / 10),
+             "the counts of the largest 1 % and 10 %", p)
+    if total > 0:
+        _same("share of the largest 1 %", c["top_share"], math.fsum(x[:c["top_count"]]) / total, raw, p, rel=1e-6)
+        _same("share of the largest 10 %", c["tenth_share"], math.fsum(x[:c["tenth_count"]]) / total, raw, p,
+              rel=1e-6)
+
+
+def _money_concentrated(raw: Raw, c) -> bool:
+    x = np.sort(raw.values)[::-1]
+    total = math.fsum(x)
+    if total <= 0:
+        return False
+    return (math.fsum(x[:math.ceil(raw.n / 100)]) / total >= 0.2 - 1e-12
+            or math.fsum(x[:math.ceil(raw.n / 10)]) / total >= 0.5 - 1e-12)
+
+
 CHECKS = {
     "single_value": check_single_value, "all_equal": check_all_equal, "count": check_count,
     "left_out": check_left_out, "mean_value": check_mean_value, "median_value": check_median_value,
@@ -879,9 +1108,14 @@ CHECKS = {
     "missing_code_suspected": check_missing_code_suspected, "at_bound": check_at_bound,
     "method": lambda c, raw, p: None, "histogram_rule": check_histogram_rule, "density_rule": check_density_rule,
     "figure": check_figure, "caution": lambda c, raw, p: None, "note": lambda c, raw, p: None,
+    "clusters": check_clusters, "clusters_separated": check_clusters_separated, "stand_out": check_stand_out,
+    "stand_out_none": check_stand_out_none, "stand_out_excess": check_stand_out_excess,
+    "entry_error": check_entry_error, "entry_error_possible": check_entry_error_possible,
+    "concentration": check_concentration,
 }
 GROUP_CHECKS = {"groups_compared": check_groups_compared, "groups_intervals": check_groups_intervals,
-                "groups_same": check_groups_same}
+                "groups_same": check_groups_same, "group_shift": check_group_shift,
+                "groups_alike": check_groups_alike, "groups_unclear": check_groups_unclear}
 CHANGE_CHECKS = {"change_count": check_change_count, "change_center": check_change_center,
                  "change_spread": check_change_spread, "change_flagged": check_change_flagged,
                  "change_other": lambda c, pair, p: None, "groups_moved": lambda c, pair, p: None}
@@ -922,6 +1156,7 @@ LICENCE_CHECKS = {
     "tails_heavy": lambda raw, c: raw.g2 is not None and raw.g2 > 1,
     "intervals_computed": lambda raw, c: not raw.population and raw.n >= 2 and raw.values.min() < raw.values.max(),
     "skewness_test_ran": lambda raw, c: raw.n >= 8 and not raw.population,
+    "money_concentrated": _money_concentrated,
 }
 
 

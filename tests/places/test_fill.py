@@ -509,17 +509,16 @@ def test_a_refresh_changes_exactly_the_places_whose_values_changed(tmp_path, dat
     old_findings, new_findings = old["variables"][0]["findings"], new["variables"][0]["findings"]
     assert "baseline" not in old["variables"][0] and "baseline" in new["variables"][0]
 
-    # From the findings diff: a place changes when a value it states changed; "what changed" and
-    # "change" also when the build compared with did (the first build had none, this one has).
-    expected = 0
+    # From the findings diff: a place changes only when a value it states changed ("what changed" and
+    # "change" also when the build compared with did: the first build had none, this one has); a value
+    # that moved may still print the same at the memo's rounding (the summary says "about 590 miles").
+    moved_places = 0
     for entry in new["places"]["controls"]:
-        moved = any(key == "baseline" or _flat(old_findings, key) != _flat(new_findings, key)
-                    for key in entry["keys"])
-        expected += moved
+        moved_places += any(key == "baseline" or _flat(old_findings, key) != _flat(new_findings, key)
+                            for key in entry["keys"])
     changed = sum(1 for a, b in zip(before, after, strict=True) if a != b)
-    assert changed == expected
-    assert f"({expected} changed, {11 - expected} as before)" in out
-    assert 0 < expected < 11  # the data chosen move some places and not others
+    assert f"({changed} changed, {11 - changed} as before)" in out
+    assert 0 < changed <= moved_places < 11  # the data chosen move some places and not others
 
 
 def test_when_every_place_is_kept_only_the_sidecar_follows_the_new_data(tmp_path, data_files, capsys, pinned):
