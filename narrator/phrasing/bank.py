@@ -296,6 +296,15 @@ def _load_toml(folder: str, name: str) -> dict[str, Any]:
         raise NarratorError(f"{where} is not valid TOML: {exc}") from None
 
 
+def message_texts(message) -> list[str]:
+    """Every text of one bank message: each form of each variant, each plural form, each list item."""
+    if isinstance(message, tuple):
+        return [text for variant in message for text in variant.forms.values()]
+    if isinstance(message, dict):
+        return list(message.values())
+    return list(message) if isinstance(message, list) else [message]
+
+
 @functools.lru_cache(maxsize=16)
 def load_bank(language: str) -> PhraseBank:
     """The phrase bank for ``language`` (a CLDR language code such as "en"), checked and cached."""
@@ -331,12 +340,7 @@ def load_bank(language: str) -> PhraseBank:
             raise NarratorError(f"{where}: top-level entry {table_name!r} must be a table")
         _flatten(table, table_name, messages, where, genders)
     for key, message in messages.items():
-        if isinstance(message, tuple):
-            texts = [text for variant in message for text in variant.forms.values()]
-        else:
-            texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) \
-                else [message]
-        for text in texts:
+        for text in message_texts(message):
             _check_fields(text, key, where)
         if isinstance(message, dict) and "other" not in message:
             raise NarratorError(f"{where}: plural message {key} needs an 'other' form")

