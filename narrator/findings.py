@@ -407,7 +407,7 @@ class Clusters:
     """The clusters the values form: split at the density's lowest point between substantial peaks."""
 
     count: int  # 1 when the values form one cluster
-    reason: str  # "several_peaks", "one_peak", "too_few", "peaks_not_confirmed"
+    reason: str  # "several_peaks", "one_peak", "too_few", "peaks_not_confirmed", "spike_at_one_value"
     method: str = "density-valleys"
     min_peak_share: float | None = None  # a peak counts when its part of the curve holds this share
     cuts: tuple[float, ...] = ()  # the valleys (antimodes); a value at a cut belongs to the cluster above
@@ -427,7 +427,8 @@ class EntryError:
     ratio_to_median: float | None
     suggested: float | None = None  # the value with the decimal point moved, when that lands among the rest
     shift_digits: int | None = None  # how many places the point moved (negative: to the right)
-    # "probable", or "possible" when no shape could be fitted to judge how unusual the value is
+    # "probable" when the evidence is strong (narrator.engine.entry_errors.strong_slip), else "possible":
+    # worth checking against the source records, not judged a slip
     strength: str = "probable"
 
 
@@ -459,6 +460,7 @@ class Unusual:
     entry_error_count: int = 0
     entry_error_reason: str = "none_found"  # "none_found", "found", "many", "not_positive", "not_checked"
     fitted_shape: str | None = None  # "normal" or "lognormal": the shape the values are judged against
+    entry_error_probable_count: int = 0  # of entry_error_count, those with strength "probable"
 
 
 @dataclass(frozen=True, slots=True)

@@ -22,6 +22,12 @@ values, its median (the middle of its sorted values, :func:`narrator.engine.mome
 and where its peak is. The same peaks and shares decide the shape label
 (:func:`narrator.engine.shape.substantial_peaks` reads :func:`peak_regions`), so the number of
 clusters is always the number of peaks the shape speaks of.
+
+**A spike is not a cluster** (our rule): when at least ``SPIKE_SHARE`` (half) of a part's values
+are one and the same value (60 % of households used 0 kWh), that part is a large share at one
+value, which the memo states as that share (narrator.phrasing.selection, ``share_at_one_value``);
+the values are then not said to form clusters (reason ``spike_at_one_value``), so the same
+values are never described twice, once as a share and once as a cluster around that value.
 """
 
 from __future__ import annotations
@@ -32,6 +38,7 @@ from narrator.engine.moments import median_sorted
 from narrator.findings import Cluster, Clusters, Density
 
 SEVERAL_PEAKS = ("bimodal", "multimodal")
+SPIKE_SHARE = 0.5
 
 
 def peak_regions(density: Density) -> tuple[tuple[int, ...], tuple[int, ...], tuple[float, ...]]:
@@ -93,10 +100,20 @@ def find_clusters(sorted_values: np.ndarray, density: Density, shape_label: str,
     parts = []
     for (start, stop), peak in zip(zip(edges, edges[1:], strict=False), peaks, strict=True):
         part = sorted_values[start:stop]
+        if _largest_tie(part) >= SPIKE_SHARE * part.size:
+            return Clusters(count=1, reason="spike_at_one_value", min_peak_share=min_share)
         parts.append(Cluster(low=float(part[0]), high=float(part[-1]), count=int(part.size),
                              share=part.size / n, median=float(median_sorted(part)), peak=peak))
     return Clusters(count=len(parts), reason="several_peaks", min_peak_share=min_share, cuts=tuple(cuts),
                     parts=tuple(parts))
+
+
+def _largest_tie(part: np.ndarray) -> int:
+    """How many values of the sorted ``part`` share one value, at most."""
+    if part.size == 0:
+        return 0
+    starts = np.flatnonzero(np.r_[True, part[1:] != part[:-1], True])
+    return int(np.diff(starts).max())
 
 
 def cluster_of(values, cuts) -> np.ndarray:

@@ -7,6 +7,8 @@ Name                           What it does
 :func:`fitted_shape`           the normal or lognormal shape fitted to the quartiles
 :class:`FittedShape`           a fitted shape's tail probabilities
 :func:`entry_error_reasons`    why one far-out value looks like a slip of typing
+:func:`strong_slip`            whether that evidence is strong enough to call it probable
+:func:`values_are_money`       whether the findings' values are money (unit or cell marks)
 ``INNER_RATE``, ``FAR_RATE``   shares of normal values beyond Tukey's fences
 =============================  ==================================================
 
@@ -40,9 +42,9 @@ is said to stand out. The modified z-score has no far-out band (``no_far_band``)
 generalized ESD test already judges against the size of the sample, so its flagged values are
 the ones that stand out.
 
-**Probable entry errors.** A far-out value (or one flagged by the ESD test) that stands out
-for the fitted shape and whose size a slip of typing explains (our rules, after the common
-checks of data cleaning; the ten-times rule is common practice):
+**Probable entry errors.** A far-out value (or one flagged by the ESD test) whose size a slip
+of typing explains (our rules, after the common checks of data cleaning; the ten-times rule is
+common practice) is a *candidate*:
 
 - ``ten_times_median`` / ``tenth_of_median``: at least ``TEN_TIMES`` (10) times the median, or at
   most a tenth of it;
@@ -50,12 +52,25 @@ checks of data cleaning; the ten-times rule is common practice):
   a low one, by 10, 100 or 1000) lands it between P10 and P90 of the values, among the typical
   ones: 1240 where the typical values are near 124.
 
-Both need positive values (a ratio scale: every value and the median above 0). Without a
-fitted shape, a far-out value that fits a slip of typing is only a ``possible`` entry error.
-Large gifts among small ones in a long right tail are what the lognormal shape predicts, so
-they are not called errors. When more than ``MAX_ENTRY_ERRORS`` (3) or 0.5 % of the values
-qualify, it is a pattern (perhaps another unit), not a few slips: the reason is ``many``, and
-the values are still listed.
+Both need positive values (a ratio scale: every value and the median above 0). A candidate is a
+*probable* entry error only when the evidence is strong (:func:`strong_slip`, one rule for every
+kind of data, our rule):
+
+1. a digit shift: the value moved 1 to 3 places lands in the middle half of the values
+   (between Q1 and Q3), so it is about 10, 100 or 1000 times a typical value; a value that is
+   only ten times the median is not enough (a long tail of large values reaches that far);
+2. it stands out for the fitted shape (above), and, for right-skewed data (a lognormal fit) or
+   money (:func:`values_are_money`), it lies beyond the far-out fence *on the log scale*: ln x
+   above ln Q3 + 3 (ln Q3 - ln Q1), or below ln Q1 - 3 (ln Q3 - ln Q1) (Tukey's far-out fences,
+   ``LOG_FAR_K`` = 3, applied to the logarithms). In a long right tail large values are ordinary:
+   only one far beyond what the tail reaches on its own scale is called a slip.
+
+Every other candidate is a ``possible`` entry error: the memo asks for it to be checked against
+the source records, it does not judge it. Without a fitted shape every candidate is only
+possible. Large gifts among small ones in a long right tail are what the lognormal shape
+predicts, so they are not called errors. When more than ``MAX_ENTRY_ERRORS`` (3) or 0.5 % of
+the values are probable, it is a pattern (perhaps another unit), not a few slips: the reason is
+``many``, and the values are still listed.
 """
 
 from __future__ import annotations
@@ -80,6 +95,7 @@ DECIMAL_PLACES = (1, 2, 3)
 MAX_ENTRY_ERRORS = 3
 MAX_ENTRY_ERROR_SHARE = 0.005
 LISTED_ENTRY_ERRORS = 20
+LOG_FAR_K = 3.0
 
 
 def entry_error_reasons(value: float, median: float, p10: float, p90: float) -> tuple[tuple[str, ...], float | None,
@@ -105,6 +121,48 @@ def entry_error_reasons(value: float, median: float, p10: float, p90: float) -> 
             reasons.append("decimal_shift")
             return tuple(reasons), moved, places if high else -places
     return tuple(reasons), None, None
+
+
+def values_are_money(findings: Findings) -> bool:
+    """Whether the values are money as far as the findings tell: an ISO 4217 unit, or currency marks in the cells.
+
+    >>> from narrator.engine.describe import describe
+    >>> values_are_money(describe([1.0, 2.0, 3.0], unit="EUR")), values_are_money(describe([1.0, 2.0], unit="days"))
+    (True, False)
+    """
+    if findings.provenance.get("currency_symbols"):
+        return True
+    unit = findings.variable.unit
+    if unit and len(unit) == 3 and unit.isalpha() and unit.isupper():
+        from babel.numbers import list_currencies
+
+        return unit in list_currencies()
+    return False
+
+
+def strong_slip(value: float, q1: float, q3: float, *, stands_out: bool, log_scale: bool) -> bool:
+    """Whether a far-out value is a *probable* slip of typing (the module docstring's rule).
+
+    A digit shift of 1 to 3 places lands it between ``q1`` and ``q3``; it stands out for the
+    fitted shape; and, on the log scale (skewed data, money), it lies beyond the far-out fence
+    of the logarithms.
+
+    >>> strong_slip(1240.0, 118.0, 130.0, stands_out=True, log_scale=False)
+    True
+    >>> strong_slip(146.0, 16.0, 31.0, stands_out=True, log_scale=True)  # a long tail reaches that far
+    False
+    """
+    if not (stands_out and value > 0 and q1 > 0 and q3 >= q1):
+        return False
+    high = value > q3
+    shifted = any(q1 <= (value / 10**places if high else value * 10**places) <= q3 for places in DECIMAL_PLACES)
+    if not shifted:
+        return False
+    if not log_scale:
+        return True
+    low_log, high_log = math.log(q1), math.log(q3)
+    reach = LOG_FAR_K * (high_log - low_log)
+    return math.log(value) > high_log + reach if high else math.log(value) < low_log - reach
 
 
 @dataclass(frozen=True, slots=True)
@@ -210,7 +268,8 @@ def unusual_values(findings: Findings) -> Unusual:
     has_fit = base["reason"] == "computed" and (rule == "esd" or fit is not None)
     errors, error_reason = _entry_errors(findings, values, rows, standing, has_fit)
     return Unusual(**base, entry_errors=errors[:LISTED_ENTRY_ERRORS], entry_error_count=len(errors),
-                   entry_error_reason=error_reason)
+                   entry_error_reason=error_reason,
+                   entry_error_probable_count=sum(error.strength == "probable" for error in errors))
 
 
 def _far_out_complete(flagged) -> bool:
@@ -231,15 +290,19 @@ def _entry_errors(findings: Findings, values, rows, standing, has_fit: bool) -> 
     if spread is None or not (spread.min > 0 and median > 0):
         return (), "not_positive"
     found = []
+    fit = fitted_shape(findings) if has_fit else None
+    log_scale = (fit is not None and fit.name == "lognormal") or values_are_money(findings)
     for value, row, out in zip(values, rows, standing, strict=True):
         if has_fit and not out:
             continue  # the fitted shape expects a value this far out: no slip of typing is needed to explain it
         reasons, suggested, places = entry_error_reasons(value, median, spread.p10, spread.p90)
         if reasons:
+            strong = has_fit and strong_slip(value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale)
             found.append(EntryError(value=value, row=row, reasons=reasons, ratio_to_median=value / median,
                                     suggested=suggested, shift_digits=places,
-                                    strength="probable" if has_fit else "possible"))
+                                    strength="probable" if strong else "possible"))
     if not found:
         return (), "none_found"
+    probable = sum(error.strength == "probable" for error in found)
     limit = max(MAX_ENTRY_ERRORS, math.ceil(MAX_ENTRY_ERROR_SHARE * findings.n))
-    return tuple(found), ("many" if len(found) > limit else "found")
+    return tuple(found), ("many" if probable > limit else "found")

@@ -143,15 +143,26 @@ class WordingContext:
         return self.fmt.unit_id is None and self.fmt.currency_code is None and all(
             abs(value) >= COMPACT_FROM for value in values)
 
+    def _as_recorded(self, *values: float) -> int:
+        """The memo's decimals, or the data's own when every value is written exactly with them: a median of
+        whole days that is a whole number of days is "0 days", never "0.0 days" (a count or a data value is
+        written as the data write it; the extra decimal is for statistics that fall between values)."""
+        places = self.data_decimals
+        if places < self.memo_decimals and all(
+                math.isfinite(value) and abs(value - round(value, places)) <= 1e-9 * max(1.0, abs(value))
+                for value in values):
+            return places
+        return self.memo_decimals
+
     def memo(self, value: float) -> str:
         """A memo number with its unit, about two effective digits (Ehrenberg 1981)."""
         if self._compact_memo(value):
             return self.fmt.with_unit(self.fmt.compact(value))
-        return self.fmt.quantity(value, self._memo_places(self.memo_decimals))
+        return self.fmt.quantity(value, self._memo_places(self._as_recorded(value)))
 
     def memo_pair(self, low: float, high: float) -> tuple[str, str]:
         """Both ends of a memo range, the unit written once: ("29", "43 inches") (see numbers.quantity_pair)."""
-        return self.fmt.quantity_pair(low, high, self._memo_places(self.memo_decimals),
+        return self.fmt.quantity_pair(low, high, self._memo_places(self._as_recorded(low, high)),
                                       compact=self._compact_memo(low, high))
 
     def memo_recorded_pair(self, low: float, high: float) -> tuple[str, str]:
@@ -183,6 +194,10 @@ class WordingContext:
     def recorded(self, value: float) -> str:
         """A data value as recorded (its own decimals)."""
         return self.fmt.fixed(value, self.data_decimals)
+
+    def recorded_unit(self, value: float) -> str:
+        """A data value as recorded (its own decimals), with its unit: "21 days"."""
+        return self.fmt.quantity(value, self._memo_places(self.data_decimals))
 
     def stat(self, value: float | None) -> str:
         if value is None or not math.isfinite(value):

@@ -50,6 +50,9 @@ MANY_AT_END_COUNT = 3
 MOST_SHARE = 0.5
 MIN_FOR_SHAPE = 8  # as narrator.phrasing.hedges.MIN_FOR_SHAPE
 SMALL_SAMPLE = 20  # fewer values: the cautions say the figures are a rough guide
+# "A few are much higher": some values, and at most one in ten, lie beyond the outlier rule's fence on
+# that side (our reading of "a few"; 40 % of the values above the rest are not a few).
+FEW_SHARE = 0.10
 
 
 @dataclass(frozen=True, slots=True)
@@ -92,6 +95,8 @@ CLAIM_KINDS: dict[str, str] = {
     "left_out": "the counts left out as missing, non-numeric, impossible and non-finite are those given; "
                 "`missing_texts` (when given) are the texts the missing cells held, '' for blank",
     "mean_value": "the mean of the values is `mean`",
+    "mean_and_median": "the mean of the values is `mean` and their median `median`",
+    "values_listed": "the values, in ascending order, are exactly `values` (fewer than five values)",
     "median_value": "the median of the values is `median`",
     "median_splits": "the median is `median`; within 2 points of half the values (or one value) lie below it "
                      "and as many above",
@@ -440,6 +445,26 @@ def long_tail_high(ctx) -> bool:
 @licence("variable", "the shape label is left-skewed (a long tail of low values)")
 def long_tail_low(ctx) -> bool:
     return ctx.findings.shape.label == "left-skewed"
+
+
+def _few_beyond(ctx, side: str) -> bool:
+    flagged = ctx.findings.outliers
+    if flagged is None or flagged.note == "not_run_too_few":
+        return False
+    count = flagged.count_high if side == "high" else flagged.count_low
+    return 0 < count <= FEW_SHARE * ctx.findings.n
+
+
+@licence("variable", "some values, and at most a tenth of them, lie beyond the outlier rule's upper fence ('a few are "
+                     "much higher')")
+def few_far_high(ctx) -> bool:
+    return _few_beyond(ctx, "high")
+
+
+@licence("variable", "some values, and at most a tenth of them, lie beyond the outlier rule's lower fence ('a few are "
+                     "much lower')")
+def few_far_low(ctx) -> bool:
+    return _few_beyond(ctx, "low")
 
 
 @licence("variable", "the shape has several peaks (bimodal or multimodal)")

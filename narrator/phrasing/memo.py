@@ -32,6 +32,10 @@ from narrator.phrasing.narrative import Paragraph, Sentence
 from narrator.phrasing.selection import Message, select_messages
 
 MAX_SENTENCES = 7
+# Fewer values than this: the memo lists them, with their average and middle value, and judges no shape,
+# center or unusual value (our rule: with four values or fewer, a "typical range", a tail or a value far
+# from the rest is one value's doing; with two, the middle value is the average by definition).
+TINY_N = 5
 
 
 def _missing_texts(ctx: WordingContext) -> str:
@@ -127,7 +131,7 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
     values = {
         "n_values": n_values,
         "median": ctx.memo(center.median),
-        "median_exact": ctx.recorded(center.median),
+        "median_exact": ctx.recorded_unit(center.median),  # "was 21 days: ..., 3% were exactly 21 days"
         "min": ctx.memo_recorded(spread.min),
         "max": ctx.memo_recorded(spread.max),
         "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,
@@ -196,6 +200,8 @@ def _shape(ctx: WordingContext) -> Sentence | None:
     n_values = ctx.count(findings.n, "value")
     if ctx.hedge.level in ("too_few", "unclear"):
         return ctx.say("memo.shape.unsettled", keys, n_values=n_values, claim=claim)
+    if _peaks_are_a_spike(findings):
+        return None  # the share at that one value is said; its spike is no group of its own
     tail = ""
     if shape.label in ("right-skewed", "left-skewed"):
         side = "high" if shape.label == "right-skewed" else "low"
@@ -204,6 +210,13 @@ def _shape(ctx: WordingContext) -> Sentence | None:
     base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
     return ctx.say(f"memo.shape.{shape.label}", keys, n_values=n_values, tail=tail, base=ctx.recorded(base),
                    claim={**claim, "base": base})
+
+
+def _peaks_are_a_spike(findings) -> bool:
+    """The density's peaks come from one value holding a large share (narrator.engine.clusters: a spike is
+    not a cluster), so "the values gather in two groups" would call that share a group."""
+    clusters = findings.clusters
+    return clusters is not None and clusters.reason == "spike_at_one_value"
 
 
 def _why(ctx: WordingContext) -> Sentence | None:
@@ -216,6 +229,8 @@ def _why(ctx: WordingContext) -> Sentence | None:
     if center.lead == "median":
         reasons = center.lead_reasons
         if "several_peaks" in reasons:
+            if _peaks_are_a_spike(findings):
+                return None
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
         # The flagged values first when they move the mean: "the unusual value pulls the average up" is the more
@@ -223,11 +238,11 @@ def _why(ctx: WordingContext) -> Sentence | None:
         count = flagged.count if flagged is not None else 0
         said = None
         if "outliers_move_mean" in reasons:
-            said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean"), subject=(count, "value"),
-                           mean=mean, claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
+            said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean", "center.median"),
+                           subject=(count, "value"), mean=mean, median=ctx.memo(center.median), claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
         if said is None and "skewed" in reasons:
-            said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean"), mean=mean,
-                           claim={**claim, "cause": "tail", "label": findings.shape.label})
+            said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean", "center.median"),
+                           mean=mean, median=ctx.memo(center.median), claim={**claim, "cause": "tail", "label": findings.shape.label})
         return said
     return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
                    claim={**claim, "sd": findings.spread.sd})
@@ -580,9 +595,12 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
            **flagged_claim(ctx.findings)}
     out = []
     values = numbers["values"]
+    rows = numbers.get("rows", ())
     if values:
+        # Each value with its row, so the reader can check it against the source records (the sentence asks it).
+        named = list(zip(values, rows, strict=True)) if len(rows) == len(values) else []
         distinct = list(dict.fromkeys(ctx.memo_recorded(value) for value in values))
-        shown = ctx.fmt.list(distinct[:LISTED])
+        shown = _items(ctx, named) if named else ctx.fmt.list(distinct[:LISTED])
         if unusual.complete and len(values) <= LISTED and len(distinct) == len(values):
             out.append(ctx.say("memo.unusual.values", message.keys, subject=(len(values), "value"),
                                claim={**far, "values": list(values)}, count=ctx.count(len(values), "value"),
@@ -600,7 +618,7 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
                                   "expected": numbers["expected_beyond_fences"]},
                            count=ctx.whole(numbers["count_beyond_fences"]),
                            expected=ctx.whole(numbers["expected_beyond_fences"])))
-    possible = numbers["possible_errors"]
+    possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
     if possible:
         out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
@@ -663,7 +681,10 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
         parts["range"] = [] if said_range else [_range(ctx)]
         if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
             parts["shape"] = [_shape(ctx)]
-            parts["why"] = [_why(ctx)]
+            # Most values at one end: the share said it; "the middle value is the better guide" would point
+            # at that end value as typical, which no statistician would say.
+            at_one_end = said_range or said.lead
+            parts["why"] = [] if at_one_end else [_why(ctx)]
     return {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
 
 
@@ -690,6 +711,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     findings = ctx.findings
     if findings.n == 0 or findings.center is None:
         return Paragraph((ctx.say("quality.no_values", ("n",), claim={"n": 0}), memo_caution(ctx)))
+    if 2 <= findings.n < TINY_N and findings.spread.range > 0:
+        return Paragraph(tuple(_tiny(ctx)))
     messages = select_messages(findings, comparison=groups.comparison if groups is not None else None,
                                currency=ctx.fmt.currency_code)
     clustered = any(message.code == "clusters" for message in messages)
@@ -716,6 +739,9 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     if groups is not None:
         blocks.append(("together", _together_sentences(ctx, groups, said)))
     mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)
+    # A sentence that named values standing out already asked for them to be checked: no second caution.
+    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind == "stand_out" for s in sentences)
+                      for code, sentences in blocks)
     fixed = sum(len(sentences) for _, sentences in blocks) + len(_left_out(ctx)) + 1
     for name in DROPPED_FIRST:
         if fixed + sum(len(sentences) for sentences in center.values()) <= MAX_SENTENCES:
@@ -730,8 +756,37 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
             sentences.extend(_left_out(ctx))
     if not any(s.claims and s.claims[0].kind == "left_out" for s in sentences):
         sentences.extend(_left_out(ctx))
-    sentences.append(memo_caution(ctx, mentioned_unusual or findings.unusual is None))
+    sentences.append(memo_caution(ctx, (mentioned_unusual or findings.unusual is None) and not asked_check))
     return Paragraph(tuple(sentences))
+
+
+def tiny_values(findings) -> list[float]:
+    """The values of fewer than :data:`TINY_N`, ascending, from the findings' ends and their counts.
+
+    With at most four values there are at most two besides the lowest and highest ones, and
+    ``order_counts`` gives them (the next value above the lowest, the next below the highest).
+    """
+    spread, counts = findings.spread, findings.order_counts
+    middle = findings.n - counts.at_min - counts.at_max
+    inner = [] if middle <= 0 else [counts.next_above_min] if middle == 1 else [counts.next_above_min,
+                                                                                 counts.next_below_max]
+    return [spread.min] * counts.at_min + [float(value) for value in inner] + [spread.max] * counts.at_max
+
+
+def _tiny(ctx: WordingContext) -> list[Sentence]:
+    """Two to four values: the values, their average (and middle value), what was left out, the caution."""
+    findings = ctx.findings
+    values = tiny_values(findings)
+    shown = [ctx.memo_recorded_pair(value, values[-1])[0] for value in values[:-1]] + [ctx.memo_recorded(values[-1])]
+    out = [ctx.say("memo.tiny.values", ("n", "spread.min", "spread.max", "order_counts"), subject=(findings.n, "value"),
+                   n_values=ctx.count(findings.n, "value"), values=ctx.fmt.number_list(shown),
+                   claim={"values": values, "n": findings.n})]
+    center = findings.center
+    out.append(ctx.say("memo.tiny.center", ("center.mean", "center.median"), mean=ctx.memo(center.mean),
+                       median=ctx.memo(center.median), claim={"mean": center.mean, "median": center.median}))
+    out += _left_out(ctx)
+    out.append(memo_caution(ctx, flagged_said=False))
+    return [sentence for sentence in out if sentence is not None]
 
 
 GROUP_CODES = ("group_difference", "groups_alike", "groups_unclear")

@@ -65,6 +65,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
+from narrator.engine.entry_errors import values_are_money
 from narrator.findings import Findings, GroupComparison
 
 SMALL_EFFECT = 0.2  # as narrator.engine.group_difference: Cohen's small standardized difference
@@ -106,16 +107,9 @@ class Message:
 
 
 def is_money(findings: Findings, currency: str | None = None) -> bool:
-    """Whether the values are money: a currency given, an ISO 4217 unit, or currency marks in the cells."""
-    if currency:
-        return True
-    unit = findings.variable.unit
-    if unit and len(unit) == 3 and unit.isalpha() and unit.isupper():
-        from babel.numbers import list_currencies
-
-        if unit in list_currencies():
-            return True
-    return bool(findings.provenance.get("currency_symbols"))
+    """Whether the values are money: a currency given, an ISO 4217 unit, or currency marks in the cells
+    (the last two as the engine decides them, narrator.engine.entry_errors.values_are_money)."""
+    return bool(currency) or values_are_money(findings)
 
 
 def select_messages(findings: Findings, *, comparison: GroupComparison | None = None,
@@ -279,7 +273,7 @@ def _entry_error_messages(findings: Findings) -> list[Message]:
     keys = tuple(f"unusual.entry_errors.{k}.{name}" for k, _ in probable for name in ("value", "row"))
     return [Message("entry_error", score, keys, {
         "errors": tuple((error.value, error.row, error.suggested) for _, error in probable),
-        "count": unusual.entry_error_count, "pattern": unusual.entry_error_reason == "many"})]
+        "count": unusual.entry_error_probable_count, "pattern": unusual.entry_error_reason == "many"})]
 
 
 def _moves_lead(findings: Findings, values: list[float]) -> bool:
@@ -313,9 +307,12 @@ def _stand_out_message(findings: Findings) -> Message | None:
         return None
     possible = tuple((error.value, error.row) for error in unusual.entry_errors if error.strength == "possible")
     probable = {error.value for error in unusual.entry_errors if error.strength == "probable"}
-    values = tuple(value for value in unusual.values if value not in probable)
+    kept = [(value, row) for value, row in zip(unusual.values, unusual.rows or (None,) * len(unusual.values),
+                                                strict=True) if value not in probable]
+    values = tuple(value for value, _ in kept)
     if not values and not unusual.excess and not possible:
         return None
     return Message("stand_out", SCORE["stand_out"], ("unusual.values", "unusual.excess", "unusual.entry_errors"), {
-        "values": values, "excess": unusual.excess, "count_beyond_fences": unusual.count_beyond_fences,
+        "values": values, "rows": tuple(row for _, row in kept) if all(row is not None for _, row in kept) else (),
+        "excess": unusual.excess, "count_beyond_fences": unusual.count_beyond_fences,
         "expected_beyond_fences": unusual.expected_beyond_fences, "possible_errors": possible})

@@ -42,13 +42,18 @@ def key_figures_table(ctx: WordingContext) -> Table | None:
     ]
     if findings.outliers is not None and findings.outliers.note != "not_run_too_few":
         rows.append((ctx.text(f"{key}.unusual"), ctx.whole(findings.outliers.count)))
+        unusual = findings.unusual
+        if unusual is not None and unusual.reason == "computed" and unusual.complete and findings.outliers.count:
+            # The memo names only the values that stand out for the shape: the table says how many of the
+            # rule's values those are, so the two counts cannot be read as contradicting each other.
+            rows.append((ctx.text(f"{key}.stand_out"), ctx.whole(len(unusual.values))))
     return Table(
         key="key_figures",
         caption=ctx.caption(f"{key}.caption", name=ctx.name),
         header=(ctx.text(f"{key}.measure"), ctx.text(f"{key}.value")),
         rows=tuple(rows),
         keys=("n", "center.median", "center.mean", "spread.q1", "spread.q3", "spread.min", "spread.max",
-              "outliers.count"),
+              "outliers.count", "unusual.values"),
         align=("left", "right"),
     )
 

@@ -274,6 +274,17 @@ def check_median_value(c, raw, p):
     _same("median", c["median"], raw.median, raw, p)
 
 
+def check_mean_and_median(c, raw, p):
+    check_mean_value(c, raw, p)
+    check_median_value(c, raw, p)
+
+
+def check_values_listed(c, raw, p):
+    listed, actual = list(c["values"]), sorted(raw.values.tolist())
+    _problem(len(listed) == len(actual) and all(close(a, b, raw.scale, 1e-12) for a, b in zip(listed, actual)),
+             f"the values listed {listed} are not the values {actual}", p)
+
+
 def check_median_splits(c, raw, p):
     check_median_value(c, raw, p)
     below, above = int((raw.values < raw.median).sum()), int((raw.values > raw.median).sum())
@@ -1093,6 +1104,7 @@ def _money_concentrated(raw: Raw, c) -> bool:
 CHECKS = {
     "single_value": check_single_value, "all_equal": check_all_equal, "count": check_count,
     "left_out": check_left_out, "mean_value": check_mean_value, "median_value": check_median_value,
+    "mean_and_median": check_mean_and_median, "values_listed": check_values_listed,
     "median_splits": check_median_splits, "median_with_ties": check_median_with_ties,
     "share_at_minimum": check_share_at_minimum, "share_at_maximum": check_share_at_maximum,
     "middle_half": check_middle_half, "share_between": check_share_between, "value_range": check_value_range,

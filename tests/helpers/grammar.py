@@ -85,6 +85,7 @@ MINIMUM = {
     "memo.lead.constant": 2,  # n_is_one goes to memo.lead.single
     "memo.outliers.both": 2,  # one value below the lower fence and one above the upper
     "memo.lead.median": 2, "memo.lead.mean": 2,  # n_is_one goes to memo.lead.single
+    "memo.tiny.values": 2,  # narrator.phrasing.memo: two to four values (n_is_one goes to memo.lead.single)
 }
 
 # Keys whose text is a sentence a reader reads (not a table cell, an axis label or a format).

@@ -251,7 +251,12 @@ def test_item6_one_two_or_three_values(values):
     if len(values) == 1:
         assert "There was only one value: 50." in text and "All the values are the same" not in text
     else:
-        assert f"The values ran from {min(values):.0f} to {max(values):.0f}." in text
+        # Fewer than five values: the values themselves, and no judgement of shape or center (with two,
+        # the middle value is the average by definition).
+        listed = " and ".join(f"{value:.0f}" for value in values) if len(values) == 2 else \
+            ", ".join(f"{value:.0f}" for value in values[:-1]) + f", and {values[-1]:.0f}"
+        assert f"were {listed}." in text
+        assert "close to the average" not in memo(findings) and "better guide" not in memo(findings)
     assert_claims_hold(values, {})
 
 
