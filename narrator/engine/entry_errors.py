@@ -57,8 +57,10 @@ Both need positive values (a ratio scale: every value and the median above 0). A
 kind of data, our rule):
 
 1. a digit shift: the value moved 1 to 3 places lands in the middle half of the values
-   (between Q1 and Q3), so it is about 10, 100 or 1000 times a typical value; a value that is
-   only ten times the median is not enough (a long tail of large values reaches that far);
+   (between Q1 and Q3) *on a value the data could hold* (with no more decimals than the data
+   are recorded with: 1240 for 124, 54750 for 54.75 in cents, never 158 whole days for 15.8),
+   so it is 10, 100 or 1000 times a plausible typical value; a value that is only ten times the
+   median is not enough (a long tail of large values reaches that far);
 2. it stands out for the fitted shape (above), and, for right-skewed data (a lognormal fit) or
    money (:func:`values_are_money`), it lies beyond the far-out fence *on the log scale*: ln x
    above ln Q3 + 3 (ln Q3 - ln Q1), or below ln Q1 - 3 (ln Q3 - ln Q1) (Tukey's far-out fences,
@@ -140,23 +142,34 @@ def values_are_money(findings: Findings) -> bool:
     return False
 
 
-def strong_slip(value: float, q1: float, q3: float, *, stands_out: bool, log_scale: bool) -> bool:
+def strong_slip(value: float, q1: float, q3: float, *, stands_out: bool, log_scale: bool,
+                decimals: int | None = None) -> bool:
     """Whether a far-out value is a *probable* slip of typing (the module docstring's rule).
 
-    A digit shift of 1 to 3 places lands it between ``q1`` and ``q3``; it stands out for the
-    fitted shape; and, on the log scale (skewed data, money), it lies beyond the far-out fence
-    of the logarithms.
+    A digit shift of 1 to 3 places lands it between ``q1`` and ``q3``, on a value with at most
+    ``decimals`` decimals (the data's own; None: not checked); it stands out for the fitted
+    shape; and, on the log scale (skewed data, money), it lies beyond the far-out fence of the
+    logarithms.
 
-    >>> strong_slip(1240.0, 118.0, 130.0, stands_out=True, log_scale=False)
+    >>> strong_slip(1240.0, 118.0, 130.0, stands_out=True, log_scale=False, decimals=0)
     True
     >>> strong_slip(146.0, 16.0, 31.0, stands_out=True, log_scale=True)  # a long tail reaches that far
+    False
+    >>> strong_slip(158.0, 12.0, 16.0, stands_out=True, log_scale=False, decimals=0)  # 15.8 is no whole day
     False
     """
     if not (stands_out and value > 0 and q1 > 0 and q3 >= q1):
         return False
     high = value > q3
-    shifted = any(q1 <= (value / 10**places if high else value * 10**places) <= q3 for places in DECIMAL_PLACES)
-    if not shifted:
+
+    def holdable(number: float) -> bool:
+        if decimals is None:
+            return True
+        scaled = number * 10**decimals
+        return abs(scaled - round(scaled)) <= 1e-6 * max(1.0, abs(scaled))
+
+    moved = (value / 10**places if high else value * 10**places for places in DECIMAL_PLACES)
+    if not any(q1 <= number <= q3 and holdable(number) for number in moved):
         return False
     if not log_scale:
         return True
@@ -297,7 +310,8 @@ def _entry_errors(findings: Findings, values, rows, standing, has_fit: bool) -> 
             continue  # the fitted shape expects a value this far out: no slip of typing is needed to explain it
         reasons, suggested, places = entry_error_reasons(value, median, spread.p10, spread.p90)
         if reasons:
-            strong = has_fit and strong_slip(value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale)
+            strong = has_fit and strong_slip(value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale,
+                                             decimals=max(0, int(findings.variable.decimals)))
             found.append(EntryError(value=value, row=row, reasons=reasons, ratio_to_median=value / median,
                                     suggested=suggested, shift_digits=places,
                                     strength="probable" if strong else "possible"))

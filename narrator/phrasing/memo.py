@@ -239,10 +239,12 @@ def _why(ctx: WordingContext) -> Sentence | None:
         said = None
         if "outliers_move_mean" in reasons:
             said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean", "center.median"),
-                           subject=(count, "value"), mean=mean, median=ctx.memo(center.median), claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
+                           subject=(count, "value"), mean=mean, median=ctx.memo(center.median),
+                           claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
         if said is None and "skewed" in reasons:
             said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean", "center.median"),
-                           mean=mean, median=ctx.memo(center.median), claim={**claim, "cause": "tail", "label": findings.shape.label})
+                           mean=mean, median=ctx.memo(center.median),
+                           claim={**claim, "cause": "tail", "label": findings.shape.label})
         return said
     return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
                    claim={**claim, "sd": findings.spread.sd})

@@ -1,0 +1,143 @@
+"""The memo says only what its data license: one test per defect a reader found, with the kind of data
+that showed it (generated from fixed seeds; the answer each must give is known by construction).
+
+- right-skewed waits whose long tail reaches 133 to 158 days: not typing errors, worth checking;
+- a value typed with a digit shift among symmetric readings: still a probable typing error;
+- money with a few huge gifts: only a digit shift far beyond the log-scale far fence is a probable slip;
+- the key-figures table says how many of the rule's unusual values stand out for the shape;
+- a spike of zeros beside a bulk of values: a share at one value, never a cluster;
+- "the better guide" names the middle value; "a few are much higher" only when a few are;
+- fewer than five values: the values themselves, no shape or center judgement;
+- numbers written as the data write them ("0 visits", "21 days:").
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from narrator.engine.describe import describe
+from narrator.engine.entry_errors import LOG_FAR_K, strong_slip
+from narrator.phrasing import narrate
+
+
+def memo(findings, locale="en_US", **options) -> str:
+    return narrate(findings, "memo", locale, **options).plain_text()
+
+
+def summary(findings, locale="en_US", **options) -> str:
+    return narrate(findings, "memo", locale, **options).sections[0].paragraphs[0].text
+
+
+def _waits() -> np.ndarray:
+    # Days to a first payment: lognormal around 21 days, and a long tail that reaches 133 to 158 days.
+    values = np.round(np.random.default_rng(7).lognormal(np.log(21), 0.45, 300))
+    return np.concatenate([values, [133.0, 146.0, 158.0]])
+
+
+def test_a_long_right_tail_is_worth_checking_not_a_typing_error():
+    found = describe(_waits(), unit="days", lower_bound=0)
+    assert found.unusual.fitted_shape == "lognormal"
+    assert all(error.strength == "possible" for error in found.unusual.entry_errors)
+    for locale, words in (("en_US", "worth checking against the source records"),
+                          ("es_ES", "conviene contrastarlos con los registros de origen"),
+                          ("fr_FR", "mieux vaut les vérifier dans les documents d\u2019origine")):
+        text = summary(found, locale)
+        assert words in text.replace("'", "\u2019") or words.replace("\u2019", "'") in text, (locale, text)
+    text = summary(found)
+    assert "typing" not in text and "(row 302)" in text  # each value with its row, to check
+
+
+def test_the_log_scale_far_fence_decides_for_skewed_data():
+    # Middle half 16 to 31 days: the far fence on the log scale is 31 * (31 / 16) ** 3, about 226 days.
+    reach = np.exp(np.log(31) + LOG_FAR_K * (np.log(31) - np.log(16)))
+    assert 225 < reach < 227
+    assert not strong_slip(210.0, 16.0, 31.0, stands_out=True, log_scale=True)  # 21 typed as 210: inside
+    assert strong_slip(2100.0, 16.0, 31.0, stands_out=True, log_scale=True)  # 21 typed as 2100: far beyond
+    assert not strong_slip(2100.0, 16.0, 31.0, stands_out=False, log_scale=True)
+    assert not strong_slip(500.0, 16.0, 31.0, stands_out=True, log_scale=True)  # 50, 5: no typical value
+
+
+def test_a_digit_shift_in_symmetric_readings_is_still_a_probable_typing_error():
+    values = np.round(np.random.default_rng(1).normal(124, 8, 200))
+    values[56] = 1240.0
+    found = describe(values, unit="mmHg")
+    (error,) = found.unusual.entry_errors
+    assert error.strength == "probable"
+    assert "is probably a typing error" in summary(found)
+
+
+def test_huge_gifts_are_called_slips_only_with_a_digit_shift_far_beyond_the_tail():
+    gifts = np.round(np.random.default_rng(7).lognormal(np.log(120), 0.9, 400), 2)
+    q1, q3 = np.quantile(gifts, [0.25, 0.75])
+    # 240,000: no shift of 1 to 3 places lands it in the middle half; a value near 7 times the top quartile
+    # lies inside the log-scale far fence.
+    high_no_shift = 240000.0
+    assert not any(q1 <= high_no_shift / 10**k <= q3 for k in (1, 2, 3))
+    found = describe(np.concatenate([gifts, [high_no_shift]]), unit="USD", lower_bound=0)
+    (error,) = [e for e in found.unusual.entry_errors if e.value == high_no_shift]
+    assert error.strength == "possible"
+    text = summary(found, currency="USD")
+    assert "typing" not in text and "worth checking against the source records" in text
+
+
+def test_the_table_says_how_many_of_the_rules_values_stand_out():
+    found = describe(_waits(), unit="days", lower_bound=0)
+    table = next(table for section in narrate(found, "memo").sections for table in section.tables
+                 if table.key == "key_figures")
+    rows = dict(table.rows)
+    assert rows["Unusual values (outlier rule)"] == str(found.outliers.count)
+    assert rows["Of these, standing out for this shape"] == str(len(found.unusual.values))
+    assert len(found.unusual.values) < found.outliers.count
+
+
+def test_a_spike_of_zeros_is_a_share_not_a_cluster():
+    # Energy use: 60 % of households used 0 kWh, the rest near 10 kWh (one decimal).
+    rng = np.random.default_rng(3)
+    values = np.concatenate([np.zeros(240), np.round(rng.normal(10, 3, 160), 1).clip(0.5)])
+    found = describe(values, unit="kWh", lower_bound=0)
+    assert found.clusters.count == 1 and found.clusters.reason == "spike_at_one_value"
+    text = summary(found)
+    assert "60%" in text and "cluster" not in text and "groups" not in text
+
+
+def test_the_better_guide_names_the_middle_value():
+    found = describe(_waits(), unit="days", lower_bound=0)
+    text = summary(found)
+    assert "so the middle value, 20 days, is the better guide" in text
+    assert "la valeur du milieu, 20\u00a0jours, est donc un meilleur repère" in summary(found, "fr_FR")
+
+
+def test_a_few_is_said_only_of_a_few():
+    # Visits: 60 % none, the rest spread evenly over 1 to 20; 40 % are not "a few".
+    rng = np.random.default_rng(3)
+    values = np.concatenate([np.zeros(240), rng.integers(1, 21, 160)]).astype(float)
+    found = describe(values, unit="visits", lower_bound=0)
+    assert found.shape.label == "right-skewed"
+    text = summary(found)
+    assert "a few" not in text and "better guide" not in text  # the middle value is the lowest, 0 visits
+    assert "unos pocos" not in summary(found, "es_ES") and "quelques" not in summary(found, "fr_FR")
+
+
+@pytest.mark.parametrize(("values", "listed", "center"), [
+    ([4.0, 9.0], "The two values were 4 and 9 days.", "Their average was 6.5 days."),
+    ([4.0, 9.0, 30.0], "The three values were 4, 9, and 30 days.",
+     "Their average was 14 days and their middle value 9 days."),
+    ([4.0, 9.0, 9.0, 30.0], "The four values were 4, 9, 9, and 30 days.",
+     "Their average was 13 days and their middle value 9 days."),
+])
+def test_fewer_than_five_values_are_listed_without_judgement(values, listed, center):
+    found = describe(values, unit="days")
+    text = summary(found)
+    assert listed in text and center in text
+    for judgement in ("close to the average", "better guide", "fairly low", "stand", "far from the rest"):
+        assert judgement not in text
+
+
+def test_numbers_are_written_as_the_data_write_them():
+    found = describe(_waits(), unit="days", lower_bound=0)
+    assert "was 20 days: " in summary(found) and "exactly 20 days" in summary(found)
+    rng = np.random.default_rng(3)
+    visits = describe(np.concatenate([np.zeros(240), rng.integers(1, 21, 160)]).astype(float), unit="visits")
+    text = memo(visits)
+    assert "0.0" not in text and "0 visits" in text
