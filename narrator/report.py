@@ -298,7 +298,7 @@ def report_from_collection(
         clean_stale(output)
         moment = generation_time(generated_at)
         previous = previous_build(output)
-        findings_set = collection.findings_set(_baselines(collection, previous.findings_set))
+        findings_set = collection.findings_set(*_baselines(collection, previous.findings_set))
         narrative = narrate_set(findings_set, SetOptions(audience=audience, locale=locale, currency=currency,
                                                          title=title))
         announce("drawing the figures")
@@ -329,17 +329,25 @@ def report_from_collection(
     return ReportOutcome(Path(output), sidecar, collection.variables[0].findings, narrative, moment, notes)
 
 
-def _baselines(collection: Collection, previous: FindingsSet | None) -> list[Findings | None]:
+def _baselines(collection: Collection, previous: FindingsSet | None) -> tuple[list[Findings | None], list[tuple]]:
+    """Per variable, the earlier findings it is compared with, and the shown groups of that earlier build
+    (grouped by the same column; the last build's, or, for unchanged data, those it was compared with)."""
     if previous is None:
-        return []
+        return [], []
     earlier = {item.findings.variable.name: item for item in previous.variables}
-    chosen = []
+    same_grouping = previous.group_by is not None and previous.group_by == collection.group_by
+    chosen, groups = [], []
     for part in collection.variables:
         match = earlier.get(part.findings.variable.name)
         if match is not None and (match.findings.variable.unit or None) != (part.findings.variable.unit or None):
             match = None  # another unit: no comparison, rather than a wrong one
-        chosen.append(None if match is None else baseline_for(part.findings, match.findings, match.baseline))
-    return chosen
+        baseline = None if match is None else baseline_for(part.findings, match.findings, match.baseline)
+        chosen.append(baseline)
+        if baseline is None or not same_grouping:
+            groups.append(())
+        else:
+            groups.append(match.groups if baseline is match.findings else match.group_baselines)
+    return chosen, groups
 
 
 def _collection_figures(collection: Collection, narrative: Narrative, *, locale: str) -> list[RenderedFigure]:

@@ -73,3 +73,14 @@ def test_a_memo_is_one_page_per_variable_from_10_to_a_million_values(office, tmp
         text = pdf_text(pdf)
         assert digest in text, (docx.name, "the SHA-256 breaks across lines")
         assert "How this report was made" in text and "findings.json" in text
+
+
+def test_the_demos_grouped_memo_of_two_variables_after_a_refresh_is_two_pages(office, tmp_path):
+    # The demo's housing memo: two variables by office, each with what changed since October's build.
+    result = subprocess.run([sys.executable, "-m", "narrator", "demo", "-o", str(tmp_path / "demo")],
+                            capture_output=True, text=True, timeout=900, check=False)
+    assert result.returncode == 0, result.stderr
+    pdf = convert(office, tmp_path / "demo" / "reports" / "housing-memo.docx", "pdf", tmp_path)
+    text = pdf_text(pdf)
+    assert text.count("What changed since the previous data") == 2
+    assert _pages(pdf) == 2

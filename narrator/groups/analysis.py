@@ -79,13 +79,16 @@ class Collection:
     group_by: str | None = None
     privacy_threshold: int | None = None
 
-    def findings_set(self, baselines: Sequence[Findings | None] = ()) -> FindingsSet:
+    def findings_set(self, baselines: Sequence[Findings | None] = (),
+                     group_baselines: Sequence[tuple[GroupFindings, ...]] = ()) -> FindingsSet:
         """What the sidecar records: findings only, suppressed groups as a count.
 
         ``baselines`` gives, per variable, the earlier findings this build is
-        compared with (None where there are none).
+        compared with (None where there are none); ``group_baselines`` the shown
+        groups of that same earlier build (empty where there are none).
         """
         chosen = tuple(baselines) + (None,) * (len(self.variables) - len(baselines))
+        earlier_groups = tuple(group_baselines) + ((),) * (len(self.variables) - len(group_baselines))
         return FindingsSet(
             variables=tuple(
                 VariableFindings(
@@ -95,8 +98,9 @@ class Collection:
                     ungrouped_values=part.ungrouped_values,
                     baseline=baseline,
                     comparison=part.comparison,
+                    group_baselines=tuple(earlier) if baseline is not None else (),
                 )
-                for part, baseline in zip(self.variables, chosen, strict=True)
+                for part, baseline, earlier in zip(self.variables, chosen, earlier_groups, strict=True)
             ),
             group_by=self.group_by,
             privacy_threshold=self.privacy_threshold,

@@ -47,6 +47,7 @@ JSON layout (schema version 1)::
          "groups": [{"label": "A", "findings": {...}}, ...],
          "suppressed_groups": 1, "ungrouped_values": 0,
          "baseline": {...the earlier findings compared with, when any...},
+         "group_baselines": [{"label": "A", "findings": {...}}, ...],  (that build's shown groups, when any)
          "comparison": {...the groups compared with each other, when grouped...}}, ...]}
 
 Suppressed groups appear only as a count: no label, no value, no findings.
@@ -99,6 +100,8 @@ class VariableFindings:
     ungrouped_values: int = 0
     baseline: Findings | None = None
     comparison: GroupComparison | None = None
+    # The groups of the build ``baseline`` comes from, so a grouped report can say which group moved.
+    group_baselines: tuple[GroupFindings, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -124,6 +127,9 @@ class FindingsSet:
                     **({"baseline": item.baseline.to_dict()} if item.baseline is not None else {}),
                     **({"comparison": findings_module.encode_part(item.comparison)}
                        if item.comparison is not None else {}),
+                    **({GROUP_BASELINES_KEY: [{"label": group.label, "findings": group.findings.to_dict()}
+                                              for group in item.group_baselines]}
+                       if item.group_baselines else {}),
                 }
                 for item in self.variables
             ],
@@ -145,17 +151,19 @@ class FindingsSet:
         for number, entry in enumerate(entries, start=1):
             if not isinstance(entry, dict) or not isinstance(entry.get("findings"), dict):
                 raise NarratorError(f"findings set: variable {number} must be an object with 'findings'")
-            groups = []
-            for group in entry.get("groups", []):
-                if not isinstance(group, dict) or not isinstance(group.get("label"), str):
-                    raise NarratorError(f"findings set: variable {number} has a group without a label")
-                groups.append(GroupFindings(group["label"], Findings.from_dict(group["findings"])))
+            groups, group_baselines = [], []
+            for key, into in (("groups", groups), (GROUP_BASELINES_KEY, group_baselines)):
+                for group in entry.get(key, []):
+                    if not isinstance(group, dict) or not isinstance(group.get("label"), str):
+                        raise NarratorError(f"findings set: variable {number} has a group without a label")
+                    into.append(GroupFindings(group["label"], Findings.from_dict(group["findings"])))
             variables.append(VariableFindings(
                 findings=Findings.from_dict(entry["findings"]),
                 groups=tuple(groups),
                 suppressed_groups=int(entry.get("suppressed_groups", 0)),
                 ungrouped_values=int(entry.get("ungrouped_values", 0)),
                 baseline=Findings.from_dict(entry["baseline"]) if isinstance(entry.get("baseline"), dict) else None,
+                group_baselines=tuple(group_baselines),
                 comparison=(findings_module.decode_part(GroupComparison, entry["comparison"],
                                                         f"variable {number} comparison")
                             if isinstance(entry.get("comparison"), dict) else None),
@@ -205,6 +213,7 @@ def loads_any(text: str) -> FindingsSet:
 
 MAX_DEPTH = 32  # nesting of the free-form parts (options, provenance, details) a sidecar may hold
 BASELINE_KEY = "baseline"
+GROUP_BASELINES_KEY = "group_baselines"
 _VOCABULARIES = {
     ("Center", "lead"): findings_module.LEAD_MEASURES,
     ("WithoutOutliers", "lead_without"): findings_module.LEAD_MEASURES,
@@ -338,13 +347,14 @@ def check_sidecar(data: Any) -> None:
         _check_findings(entry.get("findings"), f"{where} findings")
         if entry.get(BASELINE_KEY) is not None:
             _check_findings(entry[BASELINE_KEY], f"{where} baseline")
-        groups = entry.get("groups", [])
-        if not isinstance(groups, list):
-            raise NarratorError(f"{where} groups must be a list")
-        for group in groups:
-            if not isinstance(group, dict) or not isinstance(group.get("label"), str):
-                raise NarratorError(f"{where} has a group without a label")
-            _check_findings(group.get("findings"), f"{where} group {json.dumps(group['label'])[:40]}")
+        for key, word in (("groups", "group"), (GROUP_BASELINES_KEY, "baseline group")):
+            groups = entry.get(key, [])
+            if not isinstance(groups, list):
+                raise NarratorError(f"{where} {key} must be a list")
+            for group in groups:
+                if not isinstance(group, dict) or not isinstance(group.get("label"), str):
+                    raise NarratorError(f"{where} has a {word} without a label")
+                _check_findings(group.get("findings"), f"{where} {word} {json.dumps(group['label'])[:40]}")
         for key in ("suppressed_groups", "ungrouped_values"):
             count = entry.get(key, 0)
             if isinstance(count, bool) or not isinstance(count, int) or not 0 <= count < _LARGEST_WHOLE:

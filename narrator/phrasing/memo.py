@@ -603,7 +603,7 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
         named = list(zip(values, rows, strict=True)) if len(rows) == len(values) else []
         distinct = list(dict.fromkeys(ctx.memo_recorded(value) for value in values))
         shown = _items(ctx, named) if named else ctx.fmt.list(distinct[:LISTED])
-        if unusual.complete and len(values) <= LISTED and len(distinct) == len(values):
+        if unusual.complete and len(values) <= LISTED and (named or len(distinct) == len(values)):
             out.append(ctx.say("memo.unusual.values", message.keys, subject=(len(values), "value"),
                                claim={**far, "values": list(values)}, count=ctx.count(len(values), "value"),
                                values=shown))

@@ -150,8 +150,9 @@ def _overview_section(contexts, findings_set: FindingsSet) -> Section:
 # --------------------------------------------------------------------------- groups
 
 
-def _suppressed_sentence(ctx: WordingContext, count: int, threshold: int | None) -> Sentence:
-    return ctx.say("groups.suppressed", ("suppressed_groups",), subject=(count, "group"),
+def _suppressed_sentence(ctx: WordingContext, count: int, threshold: int | None, key: str = "groups.suppressed"
+                         ) -> Sentence:
+    return ctx.say(key, ("suppressed_groups",), subject=(count, "group"),
                    groups=ctx.count(count, "group"), threshold=ctx.whole(threshold or 0),
                    claim={"suppressed": count, "threshold": threshold})
 
@@ -329,7 +330,11 @@ def _groups_section(ctx: WordingContext, item: VariableFindings, findings_set: F
     notes = [ctx.say("groups.method", ("privacy_threshold",), group=group_by,
                      threshold=ctx.whole(findings_set.privacy_threshold or 0))]
     if not overview and item.suppressed_groups:
-        notes.append(_suppressed_sentence(ctx, item.suppressed_groups, findings_set.privacy_threshold))
+        # A memo says the privacy rule once, in fewer words: the suppressed groups' sentence names the threshold.
+        memo = audience == "memo"
+        suppressed = _suppressed_sentence(ctx, item.suppressed_groups, findings_set.privacy_threshold,
+                                          "groups.suppressed_memo" if memo else "groups.suppressed")
+        notes = [suppressed] if memo else [*notes, suppressed]
     # How many groups were suppressed is said once, in the overview (when there is one); here the rule is enough.
     if item.ungrouped_values:
         notes.append(ctx.say("groups.ungrouped", ("ungrouped_values",), subject=(item.ungrouped_values, "value"),
@@ -351,17 +356,56 @@ def _groups_section(ctx: WordingContext, item: VariableFindings, findings_set: F
 # --------------------------------------------------------------------------- the whole
 
 
-def _changes_part(item: VariableFindings, options: SetOptions, index: int) -> Section:
+def _changes_part(item: VariableFindings, options: SetOptions, index: int, group_by: str | None = None) -> Section:
     """What changed since the build this one is compared with (narrator.history.changes), as a level-2 section."""
     from narrator.history.changes import compare
     from narrator.phrasing.what_changed import changes_section
 
     section = changes_section(compare(item.baseline, item.findings), item.baseline, item.findings,
-                              locale=options.locale, currency=options.currency)
-    if options.audience == "memo" and len(section.paragraphs) > 1:
-        # A memo keeps what changed; how a change is judged is for the methods and full reports.
-        section = replace(section, paragraphs=section.paragraphs[:1])
+                              locale=options.locale, currency=options.currency, brief=options.audience == "memo")
+    moved = _groups_moved(item, options, group_by)
+    if moved is not None:  # which group moved clearly, right after the whole's changes
+        first = section.paragraphs[0]
+        section = replace(section, paragraphs=(replace(first, sentences=(*first.sentences, moved)),
+                                               *section.paragraphs[1:]))
+    if options.audience == "memo":
+        # A memo keeps what changed in the count, the typical value and the groups; the spread, the flagged
+        # values by each build's own fences, the rows left out and how a change is judged are for the full report.
+        first = section.paragraphs[0]
+        kept = tuple(sentence for sentence in first.sentences
+                     if not sentence.claims or sentence.claims[0].kind in MEMO_CHANGE_KINDS)
+        section = replace(section, paragraphs=(replace(first, sentences=kept),))
     return replace(section, key=f"{index}.{section.key}", level=2)
+
+
+MEMO_CHANGE_KINDS = ("note", "change_count", "change_center", "groups_moved")
+
+
+def _groups_moved(item: VariableFindings, options: SetOptions, group_by: str | None) -> Sentence | None:
+    """ "The middle value (median) moved clearly in Eastgate office." for the groups, shown in both builds,
+    whose lead measure moved beyond the uncertainty (narrator.history.changes decides it, as for the whole);
+    None when no group was in the earlier build or none moved."""
+    from narrator.history.changes import compare
+
+    earlier = {group.label: group.findings for group in item.group_baselines}
+    if not earlier or item.findings.center is None or group_by is None:
+        return None
+    moved = []
+    for group in item.groups:
+        old = earlier.get(group.label)
+        if old is None or old.center is None or group.findings.center is None:
+            continue
+        changes = compare(old, group.findings)
+        center = changes.item(f"center.{changes.lead}")
+        if center is not None and center.mention:
+            moved.append(group.label)
+    if not moved:
+        return None
+    ctx = _context(item, options)
+    lead = item.findings.center.lead
+    return ctx.say("changes.groups_moved", (), measure=ctx.text(f"changes.measure.{lead}"),
+                   moved=ctx.fmt.list([member(ctx, group_by, label) for label in moved]), group=group_by,
+                   claim={"moved": tuple(moved), "measure": lead}, claim_about="change")
 
 
 def _unique_paragraphs(paragraphs: Sequence[Paragraph]) -> tuple[Paragraph, ...]:
@@ -437,7 +481,7 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
                                                              part.audience, overview,
                                                              part.section("summary") is not None))
         if item.baseline is not None:
-            inner.insert(min(1, len(inner)), _changes_part(item, options, index))
+            inner.insert(min(1, len(inner)), _changes_part(item, options, index, findings_set.group_by))
         sections.extend(inner)
         if part.section("references") is not None:
             references.update(references_used(ctx))

@@ -24,7 +24,7 @@ from narrator.phrasing.licences import ChangeFacts
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence
 
 
-def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sentence | None:
+def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str, brief: bool = False) -> Sentence | None:
     changes = facts.changes
     item = changes.item(f"center.{changes.lead}")
     if item is None:
@@ -41,6 +41,11 @@ def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sen
     claim = {"measure": changes.lead, "old": item.old, "new": item.new, "difference": item.difference,
              "low": item.low, "high": item.high, "level": item.level, "reason": item.reason,
              "old_shown": values["old"], "new_shown": values["new"]}
+    if brief:  # a memo: the same judgement in fewer words, without the interval's ends
+        said = ctx.say("changes.center_memo", (f"center.{changes.lead}",), about=facts, claim=claim,
+                       claim_about=about, **values)
+        if said is not None:
+            return said
     return ctx.say("changes.center", (f"center.{changes.lead}",), about=facts, claim=claim, claim_about=about,
                    **values)
 
@@ -78,8 +83,9 @@ def _fences(ctx: WordingContext, findings: Findings) -> str:
 
 
 def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: Findings,
-                     about: str = "change") -> list[Sentence]:
-    """The sentences about one variable (or group) in two builds, in the fixed order."""
+                     about: str = "change", brief: bool = False) -> list[Sentence]:
+    """The sentences about one variable (or group) in two builds, in the fixed order (``brief``: a memo's
+    words where the bank has them, ``changes.center_memo``)."""
     facts = ChangeFacts(ctx=ctx, changes=changes, old=old, new=new)
     n_item = changes.item("n")
     sentences = [
@@ -87,7 +93,7 @@ def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: 
         ctx.say("changes.count", ("n",), about=facts, new_n=ctx.count(new.n, "value"), old_n=ctx.count(old.n, "value"),
                 claim={"old_n": old.n, "new_n": new.n, "reason": n_item.reason if n_item else None},
                 claim_about=about),
-        _center_sentence(ctx, facts, about),
+        _center_sentence(ctx, facts, about, brief),
     ]
     lead = changes.item("center.lead")
     if lead is not None:
@@ -135,13 +141,15 @@ def changes_section(
     currency: str | None = None,
     unit: str | None = None,
     name: str | None = None,
+    brief: bool = False,
 ) -> Section:
-    """The "what changed since the previous data" section, worded for any audience (everyday words)."""
+    """The "what changed since the previous data" section, worded for any audience (everyday words;
+    ``brief``: a memo's shorter words where the bank has them)."""
     ctx = make_context(new, locale, currency=currency, unit=unit, name=name)
     return Section(
         key="changes",
         title=ctx.text("changes.title"),
-        paragraphs=(Paragraph(tuple(change_sentences(ctx, changes, old, new))),
+        paragraphs=(Paragraph(tuple(change_sentences(ctx, changes, old, new, brief=brief))),
                     Paragraph((_rule_sentence(ctx, changes, old, new),))),
     )
 

@@ -89,7 +89,9 @@ def test_suppressed_group_appears_in_no_part_of_the_docx_nor_the_sidecar(folder,
         for name, text in texts.items():
             assert PROBE not in text and "Quillback" not in text, (audience, name)
         document = texts["word/document.xml"]
-        assert "One group with fewer than 10 values is not shown" in document
+        said = "One group with fewer than 10 values is " + ("left out of the whole report" if audience == "memo"
+                                                            else "not shown")
+        assert said in document, audience
 
 
 def test_threshold_is_configurable_and_applies_to_every_variable(folder):

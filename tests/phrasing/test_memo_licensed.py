@@ -141,3 +141,51 @@ def test_numbers_are_written_as_the_data_write_them():
     visits = describe(np.concatenate([np.zeros(240), rng.integers(1, 21, 160)]).astype(float), unit="visits")
     text = memo(visits)
     assert "0.0" not in text and "0 visits" in text
+
+
+# --------------------------------------------------------------------------- groups and what changed
+
+def _grouped(groups: dict, baseline_groups: dict | None = None):
+    from dataclasses import replace
+
+    from narrator.engine.group_difference import compare_groups
+    from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
+
+    def parts(by):
+        return tuple(GroupFindings(label, describe(values, name="days", unit="days")) for label, values in by.items())
+
+    overall = describe(np.concatenate(list(groups.values())), name="days", unit="days")
+    shown = parts(groups)
+    comparison = compare_groups([(part.label, groups[part.label], part.findings) for part in shown],
+                                lead=overall.center.lead, population=False)
+    item = VariableFindings(findings=overall, groups=shown, comparison=comparison)
+    if baseline_groups is not None:
+        earlier = describe(np.concatenate(list(baseline_groups.values())), name="days", unit="days")
+        item = replace(item, baseline=earlier, group_baselines=parts(baseline_groups))
+    return FindingsSet(variables=(item,), group_by="office", privacy_threshold=10)
+
+
+def _three_offices(shift_south: float = 0.0, seed: int = 11) -> dict:
+    rng = np.random.default_rng(seed)
+    return {office: np.round(rng.gamma(6.0, 3.0, 150) + extra)
+            for office, extra in (("Northgate", 0.0), ("Eastgate", 0.0), ("Southgate", shift_south))}
+
+
+def test_a_group_whose_typical_value_moved_clearly_is_named():
+    from narrator.phrasing.sets import SetOptions, narrate_set
+
+    findings_set = _grouped(_three_offices(12.0, seed=12), baseline_groups=_three_offices(0.0, seed=11))
+    for audience in ("memo", "full"):
+        narrative = narrate_set(findings_set, SetOptions(audience=audience))
+        changes = next(section for section in narrative.sections if section.key.endswith("changes"))
+        text = " ".join(paragraph.text for paragraph in changes.paragraphs)
+        assert "moved clearly in Southgate" in text, (audience, text)
+        assert "Northgate" not in text and "Eastgate" not in text
+
+
+def test_the_groups_table_says_each_row_has_its_own_fences():
+    from narrator.phrasing.sets import SetOptions, narrate_set
+
+    narrative = narrate_set(_grouped(_three_offices(9.0)), SetOptions(audience="full"))
+    table = next(table for section in narrative.sections for table in section.tables if table.key == "groups")
+    assert table.header[-1] == "Unusual values (each row's own fences)"

@@ -425,5 +425,7 @@ def test_long_outlier_lists_show_the_farthest_out_and_words_cover_them_all():
     # The memo names what is surprising for the shape (the far-out values a normal bulk does not predict, and more
     # values beyond the fences than it predicts); the full report above keeps the rule's whole list.
     memo = narrate(findings, "memo", locale="en_US").plain_text()
-    assert "values stand out even for data of this shape, among them" in memo
+    assert ("values stand out even for data of this shape and are worth checking against the source records, "
+            "among them") \
+        in memo
     assert f"More values lie far from the rest than data of this shape usually have: {low.size + high.size:,}" in memo
