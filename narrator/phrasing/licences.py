@@ -42,6 +42,10 @@ HALF_SLACK = 0.02
 # interpolate between values that are too far apart for "half" to mean anything).
 MIDDLE_HALF_SLACK = 0.05
 MIN_FOR_MIDDLE_HALF = 8
+# Fewer values than this: a memo lists them, with their average and middle value, and judges no shape,
+# center, typical range or unusual value (our rule: with four values or fewer, a "typical range", a tail or
+# a value far from the rest is one value's doing; with two, the middle value is the average by definition).
+TINY_N = 5
 # A share at the lowest (or highest) value worth a sentence of its own (our choice: a quarter, and at
 # least 3 of at least 8 values, as the engine's floor and ceiling flags ask for 3).
 MANY_AT_END_SHARE = 0.25

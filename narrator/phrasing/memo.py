@@ -27,15 +27,11 @@ from typing import Any
 
 from narrator.findings import Difference, GroupComparison
 from narrator.phrasing.context import WordingContext, member
-from narrator.phrasing.licences import DifferenceFacts
+from narrator.phrasing.licences import TINY_N, DifferenceFacts
 from narrator.phrasing.narrative import Paragraph, Sentence
 from narrator.phrasing.selection import Message, select_messages
 
 MAX_SENTENCES = 7
-# Fewer values than this: the memo lists them, with their average and middle value, and judges no shape,
-# center or unusual value (our rule: with four values or fewer, a "typical range", a tail or a value far
-# from the rest is one value's doing; with two, the middle value is the average by definition).
-TINY_N = 5
 
 
 def _missing_texts(ctx: WordingContext) -> str:
@@ -669,9 +665,9 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
 def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool) -> dict[str, list[Sentence]]:
     """The center and the typical range; none when the values form clusters (no single middle describes them)."""
     findings = ctx.findings
-    if clustered:  # no single middle: where the middle half lies, and the clusters say the rest
-        if findings.n > 1 and findings.spread.range > 0:
-            return {"range": [s for s in (_range(ctx),) if s is not None]}
+    if clustered:
+        # No single middle, and no single typical range: the quartiles of two clusters straddle the gap between
+        # them ("57% were between 14 and 62 minutes" reads as one wide spread); the clusters give each range.
         return {}
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}
@@ -763,7 +759,7 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
 
 
 def tiny_values(findings) -> list[float]:
-    """The values of fewer than :data:`TINY_N`, ascending, from the findings' ends and their counts.
+    """The values of fewer than ``TINY_N`` (narrator.phrasing.licences), ascending, from the ends and their counts.
 
     With at most four values there are at most two besides the lowest and highest ones, and
     ``order_counts`` gives them (the next value above the lowest, the next below the highest).

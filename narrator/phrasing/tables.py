@@ -17,7 +17,7 @@ statistics at the methods precision (one decimal beyond the data, Cole
 from __future__ import annotations
 
 from narrator.phrasing.context import WordingContext
-from narrator.phrasing.licences import has_spread, middle_half_holds_half
+from narrator.phrasing.licences import TINY_N, has_spread, middle_half_holds_half
 from narrator.phrasing.narrative import Table
 
 OUTLIER_ROWS_SHOWN = 50  # longer lists are cut, and the caption says so
@@ -62,7 +62,7 @@ def _quartile_rows(ctx: WordingContext, key: str) -> tuple[tuple[str, str], ...]
     """Q1 to Q3 as "the middle half" only when about half the values lie there (the memo's licence);
     as the quartiles when not (few values, or many tied at a quartile); no row for one value or no spread."""
     spread = ctx.findings.spread
-    if not has_spread(ctx):
+    if not has_spread(ctx) or ctx.findings.n < TINY_N:  # the quartiles of four values or fewer describe nothing
         return ()
     label = "middle_half" if middle_half_holds_half(ctx) else "quartiles"
     return ((ctx.text(f"{key}.{label}"), ctx.fmt.range_words(*ctx.memo_pair(spread.q1, spread.q3))),)
