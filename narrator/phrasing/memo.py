@@ -511,19 +511,23 @@ def _clusters(ctx: WordingContext, message: Message, groups, said) -> list:
         low, high = ctx.memo_recorded_pair(part.low, part.high)
         return ctx.text("format.range", low=low, high=high)
 
+    ten = ctx.whole(10)  # "6 in 10": the 10 comes through the formatter too
+
+    def tenths_text(tenths: int) -> str:
+        return ctx.text("memo.clusters.tenths", tenths=ctx.whole(tenths), ten=ten)
+
     if len(parts) == 2:
         low_tenths = _tenths(parts[0].share)
         claim["tenths"] = [low_tenths, 10 - low_tenths]
         sentence = ctx.say("memo.clusters.two", message.keys, claim=claim,
-                           share_low=ctx.text("memo.clusters.tenths", tenths=ctx.whole(low_tenths), ten=ctx.whole(10)),
-                           share_high=ctx.text("memo.clusters.tenths", tenths=ctx.whole(10 - low_tenths), ten=ctx.whole(10)),
-                           tenths_low=ctx.whole(low_tenths), tenths_high=ctx.whole(10 - low_tenths), ten=ctx.whole(10),
+                           share_low=tenths_text(low_tenths), share_high=tenths_text(10 - low_tenths),
+                           tenths_low=ctx.whole(low_tenths), tenths_high=ctx.whole(10 - low_tenths), ten=ten,
                            median_low=ctx.memo_recorded(parts[0].median),
                            median_high=ctx.memo_recorded(parts[1].median),
                            range_low=span(parts[0]), range_high=span(parts[1]))
     else:
         claim["tenths"] = [_tenths(part.share) for part in parts]
-        items = [ctx.text("memo.clusters.part", share=ctx.text("memo.clusters.tenths", tenths=ctx.whole(tenths), ten=ctx.whole(10)),
+        items = [ctx.text("memo.clusters.part", share=tenths_text(tenths),
                           median=ctx.memo_recorded(part.median), range=span(part))
                  for part, tenths in zip(parts, claim["tenths"], strict=True)]
         sentence = ctx.say("memo.clusters.many", message.keys, claim=claim,

@@ -829,7 +829,8 @@ class NumberFormatter:
 
         >>> NumberFormatter("fr_FR").long_date(dt.date(2026, 12, 1))
         '1er décembre 2026'
-        >>> NumberFormatter("fr_FR").long_date(dt.date(2026, 12, 2)), NumberFormatter("en_US").long_date(dt.date(2026, 12, 1))
+        >>> fr, en = NumberFormatter("fr_FR"), NumberFormatter("en_US")
+        >>> fr.long_date(dt.date(2026, 12, 2)), en.long_date(dt.date(2026, 12, 1))
         ('2 décembre 2026', 'December 1, 2026')
         """
         from babel.dates import format_date
