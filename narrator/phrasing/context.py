@@ -173,11 +173,6 @@ class WordingContext:
             return get_currency_precision(self.fmt.currency_code)
         return decimals
 
-    def recorded_quantity(self, value: float) -> str:
-        """A data value exactly as recorded, with its unit ("19 days", "exactly 19 days"): the data's own
-        decimals (money in its minor units), never the memo's rounding."""
-        return self.fmt.quantity(value, self._memo_places(self.data_decimals))
-
     def signed_pair(self, low: float, high: float) -> tuple[str, str]:
         """Both ends of an interval of a change, signed and with the unit once: ("+5", "+9 days"),
         ("-3", "+11 days"); the range-with-unit rule of :meth:`memo_pair` applied to signed ends
@@ -202,6 +197,10 @@ class WordingContext:
     def recorded(self, value: float) -> str:
         """A data value as recorded (its own decimals)."""
         return self.fmt.fixed(value, self.data_decimals)
+
+    def recorded_unit(self, value: float) -> str:
+        """A data value as recorded (its own decimals), with its unit: "21 days"."""
+        return self.fmt.quantity(value, self._memo_places(self.data_decimals))
 
     def stat(self, value: float | None) -> str:
         if value is None or not math.isfinite(value):

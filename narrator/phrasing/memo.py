@@ -127,7 +127,7 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
     values = {
         "n_values": n_values,
         "median": ctx.memo(center.median),
-        "median_exact": ctx.recorded_quantity(center.median),
+        "median_exact": ctx.recorded_unit(center.median),  # "was 21 days: ..., 3% were exactly 21 days"
         "min": ctx.memo_recorded(spread.min),
         "max": ctx.memo_recorded(spread.max),
         "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,

@@ -313,7 +313,7 @@ def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:
             "rows": ctx.rows(flag.rows) if flag.rows else "–",
             "value": ctx.recorded(flag.values[0]) if flag.values else "–",
             "count_times": ctx.times(flag.count),
-            "distinct": ctx.whole(flag.detail.get("distinct", flag.count)),
+            "distinct": ctx.fmt.count_number(int(flag.detail.get("distinct", flag.count)), "value"),  # "only four"
             "base": ctx.recorded(flag.detail.get("base", flag.values[0] if flag.values else 0)),
             "expected": ctx.fmt.percent(flag.detail.get("expected_share", 0.0), 0),
             "texts": ctx.fmt.list(texts, style="or") if texts else "",
