@@ -670,9 +670,9 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
 def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool) -> dict[str, list[Sentence]]:
     """The center and the typical range; none when the values form clusters (no single middle describes them)."""
     findings = ctx.findings
-    if clustered:
-        # No single middle, and no single typical range: the quartiles of two clusters straddle the gap between
-        # them ("57% were between 14 and 62 minutes" reads as one wide spread); the clusters give each range.
+    if clustered:  # no single middle: where the middle half lies, and the clusters say the rest
+        if findings.n > 1 and findings.spread.range > 0:
+            return {"range": [s for s in (_range(ctx),) if s is not None]}
         return {}
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}

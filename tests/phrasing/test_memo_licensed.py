@@ -191,18 +191,6 @@ def test_the_groups_table_says_each_row_has_its_own_fences():
     assert table.header[-1] == "Unusual values (each row's own fences)"
 
 
-def test_two_clusters_get_their_own_ranges_and_no_range_that_straddles_the_gap():
-    # Contact lengths: 6 in 10 short, near 15 minutes; 4 in 10 long, near 65 minutes.
-    rng = np.random.default_rng(7)
-    values = np.round(np.concatenate([rng.normal(15, 3, 180), rng.normal(65, 8, 120)]))
-    found = describe(values, unit="minutes")
-    assert found.clusters.count == 2
-    q1, q3 = np.quantile(values, [0.25, 0.75])
-    assert q1 < 30 < q3  # the quartiles straddle the gap between the clusters
-    text = summary(found)
-    assert "The values form two clusters" in text and "were between" not in text
-
-
 def test_three_values_get_no_quartile_row():
     found = describe([4.0, 9.0, 30.0], unit="days")
     table = next(table for section in narrate(found, "memo").sections for table in section.tables
