@@ -8,6 +8,7 @@ the problems in corpus order, so the first counter-example is the same however m
 
 from __future__ import annotations
 
+import math
 import multiprocessing
 from concurrent.futures import ProcessPoolExecutor
 
@@ -101,8 +102,32 @@ def _claims(text):
     return claims
 
 
+def _frozen(value):
+    """A hashable form of a claim's numbers that tells apart every two values the checker could tell apart."""
+    kind = type(value)
+    if kind is str or kind is int or kind is bool or value is None:
+        return (kind, value)
+    if kind is float:
+        return (kind, value, math.copysign(1.0, value))  # 0.0 and -0.0 apart; a NaN never matches
+    if isinstance(value, dict):
+        return ("dict", tuple(sorted((str(k), _frozen(v)) for k, v in value.items())))
+    if isinstance(value, list | tuple):
+        return (type(value).__name__, tuple(_frozen(v) for v in value))
+    if isinstance(value, np.ndarray):
+        return ("ndarray", str(value.dtype), value.shape, value.tobytes())
+    if isinstance(value, float | np.floating):
+        return ("float", repr(float(value)))
+    return (type(value).__name__, repr(value))
+
+
 def check_case(case, locales=LOCALES) -> list[str]:
+    """Every problem with every claim of every text the case is worded into.
+
+    A claim that several texts make in the same form (the same kind, numbers, shown strings,
+    licences and subject; three audiences often share one) is derived from the values once and
+    its problems reported for each text that makes it."""
     problems = []
+    derived: dict = {}
     for what, text, raws in _narratives(case, locales):
         language = what.split()[-1][:2]
         for sentence in _sentences(text):
@@ -116,9 +141,16 @@ def check_case(case, locales=LOCALES) -> list[str]:
         for sentence_text, claim in _claims(text):
             about = claim.about
             if about.startswith("change"):
-                found = check_claim(claim, None, pair=raws.get(about) or raws.get("change"))
+                pair = raws.get(about) or raws.get("change")
+                key = (claim.kind, about, tuple(claim.when), _frozen(claim.numbers), "pair", id(pair))
+                if key not in derived:
+                    derived[key] = (check_claim(claim, None, pair=pair), pair)
             else:
-                found = check_claim(claim, raws[""], groups=raws.get("groups"))
+                raw, groups = raws[""], raws.get("groups")
+                key = (claim.kind, about, tuple(claim.when), _frozen(claim.numbers), "raw", id(raw), id(groups))
+                if key not in derived:
+                    derived[key] = (check_claim(claim, raw, groups=groups), raw, groups)
+            found = derived[key][0]  # the values it was derived from stay referenced, so no id is reused
             problems.extend(f"{case.name} {what} [{claim.kind}]: {problem}\n    in: {sentence_text}"
                             for problem in found)
     return problems
