@@ -37,7 +37,19 @@ def pytest_configure(config):
             compileall.compile_dir(Path(spec.origin).parent, quiet=1)
 
 
+# The test files that take longest, run first (pyproject.toml: --dist loadfile --no-loadscope-reorder), so the
+# workers share out the short files at the end instead of one worker ending alone on a long one.
+RUN_FIRST = ("tests/test_readme.py", "tests/claims/test_claims.py", "tests/test_corpus.py", "tests/test_safe_io.py",
+             "tests/test_memo_pages.py")
+
+
+def _first_rank(item) -> int:
+    path = item.nodeid.split("::")[0]
+    return RUN_FIRST.index(path) if path in RUN_FIRST else len(RUN_FIRST)
+
+
 def pytest_collection_modifyitems(config, items):
+    items.sort(key=_first_rank)  # stable: every other test keeps its place
     if os.environ.get(README_INNER_RUN) != "1":
         return
     keep = [item for item in items if item.get_closest_marker("smoke")]
