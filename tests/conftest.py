@@ -19,10 +19,12 @@ process here); so the run writes that bytecode once, at the start
 
 import compileall
 import importlib.util
+import json
 import os
 from pathlib import Path
 
 from hypothesis import settings
+from readme_commands import SMOKE_SELECTION
 
 settings.register_profile("narrator", derandomize=True, print_blob=True)
 settings.load_profile("narrator")
@@ -57,3 +59,6 @@ def pytest_collection_modifyitems(config, items):
     if drop:
         config.hook.pytest_deselected(items=drop)
     items[:] = keep
+    # What was kept, for tests/test_readme.py to check (the workers' deselected count is not reported).
+    selection = {"collected": len(keep) + len(drop), "kept": len(keep)}
+    (Path(config.rootpath) / SMOKE_SELECTION).write_text(json.dumps(selection), encoding="utf-8")
