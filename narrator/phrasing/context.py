@@ -137,6 +137,11 @@ class WordingContext:
     def count(self, n: int, noun: str) -> str:
         return self.fmt.count(n, noun)
 
+    def times(self, n: int) -> str:
+        """How many times a value appears: "once", "three times", "11 times" (the count spelled out like any
+        small count, by the bank's ``grammar.number_words`` for the noun ``time``)."""
+        return self.text("quality.times", self.fmt.count_category(n), count=self.fmt.count_number(n, "time"))
+
     # ---- numbers
     def _compact_memo(self, *values: float) -> bool:
         """Memo numbers this large, without a CLDR unit or currency, read better as "1.2 million"."""
@@ -168,6 +173,15 @@ class WordingContext:
             return get_currency_precision(self.fmt.currency_code)
         return decimals
 
+    def signed_pair(self, low: float, high: float) -> tuple[str, str]:
+        """Both ends of an interval of a change, signed and with the unit once: ("+5", "+9 days"),
+        ("-3", "+11 days"); the range-with-unit rule of :meth:`memo_pair` applied to signed ends
+        (a plus sign on an end above zero, as ``format.signed_positive`` writes it)."""
+        pair = self.memo_pair(low, high)
+        zero = self.memo_pair(0.0, 0.0)
+        return tuple(self.text("format.signed_positive", number=text) if value > 0 and text != zero[k] else text
+                     for k, (value, text) in enumerate(zip((low, high), pair, strict=True)))
+
     def memo_recorded(self, value: float) -> str:
         """A single data value in a memo, with its unit: memo rounding, never finer than recorded."""
         return self.fmt.quantity(value, self._memo_places(min(self.memo_decimals, self.data_decimals)))
@@ -183,6 +197,10 @@ class WordingContext:
     def recorded(self, value: float) -> str:
         """A data value as recorded (its own decimals)."""
         return self.fmt.fixed(value, self.data_decimals)
+
+    def recorded_unit(self, value: float) -> str:
+        """A data value as recorded (its own decimals), with its unit: "21 days"."""
+        return self.fmt.quantity(value, self._memo_places(self.data_decimals))
 
     def stat(self, value: float | None) -> str:
         if value is None or not math.isfinite(value):

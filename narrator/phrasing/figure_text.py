@@ -159,8 +159,9 @@ def bin_sensitivity_text(ctx: WordingContext) -> FigureText | None:
         return None
     values = {
         "name": ctx.name,
-        "widths_count": ctx.whole(len(grid.widths)),
-        "offsets_count": ctx.whole(len(grid.offsets)),
+        # "at three bin widths and four starting points": small counts in words, like every count
+        "widths_count": ctx.fmt.count_number(len(grid.widths), "bin_width"),
+        "offsets_count": ctx.fmt.count_number(len(grid.offsets), "starting_point"),
         "grids": ctx.whole(len(grid.widths) * len(grid.offsets)),
         "peaks": ctx.count(grid.min_peaks, "peak"),
         "min_peaks": ctx.whole(grid.min_peaks),

@@ -27,7 +27,6 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from babel.dates import format_date, format_datetime
 from babel.numbers import get_currency_name
 
 from narrator.errors import NarratorError
@@ -94,9 +93,13 @@ def setting_value(fmt: NumberFormatter, bank: PhraseBank, name: str, value: Any)
     if name == "audience":
         return _words(bank, "settings.audiences", str(value))
     if name == "locale":
+        # "español de España (es_ES)", not CLDR's display name in brackets beside the code in brackets
         shown = NumberFormatter(str(value)).locale
-        return bank.format("settings.value.locale", code=str(shown),
-                           name=shown.get_display_name(fmt.locale) or str(shown))
+        language = fmt.locale.languages.get(shown.language, shown.language)
+        territory = fmt.locale.territories.get(shown.territory) if shown.territory else None
+        if territory is None:
+            return bank.format("settings.value.locale_language", code=str(shown), language=language)
+        return bank.format("settings.value.locale", code=str(shown), language=language, territory=territory)
     if name == "currency":
         return bank.format("settings.value.currency", code=str(value),
                            name=get_currency_name(str(value), locale=fmt.locale))
@@ -201,7 +204,7 @@ def frame_words(
         data_line = bank.format("report.data_file", column=columns[0], file=str(file_name))
     else:
         data_line = bank.format("report.data_values", name=first.findings.variable.name)
-    date_text = format_date(generated_at.date(), format="long", locale=fmt.locale)
+    date_text = fmt.long_date(generated_at.date())
     details = tuple(line for line in (organisation, data_line, bank.format("report.prepared", date=date_text)) if line)
 
     rows = [(label, value) for _key, label, value in _appendix_rows(fmt, bank, first, settings)]
@@ -220,7 +223,7 @@ def frame_words(
         rows = [*shared, *variable_rows]
     moment = generated_at if generated_at.tzinfo is not None else generated_at.replace(tzinfo=dt.UTC)
     rows.append((bank.format("report.generated"),
-                 format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)))
+                 fmt.long_datetime(moment)))
     t = functools.partial(typeset, locale=fmt.locale_id)  # the language's punctuation spacing, as in the narrative
     lines: tuple[str, ...] = ()
     if settings.get("audience") == "memo":
@@ -262,7 +265,7 @@ def _compact_lines(fmt: NumberFormatter, bank: PhraseBank, parts: Sequence[Varia
         lines.append(bank.format("report.compact.input_file", file=str(file_name)))
     used = [(str(part.source.get("column") or part.sample_name), part) for part in parts]
     rows_read = fmt.fixed(first.n_rows or first.findings.quality.n_rows, 0)
-    time = format_datetime(moment, format="long", tzinfo=dt.UTC, locale=fmt.locale)
+    time = fmt.long_datetime(moment)
     if len(used) == 1:
         lines.append(bank.format("report.compact.rows", rows=rows_read, used=fmt.fixed(first.findings.n, 0),
                                  time=time))

@@ -85,7 +85,7 @@ def memo_caution(ctx: WordingContext, flagged_said: bool = True) -> Sentence:
     if code is not None and code.values:
         # A value that may stand for "missing" can change every figure: it comes first.
         sentence = ctx.say("cautions.check_code", ("quality.flags",), code=ctx.recorded(code.values[0]),
-                           count_times=ctx.text("quality.times", ctx.plural(code.count), count=ctx.whole(code.count)),
+                           count_times=ctx.times(code.count),
                            claim={"value": code.values[0], "count": code.count})
         if sentence is not None:
             return sentence
@@ -127,7 +127,7 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
     values = {
         "n_values": n_values,
         "median": ctx.memo(center.median),
-        "median_exact": ctx.recorded(center.median),
+        "median_exact": ctx.recorded_unit(center.median),  # "was 21 days: ..., 3% were exactly 21 days"
         "min": ctx.memo_recorded(spread.min),
         "max": ctx.memo_recorded(spread.max),
         "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,
@@ -511,19 +511,23 @@ def _clusters(ctx: WordingContext, message: Message, groups, said) -> list:
         low, high = ctx.memo_recorded_pair(part.low, part.high)
         return ctx.text("format.range", low=low, high=high)
 
+    ten = ctx.whole(10)  # "6 in 10": the 10 comes through the formatter too
+
+    def tenths_text(tenths: int) -> str:
+        return ctx.text("memo.clusters.tenths", tenths=ctx.whole(tenths), ten=ten)
+
     if len(parts) == 2:
         low_tenths = _tenths(parts[0].share)
         claim["tenths"] = [low_tenths, 10 - low_tenths]
         sentence = ctx.say("memo.clusters.two", message.keys, claim=claim,
-                           share_low=ctx.text("memo.clusters.tenths", tenths=ctx.whole(low_tenths)),
-                           share_high=ctx.text("memo.clusters.tenths", tenths=ctx.whole(10 - low_tenths)),
-                           tenths_low=ctx.whole(low_tenths), tenths_high=ctx.whole(10 - low_tenths),
+                           share_low=tenths_text(low_tenths), share_high=tenths_text(10 - low_tenths),
+                           tenths_low=ctx.whole(low_tenths), tenths_high=ctx.whole(10 - low_tenths), ten=ten,
                            median_low=ctx.memo_recorded(parts[0].median),
                            median_high=ctx.memo_recorded(parts[1].median),
                            range_low=span(parts[0]), range_high=span(parts[1]))
     else:
         claim["tenths"] = [_tenths(part.share) for part in parts]
-        items = [ctx.text("memo.clusters.part", share=ctx.text("memo.clusters.tenths", tenths=ctx.whole(tenths)),
+        items = [ctx.text("memo.clusters.part", share=tenths_text(tenths),
                           median=ctx.memo_recorded(part.median), range=span(part))
                  for part, tenths in zip(parts, claim["tenths"], strict=True)]
         sentence = ctx.say("memo.clusters.many", message.keys, claim=claim,
@@ -635,7 +639,8 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
               "top_count": ctx.count(found.top_percent_count, "value"),
               "top_share": ctx.fmt.percent(found.top_percent_share, 0),
               "tenth_count": ctx.count(found.top_tenth_count, "value"),
-              "tenth_share": ctx.fmt.percent(found.top_tenth_share, 0)}
+              "tenth_share": ctx.fmt.percent(found.top_tenth_share, 0),
+              "tenth": ctx.fmt.percent(0.1, 0)}  # "the top 10% of values" (fr, es), "the largest tenth" (en)
     if message.code == "money_total":
         key = "memo.money.total"
     elif found.top_tenth_count <= found.top_percent_count:

@@ -23,6 +23,8 @@ Name                                What it does
 :meth:`~NumberFormatter.count`      "three values", "11 rows" (plural rules, spelled out)
 :meth:`~NumberFormatter.list`       "a, b, and c" (CLDR list pattern)
 :meth:`~NumberFormatter.number_list` "0,25; 0,50 y 0,75" (the CLDR list symbol for numbers)
+:meth:`~NumberFormatter.long_date`  "1er décembre 2026": CLDR's long date, the bank's first of the month
+:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC"
 :func:`parse_locale`                a CLDR locale, or one clear refusal
 :func:`language_tag`                its BCP 47 tag ("es-419"), for document metadata
 :func:`minimum_grouping_digits`     CLDR ``minimumGroupingDigits`` of a locale
@@ -53,6 +55,13 @@ Part 3, Numbers):
 - the ``list`` number symbol: a list of numbers in a decimal-comma locale
   separates its items with it (";"), so "0,25; 0,50 y 0,75" cannot be read
   as "0, 25, 0, 50...".
+- the first day of the month: CLDR's date patterns have no ordinal day, so
+  babel writes "1 décembre"; the bank's ``format.first_of_month`` writes the
+  day 1 of a long date ("{day}er" in French, where the first of the month is
+  "1er", an ordinal, and every other day a cardinal: Lexique des règles
+  typographiques en usage à l'Imprimerie nationale, and the Office québécois
+  de la langue française for fr_CA, from memory). English and Spanish give
+  "{day}", the cardinal, unchanged.
 - plural ranges (CLDR supplemental pluralRanges.xml): the plural form of a
   unit after a range, "0 to 1 days" in English.
 - the plural operand ``e`` (LDML Part 3, "Plural Operand Meanings": the
@@ -85,6 +94,7 @@ Rules of our own (documented here and in DEVELOPERS.md):
 
 from __future__ import annotations
 
+import datetime as dt
 import functools
 import math
 import re
@@ -812,6 +822,63 @@ class NumberFormatter:
         if abs(n) >= 1_000_000:
             return self.compact(n)
         return self.fixed(n, 0)
+
+    # --------------------------------------------------------------- dates
+
+    def _long_date_pattern(self, day: dt.date) -> str:
+        """CLDR's long date pattern, its day field replaced by the bank's first of the month on day 1."""
+        from babel.dates import get_date_format
+
+        pattern = get_date_format("long", locale=self.locale).pattern
+        if day.day != 1:
+            return pattern
+        one = self.fixed(1, 0)
+        first = self.bank.format("format.first_of_month", day=one)
+        if first == one:
+            return pattern
+        literal = "'" + first.replace("'", "''") + "'"
+        out, quoted, k = [], False, 0
+        while k < len(pattern):  # LDML date patterns: text in single quotes is literal, "''" is a quote
+            char = pattern[k]
+            if char == "'":
+                quoted = not quoted
+                out.append(char)
+                k += 1
+                continue
+            end = k
+            while end < len(pattern) and pattern[end] == char:
+                end += 1
+            run = pattern[k:end]
+            out.append(literal if run == "d" and not quoted else run)
+            k = end
+        return "".join(out)
+
+    def long_date(self, day: dt.date) -> str:
+        """A date in the locale's CLDR long form, the first of the month by the bank's rule.
+
+        >>> NumberFormatter("fr_FR").long_date(dt.date(2026, 12, 1))
+        '1er décembre 2026'
+        >>> fr, en = NumberFormatter("fr_FR"), NumberFormatter("en_US")
+        >>> fr.long_date(dt.date(2026, 12, 2)), en.long_date(dt.date(2026, 12, 1))
+        ('2 décembre 2026', 'December 1, 2026')
+        """
+        from babel.dates import format_date
+
+        return format_date(day, self._long_date_pattern(day), locale=self.locale)
+
+    def long_datetime(self, moment: dt.datetime) -> str:
+        """A moment in UTC in the locale's CLDR long date-time form (as babel's "long"), with :meth:`long_date`.
+
+        >>> NumberFormatter("fr_FR").long_datetime(dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC))
+        '1er décembre 2026, 16:05:03 TU'
+        """
+        from babel.dates import format_time, get_datetime_format
+
+        moment = moment if moment.tzinfo is not None else moment.replace(tzinfo=dt.UTC)
+        utc = moment.astimezone(dt.UTC)
+        time_text = format_time(utc, format="long", tzinfo=dt.UTC, locale=self.locale)
+        glue = get_datetime_format("long", locale=self.locale).replace("'", "")
+        return glue.replace("{0}", time_text).replace("{1}", self.long_date(utc.date()))
 
     # --------------------------------------------------------------- lists
 

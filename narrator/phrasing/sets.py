@@ -195,7 +195,7 @@ def method_sentence(ctx: WordingContext, groups: MemoGroups) -> Sentence | None:
     comparison = groups.comparison
     adjusted = ""
     if comparison.adjustment == "bonferroni" and comparison.level is not None:
-        adjusted = ctx.text("groups.method_adjusted", pairs=ctx.whole(len(comparison.pairs)),
+        adjusted = ctx.text("groups.method_adjusted", pairs=ctx.fmt.count_number(len(comparison.pairs), "pair"),
                             level=_level(ctx, comparison.level),
                             family_level=ctx.fmt.percent(comparison.family_level or 0.95, 0))
     return ctx.say("groups.method_difference", ("comparison.method", "comparison.level"),

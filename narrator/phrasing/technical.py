@@ -312,8 +312,8 @@ def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:
             "share": ctx.fmt.percent(flag.share, 1) if flag.share is not None else "–",
             "rows": ctx.rows(flag.rows) if flag.rows else "–",
             "value": ctx.recorded(flag.values[0]) if flag.values else "–",
-            "count_times": ctx.text("quality.times", ctx.plural(flag.count), count=ctx.whole(flag.count)),
-            "distinct": ctx.whole(flag.detail.get("distinct", flag.count)),
+            "count_times": ctx.times(flag.count),
+            "distinct": ctx.fmt.count_number(int(flag.detail.get("distinct", flag.count)), "value"),  # "only four"
             "base": ctx.recorded(flag.detail.get("base", flag.values[0] if flag.values else 0)),
             "expected": ctx.fmt.percent(flag.detail.get("expected_share", 0.0), 0),
             "texts": ctx.fmt.list(texts, style="or") if texts else "",

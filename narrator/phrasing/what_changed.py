@@ -35,9 +35,11 @@ def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sen
     values = {"measure": ctx.text(f"changes.measure.{changes.lead}"), "old": old_shown,
               "new": ctx.memo(item.new) if ctx.memo(item.old) == ctx.memo(item.new) else new_shown,
               "difference": _signed_quantity(ctx, item.difference or 0.0),
-              "low": _signed_quantity(ctx, item.low) if item.low is not None else "",
-              "high": _signed_quantity(ctx, item.high) if item.high is not None else "",
+              "low": "", "high": "",
               "level": ctx.fmt.percent(item.level or 0.95, 0)}
+    if item.low is not None and item.high is not None:
+        # "from +5 to +9 days": the signed ends with the unit once, as a range (numbers.quantity_pair)
+        values["low"], values["high"] = ctx.signed_pair(item.low, item.high)
     claim = {"measure": changes.lead, "old": item.old, "new": item.new, "difference": item.difference,
              "low": item.low, "high": item.high, "level": item.level, "reason": item.reason,
              "old_shown": values["old"], "new_shown": values["new"]}
@@ -74,7 +76,8 @@ def _fences(ctx: WordingContext, findings: Findings) -> str:
     flagged = findings.outliers
     if flagged is None or flagged.lower_fence is None or flagged.upper_fence is None:
         return ""
-    return ctx.text("format.both", low=ctx.memo(flagged.lower_fence), high=ctx.memo(flagged.upper_fence))
+    low, high = ctx.memo_pair(flagged.lower_fence, flagged.upper_fence)  # "2 and 67 days": the unit once
+    return ctx.text("format.both", low=low, high=high)
 
 
 def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: Findings,

@@ -68,14 +68,14 @@ COUNT_NOUNS = {
     "memo.left_out.missing": "row", "memo.left_out.non_numeric": "row", "memo.left_out.non_finite": "row",
     "memo.left_out.impossible": "value", "quality.missing": "row", "quality.non_numeric": "row",
     "quality.non_finite": "row", "quality.ambiguous_grouping": "row", "quality.percent_signs": "row",
-    "collection.intro": "variable", "collection.intro_grouped": "group",
+    "collection.intro": "variable", "collection.intro_grouped": "group", "quality.times": "time",
 }
 # The field that is the subject, where a message has more than one count.
 SUBJECT_FIELD = {"figures.with_without.alt": "flagged_count", "methods.sample": "n_values", "changes.count": "new_n"}
 # Messages whose {count} is a bare number the builder writes with the noun in the bank's words
 # (memo.side_words: "{count} valores bajos"), or a table cell.
-BARE_COUNT = ("memo.outliers.side_low", "memo.outliers.side_high")
-WHOLE_COUNT = ("quality.times", "figures.with_without.alt")  # ctx.whole: digits, never "1 million"
+BARE_COUNT = ("memo.outliers.side_low", "memo.outliers.side_high", "quality.times")
+WHOLE_COUNT = ("figures.with_without.alt",)  # ctx.whole: digits, never "1 million"
 NOT_COUNTS = ("report.left_out_item", "facts.more", "format.count", "figures.histogram.beyond_high",
               "figures.histogram.beyond_low")
 

@@ -187,7 +187,8 @@ def test_french_numbers_use_a_decimal_comma_and_lists_of_them_semicolons(open_fi
     assert fmt.fixed(2.5, 1) == "2,5" and fmt.percent(0.25, 0) == f"25{NBSP}%"
     assert fmt.number_list(["0,25", "0,50", "0,75"]) == "0,25; 0,50 et 0,75"
     text = narrate(open_findings[0], "methods", locale).plain_text()
-    assert "décalages de départ de 0,00" in text and re.search(r"0,00\s?; 0,25\s?; 0,50 et 0,75", text)
+    assert "points de départ décalés de 0,00" in text and "fois la largeur d'une classe" in text
+    assert re.search(r"0,00\s?; 0,25\s?; 0,50 et 0,75", text)
 
 
 # ----------------------------------------------------------------------------------------- memos
