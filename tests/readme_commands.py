@@ -3,7 +3,7 @@
 README.md marks each command with an HTML comment on the line before its
 code block: ``<!-- command: test -->`` and ``<!-- command: demo -->``.
 ``.ci/run`` runs the test command it prints, and tests/test_readme.py runs
-both in a fresh virtual environment, so the README cannot drift from CI.
+both in a fresh copy and virtual environment, so the README cannot drift from CI.
 """
 
 from __future__ import annotations
@@ -13,6 +13,9 @@ import sys
 from pathlib import Path
 
 README = Path(__file__).resolve().parent.parent / "README.md"
+# The file the README's inner test run writes in its fresh copy: how many tests it collected and kept (the
+# smoke set; tests/conftest.py), for tests/test_readme.py to check.
+SMOKE_SELECTION = "smoke-selection.json"
 
 
 def readme_command(name: str, readme: Path = README) -> str:

@@ -1,7 +1,11 @@
 """Every case of the bad-input corpus (tests/corpus/make_corpus.py) through the real command line.
 
 The corpus is built into a temporary folder and each case runs as
-``python -m narrator ...`` in its own folder, several at a time. A case ends
+``python -m narrator ...`` in its own folder, several at a time: in a process
+of its own forked from an interpreter that has imported narrator once
+(tests/helpers/commands.py), or, for a case that sets its own environment, as a
+fresh ``python -m narrator``. A sample of the cases (every tenth) also runs as a
+fresh process, and must pass the same checks and end the same way. A case ends
 either in exit 0 with a report (or findings) that lists the problem under
 data quality, or in exit 2 with one line ``narrator: <message>`` naming the
 file (and line, row or column where one applies). Never a traceback, never a
@@ -15,6 +19,7 @@ import html
 import importlib.util
 import json
 import os
+import queue
 import re
 import subprocess
 import sys
@@ -24,6 +29,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
+from helpers.commands import CommandServer
 
 _SPEC = importlib.util.spec_from_file_location("make_corpus", Path(__file__).parent / "corpus" / "make_corpus.py")
 corpus = importlib.util.module_from_spec(_SPEC)
@@ -51,30 +57,79 @@ def file_hashes(folder: Path) -> dict[str, str]:
     }
 
 
-def run_case(case, folder: Path) -> Run:
-    before = file_hashes(folder)
-    env = {**os.environ, "MPLCONFIGDIR": str(folder.parent / ".matplotlib"), "PYTHONWARNINGS": "default"}
+# What the commands a server runs import later: loaded once, before the fork (the interpreter's
+# own start-up and these imports are most of a small command's time).
+PRELOAD = ("narrator.request", "narrator.report", "narrator.recipe", "narrator.writer", "narrator.figures.charts",
+           "narrator.places.fill", "narrator.groups.analysis", "narrator.history.changes")
+FRESH_SAMPLE = 10  # every tenth case also runs as a fresh ``python -m narrator``
+WORKERS = max(2, os.cpu_count() or 2)
+
+
+def base_env(root: Path) -> dict[str, str]:
+    env = {**os.environ, "MPLCONFIGDIR": str(root / ".matplotlib"), "PYTHONWARNINGS": "default"}
     env.pop("NARRATOR_DEBUG", None)
+    return env
+
+
+def run_case(case, folder: Path, servers: queue.Queue | None = None) -> Run:
+    """Run one case in its folder: through a command server from ``servers``, or, without one (or
+    for a case that sets its own environment, which Python reads at start-up), as a fresh process."""
+    before = file_hashes(folder)
+    env = base_env(folder.parent)
     for name, value in case.env.items():
         if value is None:
             env.pop(name, None)
         else:
             env[name] = value
-    proc = subprocess.run(
-        [sys.executable, "-m", "narrator", *case.args], cwd=folder, capture_output=True, text=True,
-        env=env, timeout=300,
-    )
+    if servers is None or case.env:
+        proc = subprocess.run(
+            [sys.executable, "-m", "narrator", *case.args], cwd=folder, capture_output=True, text=True,
+            env=env, timeout=300,
+        )
+    else:
+        server = servers.get()
+        try:
+            proc = server.run(case.args, cwd=folder, env=env, timeout=300)
+        finally:
+            servers.put(server)
     return Run(folder, proc.returncode, proc.stdout, proc.stderr, before, file_hashes(folder))
 
 
+def fresh_sample() -> list[str]:
+    return [name for k, name in enumerate(CASES) if k % FRESH_SAMPLE == 0]
+
+
 @pytest.fixture(scope="module")
-def runs(tmp_path_factory) -> dict[str, Run]:
+def all_runs(tmp_path_factory) -> tuple[dict[str, Run], dict[str, Run], list[str]]:
+    """Every case (through command servers) and the fresh sample (fresh processes, a second copy of
+    the corpus), run side by side; and what each server printed while it imported narrator."""
     root = tmp_path_factory.mktemp("corpus")
+    fresh_root = tmp_path_factory.mktemp("corpus-fresh")
     folders = corpus.build(root)
-    (root / ".matplotlib").mkdir(exist_ok=True)
-    with ThreadPoolExecutor(max_workers=max(2, os.cpu_count() or 2)) as pool:
-        futures = {name: pool.submit(run_case, CASES[name], folders[name]) for name in CASES}
-        return {name: future.result() for name, future in futures.items()}
+    fresh_folders = {name: folder for name, folder in corpus.build(fresh_root).items() if name in fresh_sample()}
+    for folder in (root, fresh_root):
+        (folder / ".matplotlib").mkdir(exist_ok=True)
+    servers: queue.Queue = queue.Queue()
+    started = []
+    try:
+        for _ in range(WORKERS):
+            server = CommandServer(base_env(root), preload=PRELOAD)
+            started.append(server)
+            servers.put(server)
+        with ThreadPoolExecutor(max_workers=WORKERS) as pool:
+            futures = {name: pool.submit(run_case, CASES[name], folders[name], servers) for name in CASES}
+            fresh = {name: pool.submit(run_case, CASES[name], folder) for name, folder in fresh_folders.items()}
+            return ({name: future.result() for name, future in futures.items()},
+                    {name: future.result() for name, future in fresh.items()},
+                    [server.startup_stderr for server in started])
+    finally:
+        for server in started:
+            server.close()
+
+
+@pytest.fixture(scope="module")
+def runs(all_runs) -> dict[str, Run]:
+    return all_runs[0]
 
 
 def docx_paragraphs(path: Path) -> str:
@@ -113,7 +168,29 @@ def test_corpus_builds_from_the_script(tmp_path):
 
 @pytest.mark.parametrize("name", list(CASES))
 def test_case(runs, name):
-    case, run = CASES[name], runs[name]
+    check_run(CASES[name], runs[name])
+
+
+def test_the_servers_imported_narrator_without_a_word(all_runs):
+    # A warning or message while importing would reach every command's stderr in a fresh process.
+    assert all(text == "" for text in all_runs[2]), all_runs[2]
+
+
+@pytest.mark.parametrize("name", fresh_sample())
+def test_a_fresh_process_passes_the_same_checks_and_ends_the_same_way(all_runs, name):
+    served, fresh = all_runs[0][name], all_runs[1][name]
+    check_run(CASES[name], fresh)
+
+    def same(text: str, run: Run) -> str:
+        return text.replace(str(run.folder.parent), "<corpus>")
+
+    assert fresh.returncode == served.returncode
+    assert same(fresh.stdout, fresh) == same(served.stdout, served)
+    assert same(fresh.stderr, fresh) == same(served.stderr, served)
+    assert sorted(fresh.hashes_after) == sorted(served.hashes_after)
+
+
+def check_run(case, run: Run) -> None:
     assert "Traceback" not in run.stderr, run.stderr
     assert run.returncode == case.exit_code, f"exit {run.returncode}; stderr: {run.stderr}"
     # The inputs keep their bytes whatever the outcome (save the files the case lets the command replace).

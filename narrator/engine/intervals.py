@@ -26,6 +26,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from scipy import special
 
 from narrator.engine.distributions import binomial_cdf, binomial_ppf, t_ppf
 from narrator.errors import NarratorError
@@ -38,8 +39,8 @@ SMALL_SAMPLE_N = 30
 # The skewness test needs 8 values (D'Agostino 1970), so a sample cannot be "clearly skewed"
 # below that; a bootstrap of fewer values has too few distinct resamples to mean much.
 BOOTSTRAP_MIN_N = 8
-# BCa needs a jackknife, n statistics of n - 1 values: O(n^2). The bootstrap is only chosen for
-# small samples, so this cap only stops an explicit request that would take very long.
+# The bootstrap draws resamples x n indices (about 0.3 to 0.6 s at n = 10 000 here); it is chosen for small
+# samples and as the fallback of a t interval past the values' range, and this cap stops longer requests.
 BOOTSTRAP_MAX_N = 10_000
 # Efron & Tibshirani (1993) ask for at least 1000 resamples for percentile-type intervals.
 BOOTSTRAP_MIN_RESAMPLES = 1000
@@ -85,9 +86,9 @@ def mean_interval(
     (Student 1908). Needs n >= 2; constant data give a zero-width interval.
 
     ``method="bca-bootstrap"``: the bias-corrected and accelerated bootstrap
-    (Efron 1987) through ``scipy.stats.bootstrap(method="BCa")`` with
-    ``numpy.random.default_rng(seed)`` and ``resamples`` resamples, both
-    recorded in the result. Needs ``BOOTSTRAP_MIN_N`` to ``BOOTSTRAP_MAX_N``
+    (Efron 1987), the steps and draws of ``scipy.stats.bootstrap(method="BCa")``
+    with ``numpy.random.default_rng(seed)`` and ``resamples`` resamples, both
+    recorded in the result (the jackknife in O(n), from the sum). Needs ``BOOTSTRAP_MIN_N`` to ``BOOTSTRAP_MAX_N``
     values, at least two of them different.
 
     >>> interval = mean_interval(np.array([1.0, 2.0, 3.0, 4.0, 5.0]))
@@ -204,6 +205,14 @@ def median_rank(n: int, level: float) -> int | None:
 
 
 def _bca(data: np.ndarray, *, level: float, seed: int, resamples: int) -> tuple[float, float]:
+    """The BCa interval (Efron 1987; Efron & Tibshirani 1993, 14.3) for the mean of ``data``.
+
+    The steps of ``scipy.stats.bootstrap(method="BCa")``, the reference the tests hold it to,
+    with the same draws (``resamples`` resamples of n indices from
+    ``numpy.random.default_rng(seed)``, a block of them at a time), so the interval is the
+    same to rounding; the jackknife for the acceleration takes O(n) instead of O(n^2): the mean
+    without value i is (sum - x_i) / (n - 1).
+    """
     n = data.size
     if not BOOTSTRAP_MIN_N <= n <= BOOTSTRAP_MAX_N:
         raise NarratorError(
@@ -220,26 +229,29 @@ def _bca(data: np.ndarray, *, level: float, seed: int, resamples: int) -> tuple[
         )
     if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
         raise NarratorError(f"the bootstrap seed must be a whole number >= 0; got {seed!r}")
-    batch = max(1, min(int(resamples), _BOOTSTRAP_BATCH_CELLS // n))
-    # scipy.stats is imported here only: it costs about half a second of start-up, and the bootstrap
-    # runs for small skewed samples alone. scipy 1.15 renamed the random_state argument to rng.
-    import inspect
-
-    from scipy import stats
-
-    rng_keyword = "rng" if "rng" in inspect.signature(stats.bootstrap).parameters else "random_state"
-    result = stats.bootstrap(
-        (data,),
-        np.mean,
-        n_resamples=int(resamples),
-        batch=batch,
-        vectorized=True,
-        confidence_level=level,
-        method="BCa",
-        **{rng_keyword: np.random.default_rng(int(seed))},
-    )
-    low = float(result.confidence_interval.low)
-    high = float(result.confidence_interval.high)
+    resamples = int(resamples)
+    batch = max(1, min(resamples, _BOOTSTRAP_BATCH_CELLS // n))
+    rng = np.random.default_rng(int(seed))
+    means = np.empty(resamples)
+    for start in range(0, resamples, batch):
+        count = min(batch, resamples - start)
+        means[start:start + count] = np.mean(data[rng.integers(0, n, (count, n))], axis=-1)
+    mean = np.mean(data)
+    # Bias correction: the share of resampled means below the mean, ties counted half.
+    below = (np.count_nonzero(means < mean) + np.count_nonzero(means <= mean)) / (2 * resamples)
+    z0 = float(special.ndtri(below))
+    # Acceleration from the jackknife means.
+    jackknife = (np.sum(data) - data) / (n - 1)
+    u = (n - 1) * (np.mean(jackknife) - jackknife)
+    acceleration = float(np.sum(u**3) / n**3 / 6.0 / (np.sum(u**2) / n**2) ** 1.5)
+    z_alpha = float(special.ndtri((1.0 - level) / 2.0))
+    shares = []
+    for z in (z_alpha, -z_alpha):
+        shifted = z0 + z
+        shares.append(float(special.ndtr(z0 + shifted / (1.0 - acceleration * shifted))))
+    if not all(math.isfinite(share) for share in shares):
+        raise NarratorError("the BCa bootstrap interval could not be computed for these values")
+    low, high = (float(v) for v in np.quantile(means, shares))
     if not (math.isfinite(low) and math.isfinite(high)):
         raise NarratorError("the BCa bootstrap interval could not be computed for these values")
     return low, high

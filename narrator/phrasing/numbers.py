@@ -107,6 +107,7 @@ from babel.core import get_global, get_locale_identifier
 from babel.core import parse_locale as babel_parse_locale
 from babel.lists import format_list
 from babel.numbers import (
+    NumberPattern,
     UnknownCurrencyError,
     format_compact_decimal,
     format_currency,
@@ -453,6 +454,21 @@ def _is_sign_start(text: str) -> bool:
     return bool(stripped) and stripped[0] in _MINUS_SIGNS + "+"
 
 
+# The texts formatters have written, one table per (locale, currency): babel's formatting is most of the
+# time a narrative takes, and several narratives of one data set (the audiences) write the same numbers.
+# Keys: (kind, decimals, the rounded value's text) and ("fixed", decimals, the value). A table that
+# reaches _TEXTS_KEPT entries starts again empty.
+_TEXTS: dict[tuple[str, str | None], dict[tuple[str, int, str | float], str]] = {}
+_TEXTS_KEPT = 50_000
+
+
+def _shared_texts(locale_id: str, currency: str | None) -> dict[tuple[str, int, str | float], str]:
+    table = _TEXTS.setdefault((locale_id, currency), {})
+    if len(table) >= _TEXTS_KEPT:
+        table.clear()
+    return table
+
+
 class NumberFormatter:
     """Formats numbers for one CLDR locale, optionally with a currency or a unit.
 
@@ -467,7 +483,7 @@ class NumberFormatter:
     ('3710', '13.710')
     """
 
-    __slots__ = ("locale", "locale_id", "currency_code", "unit", "unit_id", "_bank", "_patterns",
+    __slots__ = ("locale", "locale_id", "currency_code", "unit", "unit_id", "_bank", "_patterns", "_texts",
                  "_min_grouping", "_symbols")
 
     def __init__(
@@ -481,7 +497,7 @@ class NumberFormatter:
         self.locale = parse_locale(locale)
         self.locale_id = str(self.locale)
         self._bank = None
-        self._patterns: dict[tuple[str, int, bool], str] = {}
+        self._patterns: dict[tuple[str, int, bool], NumberPattern] = {}
         self._min_grouping = minimum_grouping_digits(self.locale)
         self._symbols = self.locale.number_symbols["latn"]
         self.unit = unit.strip() if unit and unit.strip() else None
@@ -497,6 +513,7 @@ class NumberFormatter:
                 raise NarratorError(f"unknown currency code {currency!r} (expected an ISO 4217 code)") from None
             currency = currency.upper()
         self.currency_code = currency
+        self._texts = _shared_texts(self.locale_id, currency)
         if unit_id is not None:
             try:
                 format_unit(1, unit_id, locale=self.locale)
@@ -525,7 +542,7 @@ class NumberFormatter:
 
     # ------------------------------------------------------------ patterns
 
-    def _pattern(self, kind: str, decimals: int, grouped: bool = True) -> str:
+    def _pattern(self, kind: str, decimals: int, grouped: bool = True) -> NumberPattern:
         """The locale's own CLDR pattern (keeps en_IN lakh grouping) with exactly ``decimals`` places.
 
         ``grouped=False`` drops the grouping separators, for numbers too short
@@ -547,16 +564,24 @@ class NumberFormatter:
             if not grouped:
                 integer_part = integer_part.replace(",", "").lstrip("#") or "0"
             number = integer_part + ("." + "0" * decimals if decimals > 0 else "")
-            self._patterns[key] = positive[:start] + number + positive[end:]
+            # Parsed once: babel would parse the pattern text again on every call.
+            self._patterns[key] = parse_pattern(positive[:start] + number + positive[end:])
         return self._patterns[key]
 
     def _grouped(self, kind: str, decimals: int, integer_digits: int) -> bool:
         """CLDR minimumGroupingDigits: group only from primary grouping size + minimumGroupingDigits digits."""
-        primary = parse_pattern(self._pattern(kind, decimals)).grouping[0]
+        primary = self._pattern(kind, decimals).grouping[0]
         return integer_digits >= primary + self._min_grouping
 
     def _digits_text(self, rounded: Decimal, kind: str, decimals: int) -> str:
         """``rounded`` through babel with the locale's pattern for ``kind``, grouped by CLDR's rules."""
+        key = (kind, decimals, str(rounded))
+        text = self._texts.get(key)
+        if text is None:
+            text = self._texts[key] = self._babel_text(rounded, kind, decimals)
+        return text
+
+    def _babel_text(self, rounded: Decimal, kind: str, decimals: int) -> str:
         shown = rounded * 100 if kind == "percent" else rounded
         pattern = self._pattern(kind, decimals, self._grouped(kind, decimals, _integer_digits(shown)))
         with localcontext() as context:
@@ -592,10 +617,14 @@ class NumberFormatter:
         '12,34,567'
         """
         decimals = max(0, int(decimals))
-        rounded = round_half_up(value, decimals)
-        if abs(rounded) >= SCIENTIFIC_FROM:
-            return self.scientific(value)
-        return self._digits_text(rounded, "decimal", decimals)
+        key = ("fixed", decimals, float(value))
+        text = self._texts.get(key)
+        if text is None:
+            rounded = round_half_up(value, decimals)
+            if abs(rounded) >= SCIENTIFIC_FROM:
+                return self.scientific(value)
+            text = self._texts[key] = self._digits_text(rounded, "decimal", decimals)
+        return text
 
     def digits(self, n: int) -> str:
         """A whole number written without grouping, for identifiers such as a seed ("20261201")."""

@@ -9,6 +9,7 @@ the problems in corpus order, so the first counter-example is the same however m
 from __future__ import annotations
 
 import multiprocessing
+import pickle
 from concurrent.futures import ProcessPoolExecutor
 
 import numpy as np
@@ -101,8 +102,20 @@ def _claims(text):
     return claims
 
 
+def _frozen(numbers: dict) -> bytes:
+    """A claim's numbers as bytes that tell apart every two values the checker could tell apart (pickle
+    writes each float's exact bits and every array whole; the same numbers in another order only miss)."""
+    return pickle.dumps(numbers, protocol=pickle.HIGHEST_PROTOCOL)
+
+
 def check_case(case, locales=LOCALES) -> list[str]:
+    """Every problem with every claim of every text the case is worded into.
+
+    A claim that several texts make in the same form (the same kind, numbers, shown strings,
+    licences and subject; three audiences often share one) is derived from the values once and
+    its problems reported for each text that makes it."""
     problems = []
+    derived: dict = {}
     for what, text, raws in _narratives(case, locales):
         language = what.split()[-1][:2]
         for sentence in _sentences(text):
@@ -116,9 +129,16 @@ def check_case(case, locales=LOCALES) -> list[str]:
         for sentence_text, claim in _claims(text):
             about = claim.about
             if about.startswith("change"):
-                found = check_claim(claim, None, pair=raws.get(about) or raws.get("change"))
+                pair = raws.get(about) or raws.get("change")
+                key = (claim.kind, about, tuple(claim.when), _frozen(claim.numbers), "pair", id(pair))
+                if key not in derived:
+                    derived[key] = (check_claim(claim, None, pair=pair), pair)
             else:
-                found = check_claim(claim, raws[""], groups=raws.get("groups"))
+                raw, groups = raws[""], raws.get("groups")
+                key = (claim.kind, about, tuple(claim.when), _frozen(claim.numbers), "raw", id(raw), id(groups))
+                if key not in derived:
+                    derived[key] = (check_claim(claim, raw, groups=groups), raw, groups)
+            found = derived[key][0]  # the values it was derived from stay referenced, so no id is reused
             problems.extend(f"{case.name} {what} [{claim.kind}]: {problem}\n    in: {sentence_text}"
                             for problem in found)
     return problems

@@ -61,6 +61,24 @@ def test_bca_matches_a_direct_scipy_bootstrap_call():
     assert mean_interval(values, method="bca-bootstrap", resamples=1000).seed == DEFAULT_SEED
 
 
+def test_bca_matches_scipy_in_batches_at_the_fallbacks_size():
+    # Reference: scipy.stats.bootstrap(method="BCa") with the same seed and the same batch of resamples (a
+    # block of batch x n indices at a time, as narrator draws them); its jackknife is the O(n^2) one.
+    from narrator.engine.intervals import _BOOTSTRAP_BATCH_CELLS
+
+    rng = np.random.default_rng(7)
+    values = np.round(rng.lognormal(4, 0.8, 3000), 2)
+    values[:3] = [250000.0, 90000.0, 41000.0]  # the t interval reaches below the smallest value here
+    ours = mean_interval(values, method="bca-bootstrap", seed=11, resamples=1500)
+    keyword = "rng" if "rng" in _bootstrap_parameters() else "random_state"
+    batch = _BOOTSTRAP_BATCH_CELLS // values.size
+    assert batch < 1500
+    direct = stats.bootstrap((values,), np.mean, n_resamples=1500, batch=batch, vectorized=True, method="BCa",
+                             **{keyword: np.random.default_rng(11)})
+    assert ours.low == pytest.approx(direct.confidence_interval.low, rel=1e-12)
+    assert ours.high == pytest.approx(direct.confidence_interval.high, rel=1e-12)
+
+
 def test_bca_is_asymmetric_toward_the_long_tail():
     # Efron (1987): BCa follows the skew of the sampling distribution; for right-skewed data the
     # upper half-width exceeds the lower one, unlike the symmetric t interval.
