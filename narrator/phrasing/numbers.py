@@ -114,6 +114,7 @@ from babel.numbers import (
     format_decimal,
     format_percent,
     get_currency_precision,
+    get_currency_symbol,
     get_territory_currencies,
     parse_pattern,
     validate_currency,
@@ -679,6 +680,17 @@ class NumberFormatter:
             return self._wrap("currency", self.scientific(abs(value)), negative=value < 0)
         return self._digits_text(rounded, "currency", decimals)
 
+    def _without_trailing_symbol(self, text: str) -> str:
+        """A currency amount without the symbol the locale's pattern puts after the number ("52 €" -> "52");
+        unchanged when the symbol comes first ("$52")."""
+        pattern = self.locale.currency_formats["standard"].pattern.split(";")[0]
+        if not pattern.rstrip().endswith("\u00a4"):
+            return text
+        symbol = get_currency_symbol(self.currency_code, locale=self.locale)
+        if not text.endswith(symbol):
+            return text
+        return text[: len(text) - len(symbol)].rstrip(" \u00a0\u202f")
+
     def _wrap(self, kind: str, number_text: str, *, negative: bool) -> str:
         """A pre-formatted number inside the locale's percent or currency pattern (prefix, suffix, sign)."""
         frame = self._digits_text(Decimal(-1 if negative else 1) / (100 if kind == "percent" else 1), kind, 0)
@@ -736,15 +748,22 @@ class NumberFormatter:
 
         The unit goes with the end farther from the range's separator (the high
         end when the unit follows the number, as in every CLDR pattern of en and
-        es), in the plural form of the range (CLDR plural ranges). Currency
-        symbols stay on both ends. ``compact`` writes the numbers as "1.2 million".
+        es), in the plural form of the range (CLDR plural ranges). A currency
+        symbol the locale writes before the number stays on both ends ("$10 to
+        $25", "EUR 52 a EUR 179" in es_MX); one it writes after the number is a
+        unit like the others and goes once, at the end ("52 à 179 €", fr_FR and
+        es_ES: the CLDR currency pattern "#,##0.00 ¤"). ``compact`` writes the
+        numbers as "1.2 million".
 
         >>> NumberFormatter("en_US", unit="inches").quantity_pair(29, 43, 0)
         ('29', '43 inches')
+        >>> NumberFormatter("fr_FR", currency="EUR").quantity_pair(52, 179, 0)
+        ('52', '179\xa0€')
         """
         decimals = max(0, int(decimals))
         if self.currency_code is not None:
-            return self.currency(low, decimals), self.currency(high, decimals)
+            low_text, high_text = self.currency(low, decimals), self.currency(high, decimals)
+            return self._without_trailing_symbol(low_text), high_text
         if compact:
             low_text, high_text = self.compact(low), self.compact(high)
             category = "other"

@@ -32,8 +32,10 @@ def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str, brief:
     # "rose from 23 to 29 days": the unit once, after the second number (numbers.quantity_pair); a currency
     # symbol stays on both.
     old_shown, new_shown = ctx.memo_pair(item.old, item.new)
+    if ctx.memo(item.old) == ctx.memo(item.new):  # "unchanged at 21 days": one number, with its unit
+        old_shown = new_shown = ctx.memo(item.new)
     values = {"measure": ctx.text(f"changes.measure.{changes.lead}"), "old": old_shown,
-              "new": ctx.memo(item.new) if ctx.memo(item.old) == ctx.memo(item.new) else new_shown,
+              "new": new_shown,
               "difference": _signed_quantity(ctx, item.difference or 0.0),
               "low": "", "high": "",
               "level": ctx.fmt.percent(item.level or 0.95, 0)}

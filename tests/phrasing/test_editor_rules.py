@@ -165,3 +165,13 @@ def test_the_bin_grid_caption_words_its_small_counts(locale, words):
     findings = describe(Sample.from_values(hours, name="hours", unit="hours"))
     captions = [figure.caption for figure in narrate(findings, "full", locale).figures]
     assert any(words in caption for caption in captions), captions
+
+
+@pytest.mark.parametrize(("locale", "expected"), [
+    ("fr_FR", ("52", "179\u00a0€")),  # CLDR fr currency pattern "#,##0.00 ¤": the symbol after, once
+    ("es_ES", ("52", "179\u00a0€")),
+    ("es_MX", ("EUR\u00a052", "EUR\u00a0179")),  # "¤#,##0.00": a symbol before each number
+    ("en_US", ("€52", "€179")),
+])
+def test_a_currency_written_after_the_number_is_written_once_in_a_range(locale, expected):
+    assert NumberFormatter(locale, currency="EUR").quantity_pair(52, 179, 0) == expected
