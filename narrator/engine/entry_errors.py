@@ -65,7 +65,12 @@ kind of data, our rule):
    money (:func:`values_are_money`), it lies beyond the far-out fence *on the log scale*: ln x
    above ln Q3 + 3 (ln Q3 - ln Q1), or below ln Q1 - 3 (ln Q3 - ln Q1) (Tukey's far-out fences,
    ``LOG_FAR_K`` = 3, applied to the logarithms). In a long right tail large values are ordinary:
-   only one far beyond what the tail reaches on its own scale is called a slip.
+   only one far beyond what the tail reaches on its own scale is called a slip;
+3. the values are not money (:func:`values_are_money`). Large amounts are often real (a
+   grant, a claim, a purchase), and a round amount such as 250,000 among awards near 2,500 is
+   what a real large award looks like as much as a slip, so an amount of money is at most a
+   *possible* entry error: the memo lists it with its row and asks for it to be checked, and
+   never calls it a typing error (our rule, a caution for readers who will act on the words).
 
 Every other candidate is a ``possible`` entry error: the memo asks for it to be checked against
 the source records, it does not judge it. Without a fitted shape every candidate is only
@@ -304,13 +309,14 @@ def _entry_errors(findings: Findings, values, rows, standing, has_fit: bool) -> 
         return (), "not_positive"
     found = []
     fit = fitted_shape(findings) if has_fit else None
-    log_scale = (fit is not None and fit.name == "lognormal") or values_are_money(findings)
+    money = values_are_money(findings)
+    log_scale = (fit is not None and fit.name == "lognormal") or money
     for value, row, out in zip(values, rows, standing, strict=True):
         if has_fit and not out:
             continue  # the fitted shape expects a value this far out: no slip of typing is needed to explain it
         reasons, suggested, places = entry_error_reasons(value, median, spread.p10, spread.p90)
         if reasons:
-            strong = has_fit and strong_slip(value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale,
+            strong = has_fit and not money and strong_slip(value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale,
                                              decimals=max(0, int(findings.variable.decimals)))
             found.append(EntryError(value=value, row=row, reasons=reasons, ratio_to_median=value / median,
                                     suggested=suggested, shift_digits=places,

@@ -604,6 +604,16 @@ def any_flagged(ctx) -> bool:
     return outliers_ran(ctx) and _flagged(ctx).count > 0
 
 
+@licence("variable", "the rule flagged values above its upper fence only")
+def flagged_high_only(ctx) -> bool:
+    return any_flagged(ctx) and _flagged(ctx).count_low == 0
+
+
+@licence("variable", "the rule flagged values below its lower fence only")
+def flagged_low_only(ctx) -> bool:
+    return any_flagged(ctx) and _flagged(ctx).count_high == 0
+
+
 @licence("variable", "the outlier rule has fences (Tukey, skew-adjusted, modified z)")
 def rule_has_fences(ctx) -> bool:
     flagged = _flagged(ctx)

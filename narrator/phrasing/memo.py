@@ -615,7 +615,10 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
             out.append(ctx.say("memo.unusual.values_some", message.keys, claim={**far, "values": list(values)},
                                values=shown))
     if numbers["excess"]:
-        out.append(ctx.say("memo.unusual.excess", ("unusual.excess", "unusual.count_beyond_fences"),
+        # "4 against about 0" says nothing true: under one expected value, the words say so.
+        below_one = numbers["expected_beyond_fences"] < 1
+        out.append(ctx.say("memo.unusual.excess_below_one" if below_one else "memo.unusual.excess",
+                           ("unusual.excess", "unusual.count_beyond_fences"),
                            claim={**far, "count": numbers["count_beyond_fences"],
                                   "expected": numbers["expected_beyond_fences"]},
                            count=ctx.whole(numbers["count_beyond_fences"]),

@@ -200,6 +200,7 @@ def outlier_sentences(ctx: WordingContext) -> list[Sentence]:
     spell_out = flagged.count <= ctx.bank.spell_out_max
     sentences += _kept(ctx.say("technical.flagged", ("outliers.count", "outliers.count_low", "outliers.count_high"),
                                outlier_count=ctx.count(flagged.count, "value"), claim=claim,
+                               subject=(flagged.count, "value"),
                                # The parts are written like the total: "seven values: zero below ... and seven
                                # above", "12 values: 4 below ... and 8 above" (Chicago, from memory).
                                low=ctx.fmt.count_number(flagged.count_low, "value", spell_out=spell_out, alone=True),

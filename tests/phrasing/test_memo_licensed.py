@@ -3,7 +3,8 @@ that showed it (generated from fixed seeds; the answer each must give is known b
 
 - right-skewed waits whose long tail reaches 133 to 158 days: not typing errors, worth checking;
 - a value typed with a digit shift among symmetric readings: still a probable typing error;
-- money with a few huge gifts: only a digit shift far beyond the log-scale far fence is a probable slip;
+- money with a few huge gifts or awards: never called a typing error, even with a digit shift; worth checking;
+- more values beyond the fences than the shape predicts, where fewer than one is expected: said so, never "about 0";
 - the key-figures table says how many of the rule's unusual values stand out for the shape;
 - a spike of zeros beside a bulk of values: a share at one value, never a cluster;
 - "the better guide" names the middle value; "a few are much higher" only when a few are;
@@ -65,6 +66,38 @@ def test_a_digit_shift_in_symmetric_readings_is_still_a_probable_typing_error():
     (error,) = found.unusual.entry_errors
     assert error.strength == "probable"
     assert "is probably a typing error" in summary(found)
+
+
+def test_a_round_award_a_hundred_times_the_typical_one_is_worth_checking_not_a_typing_error():
+    # Awards near 2,500 dollars; one of 250,000 (2,500 shifted two places, far beyond the log-scale
+    # far fence). An amount of money that large is often real, so the memo asks, it does not judge.
+    awards = np.round(np.random.default_rng(7).lognormal(8, 0.6, 300), 2)
+    q1, q3 = np.quantile(awards, [0.25, 0.75])
+    assert q1 <= 2500.0 <= q3 and strong_slip(250000.0, q1, q3, stands_out=True, log_scale=True, decimals=2)
+    found = describe(np.concatenate([awards, [250000.0]]), unit="USD", lower_bound=0)
+    (error,) = [e for e in found.unusual.entry_errors if e.value == 250000.0]
+    assert error.strength == "possible"
+    for locale in ("en_US", "es_ES", "fr_FR"):
+        text = summary(found, locale, currency="USD")
+        assert not any(word in text for word in ("typing", "tecleo", "saisie")), (locale, text)
+    assert "worth checking against the source records" in summary(found, currency="USD")
+    # The same shift in readings that are not money stays a probable slip (the test above).
+    readings = describe(np.concatenate([awards, [250000.0]]), unit="mmHg", lower_bound=0)
+    assert [e.strength for e in readings.unusual.entry_errors if e.value == 250000.0] == ["probable"]
+
+
+def test_an_excess_where_fewer_than_one_is_expected_is_not_against_about_zero():
+    # 58 beds counts, near-normal, with four far values: a normal shape puts 0.70 % (0.4 of 58 values)
+    # beyond Tukey's fences (INNER_RATE, computed from the normal distribution).
+    rng = np.random.default_rng(3)
+    values = np.concatenate([np.round(rng.normal(120, 8, 54)), [60.0, 62.0, 185.0, 190.0]])
+    found = describe(values, population=True)
+    assert found.unusual.excess and found.unusual.expected_beyond_fences < 1
+    for locale, words in (("en_US", "where fewer than one would be expected"),
+                          ("es_ES", "cuando cabría esperar menos de uno"),
+                          ("fr_FR", "alors qu’on en attendrait moins d’une")):
+        text = summary(found, locale).replace("'", "’")
+        assert words in text and "about 0" not in text, (locale, text)
 
 
 def test_huge_gifts_are_called_slips_only_with_a_digit_shift_far_beyond_the_tail():
