@@ -316,8 +316,9 @@ def _entry_errors(findings: Findings, values, rows, standing, has_fit: bool) -> 
             continue  # the fitted shape expects a value this far out: no slip of typing is needed to explain it
         reasons, suggested, places = entry_error_reasons(value, median, spread.p10, spread.p90)
         if reasons:
-            strong = has_fit and not money and strong_slip(value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale,
-                                             decimals=max(0, int(findings.variable.decimals)))
+            strong = has_fit and not money and strong_slip(
+                value, spread.q1, spread.q3, stands_out=out, log_scale=log_scale,
+                decimals=max(0, int(findings.variable.decimals)))
             found.append(EntryError(value=value, row=row, reasons=reasons, ratio_to_median=value / median,
                                     suggested=suggested, shift_digits=places,
                                     strength="probable" if strong else "possible"))
