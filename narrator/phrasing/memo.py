@@ -379,11 +379,9 @@ def _difference_values(ctx: WordingContext, difference: Difference) -> dict[str,
     if low > 0 or high < 0:  # both ends on one side: sizes, "between 4 and 9 days higher"
         small, large = sorted((abs(low), abs(high)))
         values["low"], values["high"] = _places_pair(ctx, small, large, keep_nonzero=True)
-    else:  # "between 1 day lower and 5 days higher"
-        low_text, high_text = _places_pair(ctx, abs(low), abs(high), keep_nonzero=True)
-        low_full = _places_pair(ctx, abs(low), abs(low), keep_nonzero=True)[1]
-        values["low"] = _signed_amount(ctx, low, low_full)
-        values["high"] = _signed_amount(ctx, high, high_text)
+    else:  # "between 1 day lower and 5 days higher": each end a whole amount, its unit in its own plural
+        values["low"] = _signed_amount(ctx, low, _size(ctx, low))
+        values["high"] = _signed_amount(ctx, high, _size(ctx, high))
     values["bound"] = _size(ctx, max(abs(low), abs(high)))
     return values
 
