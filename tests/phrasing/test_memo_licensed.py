@@ -86,6 +86,20 @@ def test_a_round_award_a_hundred_times_the_typical_one_is_worth_checking_not_a_t
     assert [e.strength for e in readings.unusual.entry_errors if e.value == 250000.0] == ["probable"]
 
 
+@pytest.mark.parametrize(("unit", "currency"), [(None, "USD"), ("dollars", None), ("euros", None)])
+def test_money_the_report_knows_of_is_never_a_typing_error(unit, currency):
+    # The same awards when only the report knows they are money: --currency with no unit, or a unit word the
+    # number formatter reads as a currency ("dollars", "euros"). Before, the memo said "$250,000 is probably a
+    # typing error (perhaps $2,500 was meant)" here, while --unit USD said "worth checking".
+    awards = np.round(np.random.default_rng(7).lognormal(8, 0.6, 300), 2)
+    found = describe(np.concatenate([awards, [250000.0]]), unit=unit, lower_bound=0)
+    for locale in ("en_US", "es_ES", "fr_FR"):
+        text = summary(found, locale, currency=currency)
+        assert not any(word in text for word in ("typing", "tecleo", "saisie")), (locale, text)
+    text = summary(found, currency=currency)
+    assert "worth checking against the source records" in text and "250,000 (row 301)" in text
+
+
 def test_an_excess_where_fewer_than_one_is_expected_is_not_against_about_zero():
     # 58 beds counts, near-normal, with four far values: a normal shape puts 0.70 % (0.4 of 58 values)
     # beyond Tukey's fences (INNER_RATE, computed from the normal distribution).
