@@ -229,7 +229,7 @@ def _why(ctx: WordingContext) -> Sentence | None:
                 return None
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
-        # The flagged values first when they move the mean: "the unusual value pulls the average up" is the more
+        # The flagged values first when they move the mean: "the value far from the rest pulls the average up" is the more
         # concrete of the two, and true when a single value, not a long tail, does the pulling.
         count = flagged.count if flagged is not None else 0
         said = None
@@ -625,7 +625,7 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     if possible:
         out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
-                           items=_items(ctx, possible)))
+                           count=ctx.count(len(possible), "value"), items=_items(ctx, possible)))
     return [sentence for sentence in out if sentence is not None]
 
 
@@ -637,6 +637,17 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
         sentence = ctx.say("memo.outliers.none", ("outliers.count",), claim=flagged_claim(findings))
     else:
         unusual = findings.unusual
+        if unusual.reason == "too_few":
+            # Too few values to judge a shape: the rule's values with their rows, and no word on whether they are
+            # ordinary or surprising for a shape nobody can see in so few values.
+            listed = list(zip(flagged.values, flagged.rows, strict=True))
+            key = "memo.unusual.few_to_judge" if flagged.complete and len(listed) <= LISTED \
+                else "memo.unusual.few_to_judge_count"
+            sentence = ctx.say(key, ("outliers.values", "outliers.rows", "outliers.count"),
+                               subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
+                               items=_items(ctx, listed), claim={**flagged_claim(findings),
+                                                                 "values": list(flagged.values)})
+            return [sentence] if sentence is not None else []
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
@@ -744,7 +755,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
         blocks.append(("together", _together_sentences(ctx, groups, said)))
     mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)
     # A sentence that named values standing out already asked for them to be checked: no second caution.
-    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind == "stand_out" for s in sentences)
+    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind in ("stand_out", "entry_error_possible")
+                                                  for s in sentences)
                       for code, sentences in blocks)
     fixed = sum(len(sentences) for _, sentences in blocks) + len(_left_out(ctx)) + 1
     for name in DROPPED_FIRST:

