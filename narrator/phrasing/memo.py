@@ -356,6 +356,14 @@ def _size(ctx: WordingContext, value: float) -> str:
     return _places_pair(ctx, abs(value), abs(value), keep_nonzero=True)[1]
 
 
+def _bound(ctx: WordingContext, value: float) -> str:
+    """An upper bound in a memo ("likely less than 3 days", "at most 3 days"), rounded up at memo rounding, so the
+    printed bound is never below the true one (2.4 days is "less than 3 days", never "less than 2 days")."""
+    places = ctx._memo_places(min(ctx.memo_decimals, ctx.data_decimals))
+    scale = 10.0 ** places
+    return _size(ctx, math.ceil(round(abs(value) * scale, 9)) / scale)
+
+
 def _signed_amount(ctx: WordingContext, value: float, text: str) -> str:
     kind = "higher" if value > 0 else "lower" if value < 0 else "none"
     return ctx.text(f"memo.groups.amount.{kind}", amount=text)
@@ -382,7 +390,7 @@ def _difference_values(ctx: WordingContext, difference: Difference) -> dict[str,
     else:  # "between 1 day lower and 5 days higher": each end a whole amount, its unit in its own plural
         values["low"] = _signed_amount(ctx, low, _size(ctx, low))
         values["high"] = _signed_amount(ctx, high, _size(ctx, high))
-    values["bound"] = _size(ctx, max(abs(low), abs(high)))
+    values["bound"] = _bound(ctx, max(abs(low), abs(high)))
     return values
 
 
@@ -430,14 +438,20 @@ def _together_sentences(ctx: WordingContext, groups: MemoGroups, said: _Said, *,
                   if pair.first in together and pair.second in together]
         limits = [abs(value) for _, pair in inside for value in (pair.difference.low, pair.difference.high)
                   if value is not None]
-        claim = {"groups": list(together), "bound": max(limits) if limits else None,
+        # Every "about the same" is sized: by the likely range (a sample), or by the largest typical difference
+        # itself (a whole population, where there is no likely range).
+        shifts = [abs(pair.difference.shift) for _, pair in inside if pair.difference.shift is not None]
+        bound = max(limits) if limits else max(shifts) if shifts else None
+        claim = {"groups": list(together), "bound": bound, "bound_of": "limits" if limits else "shifts",
                  "pairs": [[pair.first, pair.second, pair.difference.shift, pair.difference.low,
                             pair.difference.high] for _, pair in inside]}
         key = "memo.groups.all_alike" if all_alike and limits else "memo.groups.together"
+        if not limits and bound == 0:
+            key = "memo.groups.together_zero"  # "at most 0 days" says it backwards
         sentence = ctx.say(key, tuple(f"comparison.pairs.{k}.difference.verdict" for k, _ in inside), claim=claim,
                            subject=(len(together), "group"),
                            groups=_group_list(ctx, groups, together),
-                           bound=_size(ctx, max(limits)) if limits else "")
+                           bound=_bound(ctx, bound) if bound is not None else "")
         if sentence is not None:
             said.pairs.update(k for k, _ in inside)
             out.append(sentence)
@@ -503,7 +517,7 @@ def _groups_unclear(ctx: WordingContext, message: Message, groups: MemoGroups | 
         sentence = ctx.say("memo.groups.unclear_many", ("comparison.pairs",), claim=claim, group=groups.group_by,
                            count=ctx.count(len({label for pair in comparison.pairs
                                                 for label in (pair.first, pair.second)}), "group"),
-                           bound=_size(ctx, max(limits)))
+                           bound=_bound(ctx, max(limits)))
         if sentence is not None:
             out.append(sentence)
     return out + _together_sentences(ctx, groups, said)
