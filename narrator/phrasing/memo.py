@@ -178,8 +178,8 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
     if lead.claims and lead.claims[0].kind in ("share_at_minimum", "share_at_maximum"):
         return []
     findings, counts = ctx.findings, ctx.findings.order_counts
-    if lead.claims and lead.claims[0].kind == "median_with_ties" and counts.at_min in (counts.below_median,
-                                                                                       counts.above_median):
+    kind = lead.claims[0].kind if lead.claims else None
+    if kind == "median_with_ties" and counts.at_min in (counts.below_median, counts.above_median):
         return []  # "30% were lower" already said it: every value below the middle one is the lowest
     sentence = ctx.say(
         "memo.at_end", ("order_counts",), min=ctx.memo_recorded(findings.spread.min),
@@ -187,6 +187,11 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
         share_at_max=_share(ctx, counts.at_max),
         claim={"min": findings.spread.min, "max": findings.spread.max, "share_at_min": counts.at_min / findings.n,
                "share_at_max": counts.at_max / findings.n, "n": findings.n})
+    if sentence is not None and sentence.claims and (
+            (sentence.claims[0].kind == "share_at_minimum" and kind in ("median_ties_at_min", "median_ties_at_ends"))
+            or (sentence.claims[0].kind == "share_at_maximum" and kind in ("median_ties_at_max",
+                                                                           "median_ties_at_ends"))):
+        return []  # "44% were 0" in the lead already said it
     return [sentence] if sentence is not None else []
 
 
@@ -722,7 +727,13 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
         parts["lead"] = parts["at_end"] = []
     if findings.n > 1 and findings.spread.range > 0:
         # A lead that gave the share at one end already said where the other values run.
-        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+        # So does one that named the lowest and the highest value with every value between ("30% were 1, 40% were
+        # exactly 2 and 30% were 3"), when the quartiles are those ends ("100% were between 1 and 3" says nothing).
+        spread = findings.spread
+        said_range = bool(lead[0].claims) and (
+            lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+            or (lead[0].claims[0].kind == "median_ties_at_ends" and spread.q1 == spread.min
+                and spread.q3 == spread.max))
         parts["range"] = [] if said_range else [_range(ctx)]
         if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
             parts["shape"] = [_shape(ctx)]

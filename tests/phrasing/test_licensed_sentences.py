@@ -150,7 +150,9 @@ def test_item1_ties_at_the_median_are_said_with_their_shares():
     sentence = next(s for s in narrate(findings, "memo").sentences() if "center.median" in s.keys)
     assert "half were lower" not in sentence.text
     shares = [np.mean(values < 2), np.mean(values == 2), np.mean(values > 2)]
-    assert sentence.text == (f"The middle value of the 240 values was 2: {shares[0]:.0%} were lower, {shares[1]:.0%} "
+    # Every value below 2 is 1, the lowest: the lead names it ("34% were 1"), not only "were lower".
+    assert values.min() == 1 and np.all(values[values < 2] == 1)
+    assert sentence.text == (f"The middle value of the 240 values was 2: {shares[0]:.0%} were 1, {shares[1]:.0%} "
                              f"were exactly 2 and {shares[2]:.0%} were higher.")
     text = memo(findings)
     q1, q3 = np.quantile(values, [0.25, 0.75])

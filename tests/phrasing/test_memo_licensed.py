@@ -269,3 +269,23 @@ def test_a_digit_shift_among_seven_readings_is_only_possibly_a_typing_error():
     assert [error.strength for error in found.unusual.entry_errors] == ["possible"]
     text = summary(found)
     assert "One value, 40 (row 7), could be a typing error; check it." in text and "probably" not in text
+
+
+@pytest.mark.parametrize(("values", "expected"), [
+    # Visits per household: 44 of 100 are 0, so every value below the middle value 1 is 0.
+    ([0.0] * 44 + [1.0] * 9 + [2.0] * 20 + [3.0] * 15 + [5.0] * 12,
+     "The middle value of the 100 values was 1: 44% were 0, 9% were exactly 1 and 47% were higher."),
+    # Ratings from 1 to 5: every value above the middle value 4 is 5.
+    ([1.0] * 5 + [2.0] * 10 + [3.0] * 20 + [4.0] * 40 + [5.0] * 25,
+     "The middle value of the 100 values was 4: 35% were lower, 40% were exactly 4 and 25% were 5."),
+    # Three answers, 1, 2 and 3: both ends.
+    ([1.0] * 25 + [2.0] * 40 + [3.0] * 35,
+     "The middle value of the 100 values was 2: 25% were 1, 40% were exactly 2 and 35% were 3."),
+])
+def test_the_values_beside_the_middle_one_are_named_when_they_are_one_value(values, expected):
+    # By construction: when every value below (above) the middle value is the lowest (highest), the lead says
+    # which value that is ("44% were 0"), and no second sentence repeats the share at that end.
+    text = summary(describe(values))
+    assert text.startswith(expected), text
+    share = expected.split(": ")[1].split("%")[0]
+    assert text.count(f"{share}%") == 1, text
