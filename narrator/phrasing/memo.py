@@ -139,6 +139,7 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "next_low": ctx.memo_recorded(counts.next_above_min) if counts.next_above_min is not None else "",
         "next_high": ctx.memo_recorded(counts.next_below_max) if counts.next_below_max is not None else "",
     }
+    values["counts"] = _counts_around_median(ctx, values["median_exact"])
     claim = {
         "median": center.median, "n": findings.n,
         "share_below": counts.below_median / findings.n, "share_at": counts.at_median / findings.n,
@@ -146,9 +147,22 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "min": spread.min, "max": spread.max, "share_at_min": counts.at_min / findings.n,
         "share_at_max": counts.at_max / findings.n, "next_low": counts.next_above_min,
         "next_high": counts.next_below_max,
+        "below": counts.below_median, "at": counts.at_median, "above": counts.above_median,
     }
     return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), subject=subject, claim=claim,
                     **values)]
+
+
+def _counts_around_median(ctx: WordingContext, median: str) -> str:
+    """ "three were lower, one was exactly 9 and three were higher": the counts below, at and above the
+    middle value, each worded for its own count (a small sample's lead, claim ``median_counts``)."""
+    counts = ctx.findings.order_counts
+    parts = []
+    for place, count in (("below", counts.below_median), ("at", counts.at_median), ("above", counts.above_median)):
+        if count:
+            parts.append(ctx.text(f"memo.lead.counts.{place}", ctx.fmt.count_category(count),
+                                  count=ctx.fmt.count_number(count, "value", alone=True), value=median))
+    return ctx.fmt.list(parts)
 
 
 def _left_out(ctx: WordingContext) -> list[Sentence]:
@@ -181,10 +195,12 @@ def _range(ctx: WordingContext) -> Sentence | None:
     spread, counts = findings.spread, findings.order_counts
     q1, q3 = ctx.memo_pair(spread.q1, spread.q3)  # "between 13 and 28 days": the unit once
     low, high = ctx.memo_recorded_pair(spread.min, spread.max)
+    inside = counts.within_quartiles
     return ctx.say(
-        "memo.range", ("spread.q1", "spread.q3"), q1=q1, q3=q3,
-        share_inside=_share(ctx, counts.within_quartiles), min=low, max=high,
-        claim={"q1": spread.q1, "q3": spread.q3, "share": counts.within_quartiles / findings.n, "low": spread.q1,
+        "memo.range", ("spread.q1", "spread.q3"), subject=(inside, "value"), q1=q1, q3=q3,
+        share_inside=_share(ctx, inside), min=low, max=high, n_values=ctx.count(findings.n, "value"),
+        count_inside=ctx.fmt.count_number(inside, "value", alone=True),
+        claim={"q1": spread.q1, "q3": spread.q3, "share": inside / findings.n, "count": inside, "low": spread.q1,
                "high": spread.q3, "min": spread.min, "max": spread.max, "n": findings.n})
 
 
