@@ -129,10 +129,10 @@ def select_messages(findings: Findings, *, comparison: GroupComparison | None = 
     clustered = findings.clusters is not None and findings.clusters.count >= 2
     if clustered:
         found.append(_clusters_message(findings))
-    found += _entry_error_messages(findings)
+    found += _entry_error_messages(findings, money)
     misleading = clustered or (share is not None and share.numbers["share"] >= HALF)
     found.append(_center_message(findings, misleading))
-    stand_out = _stand_out_message(findings)
+    stand_out = _stand_out_message(findings, money)
     if stand_out is not None:
         found.append(stand_out)
     order = {code: index for index, code in enumerate(MESSAGE_CODES)}
@@ -261,11 +261,18 @@ def _clusters_message(findings: Findings) -> Message:
         "separated_by": tuple(separating)})
 
 
-def _entry_error_messages(findings: Findings) -> list[Message]:
+def _strength(error, money: bool) -> str:
+    """An entry error's strength as the memo says it: money is never probably a typing error (a large amount is
+    often real), whether the engine knew it was money (an ISO 4217 unit, currency marks) or only the report does
+    (``--currency``, a unit word such as "dollars"); see narrator.engine.entry_errors, rule 3."""
+    return "possible" if money else error.strength
+
+
+def _entry_error_messages(findings: Findings, money: bool) -> list[Message]:
     unusual = findings.unusual
     if unusual is None:
         return []
-    probable = [(k, error) for k, error in enumerate(unusual.entry_errors) if error.strength == "probable"]
+    probable = [(k, error) for k, error in enumerate(unusual.entry_errors) if _strength(error, money) == "probable"]
     if not probable:
         return []
     score = SCORE["entry_error"] if _moves_lead(findings, [error.value for _, error in probable]) \
@@ -301,12 +308,13 @@ def _center_message(findings: Findings, misleading: bool) -> Message:
                     "n": findings.n})
 
 
-def _stand_out_message(findings: Findings) -> Message | None:
+def _stand_out_message(findings: Findings, money: bool) -> Message | None:
     unusual = findings.unusual
     if unusual is None:
         return None
-    possible = tuple((error.value, error.row) for error in unusual.entry_errors if error.strength == "possible")
-    probable = {error.value for error in unusual.entry_errors if error.strength == "probable"}
+    possible = tuple((error.value, error.row) for error in unusual.entry_errors
+                     if _strength(error, money) == "possible")
+    probable = {error.value for error in unusual.entry_errors if _strength(error, money) == "probable"}
     kept = [(value, row) for value, row in zip(unusual.values, unusual.rows or (None,) * len(unusual.values),
                                                 strict=True) if value not in probable]
     values = tuple(value for value, _ in kept)

@@ -1008,6 +1008,11 @@ def _check_pairs(c, raw_groups, p, allowed: tuple[str, ...]):
         limits += [abs(value) for value in (low, high) if value is not None]
     if c.get("bound") is not None and limits:
         _same("bound", c["bound"], max(limits), Raw(np.asarray(limits)), p)
+    elif c.get("bound") is not None:  # a whole population: the largest typical difference itself
+        shifts = [abs(shift) for _first, _second, shift, *_ in c["pairs"] if shift is not None]
+        _problem(bool(shifts), "a bound with neither limits nor shifts", p)
+        if shifts:
+            _same("bound", c["bound"], max(shifts), Raw(np.asarray(shifts)), p)
 
 
 def check_groups_alike(c, raw_groups, p):
