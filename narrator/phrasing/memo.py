@@ -687,11 +687,11 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
 
 
 def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool) -> dict[str, list[Sentence]]:
-    """The center and the typical range; none when the values form clusters (no single middle describes them)."""
+    """The center and the typical range; none when the values form clusters: no single middle describes them,
+    and a pooled middle half would straddle the gap between the clusters (the clusters' sentence gives each
+    cluster's place, range and size instead)."""
     findings = ctx.findings
-    if clustered:  # no single middle: where the middle half lies, and the clusters say the rest
-        if findings.n > 1 and findings.spread.range > 0:
-            return {"range": [s for s in (_range(ctx),) if s is not None]}
+    if clustered:
         return {}
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}

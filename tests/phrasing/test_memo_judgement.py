@@ -161,6 +161,12 @@ def test_two_component_mixtures_are_said_where_they_lie_and_how_big(weight, low,
     texts = [sentence.text for sentence in summary]
     assert len(set(texts)) == len(texts)  # no sentence repeats another
     assert not any(text.startswith("The middle value") for text in texts)
+    # No pooled middle half: its quartiles would straddle the valley between the clusters, or sit at its edge.
+    for locale, words in (("en_US", ("Half of all values", "were between")),
+                          ("es_ES", ("La mitad de los valores", "estuvieron entre")),
+                          ("fr_FR", ("La moitié des valeurs", "se situaient entre"))):
+        text = narrate(findings, "memo", locale).section("summary").paragraphs[0].text
+        assert not any(word in text for word in words), (locale, text)
 
 
 def test_a_probable_typing_error_is_named_with_its_value_and_row():
