@@ -467,6 +467,21 @@ def _mid_range(ctx) -> float | None:
 
 # "Most values are fairly low": the median lies below the middle of the range, so at least half the values
 # (MOST_SHARE) are in its lower half; the skew alone does not say so.
+@licence("variable", "at least one value is a probable entry error (narrator.engine.entry_errors.strong_slip)")
+def entry_error_probable(ctx) -> bool:
+    unusual = ctx.findings.unusual
+    return unusual is not None and any(error.strength == "probable" for error in unusual.entry_errors)
+
+
+@licence("variable", "the largest value is one the memo asks to check: it stands out for the data's shape or may "
+                     "be an entry error (narrator.engine.entry_errors)")
+def largest_worth_checking(ctx) -> bool:
+    unusual, spread = ctx.findings.unusual, ctx.findings.spread
+    if unusual is None or spread is None:
+        return False
+    return spread.max in set(unusual.values) | {error.value for error in unusual.entry_errors}
+
+
 @licence("variable", "the median lies below the middle of the range: most values are in its lower half")
 def most_in_lower_half(ctx) -> bool:
     middle = _mid_range(ctx)

@@ -27,9 +27,9 @@ from typing import Any
 
 from narrator.findings import Difference, GroupComparison
 from narrator.phrasing.context import WordingContext, member
-from narrator.phrasing.licences import TINY_N, DifferenceFacts
+from narrator.phrasing.licences import TINY_N, DifferenceFacts, holds
 from narrator.phrasing.narrative import Paragraph, Sentence
-from narrator.phrasing.selection import Message, select_messages
+from narrator.phrasing.selection import Message, Within, groups_may_mix, select_messages
 
 MAX_SENTENCES = 7
 
@@ -337,10 +337,15 @@ LISTED = 5  # values named in one sentence at most; the full report lists them a
 
 @dataclass(frozen=True, slots=True)
 class MemoGroups:
-    """The groups a memo compares: the engine's comparison and the column the groups come from."""
+    """The groups a memo compares: the engine's comparison and the column the groups come from.
+    ``excess_within``: for each shown group, whether its own values have more far-out values than their
+    shape predicts (``Unusual.excess``; empty when not known). ``within``: the (value, row) pairs each
+    group's own values flag (narrator.phrasing.selection.Within; None when not known)."""
 
     comparison: GroupComparison
     group_by: str
+    excess_within: tuple[bool, ...] = ()
+    within: Within | None = None
 
 
 @dataclass
@@ -633,18 +638,30 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     if numbers["excess"]:
         # "4 against about 0" says nothing true: under one expected value, the words say so.
         below_one = numbers["expected_beyond_fences"] < 1
-        out.append(ctx.say("memo.unusual.excess_below_one" if below_one else "memo.unusual.excess",
-                           ("unusual.excess", "unusual.count_beyond_fences"),
+        key = "memo.unusual.excess_below_one" if below_one else "memo.unusual.excess"
+        mixed = _excess_from_mixing(groups)
+        if mixed:  # pooled, yes; within each group, no: the groups' different values may explain it
+            key = "memo.unusual.excess_mixed_below_one" if below_one else "memo.unusual.excess_mixed"
+        out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
                            claim={**far, "count": numbers["count_beyond_fences"],
-                                  "expected": numbers["expected_beyond_fences"]},
+                                  "expected": numbers["expected_beyond_fences"], "within_groups": not mixed},
                            count=ctx.whole(numbers["count_beyond_fences"]),
-                           expected=ctx.whole(numbers["expected_beyond_fences"])))
+                           expected=ctx.whole(numbers["expected_beyond_fences"]),
+                           group=groups.group_by if mixed else ""))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
     if possible:
         out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
                            items=_items(ctx, possible)))
     return [sentence for sentence in out if sentence is not None]
+
+
+def _excess_from_mixing(groups: MemoGroups | None) -> bool:
+    """Whether the pooled values' excess of far-out values may come from mixing groups: no shown group has
+    an excess of its own, and the groups are not all alike (alike groups mixed give one shape)."""
+    if groups is None or not groups.excess_within or any(groups.excess_within):
+        return False
+    return groups_may_mix(groups.comparison)
 
 
 def _nothing_stands_out(ctx: WordingContext) -> list:
@@ -702,12 +719,26 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
         said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
         parts["range"] = [] if said_range else [_range(ctx)]
         if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
-            parts["shape"] = [_shape(ctx)]
+            # "56% were 0 ...; the others ran from 1 to 24" already says most values are low and the rest spread
+            # out: the shape sentence is said only when it adds that a few lie far out.
+            parts["shape"] = [] if said_range and not _shape_adds_to_end_share(ctx) else [_shape(ctx)]
             # Most values at one end: the share said it; "the middle value is the better guide" would point
             # at that end value as typical, which no statistician would say.
             at_one_end = said_range or said.lead
             parts["why"] = [] if at_one_end else [_why(ctx)]
     return {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
+
+
+def _shape_adds_to_end_share(ctx: WordingContext) -> bool:
+    """After the share at one end and the others' range, whether the shape sentence says more: a few values
+    far out on the long side (licences few_far_high / few_far_low); its "most are low, the rest spread out"
+    would only repeat the lead."""
+    label = ctx.findings.shape.label
+    if label == "right-skewed":
+        return holds("few_far_high", ctx)
+    if label == "left-skewed":
+        return holds("few_far_low", ctx)
+    return True
 
 
 WORDERS: dict[str, Callable] = {
@@ -736,7 +767,7 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     if 2 <= findings.n < TINY_N and findings.spread.range > 0:
         return Paragraph(tuple(_tiny(ctx)))
     messages = select_messages(findings, comparison=groups.comparison if groups is not None else None,
-                               currency=ctx.fmt.currency_code)
+                               currency=ctx.fmt.currency_code, within=groups.within if groups is not None else None)
     clustered = any(message.code == "clusters" for message in messages)
     said = _Said()
     blocks: list[tuple[str, list[Sentence]]] = []

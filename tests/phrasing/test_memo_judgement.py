@@ -190,5 +190,7 @@ def test_money_memo_says_the_total_and_where_it_went():
     findings = describe(values, name="amount", lower_bound=0)
     first = narrate(findings, "memo", currency="USD").section("summary").paragraphs[0].sentences[0].text
     top = np.sort(values)[::-1]
-    assert first.startswith("Much of the total sits in a few values: the 400 values add up to $")
+    # The three very large grants stand out and are worth checking: the shares depend on them being right.
+    assert first.startswith("If the largest amounts are right, much of the total sits in a few values: the 400 "
+                            "values add up to $")
     assert f"the largest four values hold {100 * top[:4].sum() / top.sum():.0f}% of the total" in first
