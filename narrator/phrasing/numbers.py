@@ -24,7 +24,7 @@ Name                                What it does
 :meth:`~NumberFormatter.list`       "a, b, and c" (CLDR list pattern)
 :meth:`~NumberFormatter.number_list` "0,25; 0,50 y 0,75" (the CLDR list symbol for numbers)
 :meth:`~NumberFormatter.long_date`  "1er décembre 2026": CLDR's long date, the bank's first of the month
-:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC"
+:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC" (French: "16 h 5 min 3 s TU")
 :func:`parse_locale`                a CLDR locale, or one clear refusal
 :func:`language_tag`                its BCP 47 tag ("es-419"), for document metadata
 :func:`minimum_grouping_digits`     CLDR ``minimumGroupingDigits`` of a locale
@@ -888,14 +888,28 @@ class NumberFormatter:
     def long_datetime(self, moment: dt.datetime) -> str:
         """A moment in UTC in the locale's CLDR long date-time form (as babel's "long"), with :meth:`long_date`.
 
+        The time of day is CLDR's long time, or, where the bank's ``format.clock`` is ``units``
+        (French), the hours, minutes and seconds with CLDR's short duration units joined by its
+        ``unit-narrow`` list pattern, then CLDR's zone name: "16 h 5 min 3 s TU".
+
         >>> NumberFormatter("fr_FR").long_datetime(dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC))
-        '1er décembre 2026, 16:05:03 TU'
+        '1er décembre 2026, 16\u202fh 5\xa0min 3\u202fs TU'
+        >>> NumberFormatter("en_US").long_datetime(dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC))
+        'December 1, 2026, 4:05:03\u202fPM UTC'
         """
         from babel.dates import format_time, get_datetime_format
 
         moment = moment if moment.tzinfo is not None else moment.replace(tzinfo=dt.UTC)
         utc = moment.astimezone(dt.UTC)
-        time_text = format_time(utc, format="long", tzinfo=dt.UTC, locale=self.locale)
+        if self.bank.format("format.clock") == "units":
+            from babel.units import format_unit
+
+            parts = [format_unit(amount, unit, length="short", locale=self.locale) for amount, unit in (
+                (utc.hour, "duration-hour"), (utc.minute, "duration-minute"), (utc.second, "duration-second"))]
+            zone = format_time(utc, format="z", tzinfo=dt.UTC, locale=self.locale)
+            time_text = f"{format_list(parts, style='unit-narrow', locale=self.locale)} {zone}"
+        else:
+            time_text = format_time(utc, format="long", tzinfo=dt.UTC, locale=self.locale)
         glue = get_datetime_format("long", locale=self.locale).replace("'", "")
         return glue.replace("{0}", time_text).replace("{1}", self.long_date(utc.date()))
 

@@ -49,7 +49,7 @@ ESTIMATING = {
     "es": ("probable", "no es seguro", "difícil estar seguros", "puede ser ", "parece", "evidencia es limitada",
            "(EE ", "p = ", "p < ", "intervalos de confianza del"),
     "fr": ("probablement", "sans doute", "pas certain", "difficile d'en être sûr", "peut-être", "sembl", "pourrai",
-           "indices sont limités", "(ES ", "p = ", "p < ", "intervalles de confiance à"),
+           "indices sont limités", "(erreur type ", "p = ", "p < ", "intervalles de confiance à"),
 }
 
 
