@@ -103,6 +103,7 @@ COMPACT_SPACING_PT: Mapping[str, float] = {
     "heading_before": 10, "heading_2_before": 7, "body_after": 4, "cell": 0.5, "figure_before": 3,
     "caption_after": 4,
 }
+VARIABLE_PART = "variable."  # the key of each variable's part of a report (narrator.phrasing.sets: variable.<n>)
 COMPACT_BLOCK_FONT_PT = 8  # the memo's "How this report was made" (the table text's 8.5 pt, a little smaller)
 
 @dataclass(frozen=True, slots=True)
@@ -123,7 +124,7 @@ class ReportFrame:
     appendix_header: tuple[str, str] | None = None
     appendix_rows: tuple[tuple[str, str], ...] = ()
     appendix_lines: tuple[str, ...] = ()  # a memo's compact block: written as lines in place of the table
-    compact: bool = False  # a memo's tighter spacing, so each variable's part holds on one page
+    compact: bool = False  # a memo: tighter spacing, and a page for each variable's part (each holds on one)
 
 
 def default_template() -> bytes:
@@ -177,7 +178,7 @@ def build_document(
     bullets_numbered = _style_has_numbering(document, STYLE_NAMES["bullet"])
 
     by_key = {figure.key: figure for figure in figures}
-    counters = {"figure": 0, "table": 0}
+    counters = {"figure": 0, "table": 0, "part": 0}
 
     document.add_paragraph(xml_safe(narrative.title), style=STYLE_NAMES["title"])
     for line in frame.details:
@@ -282,6 +283,10 @@ def _add_section(document, section: Section, by_key, frame: ReportFrame, counter
         if frame.compact:
             before = "heading_before" if section.level == 1 else "heading_2_before"
             heading.paragraph_format.space_before = Pt(COMPACT_SPACING_PT[before])
+            if section.key.startswith(VARIABLE_PART):
+                # A memo's page per variable: each variable's part after the first starts a page.
+                counters["part"] += 1
+                heading.paragraph_format.page_break_before = counters["part"] > 1
     for paragraph in section.paragraphs:
         added = _add_paragraph(document, paragraph, bullets_numbered)
         if frame.compact:

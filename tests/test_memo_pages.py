@@ -164,12 +164,15 @@ def demo_memos(office, tmp_path_factory) -> dict[str, tuple[Path, Path]]:
 
     Spanish and French: the housing memo of two variables by office, built on October's data and then on
     November's as the demo does (so each variable has its "what changed"); the water memo of one variable
-    (French; the demo's is Spanish); and a memo of one variable by office from the command line.
+    (French; the demo's is Spanish); a memo of one variable by office from the command line; and (French)
+    the housing memo of two variables without groups.
     """
     folder = tmp_path_factory.mktemp("demo") / "demo"
     _narrator("demo", "-o", str(folder))
-    recipes = [folder / "water-fr.toml"]
+    recipes = [folder / "water-fr.toml", folder / "two-fr.toml"]
     recipes[0].write_text(_WATER_FR, encoding="utf-8")
+    ungrouped = _HOUSING.replace('group_by = "office"\n', "").replace("privacy_threshold = 10\n", "")
+    recipes[1].write_text(ungrouped.format(**{**_HOUSING_WORDS["fr"], "memo": "deux-variables"}), encoding="utf-8")
     housing = []
     for language, words in _HOUSING_WORDS.items():
         housing.append(folder / f"housing-{language}.toml")
@@ -200,6 +203,7 @@ DEMO_MEMOS = {
     "logement-resume": (2, "housing_waits.csv"),  # French, two variables by office, after a refresh
     "por-oficina-es_ES": (1, "housing_waits.csv"),  # Spanish, one variable by office
     "por-oficina-fr_FR": (1, "housing_waits.csv"),  # French, one variable by office
+    "deux-variables": (2, "housing_waits.csv"),  # French, two variables, no groups
 }
 
 
@@ -214,6 +218,16 @@ def test_the_demos_memos_are_one_page_per_variable_in_english_spanish_and_french
         assert f"{docx.stem}.findings.json" in text, name  # the compact block names the sidecar
     english = pdf_text(demo_memos["housing-memo"][1])
     assert english.count("What changed since the previous data") == 2
+
+
+def test_each_variable_of_a_memo_has_its_own_page(demo_memos):
+    # The first variable's part is short enough to leave room for the second's heading: a page break, not
+    # the lack of room, puts the second variable on page 2.
+    pdf = demo_memos["deux-variables"][1]
+    first, second = (subprocess.run(["pdftotext", "-f", str(page), "-l", str(page), str(pdf), "-"],
+                                    capture_output=True, text=True, check=True).stdout for page in (1, 2))
+    assert "premier paiement (usd)" not in first.casefold()
+    assert second.lstrip().casefold().startswith("premier paiement (usd)")  # the label as the recipe writes it
 
 
 _NS = {"wp": "http://schemas.openxmlformats.org/drawingml/2006/wordprocessingDrawing",

@@ -106,6 +106,9 @@ CLAIM_KINDS: dict[str, str] = {
     "median_value": "the median of the values is `median`",
     "median_splits": "the median is `median`; exactly half the values, or within 2 points of half, lie below "
                      "it and as many above",
+    "median_ties_at_min": "as median_with_ties, and every value below the median is the smallest value `min`",
+    "median_ties_at_max": "as median_with_ties, and every value above the median is the largest value `max`",
+    "median_ties_at_ends": "as median_with_ties, every value below the median is `min` and every one above is `max`",
     "median_with_ties": "the median is `median`; the shares below, equal to and above it are "
                         "`share_below`, `share_at`, `share_above`, each of them above 0",
     "median_counts": "the median is `median`; of the `n` values, `below` lie below it, `at` equal it and `above` "
@@ -379,6 +382,18 @@ def median_splits_values(ctx) -> bool:
 def values_on_both_sides_of_median(ctx) -> bool:
     counts = _counts(ctx)
     return counts is not None and counts.below_median > 0 and counts.above_median > 0
+
+
+@licence("variable", "some values lie below the median, and every one of them is the lowest value")
+def below_median_all_at_minimum(ctx) -> bool:
+    counts = _counts(ctx)
+    return counts is not None and 0 < counts.below_median == counts.at_min
+
+
+@licence("variable", "some values lie above the median, and every one of them is the highest value")
+def above_median_all_at_maximum(ctx) -> bool:
+    counts = _counts(ctx)
+    return counts is not None and 0 < counts.above_median == counts.at_max
 
 
 @licence("variable", "at least 8 values, and the share from Q1 to Q3 is within 5 points of half (exactly half "

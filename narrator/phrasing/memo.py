@@ -178,8 +178,8 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
     if lead.claims and lead.claims[0].kind in ("share_at_minimum", "share_at_maximum"):
         return []
     findings, counts = ctx.findings, ctx.findings.order_counts
-    if lead.claims and lead.claims[0].kind == "median_with_ties" and counts.at_min in (counts.below_median,
-                                                                                       counts.above_median):
+    kind = lead.claims[0].kind if lead.claims else None
+    if kind in ("median_with_ties", "median_counts") and counts.at_min in (counts.below_median, counts.above_median):
         return []  # "30% were lower" already said it: every value below the middle one is the lowest
     sentence = ctx.say(
         "memo.at_end", ("order_counts",), min=ctx.memo_recorded(findings.spread.min),
@@ -187,6 +187,11 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
         share_at_max=_share(ctx, counts.at_max),
         claim={"min": findings.spread.min, "max": findings.spread.max, "share_at_min": counts.at_min / findings.n,
                "share_at_max": counts.at_max / findings.n, "n": findings.n})
+    if sentence is not None and sentence.claims and (
+            (sentence.claims[0].kind == "share_at_minimum" and kind in ("median_ties_at_min", "median_ties_at_ends"))
+            or (sentence.claims[0].kind == "share_at_maximum" and kind in ("median_ties_at_max",
+                                                                           "median_ties_at_ends"))):
+        return []  # "44% were 0" in the lead already said it
     return [sentence] if sentence is not None else []
 
 
@@ -245,7 +250,7 @@ def _why(ctx: WordingContext) -> Sentence | None:
                 return None
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
-        # The flagged values first when they move the mean: "the unusual value pulls the average up" is the more
+        # The flagged values first when they move the mean: "the value far from the rest pulls the average up" is the more
         # concrete of the two, and true when a single value, not a long tail, does the pulling.
         count = flagged.count if flagged is not None else 0
         said = None
@@ -377,6 +382,14 @@ def _size(ctx: WordingContext, value: float) -> str:
     return _places_pair(ctx, abs(value), abs(value), keep_nonzero=True)[1]
 
 
+def _bound(ctx: WordingContext, value: float) -> str:
+    """An upper bound in a memo ("likely less than 3 days", "at most 3 days"), rounded up at memo rounding, so the
+    printed bound is never below the true one (2.4 days is "less than 3 days", never "less than 2 days")."""
+    places = ctx._memo_places(min(ctx.memo_decimals, ctx.data_decimals))
+    scale = 10.0 ** places
+    return _size(ctx, math.ceil(round(abs(value) * scale, 9)) / scale)
+
+
 def _signed_amount(ctx: WordingContext, value: float, text: str) -> str:
     kind = "higher" if value > 0 else "lower" if value < 0 else "none"
     return ctx.text(f"memo.groups.amount.{kind}", amount=text)
@@ -400,12 +413,10 @@ def _difference_values(ctx: WordingContext, difference: Difference) -> dict[str,
     if low > 0 or high < 0:  # both ends on one side: sizes, "between 4 and 9 days higher"
         small, large = sorted((abs(low), abs(high)))
         values["low"], values["high"] = _places_pair(ctx, small, large, keep_nonzero=True)
-    else:  # "between 1 day lower and 5 days higher"
-        low_text, high_text = _places_pair(ctx, abs(low), abs(high), keep_nonzero=True)
-        low_full = _places_pair(ctx, abs(low), abs(low), keep_nonzero=True)[1]
-        values["low"] = _signed_amount(ctx, low, low_full)
-        values["high"] = _signed_amount(ctx, high, high_text)
-    values["bound"] = _size(ctx, max(abs(low), abs(high)))
+    else:  # "between 1 day lower and 5 days higher": each end a whole amount, its unit in its own plural
+        values["low"] = _signed_amount(ctx, low, _size(ctx, low))
+        values["high"] = _signed_amount(ctx, high, _size(ctx, high))
+    values["bound"] = _bound(ctx, max(abs(low), abs(high)))
     return values
 
 
@@ -453,14 +464,20 @@ def _together_sentences(ctx: WordingContext, groups: MemoGroups, said: _Said, *,
                   if pair.first in together and pair.second in together]
         limits = [abs(value) for _, pair in inside for value in (pair.difference.low, pair.difference.high)
                   if value is not None]
-        claim = {"groups": list(together), "bound": max(limits) if limits else None,
+        # Every "about the same" is sized: by the likely range (a sample), or by the largest typical difference
+        # itself (a whole population, where there is no likely range).
+        shifts = [abs(pair.difference.shift) for _, pair in inside if pair.difference.shift is not None]
+        bound = max(limits) if limits else max(shifts) if shifts else None
+        claim = {"groups": list(together), "bound": bound, "bound_of": "limits" if limits else "shifts",
                  "pairs": [[pair.first, pair.second, pair.difference.shift, pair.difference.low,
                             pair.difference.high] for _, pair in inside]}
         key = "memo.groups.all_alike" if all_alike and limits else "memo.groups.together"
+        if not limits and bound == 0:
+            key = "memo.groups.together_zero"  # "at most 0 days" says it backwards
         sentence = ctx.say(key, tuple(f"comparison.pairs.{k}.difference.verdict" for k, _ in inside), claim=claim,
                            subject=(len(together), "group"),
                            groups=_group_list(ctx, groups, together),
-                           bound=_size(ctx, max(limits)) if limits else "")
+                           bound=_bound(ctx, bound) if bound is not None else "")
         if sentence is not None:
             said.pairs.update(k for k, _ in inside)
             out.append(sentence)
@@ -526,7 +543,7 @@ def _groups_unclear(ctx: WordingContext, message: Message, groups: MemoGroups | 
         sentence = ctx.say("memo.groups.unclear_many", ("comparison.pairs",), claim=claim, group=groups.group_by,
                            count=ctx.count(len({label for pair in comparison.pairs
                                                 for label in (pair.first, pair.second)}), "group"),
-                           bound=_size(ctx, max(limits)))
+                           bound=_bound(ctx, max(limits)))
         if sentence is not None:
             out.append(sentence)
     return out + _together_sentences(ctx, groups, said)
@@ -652,7 +669,7 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     if possible:
         out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
-                           items=_items(ctx, possible)))
+                           count=ctx.count(len(possible), "value"), items=_items(ctx, possible)))
     return [sentence for sentence in out if sentence is not None]
 
 
@@ -672,6 +689,17 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
         sentence = ctx.say("memo.outliers.none", ("outliers.count",), claim=flagged_claim(findings))
     else:
         unusual = findings.unusual
+        if unusual.reason == "too_few":
+            # Too few values to judge a shape: the rule's values with their rows, and no word on whether they are
+            # ordinary or surprising for a shape nobody can see in so few values.
+            listed = list(zip(flagged.values, flagged.rows, strict=True))
+            key = "memo.unusual.few_to_judge" if flagged.complete and len(listed) <= LISTED \
+                else "memo.unusual.few_to_judge_count"
+            sentence = ctx.say(key, ("outliers.values", "outliers.rows", "outliers.count"),
+                               subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
+                               items=_items(ctx, listed), claim={**flagged_claim(findings),
+                                                                 "values": list(flagged.values)})
+            return [sentence] if sentence is not None else []
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
@@ -716,7 +744,13 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
         parts["lead"] = parts["at_end"] = []
     if findings.n > 1 and findings.spread.range > 0:
         # A lead that gave the share at one end already said where the other values run.
-        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+        # So does one that named the lowest and the highest value with every value between ("30% were 1, 40% were
+        # exactly 2 and 30% were 3"), when the quartiles are those ends ("100% were between 1 and 3" says nothing).
+        spread = findings.spread
+        said_range = bool(lead[0].claims) and (
+            lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+            or (lead[0].claims[0].kind == "median_ties_at_ends" and spread.q1 == spread.min
+                and spread.q3 == spread.max))
         parts["range"] = [] if said_range else [_range(ctx)]
         if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
             # "56% were 0 ...; the others ran from 1 to 24" already says most values are low and the rest spread
@@ -793,7 +827,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
         blocks.append(("together", _together_sentences(ctx, groups, said)))
     mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)
     # A sentence that named values standing out already asked for them to be checked: no second caution.
-    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind == "stand_out" for s in sentences)
+    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind in ("stand_out", "entry_error_possible")
+                                                  for s in sentences)
                       for code, sentences in blocks)
     fixed = sum(len(sentences) for _, sentences in blocks) + len(_left_out(ctx)) + 1
     for name in DROPPED_FIRST:

@@ -174,10 +174,10 @@ def select_messages(findings: Findings, *, comparison: GroupComparison | None = 
     clustered = findings.clusters is not None and findings.clusters.count >= 2
     if clustered:
         found.append(_clusters_message(findings))
-    found += _entry_error_messages(findings, within)
+    found += _entry_error_messages(findings, money, within)
     misleading = clustered or (share is not None and share.numbers["share"] >= HALF)
     found.append(_center_message(findings, misleading))
-    stand_out = _stand_out_message(findings, within)
+    stand_out = _stand_out_message(findings, money, within)
     if stand_out is not None:
         found.append(stand_out)
     order = {code: index for index, code in enumerate(MESSAGE_CODES)}
@@ -306,11 +306,18 @@ def _clusters_message(findings: Findings) -> Message:
         "separated_by": tuple(separating)})
 
 
-def _entry_error_messages(findings: Findings, within: Within | None = None) -> list[Message]:
+def _strength(error, money: bool) -> str:
+    """An entry error's strength as the memo says it: money is never probably a typing error (a large amount is
+    often real), whether the engine knew it was money (an ISO 4217 unit, currency marks) or only the report does
+    (``--currency``, a unit word such as "dollars"); see narrator.engine.entry_errors, rule 3."""
+    return "possible" if money else error.strength
+
+
+def _entry_error_messages(findings: Findings, money: bool, within: Within | None = None) -> list[Message]:
     unusual = findings.unusual
     if unusual is None:
         return []
-    probable = [(k, error) for k, error in enumerate(unusual.entry_errors) if error.strength == "probable"
+    probable = [(k, error) for k, error in enumerate(unusual.entry_errors) if _strength(error, money) == "probable"
                 and (within is None or (error.value, error.row) in within.probable)]
     if not probable:
         return []
@@ -347,13 +354,15 @@ def _center_message(findings: Findings, misleading: bool) -> Message:
                     "n": findings.n})
 
 
-def _stand_out_message(findings: Findings, within: Within | None = None) -> Message | None:
+def _stand_out_message(findings: Findings, money: bool, within: Within | None = None) -> Message | None:
     unusual = findings.unusual
     if unusual is None:
         return None
+
     # A probable error its group does not confirm is no probable error: at most one that may be worth checking.
-    confirmed = (lambda error: error.strength == "probable") if within is None else (
-        lambda error: error.strength == "probable" and (error.value, error.row) in within.probable)
+    def confirmed(error) -> bool:
+        return _strength(error, money) == "probable" and (within is None or (error.value, error.row) in within.probable)
+
     possible = tuple((error.value, error.row) for error in unusual.entry_errors if not confirmed(error)
                      and (within is None or (error.value, error.row) in within.flagged))
     probable = {error.value for error in unusual.entry_errors if confirmed(error)}

@@ -303,6 +303,29 @@ def check_median_with_ties(c, raw, p):
         _problem(raw.share(mask) > 0, f"{name} is 0 but the sentence says some were", p)
 
 
+def _check_ends_below_above(c, raw, p, *, low: bool, high: bool):
+    check_median_with_ties(c, raw, p)
+    x = raw.values
+    if low:
+        _same("min", c["min"], float(x.min()), raw, p)
+        _problem(bool(np.all(x[x < raw.median] == x.min())), "a value below the median is not the lowest", p)
+    if high:
+        _same("max", c["max"], float(x.max()), raw, p)
+        _problem(bool(np.all(x[x > raw.median] == x.max())), "a value above the median is not the highest", p)
+
+
+def check_median_ties_at_min(c, raw, p):
+    _check_ends_below_above(c, raw, p, low=True, high=False)
+
+
+def check_median_ties_at_max(c, raw, p):
+    _check_ends_below_above(c, raw, p, low=False, high=True)
+
+
+def check_median_ties_at_ends(c, raw, p):
+    _check_ends_below_above(c, raw, p, low=True, high=True)
+
+
 def check_median_counts(c, raw, p):
     check_median_value(c, raw, p)
     x = raw.values
@@ -1008,6 +1031,11 @@ def _check_pairs(c, raw_groups, p, allowed: tuple[str, ...]):
         limits += [abs(value) for value in (low, high) if value is not None]
     if c.get("bound") is not None and limits:
         _same("bound", c["bound"], max(limits), Raw(np.asarray(limits)), p)
+    elif c.get("bound") is not None:  # a whole population: the largest typical difference itself
+        shifts = [abs(shift) for _first, _second, shift, *_ in c["pairs"] if shift is not None]
+        _problem(bool(shifts), "a bound with neither limits nor shifts", p)
+        if shifts:
+            _same("bound", c["bound"], max(shifts), Raw(np.asarray(shifts)), p)
 
 
 def check_groups_alike(c, raw_groups, p):
@@ -1129,6 +1157,8 @@ CHECKS = {
     "left_out": check_left_out, "mean_value": check_mean_value, "median_value": check_median_value,
     "mean_and_median": check_mean_and_median, "values_listed": check_values_listed,
     "median_splits": check_median_splits, "median_with_ties": check_median_with_ties,
+    "median_ties_at_min": check_median_ties_at_min, "median_ties_at_max": check_median_ties_at_max,
+    "median_ties_at_ends": check_median_ties_at_ends,
     "median_counts": check_median_counts, "count_between": check_count_between,
     "share_at_minimum": check_share_at_minimum, "share_at_maximum": check_share_at_maximum,
     "middle_half": check_middle_half, "share_between": check_share_between, "value_range": check_value_range,

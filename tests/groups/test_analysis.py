@@ -229,3 +229,26 @@ def test_privacy_threshold_must_be_positive(folder, capsys):
                  "-o", str(folder / "never.docx")])
     assert code == 2 and "privacy threshold" in capsys.readouterr().err
     assert not (folder / "never.docx").exists()
+
+
+@pytest.mark.parametrize(("locale", "low_text", "high_text"), [
+    ("en_US", "6 days lower", "1 day higher"),
+    ("es_ES", "6 días menos", "1 día más"),
+    ("fr_FR", "6 jours de moins", "1 jour de plus"),
+])
+def test_each_end_of_a_signed_range_takes_its_own_plural(locale, low_text, high_text):
+    # CLDR plural rules (en, es: "one" for 1; fr: "one" for 0 and 1): an end printed alone, "1 day higher",
+    # takes the plural of its own number, not the range's ("between 6 days lower and 1 days higher" was wrong).
+    from narrator.engine.describe import describe
+    from narrator.findings import Difference
+    from narrator.phrasing.memo import _difference_values
+
+    found = describe([float(value) for value in range(10, 40)], unit="days")
+    ctx = make_context(found, locale, currency=None, unit=None, name=None)
+    difference = Difference(n_first=30, n_second=30, shift=-2.0, low=-6.0, high=1.0, level=0.95, coverage=0.95,
+                            ranks=(1, 2), rank_method="exact", interval_reason="computed", lead="median",
+                            lead_difference=-2.0, scale=10.0, scale_method="pooled-iqr", small_bound=2.0,
+                            ruled_out_bound=5.0, verdict="unclear", direction="lower")
+    shown = _difference_values(ctx, difference)
+    assert shown["low"].replace("\u00a0", " ") == low_text
+    assert shown["high"].replace("\u00a0", " ") == high_text
