@@ -656,15 +656,13 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
         # "4 against about 0" says nothing true: under one expected value, the words say so.
         below_one = numbers["expected_beyond_fences"] < 1
         key = "memo.unusual.excess_below_one" if below_one else "memo.unusual.excess"
-        mixed = _excess_from_mixing(groups)
-        if mixed:  # pooled, yes; within each group, no: the groups' different values may explain it
-            key = "memo.unusual.excess_mixed_below_one" if below_one else "memo.unusual.excess_mixed"
-        out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
-                           claim={**far, "count": numbers["count_beyond_fences"],
-                                  "expected": numbers["expected_beyond_fences"], "within_groups": not mixed},
-                           count=ctx.whole(numbers["count_beyond_fences"]),
-                           expected=ctx.whole(numbers["expected_beyond_fences"]),
-                           group=groups.group_by if mixed else ""))
+        # Pooled, yes; within each group, no: the groups' different values explain it, and it is not said.
+        if not _excess_from_mixing(groups):
+            out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
+                               claim={**far, "count": numbers["count_beyond_fences"],
+                                      "expected": numbers["expected_beyond_fences"]},
+                               count=ctx.whole(numbers["count_beyond_fences"]),
+                               expected=ctx.whole(numbers["expected_beyond_fences"])))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
     if possible:
         out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),

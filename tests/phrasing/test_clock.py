@@ -28,12 +28,15 @@ def _spaces(text: str) -> str:
 
 def test_french_times_are_written_with_cldr_duration_units():
     assert get_time_format("long", locale="fr_CA").pattern == "HH 'h' mm 'min' ss 's' z"
-    reference = format_time(MOMENT, "long", tzinfo=dt.UTC, locale="fr_CA")  # "16 h 18 min 44 s UTC"
-    assert _spaces(NumberFormatter("fr_CA").long_datetime(MOMENT)).endswith(_spaces(reference))
-    ours = NumberFormatter("fr_FR").long_datetime(MOMENT)
-    assert _spaces(ours) == "3 décembre 2026, 16 h 18 min 44 s TU"
-    assert "\u202fh" in ours and "\xa0min" in ours  # CLDR's own no-break spaces: a time never breaks
-    assert ":" not in ours
+    early = dt.datetime(2026, 12, 3, 9, 5, 0, tzinfo=dt.UTC)
+    for moment in (MOMENT, early):
+        reference = format_time(moment, "long", tzinfo=dt.UTC, locale="fr_CA")  # "16 h 18 min 44 s UTC"
+        assert NumberFormatter("fr_CA").long_datetime(moment).endswith(reference)  # CLDR's own pattern, kept
+        # fr_FR: the same words as fr_CA's pattern, with CLDR's short duration units and fr_FR's zone name.
+        ours = NumberFormatter("fr_FR").long_datetime(moment)
+        assert _spaces(ours).endswith(_spaces(reference).replace("UTC", "TU")), (ours, reference)
+        assert "\u202fh" in ours and "\xa0min" in ours and ":" not in ours  # no-break spaces: never broken
+    assert _spaces(NumberFormatter("fr_FR").long_datetime(early)) == "3 décembre 2026, 09 h 05 min 00 s TU"
 
 
 def test_english_and_spanish_keep_the_cldr_clock():
