@@ -212,6 +212,16 @@ class WordingContext:
         (a plus sign on an end above zero, as ``format.signed_positive`` writes it)."""
         pair = self.memo_pair(low, high)
         zero = self.memo_pair(0.0, 0.0)
+        if not self._compact_memo(low, high):
+            # An end that is not zero is never printed as 0 ("-0.3 to +4 days", never "0 to +4 days" beside
+            # "includes zero"): more places, at most three more, while it would.
+            start = places = self._memo_places(self._as_recorded(low, high))
+            zero = self.fmt.quantity_pair(0.0, 0.0, places)
+            while places < start + 3 and any(value != 0 and text.split()[0] == zero[1].split()[0]
+                                             for value, text in zip((low, high), pair, strict=True)):
+                places = self._memo_places(places + 1)  # money: straight to the currency's minor unit
+                pair = self.fmt.quantity_pair(low, high, places)
+                zero = self.fmt.quantity_pair(0.0, 0.0, places)
         return tuple(self.text("format.signed_positive", number=text) if value > 0 and text != zero[k] else text
                      for k, (value, text) in enumerate(zip((low, high), pair, strict=True)))
 

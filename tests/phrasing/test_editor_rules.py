@@ -100,6 +100,10 @@ def test_signed_pairs_keep_the_sign_and_write_the_unit_once():
     assert ctx.signed_pair(-3.0, 11.0) == ("-3", "+11 days")
     dollars = make_context(waits, "en_US", currency="USD", unit=None, name=None)
     assert dollars.signed_pair(5.0, 9.0) == ("+$5", "+$9")  # a currency symbol stays on both ends
+    # An end that is not zero never prints as 0 beside words that say the interval includes zero.
+    assert ctx.signed_pair(-0.3, 4.2) == ("-0.3", "+4.2 days")
+    assert ctx.signed_pair(0.0, 4.0) == ("0", "+4 days")
+    assert dollars.signed_pair(-0.3, 4.2) == ("-$0.30", "+$4.20")
 
 
 @pytest.mark.parametrize(("locale", "lead"), [
