@@ -443,7 +443,7 @@ class Unusual:
     """
 
     fence_rule: str | None
-    reason: str  # "computed", "no_far_band", "no_fitted_shape", "rule_ignores_skew", "not_run"
+    reason: str  # "computed", "no_far_band", "no_fitted_shape", "rule_ignores_skew", "too_few", "not_run"
     far_lower_fence: float | None = None
     far_upper_fence: float | None = None
     count_far_out: int = 0

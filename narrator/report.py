@@ -235,17 +235,13 @@ def _variable_facts(findings: Findings, sample: Sample):
                          n_rows=sample.n_rows, exclusions=[(item.reason, item.count) for item in sample.exclusions])
 
 
-MEMO_FIGURE_SCALE = 0.55  # a memo's figure at 55 % of the text width: summary, figure, table and block on one page
-
-
 def _frame(parts, **options) -> ReportFrame:
     from narrator.phrasing.frame import frame_words
     from narrator.writer import ReportFrame
 
     words = frame_words(parts, **options)
-    memo = options.get("settings", {}).get("audience") == "memo"
     return ReportFrame(
-        figure_scale=MEMO_FIGURE_SCALE if memo else 1.0,
+        compact=options.get("settings", {}).get("audience") == "memo",
         details=words.details,
         figure_number=words.figure_number,
         table_number=words.table_number,
@@ -351,21 +347,22 @@ def _baselines(collection: Collection, previous: FindingsSet | None) -> tuple[li
 
 
 def _collection_figures(collection: Collection, narrative: Narrative, *, locale: str) -> list[RenderedFigure]:
-    from narrator.figures.charts import DRAWERS
+    from narrator.figures.charts import DRAWERS, figure_size
     from narrator.figures.group_chart import group_rows
 
+    size = figure_size(narrative.audience)
     rendered = []
     for text in narrative.figures:
         prefix, _, key = text.key.partition("-")
         part = collection.variables[int(prefix.removeprefix("v")) - 1]
         if key == "groups":
             shown = [(group.findings, group.sample) for group in part.groups if group.findings.center is not None]
-            rendered.append(group_rows(shown, text, locale=locale))
+            rendered.append(group_rows(shown, text, locale=locale, size=size))
             continue
         drawer = DRAWERS.get(key)
         if drawer is None:
             raise NarratorError(f"figure {key!r} is not one narrator draws (known: {', '.join(sorted(DRAWERS))})")
-        figure = drawer(part.findings, part.sample, replace(text, key=key), locale=locale)
+        figure = drawer(part.findings, part.sample, replace(text, key=key), locale=locale, size=size)
         rendered.append(replace(figure, key=text.key))
     return rendered
 

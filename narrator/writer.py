@@ -56,7 +56,7 @@ from docx.enum.text import WD_ALIGN_PARAGRAPH
 from docx.opc.constants import RELATIONSHIP_TYPE as RT
 from docx.oxml import OxmlElement
 from docx.oxml.ns import qn
-from docx.shared import Cm, Emu
+from docx.shared import Cm, Emu, Pt
 
 from narrator.errors import NarratorError
 from narrator.figures.rendered import RenderedFigure
@@ -95,6 +95,16 @@ _LETTER = (Cm(21.59), Cm(27.94))
 _A4 = (Cm(21.0), Cm(29.7))
 _MARGIN = Cm(2.5)
 MAX_FIGURE_WIDTH = Cm(15.2)
+# A memo's tighter spacing (ReportFrame.compact), in points, set on its paragraphs over the styles'
+# own (in brackets: the base template's): space above a heading (18) and a subheading (12), below
+# body text (7), above and below a table cell's text (1.5), above a figure (6) and below its caption (12).
+# Our choice.
+COMPACT_SPACING_PT: Mapping[str, float] = {
+    "heading_before": 10, "heading_2_before": 7, "body_after": 4, "cell": 0.5, "figure_before": 3,
+    "caption_after": 4,
+}
+VARIABLE_PART = "variable."  # the key of each variable's part of a report (narrator.phrasing.sets: variable.<n>)
+COMPACT_BLOCK_FONT_PT = 8  # the memo's "How this report was made" (the table text's 8.5 pt, a little smaller)
 
 @dataclass(frozen=True, slots=True)
 class ReportFrame:
@@ -114,7 +124,7 @@ class ReportFrame:
     appendix_header: tuple[str, str] | None = None
     appendix_rows: tuple[tuple[str, str], ...] = ()
     appendix_lines: tuple[str, ...] = ()  # a memo's compact block: written as lines in place of the table
-    figure_scale: float = 1.0  # figures at this share of the full width (a memo's, so its page holds it all)
+    compact: bool = False  # a memo: tighter spacing, and a page for each variable's part (each holds on one)
 
 
 def default_template() -> bytes:
@@ -168,7 +178,7 @@ def build_document(
     bullets_numbered = _style_has_numbering(document, STYLE_NAMES["bullet"])
 
     by_key = {figure.key: figure for figure in figures}
-    counters = {"figure": 0, "table": 0}
+    counters = {"figure": 0, "table": 0, "part": 0}
 
     document.add_paragraph(xml_safe(narrative.title), style=STYLE_NAMES["title"])
     for line in frame.details:
@@ -269,12 +279,21 @@ def _add_section(document, section: Section, by_key, frame: ReportFrame, counter
         if section.level not in (1, 2):
             raise NarratorError(f"section {section.key!r} has heading level {section.level}; the writer knows 1 and 2")
         style = STYLE_NAMES["heading"] if section.level == 1 else STYLE_NAMES["heading_2"]
-        document.add_paragraph(xml_safe(section.title), style=style)
+        heading = document.add_paragraph(xml_safe(section.title), style=style)
+        if frame.compact:
+            before = "heading_before" if section.level == 1 else "heading_2_before"
+            heading.paragraph_format.space_before = Pt(COMPACT_SPACING_PT[before])
+            if section.key.startswith(VARIABLE_PART):
+                # A memo's page per variable: each variable's part after the first starts a page.
+                counters["part"] += 1
+                heading.paragraph_format.page_break_before = counters["part"] > 1
     for paragraph in section.paragraphs:
-        _add_paragraph(document, paragraph, bullets_numbered)
+        added = _add_paragraph(document, paragraph, bullets_numbered)
+        if frame.compact:
+            added.paragraph_format.space_after = Pt(COMPACT_SPACING_PT["body_after"])
     for table in section.tables:
         counters["table"] += 1
-        _add_table(document, table, frame.table_number, counters["table"])
+        _add_table(document, table, frame.table_number, counters["table"], compact=frame.compact)
     for key in section.figures:
         figure = by_key.get(key)
         if figure is None:
@@ -282,19 +301,19 @@ def _add_section(document, section: Section, by_key, frame: ReportFrame, counter
                 f"section {section.key!r} shows figure {key!r}, but no such figure was rendered"
             )
         counters["figure"] += 1
-        _add_figure(document, figure, frame.figure_number, counters["figure"], frame.figure_scale)
+        _add_figure(document, figure, frame.figure_number, counters["figure"], compact=frame.compact)
 
 
-def _add_paragraph(document, paragraph: Paragraph, bullets_numbered: bool) -> None:
+def _add_paragraph(document, paragraph: Paragraph, bullets_numbered: bool):
     text = xml_safe(paragraph.text)
     if paragraph.style == "bullet":
         if not bullets_numbered:
             text = "\u2022\t" + text  # the template's bullet style has no numbering of its own
-        document.add_paragraph(text, style=STYLE_NAMES["bullet"])
+        return document.add_paragraph(text, style=STYLE_NAMES["bullet"])
     elif paragraph.style == "reference":
-        document.add_paragraph(text, style=STYLE_NAMES["reference"])
+        return document.add_paragraph(text, style=STYLE_NAMES["reference"])
     elif paragraph.style == "body":
-        document.add_paragraph(text, style=STYLE_NAMES["body"])
+        return document.add_paragraph(text, style=STYLE_NAMES["body"])
     else:
         raise NarratorError(f"paragraph style {paragraph.style!r} is not one the writer knows")
 
@@ -326,7 +345,7 @@ def _add_seq_field(paragraph, sequence: str, number: int) -> None:
     paragraph._p.append(field)
 
 
-def _add_table(document, table: Table, pattern: str | None, number: int) -> None:
+def _add_table(document, table: Table, pattern: str | None, number: int, *, compact: bool = False) -> None:
     columns = len(table.header)
     if columns == 0:
         raise NarratorError(f"table {table.key!r} has no header")
@@ -353,6 +372,13 @@ def _add_table(document, table: Table, pattern: str | None, number: int) -> None
         _keep_row_together(grid.rows[row_index])
     _set_widths(grid, _column_widths(table, _text_width(document)))
     _keep_table_on_one_page(grid)
+    if compact:
+        # A memo's rows close together; the figure that follows brings its own space above.
+        for row in grid.rows:
+            for cell in row.cells:
+                cell.paragraphs[0].paragraph_format.space_before = Pt(COMPACT_SPACING_PT["cell"])
+                cell.paragraphs[0].paragraph_format.space_after = Pt(COMPACT_SPACING_PT["cell"])
+        return
     # A little air after the table, where the next paragraph begins.
     document.add_paragraph(style=STYLE_NAMES["body"]).paragraph_format.space_after = Cm(0.1)
 
@@ -391,19 +417,28 @@ def _keep_row_together(row) -> None:
     trpr.append(OxmlElement("w:cantSplit"))
 
 
-def _add_figure(document, figure: RenderedFigure, pattern: str | None, number: int, scale: float = 1.0) -> None:
+def _add_figure(document, figure: RenderedFigure, pattern: str | None, number: int, *, compact: bool = False) -> None:
     if not figure.alt_text.strip():
         raise NarratorError(f"figure {figure.key!r} has no alt text; every picture needs one")
     paragraph = document.add_paragraph(style=STYLE_NAMES["figure"])
     paragraph.alignment = WD_ALIGN_PARAGRAPH.CENTER
     paragraph.paragraph_format.keep_with_next = True
-    width = Emu(int(min(int(MAX_FIGURE_WIDTH), int(_text_width(document))) * scale))
-    shape = paragraph.add_run().add_picture(io.BytesIO(figure.png), width=width)
+    if compact:
+        paragraph.paragraph_format.space_before = Pt(COMPACT_SPACING_PT["figure_before"])
+    # At the size it was drawn at (the PNG's own dpi), so its fonts are the sizes on paper; never
+    # wider than the text (a page-wide figure is then narrowed a hair, to MAX_FIGURE_WIDTH).
+    shape = paragraph.add_run().add_picture(io.BytesIO(figure.png))
+    widest = min(int(MAX_FIGURE_WIDTH), int(_text_width(document)))
+    if int(shape.width) > widest:
+        shape.height = Emu(round(int(shape.height) * widest / int(shape.width)))
+        shape.width = Emu(widest)
     properties = shape._inline.docPr
     properties.set("descr", xml_safe(figure.alt_text))
     properties.set("title", xml_safe(figure.caption))
     properties.set("name", xml_safe(figure.key))
-    _caption(document, pattern, number, "Figure", figure.caption, keep_next=False)
+    caption = _caption(document, pattern, number, "Figure", figure.caption, keep_next=False)
+    if compact:
+        caption.paragraph_format.space_after = Pt(COMPACT_SPACING_PT["caption_after"])
 
 
 def _text_width(document) -> Emu:
@@ -439,12 +474,16 @@ def _set_widths(grid, widths: Sequence[Emu]) -> None:
 
 
 def _add_compact_appendix(document, frame: ReportFrame) -> None:
-    """A memo's "How this report was made": a heading and a few short lines in the table text's size."""
+    """A memo's "How this report was made": a heading and a few short lines in the table text's style, at
+    :data:`COMPACT_BLOCK_FONT_PT` (so a short file name and its SHA-256 share a line)."""
     if frame.appendix_title:
         heading = document.add_paragraph(xml_safe(frame.appendix_title), style=STYLE_NAMES["heading_2"])
         heading.paragraph_format.keep_with_next = True
+        if frame.compact:
+            heading.paragraph_format.space_before = Pt(COMPACT_SPACING_PT["heading_2_before"])
     for index, line in enumerate(frame.appendix_lines):
-        paragraph = document.add_paragraph(xml_safe(line), style=STYLE_NAMES["table_text"])
+        paragraph = document.add_paragraph(style=STYLE_NAMES["table_text"])
+        paragraph.add_run(xml_safe(line)).font.size = Pt(COMPACT_BLOCK_FONT_PT)
         paragraph.paragraph_format.space_after = Cm(0)
         paragraph.paragraph_format.keep_together = True
         if index < len(frame.appendix_lines) - 1:

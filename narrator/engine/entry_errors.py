@@ -26,7 +26,12 @@ textbook quantile matches):
   exp(mu -/+ z_0.75 sigma), so both quartiles are matched);
 - ``normal`` otherwise (symmetric or two-peaked data): mu = (Q1 + Q3) / 2, sigma = IQR / (2 z_0.75);
 - none for clearly left-skewed data or an IQR of 0 (``no_fitted_shape``): no value is then
-  said to stand out.
+  said to stand out;
+- none for fewer than ``MIN_FOR_FIT`` (20) values (``too_few``): four quartile-matched values say
+  too little about a shape to call a value surprising or ordinary for it (the same 20 below which
+  the shape and the texts hedge, narrator.engine.shape; common practice). The rule's own list
+  stays; no value is said to stand out or to be ordinary, and every entry-error candidate is only
+  possible.
 
 A far-out value *stands out* when a value at least that extreme is expected less than
 ``SURPRISE_P`` = 0.05 times in a sample of this size under the fitted shape
@@ -103,6 +108,7 @@ MAX_ENTRY_ERRORS = 3
 MAX_ENTRY_ERROR_SHARE = 0.005
 LISTED_ENTRY_ERRORS = 20
 LOG_FAR_K = 3.0
+MIN_FOR_FIT = 20
 
 
 def entry_error_reasons(value: float, median: float, p10: float, p90: float) -> tuple[tuple[str, ...], float | None,
@@ -249,8 +255,14 @@ def unusual_values(findings: Findings) -> Unusual:
     if rule == "modified-z":
         return Unusual(fence_rule=rule, reason="no_far_band", count_beyond_fences=flagged.count,
                        entry_error_reason="not_checked")
-    fit = fitted_shape(findings)
-    if rule == "esd":
+    fit = fitted_shape(findings) if n >= MIN_FOR_FIT else None
+    if n < MIN_FOR_FIT:
+        values, rows = flagged.far_out_values, flagged.far_out_rows
+        base = dict(fence_rule=rule, reason="too_few", far_lower_fence=flagged.far_lower_fence,
+                    far_upper_fence=flagged.far_upper_fence, count_far_out=len(values),
+                    complete=_far_out_complete(flagged), count_beyond_fences=flagged.count)
+        standing = [False] * len(values)
+    elif rule == "esd":
         values, rows = flagged.values, flagged.rows
         base = dict(fence_rule=rule, reason="computed", fitted_shape=None if fit is None else fit.name,
                     count_far_out=flagged.count, far_out_surprising=bool(values), values=values, rows=rows,

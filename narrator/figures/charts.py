@@ -5,6 +5,7 @@ Name                                What it draws
 ==================================  ===============================================
 :class:`RenderedFigure`             one finished picture (PNG bytes, size, texts)
 :func:`render_figures`              every figure the narrative asks for, in order
+:class:`FigureSize`                 the size a figure is drawn at: :data:`PAGE_SIZE`, :data:`MEMO_SIZE`
 :func:`histogram`                   the engine's bin plan, density curve, mean and median
 :func:`dot_plot`                    one dot per value, at its value, stacked in the plan's bins
 :func:`draws_curve`                 whether the histogram's density curve agrees with its bars
@@ -32,6 +33,9 @@ Design choices, and why:
 * Every style property is set explicitly rather than read from rcParams, so a
   user's matplotlibrc cannot change a report, and the PNG bytes are stable
   (no "Software" or date chunk is written).
+* A figure is drawn at the size it is placed at (:class:`FigureSize`), never drawn big and
+  scaled down, so its font sizes are the sizes on paper: a memo's figure is drawn shorter and
+  narrower (:data:`MEMO_SIZE`), with the same fonts as a full report's.
 * Beyond :data:`MARKER_LIMIT` values no figure draws one marker per value; the
   with-and-without view then shows a density band and at most
   :data:`FLAGGED_DRAW_LIMIT` flagged values.
@@ -49,6 +53,7 @@ import io
 import math
 import sys
 from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
 
 import numpy as np
 from matplotlib import ticker, transforms
@@ -103,6 +108,36 @@ DPI = 180
 # 15.2 cm wide fits the text block of A4 and US Letter pages with 2.5 cm margins.
 PAGE_WIDTH_IN = 6.0
 
+
+
+@dataclass(frozen=True, slots=True)
+class FigureSize:
+    """The size a figure is drawn at, in inches; the writer places it at this width (or the text's, if narrower).
+
+    ``height_in`` is a histogram's height and a dot plot's greatest; ``group_row_in`` is the height of
+    one row of the groups' figure (:mod:`narrator.figures.group_chart`). The other figures take their
+    heights from their content.
+    """
+
+    width_in: float
+    height_in: float
+    group_row_in: float
+
+
+PAGE_SIZE = FigureSize(width_in=PAGE_WIDTH_IN, height_in=3.3, group_row_in=0.62)
+# A memo's page holds the summary, the small table, this figure and the compact block. Our choice.
+MEMO_SIZE = FigureSize(width_in=5.5, height_in=1.8, group_row_in=0.4)
+
+
+def figure_size(audience: str) -> FigureSize:
+    """The size the figures of a report for ``audience`` are drawn at: a memo's are smaller.
+
+    >>> figure_size("memo") is MEMO_SIZE, figure_size("full") is PAGE_SIZE
+    (True, True)
+    """
+    return MEMO_SIZE if audience == "memo" else PAGE_SIZE
+
+
 # Margins around a single plot, in inches: room for tick labels and axis titles.
 _LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN = 0.75, 0.2, 0.55, 0.15
 
@@ -137,7 +172,9 @@ def render_figures(
 
     ``narrative.figures`` holds one :class:`FigureText` per figure the document
     plan wants; its ``key`` picks the drawing function (see :data:`DRAWERS`).
+    They are drawn at the size of the narrative's audience (:func:`figure_size`).
     """
+    size = figure_size(narrative.audience)
     rendered = []
     for text in narrative.figures:
         drawer = DRAWERS.get(text.key)
@@ -147,7 +184,7 @@ def render_figures(
         # Near the largest double, layout arithmetic inside matplotlib overflows to inf harmlessly
         # (every limit and edge is clamped); keep its warnings off the user's terminal.
         with np.errstate(over="ignore"):
-            rendered.append(drawer(findings, sample, text, locale=locale))
+            rendered.append(drawer(findings, sample, text, locale=locale, size=size))
     return rendered
 
 
@@ -155,7 +192,9 @@ def render_figures(
 # Each _draw_* builds the matplotlib Figure; the public functions below render it.
 
 
-def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:
+def _draw_histogram(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
+) -> Figure:
 
     labels = _labels(text, "histogram")
     plan = _require(findings.histogram, "histogram", "a bin plan")
@@ -167,7 +206,7 @@ def _draw_histogram(findings: Findings, sample: Sample, text: FigureText, *, loc
     edges = np.asarray(plan.edges, dtype=float)
     counts = np.asarray(plan.counts, dtype=float)
 
-    fig, ax = _single_axes(height_in=3.3)
+    fig, ax = _single_axes(size.width_in, height_in=size.height_in)
     _value_scale(ax, edges[0], edges[-1])
     _add_bars(ax, edges, counts, linewidth=0.6 if counts.size <= 120 else 0.0)
     ax.set_xlim(_padded(edges[0], edges[-1], 0.01))
@@ -252,7 +291,9 @@ def _add_bars(ax: Axes, edges: np.ndarray, counts: np.ndarray, *, linewidth: flo
         ax.update_datalim([(float(edges[0]), 0.0), (float(edges[-1]), float(np.max(counts)))])
 
 
-def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> Figure:
+def _draw_dot_plot(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
+) -> Figure:
 
     labels = _labels(text, "dotplot")
     plan = _require(findings.histogram, "dotplot", "a bin plan")
@@ -266,10 +307,10 @@ def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, loca
     numbers = NumberFormatter(locale)
     plan_edges = np.asarray(plan.edges, dtype=float)
     x_low, x_high = _padded(plan_edges[0], plan_edges[-1], 0.01)
-    axes_width_pt = (PAGE_WIDTH_IN - _LEFT_IN - _RIGHT_IN) * 72.0
+    axes_width_pt = (size.width_in - _LEFT_IN - _RIGHT_IN) * 72.0
     points_per_unit = axes_width_pt / (x_high - x_low)
-    # At most 3 inches tall; 20 % of the axes height stays free for the mean and median labels.
-    tallest_room_pt = 0.8 * (3.0 - _BOTTOM_IN - _TOP_IN) * 72.0
+    # At most the size's height (less 0.3 in); 20 % of the axes height stays free for the mean and median labels.
+    tallest_room_pt = 0.8 * (size.height_in - 0.3 - _BOTTOM_IN - _TOP_IN) * 72.0
     width, index = _dot_bins(
         values, plan_edges, plan.width, points_per_unit, tallest_room_pt,
         integer_aligned=plan.integer_aligned,
@@ -280,7 +321,7 @@ def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, loca
     diameter_pt = min(width * points_per_unit, tallest_room_pt / max(tallest, 1))
     # Shrink the figure to the tallest stack, so short stacks leave no empty band.
     axes_height_pt = max(tallest * diameter_pt / 0.8, 72.0)
-    fig, ax = _single_axes(height_in=axes_height_pt / 72.0 + _BOTTOM_IN + _TOP_IN)
+    fig, ax = _single_axes(size.width_in, height_in=axes_height_pt / 72.0 + _BOTTOM_IN + _TOP_IN)
     _value_scale(ax, x_low, x_high)
     ax.set_xlim(x_low, x_high)
     ax.set_ylim(0, axes_height_pt)  # y in points, so dots stay round
@@ -320,7 +361,7 @@ def _draw_dot_plot(findings: Findings, sample: Sample, text: FigureText, *, loca
 
 
 def _draw_with_and_without(
-    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
 ) -> Figure:
 
     labels = _labels(text, "with_without")
@@ -333,9 +374,9 @@ def _draw_with_and_without(
     flagged = np.sort(values[flagged_mask])
     kept = values[~flagged_mask]
 
-    fig = Figure(figsize=(PAGE_WIDTH_IN, 3.0), dpi=DPI, facecolor="white")
+    fig = Figure(figsize=(size.width_in, 3.0), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
-    left, right = 1.55 / PAGE_WIDTH_IN, 0.25 / PAGE_WIDTH_IN
+    left, right = 1.55 / size.width_in, 0.25 / size.width_in
     strip = fig.add_axes((left, 0.54, 1 - left - right, 0.36))
     rows = fig.add_axes((left, 0.19, 1 - left - right, 0.29), sharex=strip)
 
@@ -413,7 +454,7 @@ def _draw_with_and_without(
 
 
 def _draw_bin_sensitivity(
-    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
 ) -> Figure:
     """Small multiples, one histogram per width (rows) and offset (columns), drawn on one set of axes.
 
@@ -436,14 +477,15 @@ def _draw_bin_sensitivity(
             f"figure 'bin_sensitivity': the phrase bank gave no label for {', '.join(missing)}"
         )
     panel_height = 0.95
-    fig = Figure(figsize=(PAGE_WIDTH_IN, 0.75 + panel_height * n_rows), dpi=DPI, facecolor="white")
+    width_in = size.width_in
+    fig = Figure(figsize=(width_in, 0.75 + panel_height * n_rows), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
     ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
     ax.set_axis_off()
     for axis in (ax.xaxis, ax.yaxis):  # no ticks are ever made for the hidden axes
         axis.set_major_locator(ticker.NullLocator())
     height_in = fig.get_figheight()
-    left, right, top, bottom = 1.0 / PAGE_WIDTH_IN, 0.99, 1 - 0.3 / height_in, 0.5 / height_in
+    left, right, top, bottom = 1.0 / width_in, 0.99, 1 - 0.3 / height_in, 0.5 / height_in
     # The panel grid of subplots_adjust(wspace=0.1, hspace=0.35), in figure fractions.
     panel_w = (right - left) / (n_cols + 0.1 * (n_cols - 1))
     panel_h = (top - bottom) / (n_rows + 0.35 * (n_rows - 1))
@@ -461,7 +503,7 @@ def _draw_bin_sensitivity(
     formatter.set_locs([t * unit for t in ticks])
     tick_font = _font(SMALL_FONT_SIZE - 1)
     label_font = _font(SMALL_FONT_SIZE - 0.5)
-    point_w, point_h = 1.0 / (PAGE_WIDTH_IN * 72.0), 1.0 / (height_in * 72.0)  # one point, in figure fractions
+    point_w, point_h = 1.0 / (width_in * 72.0), 1.0 / (height_in * 72.0)  # one point, in figure fractions
     plan = findings.histogram
     whole = findings.variable.integer_valued or (plan is not None and plan.integer_aligned)
     segments: list[list[tuple[float, float]]] = []  # every panel's axis line and tick marks, drawn as one
@@ -498,14 +540,16 @@ def _draw_bin_sensitivity(
                 ax.text(x0 - 6 * point_w, y0 + panel_h / 2, labels[f"width_{row}"], transform=ax.transAxes,
                         ha="right", va="center", fontproperties=label_font)
     ax.add_collection(LineCollection(segments, colors=AXIS_GREY, linewidths=0.8, transform=ax.transAxes))
-    fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / PAGE_WIDTH_IN)
+    fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / width_in)
     return fig
 
 
 # --------------------------------------------------------------------------- rendering
 
 
-def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+def histogram(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
+) -> RenderedFigure:
     """Histogram with the engine's bin plan, its density curve, and mean and median lines.
 
     Bars are the plan's counts (``findings.histogram``); the kernel density
@@ -514,10 +558,12 @@ def histogram(findings: Findings, sample: Sample, text: FigureText, *, locale: s
     count axis. ``sample`` is not read; it is accepted so every drawer has one
     signature.
     """
-    return _render(_draw_histogram(findings, sample, text, locale=locale), text)
+    return _render(_draw_histogram(findings, sample, text, locale=locale, size=size), text)
 
 
-def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: str) -> RenderedFigure:
+def dot_plot(
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
+) -> RenderedFigure:
     """Stacked dot plot: one dot per value, at its value, stacked within bins aligned to the engine's plan.
 
     Wilkinson (1999) dot plot, "histodot" form: the dots of a bin are stacked
@@ -527,11 +573,11 @@ def dot_plot(findings: Findings, sample: Sample, text: FigureText, *, locale: st
     figure, the plan's bins split into 2, 4, 5, 10... equal parts, so every
     dot-plot bin lies inside one histogram bin and the two pictures agree.
     """
-    return _render(_draw_dot_plot(findings, sample, text, locale=locale), text)
+    return _render(_draw_dot_plot(findings, sample, text, locale=locale, size=size), text)
 
 
 def with_and_without(
-    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
 ) -> RenderedFigure:
     """Where the flagged values sit, and how the mean and median move without them.
 
@@ -543,11 +589,11 @@ def with_and_without(
     values and without the flagged ones, each showing the mean (diamond) and
     the median (square), joined across rows to show the move.
     """
-    return _render(_draw_with_and_without(findings, sample, text, locale=locale), text)
+    return _render(_draw_with_and_without(findings, sample, text, locale=locale, size=size), text)
 
 
 def bin_sensitivity_panel(
-    findings: Findings, sample: Sample, text: FigureText, *, locale: str
+    findings: Findings, sample: Sample, text: FigureText, *, locale: str, size: FigureSize = PAGE_SIZE
 ) -> RenderedFigure:
     """Small multiples of the histogram at each bin width and offset the engine tried.
 
@@ -558,7 +604,7 @@ def bin_sensitivity_panel(
     ``offset_<j>`` (worded and formatted by the phrase builder). Counts are not
     labelled: each panel is about where the peaks are, and heights differ.
     """
-    return _render(_draw_bin_sensitivity(findings, sample, text, locale=locale), text)
+    return _render(_draw_bin_sensitivity(findings, sample, text, locale=locale, size=size), text)
 
 
 DRAWERS: Mapping[str, Callable[..., RenderedFigure]] = {
@@ -682,14 +728,14 @@ def _font(size: float = FONT_SIZE) -> FontProperties:
     return FontProperties(family=FONT_FAMILY, size=size)
 
 
-def _single_axes(*, height_in: float) -> tuple[Figure, Axes]:
-    """A page-wide figure with one axes at fixed margins (in inches, so sizes are predictable)."""
-    fig = Figure(figsize=(PAGE_WIDTH_IN, height_in), dpi=DPI, facecolor="white")
+def _single_axes(width_in: float, *, height_in: float) -> tuple[Figure, Axes]:
+    """A figure with one axes at fixed margins (in inches, so sizes are predictable)."""
+    fig = Figure(figsize=(width_in, height_in), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
     left, right, bottom, top = _LEFT_IN, _RIGHT_IN, _BOTTOM_IN, _TOP_IN
     ax = fig.add_axes((
-        left / PAGE_WIDTH_IN, bottom / height_in,
-        1 - (left + right) / PAGE_WIDTH_IN, 1 - (bottom + top) / height_in,
+        left / width_in, bottom / height_in,
+        1 - (left + right) / width_in, 1 - (bottom + top) / height_in,
     ))
     return fig, ax
 

@@ -44,8 +44,9 @@ from narrator.figures.charts import (
     GRID_GREY,
     MEAN_COLOUR,
     MEDIAN_COLOUR,
-    PAGE_WIDTH_IN,
+    PAGE_SIZE,
     SMALL_FONT_SIZE,
+    FigureSize,
     LocaleTickFormatter,
     RenderedFigure,
 )
@@ -56,7 +57,6 @@ from narrator.reading.sample import Sample
 
 GROUP_LABEL_KEYS = ("x", "median", "mean", "middle_half", "values", "flagged")  # plus group_<i> per row
 STRIP_LIMIT = 300  # beyond this many values a strip is a smear; the box says it better
-ROW_HEIGHT_IN = 0.62
 _LEFT_MIN_IN = 1.0
 _LABEL_CHAR_IN = 0.068  # width of one character of a row label at the small font size, with some slack
 
@@ -75,7 +75,8 @@ def _whisker_ends(findings: Findings, values: np.ndarray) -> tuple[float, float]
     return float(inside.min()), float(inside.max())
 
 
-def _draw(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale: str) -> Figure:
+def _draw(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale: str,
+          size: FigureSize = PAGE_SIZE) -> Figure:
     missing = [key for key in GROUP_LABEL_KEYS if not text.labels.get(key)]
     missing += [f"group_{i}" for i in range(len(groups)) if not text.labels.get(f"group_{i}")]
     if missing:
@@ -84,16 +85,17 @@ def _draw(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale
         raise NarratorError(f"figure {text.key!r} needs at least one group")
     labels = text.labels
     numbers = NumberFormatter(locale)
-    height = 1.15 + ROW_HEIGHT_IN * len(groups)
-    fig = Figure(figsize=(PAGE_WIDTH_IN, height), dpi=DPI, facecolor="white")
+    width_in = size.width_in
+    top_in, bottom_in, right_in = 0.62, 0.5, 0.2  # the top is set again below, to the legend's height
+    height = top_in + bottom_in + 0.03 + size.group_row_in * len(groups)
+    fig = Figure(figsize=(width_in, height), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
-    top_in, bottom_in, right_in = 0.62, 0.5, 0.2  # the legend may take two lines above the rows
     # Room on the left for the longest row label ("Northside office (n = 177)"), never the whole page.
     longest = max(len(labels[f"group_{i}"]) for i in range(len(groups)))
-    left_in = min(max(_LEFT_MIN_IN, 0.25 + _LABEL_CHAR_IN * longest), PAGE_WIDTH_IN / 2.5)
+    left_in = min(max(_LEFT_MIN_IN, 0.25 + _LABEL_CHAR_IN * longest), width_in / 2.5)
     ax = fig.add_axes((
-        left_in / PAGE_WIDTH_IN, bottom_in / height,
-        1 - (left_in + right_in) / PAGE_WIDTH_IN, 1 - (top_in + bottom_in) / height,
+        left_in / width_in, bottom_in / height,
+        1 - (left_in + right_in) / width_in, 1 - (top_in + bottom_in) / height,
     ))
     low = min(float(sample.values.min()) for _, sample in groups)
     high = max(float(sample.values.max()) for _, sample in groups)
@@ -153,15 +155,40 @@ def _draw(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale
     if any_flagged:
         handles.append(Line2D([], [], marker="^", markersize=4.5, color=figure_kit.FLAGGED_COLOUR,
                               linestyle="none", label=labels["flagged"]))
-    legend = ax.legend(handles=handles, loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=min(len(handles), 4),
-                       frameon=False, prop=figure_kit._font(SMALL_FONT_SIZE), handletextpad=0.4,
-                       columnspacing=1.2, borderaxespad=0.2)
-    for item in legend.get_texts():
-        item.set_color("#000000")
+    legend_in = _fitted_legend(fig, handles, width_in)
+    # The rows keep their height; the figure grows or shrinks with the legend above them.
+    top_in = legend_in + 0.1
+    height = top_in + bottom_in + 0.03 + size.group_row_in * len(groups)
+    fig.set_size_inches(width_in, height)
+    ax.set_position((left_in / width_in, bottom_in / height,
+                     1 - (left_in + right_in) / width_in, 1 - (top_in + bottom_in) / height))
     return fig
 
 
-def group_rows(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale: str) -> RenderedFigure:
+_LEGEND_MARGIN_IN = 0.08  # the legend starts this far from the figure's left edge, and ends as far from its right
+
+
+def _fitted_legend(fig: Figure, handles, width_in: float) -> float:
+    """The legend across the top of the figure, in as few lines as fit its width; returns its height in inches.
+
+    Measured with the figure's own renderer, so no word is cut at the right edge in any language.
+    """
+    renderer = fig.canvas.get_renderer()
+    for columns in range(len(handles), 0, -1):
+        legend = fig.legend(handles=handles, loc="upper left", bbox_to_anchor=(_LEGEND_MARGIN_IN / width_in, 1.0),
+                            ncol=columns, frameon=False, prop=figure_kit._font(SMALL_FONT_SIZE),
+                            handletextpad=0.4, columnspacing=1.2, borderaxespad=0.2)
+        extent = legend.get_window_extent(renderer)
+        if extent.width / DPI <= width_in - 2 * _LEGEND_MARGIN_IN or columns == 1:
+            break
+        legend.remove()
+    for item in legend.get_texts():
+        item.set_color("#000000")
+    return extent.height / DPI
+
+
+def group_rows(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, locale: str,
+               size: FigureSize = PAGE_SIZE) -> RenderedFigure:
     """One row per group: whiskers, middle-half box, median bar, mean diamond, and small groups' values.
 
     ``groups`` are (findings, sample) pairs in the order the text lists them;
@@ -169,7 +196,7 @@ def group_rows(groups: Sequence[tuple[Findings, Sample]], text: FigureText, *, l
     ``values``, ``flagged`` and ``group_<i>`` for each row. Whiskers end at
     the most extreme values inside the outlier fences (Tukey 1977), the
     figure's only departure from showing every value being that groups above
-    :data:`STRIP_LIMIT` values show no strip.
+    :data:`STRIP_LIMIT` values show no strip. Drawn at ``size`` (a row is ``size.group_row_in`` tall).
     """
-    return figure_kit._render(_draw(groups, text, locale=locale), text)
+    return figure_kit._render(_draw(groups, text, locale=locale, size=size), text)
 

@@ -6,8 +6,9 @@ narrator.figures.helper_process``); the helper loads :mod:`narrator.figures.char
 process reads and describes, then draws the figures this process asks for. The figures are the same,
 byte for byte, as :func:`narrator.figures.charts.render_figures` draws in this process (a test
 checks it): the helper gets the findings (as the sidecar's JSON, which keeps every number exactly),
-the figure texts, the locale, and the values and rows as raw float64 and int64 bytes. Nothing is
-ever evaluated or unpickled: the request is JSON plus two arrays of fixed types.
+the figure texts, the locale, the audience (a memo's figures are drawn smaller), and the values and
+rows as raw float64 and int64 bytes. Nothing is ever evaluated or unpickled: the request is JSON plus
+two arrays of fixed types.
 
 Whenever the helper cannot be used (no interpreter to start, it failed, it stopped, it sent
 something unexpected) :meth:`DrawingHelper.render` returns None and the caller draws in this
@@ -103,6 +104,7 @@ class DrawingHelper:
                 "figures": [{"key": t.key, "caption": t.caption, "alt_text": t.alt_text, "labels": dict(t.labels)}
                             for t in narrative.figures],
                 "locale": locale,
+                "audience": narrative.audience,
                 "name": sample.name,
                 "values": len(values),
                 "rows": len(rows),
@@ -242,19 +244,20 @@ def _serve(source: IO[bytes], sink: IO[bytes]) -> None:
     texts = tuple(FigureText(key=t["key"], caption=t["caption"], alt_text=t["alt_text"], labels=dict(t["labels"]))
                   for t in request["figures"])
     sample = Sample(values=values.astype(np.float64), rows=rows.astype(np.int64), name=str(request["name"]))
-    figures = render_figures(findings, sample, _Figures(texts), locale=str(request["locale"]))
+    figures = render_figures(findings, sample, _Figures(texts, str(request["audience"])), locale=str(request["locale"]))
     items = [{"key": f.key, "width_px": f.width_px, "height_px": f.height_px, "caption": f.caption,
               "alt_text": f.alt_text, "png": len(f.png)} for f in figures]
     _write(sink, {"figures": items}, *(f.png for f in figures))
 
 
 class _Figures:
-    """The one part of a Narrative that drawing reads: its figure texts."""
+    """The parts of a Narrative that drawing reads: its figure texts and its audience (the figures' size)."""
 
-    __slots__ = ("figures",)
+    __slots__ = ("audience", "figures")
 
-    def __init__(self, figures) -> None:
+    def __init__(self, figures, audience: str) -> None:
         self.figures = figures
+        self.audience = audience
 
 
 def main() -> int:

@@ -38,6 +38,25 @@ NOT_DEFINED = "–"  # an en dash, the table convention for a statistic that is 
 P_DECIMALS = 3  # p-values to three decimals, "p < 0.001" below that (APA 2020)
 
 
+# Fields that hold the user's own words: a column name, a label, a group's value ("wait_days", "north",
+# "site b"). They are printed as the user wrote them, even where a sentence or caption opens with one:
+# a capital would change an identifier ("Wait_days" names no column of the file).
+USER_WORD_FIELDS = frozenset({"name", "names", "axis_name", "group", "groups", "first", "second", "member",
+                              "others", "categories"})
+
+
+def opens_with_user_words(template: str) -> bool:
+    """Whether ``template`` opens with a field that holds the user's own words (:data:`USER_WORD_FIELDS`).
+
+    >>> opens_with_user_words("{name} by {group}"), opens_with_user_words("{count} stand out")
+    (True, False)
+    """
+    if not template.startswith("{"):
+        return False
+    end = template.find("}")
+    return end > 0 and template[1:end] in USER_WORD_FIELDS
+
+
 def capitalize_first(text: str) -> str:
     """The sentence with its first letter in upper case (a count word may start it)."""
     for index, char in enumerate(text):
@@ -88,6 +107,8 @@ class WordingContext:
         text = self.bank.fill(key, template, **values)
         if not template.startswith("{"):
             return text  # text the bank itself starts in lower case ("n = 141") stays as written
+        if opens_with_user_words(template):
+            return text  # "north and south are about the same": the user's words as written
         return self.sentence_start(text)
 
     def sentence_start(self, text: str) -> str:
@@ -122,12 +143,13 @@ class WordingContext:
         return category, (self.bank.noun(noun).gender if noun else None)
 
     def caption(self, key: str, category: str | None = None, **values: str) -> str:
-        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field."""
+        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field, unless
+        that field holds the user's own words ("wait_days (days) by clinic")."""
         text = self.text(key, category, **values)
         template = self.bank.raw(key)
         if isinstance(template, dict):
             template = template.get(category or "other", template["other"])
-        return capitalize_first(text) if template.startswith("{") else text
+        return capitalize_first(text) if template.startswith("{") and not opens_with_user_words(template) else text
 
     def plural(self, count: float) -> str:
         """The CLDR plural category of ``count`` in this locale ("one", "few", "many", "other"...)."""
@@ -190,6 +212,16 @@ class WordingContext:
         (a plus sign on an end above zero, as ``format.signed_positive`` writes it)."""
         pair = self.memo_pair(low, high)
         zero = self.memo_pair(0.0, 0.0)
+        if not self._compact_memo(low, high):
+            # An end that is not zero is never printed as 0 ("-0.3 to +4 days", never "0 to +4 days" beside
+            # "includes zero"): more places, at most three more, while it would.
+            start = places = self._memo_places(self._as_recorded(low, high))
+            zero = self.fmt.quantity_pair(0.0, 0.0, places)
+            while places < start + 3 and any(value != 0 and text.split()[0] == zero[1].split()[0]
+                                             for value, text in zip((low, high), pair, strict=True)):
+                places = self._memo_places(places + 1)  # money: straight to the currency's minor unit
+                pair = self.fmt.quantity_pair(low, high, places)
+                zero = self.fmt.quantity_pair(0.0, 0.0, places)
         return tuple(self.text("format.signed_positive", number=text) if value > 0 and text != zero[k] else text
                      for k, (value, text) in enumerate(zip((low, high), pair, strict=True)))
 

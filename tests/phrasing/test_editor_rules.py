@@ -100,6 +100,10 @@ def test_signed_pairs_keep_the_sign_and_write_the_unit_once():
     assert ctx.signed_pair(-3.0, 11.0) == ("-3", "+11 days")
     dollars = make_context(waits, "en_US", currency="USD", unit=None, name=None)
     assert dollars.signed_pair(5.0, 9.0) == ("+$5", "+$9")  # a currency symbol stays on both ends
+    # An end that is not zero never prints as 0 beside words that say the interval includes zero.
+    assert ctx.signed_pair(-0.3, 4.2) == ("-0.3", "+4.2 days")
+    assert ctx.signed_pair(0.0, 4.0) == ("0", "+4 days")
+    assert dollars.signed_pair(-0.3, 4.2) == ("-$0.30", "+$4.20")
 
 
 @pytest.mark.parametrize(("locale", "lead"), [
@@ -123,7 +127,7 @@ def test_french_writes_the_first_of_the_month_as_an_ordinal(locale):
     moment = dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC)
     reference = format_datetime(moment, format="long", tzinfo=dt.UTC, locale=locale)
     assert reference.startswith("1 décembre")  # babel (CLDR) has no ordinal day
-    assert fmt.long_datetime(moment) == "1er" + reference[1:]
+    assert fmt.long_datetime(moment).startswith("1er décembre 2026, 16")  # the time: tests/phrasing/test_clock.py
 
 
 @pytest.mark.parametrize("locale", LOCALES)
@@ -134,7 +138,10 @@ def test_every_other_date_is_cldr_long_form(locale):
         date = dt.date(2026, 12, day)
         assert fmt.long_date(date) == format_date(date, format="long", locale=locale)
         moment = dt.datetime(2026, 12, day, 9, 30, 0, tzinfo=dt.UTC)
-        assert fmt.long_datetime(moment) == format_datetime(moment, format="long", tzinfo=dt.UTC, locale=locale)
+        if locale == "fr_FR":  # the French time of day in CLDR's duration units (tests/phrasing/test_clock.py)
+            assert fmt.long_datetime(moment).startswith(format_date(date, format="long", locale=locale) + ", 09")
+        else:
+            assert fmt.long_datetime(moment) == format_datetime(moment, format="long", tzinfo=dt.UTC, locale=locale)
     if not locale.startswith("fr"):
         assert fmt.long_date(dt.date(2026, 12, 1)) == format_date(dt.date(2026, 12, 1), format="long", locale=locale)
 

