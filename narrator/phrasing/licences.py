@@ -129,8 +129,8 @@ CLAIM_KINDS: dict[str, str] = {
                    "that way",
     "several_groups": "the shape has several peaks (label bimodal or multimodal) that rounding does not explain; "
                       "the mean is `mean`",
-    "heaped": "most values sit at multiples of `base` (at least twice the share chance gives), so peaks there come "
-              "from rounding",
+    "heaped": "a share `share` of the values sits at multiples of `base` (at least twice the share chance gives), "
+              "so peaks there come from rounding",
     # shape
     "shape": "the values have the shape `label` (`strength`): direction and Bulmer strength of G1, or "
              "symmetry (|G1| < 0.5 or both robust measures near 0), or peaks",

@@ -225,8 +225,9 @@ def _shape(ctx: WordingContext) -> Sentence | None:
         tail = ctx.text(f"memo.tail.{side}.{shape.strength or 'slight'}")
     heaping = findings.quality.get("heaping")
     base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
+    share = heaping.share if heaping is not None and heaping.share is not None else 0.0
     return ctx.say(f"memo.shape.{shape.label}", keys, n_values=n_values, tail=tail, base=ctx.recorded(base),
-                   claim={**claim, "base": base})
+                   heaped_share=ctx.fmt.percent(share, 0), claim={**claim, "base": base, "share": share})
 
 
 def _peaks_are_a_spike(findings) -> bool:

@@ -24,7 +24,7 @@ Name                                What it does
 :meth:`~NumberFormatter.list`       "a, b, and c" (CLDR list pattern)
 :meth:`~NumberFormatter.number_list` "0,25; 0,50 y 0,75" (the CLDR list symbol for numbers)
 :meth:`~NumberFormatter.long_date`  "1er décembre 2026": CLDR's long date, the bank's first of the month
-:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC" (French: "16 h 05 min 03 s TU")
+:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC" (fr: "16 h 05 min 03 s TU")
 :func:`parse_locale`                a CLDR locale, or one clear refusal
 :func:`language_tag`                its BCP 47 tag ("es-419"), for document metadata
 :func:`minimum_grouping_digits`     CLDR ``minimumGroupingDigits`` of a locale

@@ -449,6 +449,8 @@ def _heaped(raw: Raw) -> float | None:
 
 def check_heaped(c, raw, p):
     _problem(_heaped(raw) == c["base"], f"values heaped at multiples of {c['base']} claimed", p)
+    if "share" in c and c["base"]:  # "Of all values, 62% were recorded as round numbers": the share said
+        _same("share", c["share"], raw.share(raw.values % c["base"] == 0), raw, p)
 
 
 def check_several_groups(c, raw, p):
