@@ -6,7 +6,8 @@ Command        What it does
 ``facts``      read one column and print the findings (a table, or ``--json``)
 ``tell``       read one column and print the narrative as plain text
 ``draft``      read one column and write the Word report and its findings sidecar
-               (``--group-by`` breaks it down by a grouping column)
+               (for both, ``--group-by`` breaks it down by a grouping column, through
+               :func:`grouped_collection`, the one path every grouping command takes)
 ``recipe``     write a starter report recipe (TOML) for a data file
 ``redraft``    build every report a recipe names, each with its sidecar
 ``fill``       fill the marked places of your own Word document from the data
@@ -136,12 +137,57 @@ def command_facts(args: argparse.Namespace) -> int:
 
 
 def command_tell(args: argparse.Namespace) -> int:
-    from narrator.phrasing import narrate
+    if args.group_by is not None:
+        from narrator.phrasing.sets import SetOptions, narrate_set
 
-    _, found = read_and_describe(args)
-    narrative = narrate(found, args.audience, args.locale, currency=args.currency)
+        _, collection = grouped_collection(args)
+        narrative = narrate_set(collection.findings_set(), SetOptions(audience=args.audience, locale=args.locale,
+                                                                      currency=args.currency))
+    else:
+        from narrator.phrasing import narrate
+
+        _, found = read_and_describe(args)
+        narrative = narrate(found, args.audience, args.locale, currency=args.currency)
     sys.stdout.write(narrative.plain_text())
     return 0
+
+
+def add_group_options(parser: argparse.ArgumentParser, group_help: str) -> None:
+    """``--group-by`` and ``--privacy-threshold``, the one definition for every command that groups.
+
+    The threshold's default is the groups' own (``narrator.groups.analysis.DEFAULT_PRIVACY_THRESHOLD``,
+    applied by :func:`grouped_collection`): importing it here would load the numeric libraries for
+    every command, ``--help`` included. :data:`PRIVACY_HELP_DEFAULT` is the number the help shows
+    (tests/test_cli.py checks that it is that default)."""
+    parser.add_argument("--group-by", metavar="COLUMN", help=group_help)
+    parser.add_argument("--privacy-threshold", type=int, default=None, metavar="N",
+                        help="with --group-by, groups with fewer than N values are not shown "
+                             f"(default: {PRIVACY_HELP_DEFAULT})")
+
+
+PRIVACY_HELP_DEFAULT = 10
+
+
+def grouped_collection(args: argparse.Namespace, step=None):
+    """The column the options name, broken down by ``--group-by``: (request, collection).
+
+    The one path for every command that groups (tell, draft, fill): the request from the reading
+    options, the engine check (grouping needs the memory engine), the groups with the privacy
+    threshold, and one clear message for a column with no number.
+    """
+    from narrator.groups.analysis import analyse_file
+    from narrator.reading.files import shown_name
+    from narrator.request import engine_for
+
+    request = request_from_arguments(args)
+    engine_for(request, group_by=args.group_by)
+    threshold = {} if args.privacy_threshold is None else {"privacy_threshold": args.privacy_threshold}
+    collection = analyse_file(args.file, [request.variable], reading=request.reading, group_by=args.group_by,
+                              step=step, **threshold)
+    for part in collection.variables:
+        require_numbers(part.sample, part.findings,
+                        f"{shown_name(Path(args.file).name)}: column {shown_name(repr(args.column))}")
+    return request, collection
 
 
 def command_draft(args: argparse.Namespace) -> int:
@@ -186,25 +232,16 @@ def _say_notes(outcomes) -> None:
 
 
 def _draft_by_group(args: argparse.Namespace) -> int:
-    from narrator.groups.analysis import analyse_file
     from narrator.progress import progress_for
-    from narrator.reading.files import shown_name
     from narrator.report import report_from_collection
     from narrator.request import engine_for, naming_the_input
     from narrator.safe_io import check_output
 
-    request = request_from_arguments(args)
-    engine_for(request, group_by=args.group_by)
+    engine_for(request_from_arguments(args), group_by=args.group_by)  # before the output is checked
     check_output(args.output, protect=(args.file, args.template), force=args.force)
     progress = progress_for(None, quiet=args.quiet)
     try:
-        collection = analyse_file(
-            args.file, [request.variable], reading=request.reading, group_by=args.group_by,
-            privacy_threshold=args.privacy_threshold, step=progress.step,
-        )
-        for part in collection.variables:
-            require_numbers(part.sample, part.findings, f"{shown_name(Path(args.file).name)}: column "
-                                                        f"{shown_name(repr(args.column))}")
+        request, collection = grouped_collection(args, progress.step)
         with naming_the_input(request):
             outcome = report_from_collection(
                 collection, args.output, input_path=args.file, audience=args.audience, locale=args.locale,
@@ -274,7 +311,7 @@ def command_fill(args: argparse.Namespace) -> int:
             if args.column is None:
                 raise NarratorError("--column is required with a data file (or give a recipe .toml instead)")
             if args.group_by is not None:
-                collection = _grouped_collection(args, progress)
+                collection = grouped_collection(args, progress.step)[1]
             else:
                 collection = single_collection(*read_and_describe(args))
             options = dict(locale=args.locale or "en_US", currency=args.currency, protect=(source,))
@@ -284,14 +321,6 @@ def command_fill(args: argparse.Namespace) -> int:
         progress.finish()
     sys.stdout.write("".join(line + "\n" for line in outcome.lines()))
     return 0
-
-
-def _grouped_collection(args: argparse.Namespace, progress):
-    from narrator.groups.analysis import analyse_file
-
-    request = request_from_arguments(args)
-    return analyse_file(args.file, [request.variable], reading=request.reading, group_by=args.group_by,
-                        privacy_threshold=args.privacy_threshold, step=progress.step)
 
 
 def command_mark(args: argparse.Namespace) -> int:
@@ -359,6 +388,7 @@ def build_parser() -> argparse.ArgumentParser:
                       help="who the text is for (default: memo)")
     tell.add_argument("--locale", default="en_US", help="CLDR locale for words and numbers, e.g. en_US, es_ES, fr_FR")
     tell.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
+    add_group_options(tell, "compare the groups of this column (site, program, year...), as a grouped report does")
     tell.set_defaults(handler=command_tell)
 
     draft = commands.add_parser("draft", help="write the Word report (.docx) for one column")
@@ -372,10 +402,7 @@ def build_parser() -> argparse.ArgumentParser:
     draft.add_argument("--organisation", help="organisation named under the title")
     draft.add_argument("--author", help="document author property (default: the organisation)")
     draft.add_argument("--template", help="a .docx whose styles, page and headers the report takes")
-    draft.add_argument("--group-by", metavar="COLUMN",
-                       help="break the figures down by this column (site, program, year...)")
-    draft.add_argument("--privacy-threshold", type=int, default=10, metavar="N",
-                       help="with --group-by, groups with fewer than N values are not shown (default: 10)")
+    add_group_options(draft, "break the figures down by this column (site, program, year...)")
     draft.add_argument("--quiet", action="store_true", help="show no progress line")
     draft.add_argument("--force", action="store_true",
                        help="replace the output even when it is not a report narrator wrote")
@@ -414,9 +441,7 @@ def build_parser() -> argparse.ArgumentParser:
             action.help = "a recipe (.toml), or a CSV, TSV, Excel (.xlsx) or Parquet file read with the options"
     fill.add_argument("--locale", help="CLDR locale for words and numbers, e.g. en_US, es_ES, fr_FR (default: en_US)")
     fill.add_argument("--currency", help="ISO 4217 code when the values are money, e.g. USD, EUR")
-    fill.add_argument("--group-by", metavar="COLUMN", help="groups for the groups table (site, program, year...)")
-    fill.add_argument("--privacy-threshold", type=int, default=10, metavar="N",
-                      help="with --group-by, groups with fewer than N values are not shown (default: 10)")
+    add_group_options(fill, "groups for the groups table (site, program, year...)")
     fill.add_argument("--replace-edits", action="store_true",
                       help="fill the places edited by hand since the last fill too (they are kept otherwise)")
     fill.add_argument("-o", "--output", metavar="OUTPUT.docx",

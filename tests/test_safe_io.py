@@ -1,7 +1,10 @@
 """Safety of output: inputs never change, saves are atomic, documents carry no local paths or user names.
 
 Data are invented (repair-shop turnaround hours, fixed seed), written into a
-temporary folder; every command runs through the real command line.
+temporary folder; every command runs through the real command line: most in a process of its own forked
+from one interpreter that has imported narrator once (tests/helpers/commands.py; the kill tests kill that
+process, as they would a fresh one), and the builds that run side by side, and one build paused at each of
+two points, as fresh ``python -m narrator`` processes.
 """
 
 from __future__ import annotations
@@ -19,6 +22,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from helpers.commands import CommandServer
 
 from narrator.errors import NarratorError
 from narrator.safe_io import PAUSE_ENV, PAUSE_POINTS, atomic_write_bytes, output_lock, read_report_pair
@@ -26,9 +30,26 @@ from narrator.safe_io import PAUSE_ENV, PAUSE_POINTS, atomic_write_bytes, output
 SEED = 6
 
 
-def narrator_cli(*args: str, cwd: Path, env: dict | None = None, **kwargs) -> subprocess.CompletedProcess:
-    return subprocess.run([sys.executable, "-m", "narrator", *args], cwd=cwd, capture_output=True, text=True,
-                          env={**os.environ, **(env or {})}, timeout=300, **kwargs)
+# What a build imports after the command line: loaded once, before each fork (most of a small build's time).
+PRELOAD = ("narrator.request", "narrator.report", "narrator.recipe", "narrator.writer", "narrator.figures.charts",
+           "narrator.history.changes")
+_SERVERS: list[CommandServer] = []
+
+
+@pytest.fixture(scope="module", autouse=True)
+def _command_server():
+    with CommandServer(dict(os.environ), preload=PRELOAD) as server:
+        assert server.startup_stderr == ""
+        _SERVERS.append(server)
+        try:
+            yield server
+        finally:
+            _SERVERS.remove(server)
+
+
+def narrator_cli(*args: str, cwd: Path, env: dict | None = None):
+    """``python -m narrator *args`` in ``cwd``, in a process of its own (forked from the command server)."""
+    return _SERVERS[-1].run(args, cwd=cwd, env={**os.environ, **(env or {})}, timeout=300)
 
 
 @pytest.fixture()
@@ -91,9 +112,13 @@ def _pair_on_disk(folder: Path) -> tuple[str, int | None]:
     return reading.state, (reading.data or {}).get("n")
 
 
+BUILD = ("draft", "turnaround.csv", "--column", "hours", "-o", "report.docx")
+
+
 def _paused_build(folder: Path, point: str) -> subprocess.Popen:
+    """A fresh ``python -m narrator`` build, stopped at ``point``."""
     process = subprocess.Popen(
-        [sys.executable, "-m", "narrator", "draft", "turnaround.csv", "--column", "hours", "-o", "report.docx"],
+        [sys.executable, "-m", "narrator", *BUILD],
         cwd=folder, env={**os.environ, PAUSE_ENV: point}, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
         text=True,
     )
@@ -102,8 +127,19 @@ def _paused_build(folder: Path, point: str) -> subprocess.Popen:
     return process
 
 
+def _killed_at(server: CommandServer, folder: Path, point: str) -> None:
+    """A build in a process of its own (forked from the server), stopped at ``point`` and killed there."""
+    build = server.start(BUILD, cwd=folder, env={**os.environ, PAUSE_ENV: point})
+    line = build.stderr.readline()  # the build says where it stopped
+    if line.strip() != f"paused at {point}":
+        os.kill(build.pid, signal.SIGKILL)
+        raise AssertionError((point, line + build.stderr.read(), server.reap(build)))
+    os.kill(build.pid, signal.SIGKILL)
+    assert server.reap(build, timeout=60) == -signal.SIGKILL, point
+
+
 @pytest.mark.slow
-def test_a_reader_finds_the_old_pair_or_the_new_pair_when_a_build_is_killed_anywhere(shop):
+def test_a_reader_finds_the_old_pair_or_the_new_pair_when_a_build_is_killed_anywhere(shop, _command_server):
     # Generated data (fixed seed): 60 rows first, then 80; the sidecar's n tells the builds apart.
     first = narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "report.docx", cwd=shop)
     assert first.returncode == 0, first.stderr
@@ -116,10 +152,7 @@ def test_a_reader_finds_the_old_pair_or_the_new_pair_when_a_build_is_killed_anyw
         (shop / "turnaround.csv").write_text(versions[size], encoding="utf-8")
         before = _pair_on_disk(shop)
         assert before[0] == "ok" and before[1] != size, point
-        process = _paused_build(shop, point)
-        os.kill(process.pid, signal.SIGKILL)
-        process.wait(timeout=60)
-        process.stderr.close()
+        _killed_at(_command_server, shop, point)
         state, n = _pair_on_disk(shop)
         assert state == "ok" and n in (before[1], size), (point, state, n)
         with zipfile.ZipFile(shop / "report.docx") as archive:

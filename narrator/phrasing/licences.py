@@ -129,8 +129,8 @@ CLAIM_KINDS: dict[str, str] = {
                    "that way",
     "several_groups": "the shape has several peaks (label bimodal or multimodal) that rounding does not explain; "
                       "the mean is `mean`",
-    "heaped": "most values sit at multiples of `base` (at least twice the share chance gives), so peaks there come "
-              "from rounding",
+    "heaped": "a share `share` of the values sits at multiples of `base` (at least twice the share chance gives), "
+              "so peaks there come from rounding",
     # shape
     "shape": "the values have the shape `label` (`strength`): direction and Bulmer strength of G1, or "
              "symmetry (|G1| < 0.5 or both robust measures near 0), or peaks",
@@ -482,6 +482,21 @@ def _mid_range(ctx) -> float | None:
 
 # "Most values are fairly low": the median lies below the middle of the range, so at least half the values
 # (MOST_SHARE) are in its lower half; the skew alone does not say so.
+@licence("variable", "at least one value is a probable entry error (narrator.engine.entry_errors.strong_slip)")
+def entry_error_probable(ctx) -> bool:
+    unusual = ctx.findings.unusual
+    return unusual is not None and any(error.strength == "probable" for error in unusual.entry_errors)
+
+
+@licence("variable", "the largest value is one the memo asks to check: it stands out for the data's shape or may "
+                     "be an entry error (narrator.engine.entry_errors)")
+def largest_worth_checking(ctx) -> bool:
+    unusual, spread = ctx.findings.unusual, ctx.findings.spread
+    if unusual is None or spread is None:
+        return False
+    return spread.max in set(unusual.values) | {error.value for error in unusual.entry_errors}
+
+
 @licence("variable", "the median lies below the middle of the range: most values are in its lower half")
 def most_in_lower_half(ctx) -> bool:
     middle = _mid_range(ctx)

@@ -27,9 +27,9 @@ from typing import Any
 
 from narrator.findings import Difference, GroupComparison
 from narrator.phrasing.context import WordingContext, member
-from narrator.phrasing.licences import TINY_N, DifferenceFacts
+from narrator.phrasing.licences import TINY_N, DifferenceFacts, holds
 from narrator.phrasing.narrative import Paragraph, Sentence
-from narrator.phrasing.selection import Message, select_messages
+from narrator.phrasing.selection import Message, Within, groups_may_mix, select_messages
 
 MAX_SENTENCES = 7
 
@@ -179,7 +179,7 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
         return []
     findings, counts = ctx.findings, ctx.findings.order_counts
     kind = lead.claims[0].kind if lead.claims else None
-    if kind == "median_with_ties" and counts.at_min in (counts.below_median, counts.above_median):
+    if kind in ("median_with_ties", "median_counts") and counts.at_min in (counts.below_median, counts.above_median):
         return []  # "30% were lower" already said it: every value below the middle one is the lowest
     sentence = ctx.say(
         "memo.at_end", ("order_counts",), min=ctx.memo_recorded(findings.spread.min),
@@ -225,8 +225,9 @@ def _shape(ctx: WordingContext) -> Sentence | None:
         tail = ctx.text(f"memo.tail.{side}.{shape.strength or 'slight'}")
     heaping = findings.quality.get("heaping")
     base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
+    share = heaping.share if heaping is not None and heaping.share is not None else 0.0
     return ctx.say(f"memo.shape.{shape.label}", keys, n_values=n_values, tail=tail, base=ctx.recorded(base),
-                   claim={**claim, "base": base})
+                   heaped_share=ctx.fmt.percent(share, 0), claim={**claim, "base": base, "share": share})
 
 
 def _peaks_are_a_spike(findings) -> bool:
@@ -236,13 +237,20 @@ def _peaks_are_a_spike(findings) -> bool:
     return clusters is not None and clusters.reason == "spike_at_one_value"
 
 
-def _why(ctx: WordingContext) -> Sentence | None:
+EXACT_LEADS = ("median_with_ties", "median_counts", "median_ties_at_min", "median_ties_at_max",
+               "median_ties_at_ends")  # leads that write the middle value as recorded ("exactly $1,298.24")
+
+
+def _why(ctx: WordingContext, median_text: str | None = None) -> Sentence | None:
+    """Why the memo leads with the middle value; ``median_text`` is the middle value as the lead wrote it, so
+    one number is written one way in one paragraph ("$1,298.24" twice, never "$1,298.24" then "$1,298")."""
     findings = ctx.findings
     center = findings.center
     flagged = findings.outliers
     mean = ctx.memo(center.mean)
+    median_text = median_text if median_text is not None else ctx.memo(center.median)
     claim = {"mean": center.mean, "median": center.median, "mean_shown": mean,
-             "median_shown": ctx.memo(center.median), **flagged_claim(findings)}
+             "median_shown": median_text, **flagged_claim(findings)}
     if center.lead == "median":
         reasons = center.lead_reasons
         if "several_peaks" in reasons:
@@ -256,14 +264,14 @@ def _why(ctx: WordingContext) -> Sentence | None:
         said = None
         if "outliers_move_mean" in reasons:
             said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean", "center.median"),
-                           subject=(count, "value"), mean=mean, median=ctx.memo(center.median),
+                           subject=(count, "value"), mean=mean, median=median_text,
                            claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
         if said is None and "skewed" in reasons:
             said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean", "center.median"),
-                           mean=mean, median=ctx.memo(center.median),
+                           mean=mean, median=median_text,
                            claim={**claim, "cause": "tail", "label": findings.shape.label})
         return said
-    return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
+    return ctx.say("memo.other_center", ("center.median",), median=median_text,
                    claim={**claim, "sd": findings.spread.sd})
 
 
@@ -337,15 +345,21 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
 
 CENTER_ORDER = ("lead", "at_end", "range", "shape", "why")
 DROPPED_FIRST = ("why", "at_end", "range", "shape")  # to keep within MAX_SENTENCES, in this order
+TENTH_ADDS = 0.05  # the largest tenth's share is said only when it adds 5 points to the few largest's (our rule)
 LISTED = 5  # values named in one sentence at most; the full report lists them all
 
 
 @dataclass(frozen=True, slots=True)
 class MemoGroups:
-    """The groups a memo compares: the engine's comparison and the column the groups come from."""
+    """The groups a memo compares: the engine's comparison and the column the groups come from.
+    ``excess_within``: for each shown group, whether its own values have more far-out values than their
+    shape predicts (``Unusual.excess``; empty when not known). ``within``: the (value, row) pairs each
+    group's own values flag (narrator.phrasing.selection.Within; None when not known)."""
 
     comparison: GroupComparison
     group_by: str
+    excess_within: tuple[bool, ...] = ()
+    within: Within | None = None
 
 
 @dataclass
@@ -650,18 +664,30 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     if numbers["excess"]:
         # "4 against about 0" says nothing true: under one expected value, the words say so.
         below_one = numbers["expected_beyond_fences"] < 1
-        out.append(ctx.say("memo.unusual.excess_below_one" if below_one else "memo.unusual.excess",
-                           ("unusual.excess", "unusual.count_beyond_fences"),
-                           claim={**far, "count": numbers["count_beyond_fences"],
-                                  "expected": numbers["expected_beyond_fences"]},
-                           count=ctx.whole(numbers["count_beyond_fences"]),
-                           expected=ctx.whole(numbers["expected_beyond_fences"])))
+        key = "memo.unusual.excess_below_one" if below_one else "memo.unusual.excess"
+        # Pooled, yes; within each group, no: the groups' different values explain it, and it is not said.
+        if not _excess_from_mixing(groups):
+            out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
+                               claim={**far, "count": numbers["count_beyond_fences"],
+                                      "expected": numbers["expected_beyond_fences"]},
+                               count=ctx.whole(numbers["count_beyond_fences"]),
+                               expected=ctx.whole(numbers["expected_beyond_fences"])))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
     if possible:
-        out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
+        # Money is never called a typing error, not even a possible one: a large amount is often real.
+        key = "memo.unusual.possible_money" if numbers.get("money") else "memo.unusual.possible"
+        out.append(ctx.say(key, ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
                            count=ctx.count(len(possible), "value"), items=_items(ctx, possible)))
     return [sentence for sentence in out if sentence is not None]
+
+
+def _excess_from_mixing(groups: MemoGroups | None) -> bool:
+    """Whether the pooled values' excess of far-out values may come from mixing groups: no shown group has
+    an excess of its own, and the groups are not all alike (alike groups mixed give one shape)."""
+    if groups is None or not groups.excess_within or any(groups.excess_within):
+        return False
+    return groups_may_mix(groups.comparison)
 
 
 def _nothing_stands_out(ctx: WordingContext) -> list:
@@ -706,8 +732,9 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
               "tenth": ctx.fmt.percent(0.1, 0)}  # "the top 10% of values" (fr, es), "the largest tenth" (en)
     if message.code == "money_total":
         key = "memo.money.total"
-    elif found.top_tenth_count <= found.top_percent_count:
-        key = "memo.money.concentrated_short"
+    elif found.top_tenth_count <= found.top_percent_count or \
+            found.top_tenth_share - found.top_percent_share < TENTH_ADDS:
+        key = "memo.money.concentrated_short"  # the largest tenth says nothing the few largest did not
     else:
         key = "memo.money.concentrated"
     sentence = ctx.say(key, message.keys, subject=(found.top_percent_count, "value"), claim=claim, **values)
@@ -715,11 +742,11 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
 
 
 def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool) -> dict[str, list[Sentence]]:
-    """The center and the typical range; none when the values form clusters (no single middle describes them)."""
+    """The center and the typical range; none when the values form clusters: no single middle describes them,
+    and a pooled middle half would straddle the gap between the clusters (the clusters' sentence gives each
+    cluster's place, range and size instead)."""
     findings = ctx.findings
-    if clustered:  # no single middle: where the middle half lies, and the clusters say the rest
-        if findings.n > 1 and findings.spread.range > 0:
-            return {"range": [s for s in (_range(ctx),) if s is not None]}
+    if clustered:
         return {}
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}
@@ -736,12 +763,28 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
                 and spread.q3 == spread.max))
         parts["range"] = [] if said_range else [_range(ctx)]
         if groups is None:  # with groups, the groups are the message; the whole's shape is in the full report
-            parts["shape"] = [_shape(ctx)]
+            # "56% were 0 ...; the others ran from 1 to 24" already says most values are low and the rest spread
+            # out: the shape sentence is said only when it adds that a few lie far out.
+            parts["shape"] = [] if said_range and not _shape_adds_to_end_share(ctx) else [_shape(ctx)]
             # Most values at one end: the share said it; "the middle value is the better guide" would point
             # at that end value as typical, which no statistician would say.
             at_one_end = said_range or said.lead
-            parts["why"] = [] if at_one_end else [_why(ctx)]
+            exact = bool(lead[0].claims) and lead[0].claims[0].kind in EXACT_LEADS
+            parts["why"] = [] if at_one_end else [
+                _why(ctx, ctx.recorded_unit(findings.center.median) if exact else None)]
     return {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
+
+
+def _shape_adds_to_end_share(ctx: WordingContext) -> bool:
+    """After the share at one end and the others' range, whether the shape sentence says more: a few values
+    far out on the long side (licences few_far_high / few_far_low); its "most are low, the rest spread out"
+    would only repeat the lead."""
+    label = ctx.findings.shape.label
+    if label == "right-skewed":
+        return holds("few_far_high", ctx)
+    if label == "left-skewed":
+        return holds("few_far_low", ctx)
+    return True
 
 
 WORDERS: dict[str, Callable] = {
@@ -770,7 +813,7 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     if 2 <= findings.n < TINY_N and findings.spread.range > 0:
         return Paragraph(tuple(_tiny(ctx)))
     messages = select_messages(findings, comparison=groups.comparison if groups is not None else None,
-                               currency=ctx.fmt.currency_code)
+                               currency=ctx.fmt.currency_code, within=groups.within if groups is not None else None)
     clustered = any(message.code == "clusters" for message in messages)
     said = _Said()
     blocks: list[tuple[str, list[Sentence]]] = []

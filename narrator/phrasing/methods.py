@@ -24,6 +24,7 @@ import math
 from narrator.engine.bins import MAX_BINS
 from narrator.engine.center import MEAN_SHIFT_SHARE
 from narrator.engine.density import MAX_RANGE_IN_BANDWIDTHS
+from narrator.engine.entry_errors import DECIMAL_PLACES, LOG_FAR_K, SURPRISE_P
 from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.memo import flagged_claim, left_out_items
@@ -210,6 +211,11 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
             sentences.append(ctx.say(key, ("accuracy.approximate",), bound=fmt.fixed(approximate.bound, 3),
                                      claim={"bound": approximate.bound}))
     sentences.extend(_outlier_sentences(ctx))
+    # The rule behind any "probably a typing error" sentence (narrator.engine.entry_errors), with its numbers.
+    sentences.append(ctx.say("methods.entry_error_rule", ("unusual.entry_errors",),
+                             low_places=ctx.whole(min(DECIMAL_PLACES)), high_places=ctx.whole(max(DECIMAL_PLACES)),
+                             surprise=fmt.fixed(SURPRISE_P, 2), k=fmt.fixed(LOG_FAR_K, 0),
+                             claim={"places": list(DECIMAL_PLACES), "surprise": SURPRISE_P, "k": LOG_FAR_K}))
     sentences.append(ctx.say("methods.with_without", ("without_outliers",)))
     sentences.append(ctx.say("methods.intervals", ("intervals.mean.method", "intervals.median.method"),
                              claim=interval_claim(findings), **interval_values(ctx)))

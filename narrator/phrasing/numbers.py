@@ -24,7 +24,7 @@ Name                                What it does
 :meth:`~NumberFormatter.list`       "a, b, and c" (CLDR list pattern)
 :meth:`~NumberFormatter.number_list` "0,25; 0,50 y 0,75" (the CLDR list symbol for numbers)
 :meth:`~NumberFormatter.long_date`  "1er décembre 2026": CLDR's long date, the bank's first of the month
-:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC"
+:meth:`~NumberFormatter.long_datetime` the same date with CLDR's long time, "16:05:03 UTC" (fr: "16 h 05 min 03 s TU")
 :func:`parse_locale`                a CLDR locale, or one clear refusal
 :func:`language_tag`                its BCP 47 tag ("es-419"), for document metadata
 :func:`minimum_grouping_digits`     CLDR ``minimumGroupingDigits`` of a locale
@@ -906,14 +906,33 @@ class NumberFormatter:
     def long_datetime(self, moment: dt.datetime) -> str:
         """A moment in UTC in the locale's CLDR long date-time form (as babel's "long"), with :meth:`long_date`.
 
+        The time of day is CLDR's long time, or, where the bank's ``format.clock`` is ``units``
+        (French), the hours, minutes and seconds with CLDR's short duration units joined by its
+        ``unit-narrow`` list pattern, then CLDR's zone name: "16 h 05 min 03 s TU". A locale whose CLDR
+        long time already has that form (fr_CA) keeps CLDR's own.
+
         >>> NumberFormatter("fr_FR").long_datetime(dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC))
-        '1er décembre 2026, 16:05:03 TU'
+        '1er décembre 2026, 16\u202fh 05\xa0min 03\u202fs TU'
+        >>> NumberFormatter("en_US").long_datetime(dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC))
+        'December 1, 2026, 4:05:03\u202fPM UTC'
         """
         from babel.dates import format_time, get_datetime_format
 
         moment = moment if moment.tzinfo is not None else moment.replace(tzinfo=dt.UTC)
         utc = moment.astimezone(dt.UTC)
-        time_text = format_time(utc, format="long", tzinfo=dt.UTC, locale=self.locale)
+        from babel.dates import get_time_format
+
+        if self.bank.format("format.clock") == "units" and ":" in get_time_format("long", locale=self.locale).pattern:
+            from babel.units import format_unit
+
+            # Two digits each, as CLDR's own unit-form time (fr_CA: HH 'h' mm 'min' ss 's').
+            parts = [format_unit(amount, unit, length="short", locale=self.locale) for amount, unit in (
+                (f"{utc.hour:02d}", "duration-hour"), (f"{utc.minute:02d}", "duration-minute"),
+                (f"{utc.second:02d}", "duration-second"))]
+            zone = format_time(utc, format="z", tzinfo=dt.UTC, locale=self.locale)
+            time_text = f"{format_list(parts, style='unit-narrow', locale=self.locale)} {zone}"
+        else:
+            time_text = format_time(utc, format="long", tzinfo=dt.UTC, locale=self.locale)
         glue = get_datetime_format("long", locale=self.locale).replace("'", "")
         return glue.replace("{0}", time_text).replace("{1}", self.long_date(utc.date()))
 

@@ -51,6 +51,10 @@ Rules for the order: higher score first; equal scores keep the order of :data:`M
 differing pairs) keep the order of the findings they come from: pairs in the groups' reading
 order. The same findings give the same messages in the same order, every time.
 
+Groups whose values differ (not all alike): pooled over them, a group's ordinary values can look far
+out for the pooled shape, so ``entry_error`` and ``stand_out`` keep only the values their own group's
+values flag too (:class:`Within`, from each group's findings).
+
 Money: the currency is given (``currency``), the unit is an ISO 4217 code (CLDR's list, through
 babel), or the cells carried currency marks (the reading's ``currency_symbols``).
 
@@ -106,6 +110,41 @@ class Message:
     numbers: dict[str, Any] = field(default_factory=dict)
 
 
+@dataclass(frozen=True, slots=True)
+class Within:
+    """What the groups' own values flag, as (value, row) pairs: values that stand out for their own group's
+    shape or may be entry errors there (``flagged``), and probable entry errors there (``probable``).
+
+    Pooled over groups whose values differ, a group's ordinary values can look far out for the pooled
+    shape (a wait of 100 days is no slip among waits around 60 days): a grouped memo names a value as
+    standing out, or as a probable typing error, only when its own group's values say so too."""
+
+    flagged: frozenset = frozenset()
+    probable: frozenset = frozenset()
+
+
+def groups_may_mix(comparison: GroupComparison | None) -> bool:
+    """Whether pooling the groups may mix values of different sizes: they are not all alike."""
+    return comparison is not None and bool(comparison.pairs) and not all(
+        pair.difference.verdict == "alike" for pair in comparison.pairs)
+
+
+def within_groups(groups) -> Within | None:
+    """The :class:`Within` of a variable's groups (``GroupFindings``), or None when a group's judgement
+    is not known (an engine that did not compute it)."""
+    flagged, probable = set(), set()
+    for group in groups:
+        unusual = group.findings.unusual
+        if unusual is None or unusual.rows is None:
+            return None
+        flagged.update(zip(unusual.values, unusual.rows, strict=True))
+        for error in unusual.entry_errors:
+            flagged.add((error.value, error.row))
+            if error.strength == "probable":
+                probable.add((error.value, error.row))
+    return Within(frozenset(flagged), frozenset(probable))
+
+
 def is_money(findings: Findings, currency: str | None = None) -> bool:
     """Whether the values are money: a currency given, an ISO 4217 unit, or currency marks in the cells
     (the last two as the engine decides them, narrator.engine.entry_errors.values_are_money)."""
@@ -113,8 +152,14 @@ def is_money(findings: Findings, currency: str | None = None) -> bool:
 
 
 def select_messages(findings: Findings, *, comparison: GroupComparison | None = None,
-                    baseline: Findings | None = None, currency: str | None = None) -> tuple[Message, ...]:
-    """The candidate messages for one variable, best first (see the module docstring for the rules)."""
+                    baseline: Findings | None = None, currency: str | None = None,
+                    within: Within | None = None) -> tuple[Message, ...]:
+    """The candidate messages for one variable, best first (see the module docstring for the rules).
+
+    ``within``: what the groups' own values flag; when the groups differ, only those pooled values are
+    named as standing out or as probable entry errors (:class:`Within`)."""
+    if within is not None and not groups_may_mix(comparison):
+        within = None
     if findings.center is None or findings.spread is None:
         return ()
     found: list[Message] = []
@@ -129,10 +174,10 @@ def select_messages(findings: Findings, *, comparison: GroupComparison | None = 
     clustered = findings.clusters is not None and findings.clusters.count >= 2
     if clustered:
         found.append(_clusters_message(findings))
-    found += _entry_error_messages(findings, money)
+    found += _entry_error_messages(findings, money, within)
     misleading = clustered or (share is not None and share.numbers["share"] >= HALF)
     found.append(_center_message(findings, misleading))
-    stand_out = _stand_out_message(findings, money)
+    stand_out = _stand_out_message(findings, money, within)
     if stand_out is not None:
         found.append(stand_out)
     order = {code: index for index, code in enumerate(MESSAGE_CODES)}
@@ -268,11 +313,12 @@ def _strength(error, money: bool) -> str:
     return "possible" if money else error.strength
 
 
-def _entry_error_messages(findings: Findings, money: bool) -> list[Message]:
+def _entry_error_messages(findings: Findings, money: bool, within: Within | None = None) -> list[Message]:
     unusual = findings.unusual
     if unusual is None:
         return []
-    probable = [(k, error) for k, error in enumerate(unusual.entry_errors) if _strength(error, money) == "probable"]
+    probable = [(k, error) for k, error in enumerate(unusual.entry_errors) if _strength(error, money) == "probable"
+                and (within is None or (error.value, error.row) in within.probable)]
     if not probable:
         return []
     score = SCORE["entry_error"] if _moves_lead(findings, [error.value for _, error in probable]) \
@@ -308,19 +354,25 @@ def _center_message(findings: Findings, misleading: bool) -> Message:
                     "n": findings.n})
 
 
-def _stand_out_message(findings: Findings, money: bool) -> Message | None:
+def _stand_out_message(findings: Findings, money: bool, within: Within | None = None) -> Message | None:
     unusual = findings.unusual
     if unusual is None:
         return None
-    possible = tuple((error.value, error.row) for error in unusual.entry_errors
-                     if _strength(error, money) == "possible")
-    probable = {error.value for error in unusual.entry_errors if _strength(error, money) == "probable"}
+
+    # A probable error its group does not confirm is no probable error: at most one that may be worth checking.
+    def confirmed(error) -> bool:
+        return _strength(error, money) == "probable" and (within is None or (error.value, error.row) in within.probable)
+
+    possible = tuple((error.value, error.row) for error in unusual.entry_errors if not confirmed(error)
+                     and (within is None or (error.value, error.row) in within.flagged))
+    probable = {error.value for error in unusual.entry_errors if confirmed(error)}
     kept = [(value, row) for value, row in zip(unusual.values, unusual.rows or (None,) * len(unusual.values),
-                                                strict=True) if value not in probable]
+                                                strict=True) if value not in probable
+            and (within is None or (value, row) in within.flagged)]
     values = tuple(value for value, _ in kept)
     if not values and not unusual.excess and not possible:
         return None
     return Message("stand_out", SCORE["stand_out"], ("unusual.values", "unusual.excess", "unusual.entry_errors"), {
         "values": values, "rows": tuple(row for _, row in kept) if all(row is not None for _, row in kept) else (),
         "excess": unusual.excess, "count_beyond_fences": unusual.count_beyond_fences,
-        "expected_beyond_fences": unusual.expected_beyond_fences, "possible_errors": possible})
+        "expected_beyond_fences": unusual.expected_beyond_fences, "possible_errors": possible, "money": money})

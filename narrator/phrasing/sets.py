@@ -52,6 +52,7 @@ from narrator.phrasing.memo import MemoGroups, group_sentences
 from narrator.phrasing.methods import reference_sentence, references_used
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
 from narrator.phrasing.planner import caution_paragraphs, narrate
+from narrator.phrasing.selection import within_groups
 
 SMALL_GROUP = 20  # as narrator.engine.quality.MIN_FOR_CONFIDENT: fewer values, hedged words
 DOCUMENT_WIDE = ("references", "cautions")  # said once for the whole report, not per variable
@@ -96,7 +97,9 @@ def memo_groups(item: VariableFindings, group_by: str | None) -> MemoGroups | No
     comparison = item.comparison
     if group_by is None or comparison is None or comparison.reason != "computed" or not comparison.pairs:
         return None
-    return MemoGroups(comparison, group_by)
+    excess = tuple(part.findings.unusual is not None and part.findings.unusual.excess for part in item.groups)
+    known = all(part.findings.unusual is not None for part in item.groups)
+    return MemoGroups(comparison, group_by, excess if known else (), within_groups(item.groups))
 
 
 # --------------------------------------------------------------------------- overview

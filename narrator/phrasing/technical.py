@@ -124,9 +124,11 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
     keys = ("shape.label", "shape.strength", "shape.evidence")
     heaping = findings.quality.get("heaping")
     base = heaping.detail.get("base", 0.0) if heaping is not None else 0.0
+    share = heaping.share if heaping is not None and heaping.share is not None else 0.0
     sentences = _kept(ctx.say("technical.shape", keys, shape_words=shape_words(ctx), n=ctx.whole(findings.n),
                               peaks=ctx.count(shape.density_peaks or 0, "peak"), base=ctx.recorded(base),
-                              claim={**shape_claim(findings), "base": base}))
+                              heaped_share=ctx.fmt.percent(share, 0),
+                              claim={**shape_claim(findings), "base": base, "share": share}))
     if findings.spread is not None and findings.spread.range == 0:
         return sentences
     if shape.skewness is not None:

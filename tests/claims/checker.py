@@ -49,7 +49,7 @@ ESTIMATING = {
     "es": ("probable", "no es seguro", "difícil estar seguros", "puede ser ", "parece", "evidencia es limitada",
            "(EE ", "p = ", "p < ", "intervalos de confianza del"),
     "fr": ("probablement", "sans doute", "pas certain", "difficile d'en être sûr", "peut-être", "sembl", "pourrai",
-           "indices sont limités", "(ES ", "p = ", "p < ", "intervalles de confiance à"),
+           "indices sont limités", "(erreur type ", "p = ", "p < ", "intervalles de confiance à"),
 }
 
 
@@ -449,6 +449,8 @@ def _heaped(raw: Raw) -> float | None:
 
 def check_heaped(c, raw, p):
     _problem(_heaped(raw) == c["base"], f"values heaped at multiples of {c['base']} claimed", p)
+    if "share" in c and c["base"]:  # "Of all values, 62% were recorded as round numbers": the share said
+        _same("share", c["share"], raw.share(raw.values % c["base"] == 0), raw, p)
 
 
 def check_several_groups(c, raw, p):

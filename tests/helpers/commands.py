@@ -20,12 +20,14 @@ cases both ways and checks the outcomes are the same.
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 import tempfile
 import threading
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TextIO
 
 _SERVER = r'''
 import json, os, sys, time, traceback
@@ -82,12 +84,19 @@ for line in requests:
     request = json.loads(line)
     sys.stdout.flush()
     sys.stderr.flush()
-    pid = os.fork()
-    if pid == 0:
-        try:
-            child(request)
-        finally:
-            os._exit(1)
+    if "reap" in request:  # a child started earlier (and perhaps killed by the caller): its exit status
+        pid = request["reap"]
+    else:
+        pid = os.fork()
+        if pid == 0:
+            try:
+                child(request)
+            finally:
+                os._exit(1)
+        if request.get("start"):  # the caller watches it and asks for its status later
+            replies.write(json.dumps({"pid": pid}) + "\n")
+            replies.flush()
+            continue
     deadline = time.monotonic() + request["timeout"]
     while True:
         done, status = os.waitpid(pid, os.WNOHANG)
@@ -117,6 +126,14 @@ class Completed:
     returncode: int
     stdout: str
     stderr: str
+
+
+@dataclass(frozen=True)
+class Started:
+    """A command started by :meth:`CommandServer.start`: its process id and the reading end of its stderr."""
+
+    pid: int
+    stderr: TextIO
 
 
 class CommandServer:
@@ -169,6 +186,40 @@ class CommandServer:
             out.unlink()
             err.unlink()
             return completed
+
+    def start(self, args: list[str] | tuple[str, ...], cwd: Path | str, env: dict[str, str] | None = None) -> Started:
+        """Start one command and return at once, as ``subprocess.Popen`` would, with its standard error as a
+        pipe (a named pipe the child opens as its stderr): the caller reads it, may kill the child by its
+        ``pid``, and must then call :meth:`reap`. Its standard output is discarded."""
+        with self._lock:
+            self._count += 1
+            err = self._folder / f"{self._count}.err-pipe"
+            os.mkfifo(err, 0o600)
+            request = {"args": [str(a) for a in args], "cwd": str(cwd), "env": dict(self._env if env is None else env),
+                       "stdout": os.devnull, "stderr": str(err), "start": True}
+            self._process.stdin.write(json.dumps(request) + "\n")
+            self._process.stdin.flush()
+            reply = self._process.stdout.readline()
+            if not reply:
+                raise RuntimeError("the command server stopped: " + self.startup_stderr)
+            pid = json.loads(reply)["pid"]
+        stderr = open(err, encoding="utf-8")  # noqa: SIM115 (reap closes it); returns once the child has opened its end
+        err.unlink()  # both ends are open: the name is no longer needed
+        return Started(pid, stderr)
+
+    def reap(self, started: Started, timeout: float = 300) -> int:
+        """The exit status of a started command (negative: the signal that ended it), once it has ended."""
+        with self._lock:
+            self._process.stdin.write(json.dumps({"reap": started.pid, "timeout": timeout}) + "\n")
+            self._process.stdin.flush()
+            reply = self._process.stdout.readline()
+            if not reply:
+                raise RuntimeError("the command server stopped: " + self.startup_stderr)
+        started.stderr.close()
+        code = json.loads(reply)["returncode"]
+        if code is None:
+            raise subprocess.TimeoutExpired(["narrator", str(started.pid)], timeout)
+        return code
 
     def close(self) -> None:
         if self._process.poll() is None:

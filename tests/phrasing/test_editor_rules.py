@@ -127,7 +127,7 @@ def test_french_writes_the_first_of_the_month_as_an_ordinal(locale):
     moment = dt.datetime(2026, 12, 1, 16, 5, 3, tzinfo=dt.UTC)
     reference = format_datetime(moment, format="long", tzinfo=dt.UTC, locale=locale)
     assert reference.startswith("1 décembre")  # babel (CLDR) has no ordinal day
-    assert fmt.long_datetime(moment) == "1er" + reference[1:]
+    assert fmt.long_datetime(moment).startswith("1er décembre 2026, 16")  # the time: tests/phrasing/test_clock.py
 
 
 @pytest.mark.parametrize("locale", LOCALES)
@@ -138,7 +138,10 @@ def test_every_other_date_is_cldr_long_form(locale):
         date = dt.date(2026, 12, day)
         assert fmt.long_date(date) == format_date(date, format="long", locale=locale)
         moment = dt.datetime(2026, 12, day, 9, 30, 0, tzinfo=dt.UTC)
-        assert fmt.long_datetime(moment) == format_datetime(moment, format="long", tzinfo=dt.UTC, locale=locale)
+        if locale == "fr_FR":  # the French time of day in CLDR's duration units (tests/phrasing/test_clock.py)
+            assert fmt.long_datetime(moment).startswith(format_date(date, format="long", locale=locale) + ", 09")
+        else:
+            assert fmt.long_datetime(moment) == format_datetime(moment, format="long", tzinfo=dt.UTC, locale=locale)
     if not locale.startswith("fr"):
         assert fmt.long_date(dt.date(2026, 12, 1)) == format_date(dt.date(2026, 12, 1), format="long", locale=locale)
 

@@ -104,3 +104,24 @@ def test_most_values_are_fairly_low_only_when_the_median_is_in_the_lower_half_of
     for locale, word in words.items():
         text = narrate(moved, "memo", locale).plain_text()
         assert not any(words_ in text for words_ in (word, "fairly low", "assez basses", "bastante bajos")), text
+
+
+def test_round_numbers_are_given_their_share_not_most():
+    import dataclasses
+
+    rng = np.random.default_rng(8)
+    values = np.round(rng.normal(40, 12, 400))
+    rounded = rng.random(400) < 0.5
+    values[rounded] = np.round(values[rounded] / 10) * 10
+    found = describe(values, name="minutes", unit="minutes")
+    heaping = found.quality.get("heaping")
+    share = np.mean(values % 10 == 0)  # numpy: 55.5% of the values are multiples of 10, far from "most"
+    assert heaping is not None and heaping.share == pytest.approx(share) and 0.5 < share < 0.6
+    # The shape sentence that names the round numbers (said for values whose peaks the rounding explains).
+    peaked = dataclasses.replace(found, shape=dataclasses.replace(found.shape, label="bimodal"))
+    for locale, words in (("en_US", "Of all values, 56% were recorded as round numbers (multiples of 10)"),
+                          ("es_ES", "El 56 % de los valores se registraron como números redondos (múltiplos de 10)"),
+                          ("fr_FR", "Sur l'ensemble des valeurs, 56 % ont été notées en nombres ronds")):
+        text = narrate(peaked, "memo", locale).section("summary").paragraphs[0].text
+        assert words in text.replace("\u202f", " ").replace("\xa0", " "), (locale, text)
+        assert "Most values were recorded" not in text and "La mayoría" not in text and "La plupart" not in text
