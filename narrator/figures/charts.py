@@ -237,6 +237,7 @@ def _draw_histogram(
 # not: a curve half as high again as the bar at 0, or peaking two bins from the tallest bar). Our cut points.
 CURVE_HEIGHT_RANGE = (0.5, 1.5)  # the curve's highest point, in tallest bars
 CURVE_PEAK_REACH_BINS = 3  # the curve's highest point lies within this many bin widths of the tallest bar
+MIN_CURVE_VALUES = 5  # as narrator.phrasing.licences.TINY_N: a curve through two to four values says nothing
 FEW_WHOLE_VALUES = 30  # whole numbers in bins of width 1 spanning at most this many: the bars are the distribution
 
 
@@ -250,7 +251,7 @@ def draws_curve(findings: Findings, plan, curve_of) -> bool:
     bin widths of it (the curve is scaled to counts: density x n x bin width).
     """
     counts = np.asarray(plan.counts, dtype=float)
-    if curve_of is None or not curve_of.grid or counts.size == 0 or counts.max() <= 0:
+    if curve_of is None or not curve_of.grid or counts.size == 0 or counts.max() <= 0 or findings.n < MIN_CURVE_VALUES:
         return False
     quality = findings.quality
     if findings.variable.integer_valued and (

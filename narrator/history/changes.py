@@ -250,10 +250,11 @@ def baseline_for(new: Findings, previous: Findings | None, previous_baseline: Fi
     """The findings a new build is compared with.
 
     No earlier build: none. Data unchanged since the last build: the last
-    build's own baseline (so the text repeats). Otherwise: the last build.
+    build's own baseline (so the text repeats), or the last build itself when it had none (so the
+    report says that nothing changed). Otherwise: the last build.
     """
     if previous is None:
         return None
-    if same_findings(previous, new):
+    if same_findings(previous, new) and previous_baseline is not None:
         return previous_baseline
     return previous

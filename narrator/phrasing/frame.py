@@ -266,13 +266,16 @@ def _compact_lines(fmt: NumberFormatter, bank: PhraseBank, parts: Sequence[Varia
     used = [(str(part.source.get("column") or part.sample_name), part) for part in parts]
     rows_read = fmt.fixed(first.n_rows or first.findings.quality.n_rows, 0)
     time = fmt.long_datetime(moment)
+    # With groups too small to show, the rows counted are those of the groups shown, as in the full appendix: the
+    # line says so (the number of rows of a group left out for privacy is never given, not even by subtraction).
+    shown = "_shown" if any(part.findings.quality.has("groups_suppressed") for part in parts) else ""
     if len(used) == 1:
-        lines.append(bank.format("report.compact.rows", rows=rows_read, used=fmt.fixed(first.findings.n, 0),
+        lines.append(bank.format(f"report.compact.rows{shown}", rows=rows_read, used=fmt.fixed(first.findings.n, 0),
                                  time=time))
     else:
         items = fmt.list([bank.format("report.compact.used_item", column=column, used=fmt.fixed(part.findings.n, 0))
                           for column, part in used])
-        lines.append(bank.format("report.compact.rows_several", rows=rows_read, items=items, time=time))
+        lines.append(bank.format(f"report.compact.rows_several{shown}", rows=rows_read, items=items, time=time))
     if sidecar:
         lines.append(bank.format("report.compact.settings", sidecar=sidecar))
     else:

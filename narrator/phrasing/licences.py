@@ -47,6 +47,8 @@ MIN_FOR_MIDDLE_HALF = 8
 # Fewer values than this: a memo lists them, with their average and middle value, and judges no shape,
 # center, typical range or unusual value (our rule: with four values or fewer, a "typical range", a tail or
 # a value far from the rest is one value's doing; with two, the middle value is the average by definition).
+# Every audience then gives no summary made of quantiles between the ends (IQR, 5th-95th percentiles, MAD,
+# trimmed mean) and draws no density curve: interpolated between two to four values, they say nothing.
 TINY_N = 5
 # A share at the lowest (or highest) value worth a sentence of its own (our choice: a quarter, and at
 # least 3 of at least 8 values, as the engine's floor and ceiling flags ask for 3).
@@ -208,6 +210,8 @@ CLAIM_KINDS: dict[str, str] = {
                      "largest `tenth_count` a share `tenth_share` of it; `notable`: the largest 1 % hold at "
                      "least 20 % or the largest tenth at least half",
     "change_count": "the number of values went from `old_n` to `new_n`",
+    "change_none": "the two builds have the same number of values (`old_n` = `new_n`), the same center `measure` "
+                   "(`old` = `new`) and the same spread",
     "change_center": "the `measure` went from `old` to `new`; `verdict` 'up'/'down' when the difference "
                      "interval (Schenker & Gentleman 2001) excludes 0, 'within' when it includes 0",
     "change_spread": "the middle half went from `old_q1`-`old_q3` to `new_q1`-`new_q3` and its width changed by "
@@ -261,6 +265,16 @@ def several_values(ctx) -> bool:
     return _n(ctx) >= 2
 
 
+@licence("variable", "two to four values (fewer than TINY_N): no quantile summary between the ends is given")
+def too_few_for_quantiles(ctx) -> bool:
+    return 2 <= _n(ctx) < TINY_N
+
+
+@licence("variable", "fewer than 8 values: too few to judge the shape (as the shape sentence says)")
+def too_few_to_judge_shape(ctx) -> bool:
+    return 0 < _n(ctx) < MIN_FOR_SHAPE
+
+
 @licence("variable", "two values or more, and they are not all equal")
 def has_spread(ctx) -> bool:
     return _n(ctx) >= 2 and _has_spread(ctx)
@@ -274,6 +288,18 @@ def all_equal(ctx) -> bool:
 @licence("variable", "the rows of groups too small to show (privacy) were left out before describing")
 def groups_left_out(ctx) -> bool:
     return ctx.findings.quality.has("groups_suppressed")
+
+
+# Rows of text named in a memo's left-out sentence when there are at most this many (our rule: a reader can look
+# up three rows; more are listed in the data-quality bullets). Their texts are never printed: a stray cell may
+# hold a name or a note about a person (the project's privacy rule for cell texts other than missing marks).
+FEW_TEXT_ROWS_NAMED = 3
+
+
+@licence("variable", "at most FEW_TEXT_ROWS_NAMED rows held text, and the reading kept every one's row number")
+def text_rows_known(ctx) -> bool:
+    flag = ctx.findings.quality.get("non_numeric")
+    return flag is not None and 0 < flag.count <= FEW_TEXT_ROWS_NAMED and len(flag.rows) == flag.count
 
 
 @licence("variable", "some rows were left out (missing, not numbers, impossible or not finite)")
@@ -978,6 +1004,13 @@ class ChangeFacts:
 
 def _item(facts: ChangeFacts, key: str):
     return facts.changes.item(key)
+
+
+@licence("change", "the two builds give the same figures (narrator.history.changes.same_findings)")
+def data_unchanged(facts: ChangeFacts) -> bool:
+    from narrator.history.changes import same_findings
+
+    return same_findings(facts.old, facts.new)
 
 
 @licence("change", "nothing compared is worth mentioning")

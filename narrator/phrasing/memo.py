@@ -56,6 +56,10 @@ def left_out_items(ctx: WordingContext) -> tuple[str, tuple[str, ...], dict]:
     )
     items, keys, numbers = [], [], {}
     impossible = quality.get("impossible")
+    text_flag = quality.get("non_numeric")
+    text_rows = ctx.fmt.list([ctx.whole(row) for row in text_flag.rows]) if text_flag is not None else ""
+    if text_flag is not None and text_flag.rows:
+        numbers["non_numeric_rows"] = tuple(text_flag.rows)
     shown = ""
     if impossible is not None and impossible.values:
         shown = ctx.fmt.list([ctx.text("memo.left_out.impossible_item", value=ctx.recorded(value), row=ctx.whole(row))
@@ -66,7 +70,7 @@ def left_out_items(ctx: WordingContext) -> tuple[str, tuple[str, ...], dict]:
         if not count:
             continue
         text = ctx.part(f"memo.left_out.{code}", subject=(count, noun), count=ctx.count(count, noun), name=ctx.name,
-                        texts=_missing_texts(ctx), shown=shown)
+                        texts=_missing_texts(ctx), shown=shown, rows=text_rows)
         if text is not None:
             items.append(text)
             keys.append(key)
@@ -75,6 +79,20 @@ def left_out_items(ctx: WordingContext) -> tuple[str, tuple[str, ...], dict]:
         numbers["missing_texts"] = tuple(flag.texts)
         numbers["missing_texts_complete"] = bool(flag.detail.get("texts_complete"))
     return ctx.fmt.list(items), tuple(keys), numbers
+
+
+def _left_out_first(ctx: WordingContext, message: Message) -> list[Sentence]:
+    """Message ``left_out``: a material share of the rows was left out, said first, with its count and share of the
+    rows read, and that the figures describe the rest."""
+    left_out, keys, numbers = left_out_items(ctx)
+    if not left_out:
+        return []
+    rows, n = message.numbers["rows"], message.numbers["n"]
+    sentence = ctx.say("memo.left_out_first", (*keys, "n"), subject=(n, "value"), left_out=left_out,
+                       share=ctx.fmt.percent(message.numbers["share"], 0), rows=ctx.count(rows, "row"),
+                       n_values=ctx.count(n, "value"),
+                       claim={**numbers, "rows_read": rows, "used": n, "share": message.numbers["share"]})
+    return [sentence] if sentence is not None else []
 
 
 def memo_caution(ctx: WordingContext, flagged_said: bool = True) -> Sentence:
@@ -819,7 +837,9 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     blocks: list[tuple[str, list[Sentence]]] = []
     center: dict[str, list[Sentence]] = {}
     for message in messages:
-        if message.code == "center_range":
+        if message.code == "left_out":
+            blocks.append(("left_out", _left_out_first(ctx, message)))
+        elif message.code == "center_range":
             center = _center(ctx, message, groups, said, clustered)
             blocks.append(("center", []))
         elif message.code == "share_at_one_value":

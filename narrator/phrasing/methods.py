@@ -27,6 +27,7 @@ from narrator.engine.density import MAX_RANGE_IN_BANDWIDTHS
 from narrator.engine.entry_errors import DECIMAL_PLACES, LOG_FAR_K, SURPRISE_P
 from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
 from narrator.phrasing.context import WordingContext
+from narrator.phrasing.licences import TINY_N
 from narrator.phrasing.memo import flagged_claim, left_out_items
 from narrator.phrasing.narrative import Claim, Paragraph, Sentence
 from narrator.phrasing.technical import (
@@ -144,7 +145,7 @@ def _raw_decimals(histogram) -> int:
 
 def _density_sentence(ctx: WordingContext) -> Sentence | None:
     density = ctx.findings.density
-    if density is None:
+    if density is None or ctx.findings.n < TINY_N:  # no curve is drawn for two to four values
         return None
     fmt = ctx.fmt
     bounds = [b for b in (density.lower_bound, density.upper_bound) if b is not None]
@@ -178,12 +179,14 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
         sentences.append(ctx.say(
             "methods.reporting", ("center.median", "spread.q1", "spread.q3", "center.mean", "spread.sd"),
             median=ctx.exact(center.median), q1=ctx.exact(spread.q1), q3=ctx.exact(spread.q3),
-            mean=ctx.exact(center.mean), sd=ctx.exact(spread.sd), claim=summary_claim(findings)))
+            mean=ctx.exact(center.mean), sd=ctx.exact(spread.sd), tiny=ctx.count(TINY_N, "value"),
+            claim=summary_claim(findings)))
         method = spread.quantile_method
         words = ctx.text(f"words.quantile_method.{method}") if ctx.bank.has(f"words.quantile_method.{method}") \
             else method
-        sentences.append(ctx.say("methods.quantiles", ("spread.quantile_method",), quantile_method=words,
-                                 claim={"quantile_method": method}))
+        if findings.n >= TINY_N:  # two to four values: no quartile or percentile is given
+            sentences.append(ctx.say("methods.quantiles", ("spread.quantile_method",), quantile_method=words,
+                                     claim={"quantile_method": method}))
         sentences.append(ctx.say("methods.lead_rule", ("center.lead",), share=fmt.fixed(MEAN_SHIFT_SHARE, 1),
                                  lead=ctx.text(f"words.lead.{center.lead}"),
                                  claim={"lead": center.lead, "reasons": tuple(center.lead_reasons),
@@ -230,10 +233,11 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
 def references_used(ctx: WordingContext) -> tuple[str, ...]:
     """Bank keys of the references for the methods this report names, sorted."""
     findings = ctx.findings
-    used = {"lang_altman_2013"}
+    tiny = 2 <= findings.n < TINY_N  # no SAMPL summary (quartiles) and no density curve for two to four values
+    used = set() if tiny else {"lang_altman_2013"}
     if findings.accuracy is not None and findings.n > 0:
         used.update({"chan_1979", "karnin_2016"})
-    if findings.spread is not None:
+    if findings.spread is not None and not tiny:
         used.add(QUANTILE_REFERENCES.get(findings.spread.quantile_method, "hyndman_fan_1996"))
     shape = findings.shape
     if shape.skewness is not None and shape.label != "undetermined":
@@ -249,7 +253,7 @@ def references_used(ctx: WordingContext) -> tuple[str, ...]:
     if findings.histogram is not None:
         used.add(BIN_REFERENCES[findings.histogram.rule])
     density = findings.density
-    if density is not None:
+    if density is not None and not tiny:
         used.add(BANDWIDTH_REFERENCES[density.bandwidth_rule])
         if density.method == "binned-fft":
             used.add("wand_1994")

@@ -10,6 +10,9 @@ would state: the memo writer chooses words for them, never what to say.
 =====================  ========  ===============================================  ===========================
 Message                Score     When (threshold)                                  Source
 =====================  ========  ===============================================  ===========================
+``left_out``           110       at least 5 % of the rows read were left out       common practice (5 % as the
+                                 (missing, not numbers, impossible, not finite):   share of missing values
+                                 the figures describe the rest                     that needs saying first)
 ``group_difference``   100       two groups clearly different, or with three or    Hodges & Lehmann 1963;
                                  more a group that stands apart                    Cohen 1988 (verdicts)
 ``entry_error``        95        a probable entry error whose removal moves the    Cohen 1988 (0.2 scales);
@@ -37,7 +40,9 @@ Message                Score     When (threshold)                               
                                  than it predicts, or possible entry errors
 =====================  ========  ===============================================  ===========================
 
-Why this order (our judgement, written down so it can be argued with): a clear difference
+Why this order (our judgement, written down so it can be argued with): when a material share of the
+rows was left out, every figure describes only the rest, so a reader must know it before any figure; a clear
+difference
 between groups is the decision a grouped report exists for; a probable entry error that moves
 the figure the memo leads with must be fixed before any figure is used; a change since the last
 build is what a refreshed report is read for; a large share at one value (most clients made no
@@ -77,9 +82,11 @@ HALF = 0.5
 QUARTER = 0.25
 TOP_PERCENT_NOTABLE = 0.20
 TOP_TENTH_NOTABLE = 0.50
+LEFT_OUT_MATERIAL = 0.05  # common practice: 5 % of the rows left out is a share a reader must be told first
 
 # (code, score): the fixed order breaks ties between equal scores.
 SCORES = (
+    ("left_out", 110),
     ("group_difference", 100),
     ("entry_error", 95),
     ("change_in_center", 90),
@@ -163,6 +170,9 @@ def select_messages(findings: Findings, *, comparison: GroupComparison | None = 
     if findings.center is None or findings.spread is None:
         return ()
     found: list[Message] = []
+    left_out = _left_out_message(findings)
+    if left_out is not None:
+        found.append(left_out)
     found += _group_messages(comparison)
     found += _change_messages(findings, baseline)
     share = _share_at_one_value(findings)
@@ -183,6 +193,24 @@ def select_messages(findings: Findings, *, comparison: GroupComparison | None = 
     order = {code: index for index, code in enumerate(MESSAGE_CODES)}
     ranked = sorted(enumerate(found), key=lambda item: (-item[1].score, order[item[1].code], item[0]))
     return tuple(message for _, message in ranked)
+
+
+def rows_left_out(findings: Findings) -> int:
+    """The rows of the column left out before the figures: missing, text, impossible, not finite."""
+    quality = findings.quality
+    non_finite = quality.get("non_finite")
+    return int(findings.n_missing + quality.n_non_numeric + quality.n_impossible
+               + (non_finite.count if non_finite is not None and non_finite.count else 0))
+
+
+def _left_out_message(findings: Findings) -> Message | None:
+    left = rows_left_out(findings)
+    rows = findings.n + left
+    # With groups too small to show, the rows counted are those of the groups shown: no share of "the rows read".
+    if not left or left / rows < LEFT_OUT_MATERIAL or findings.quality.has("groups_suppressed"):
+        return None
+    return Message("left_out", SCORE["left_out"], ("n", "n_missing", "quality.n_non_numeric", "quality.n_impossible"),
+                   {"left_out": left, "rows": rows, "share": left / rows, "n": findings.n})
 
 
 def _difference_numbers(difference) -> dict[str, Any]:

@@ -86,27 +86,34 @@ def statistics_table(ctx: WordingContext) -> Table | None:
     key = "tables.statistics"
     x = ctx.exact
     excluded = findings.quality.n_non_numeric + findings.quality.n_impossible
+    # Two to four values: no IQR, percentiles, MAD or trimmed mean (see licences.TINY_N); the median alone.
+    tiny = findings.n < TINY_N
+    median_row = (ctx.text(f"{key}.median"), x(center.median)) if tiny else (
+        ctx.text(f"{key}.median_iqr"),
+        ctx.text("format.median_iqr", median=x(center.median), iqr_range=ctx.exact_range(spread.q1, spread.q3)))
     rows = [
         (ctx.text(f"{key}.n"), ctx.whole(findings.n)),
         (ctx.text(f"{key}.missing"), ctx.whole(findings.n_missing)),
         (ctx.text(f"{key}.excluded"), ctx.text("tables.key_figures.left_out_groups", count=ctx.whole(excluded))
          if findings.quality.has("groups_suppressed") else ctx.whole(excluded)),
         (ctx.text(f"{key}.mean_sd"), ctx.text("format.mean_sd", mean=x(center.mean), sd=x(spread.sd))),
-        (ctx.text(f"{key}.median_iqr"),
-         ctx.text("format.median_iqr", median=x(center.median), iqr_range=ctx.exact_range(spread.q1, spread.q3))),
+        median_row,
         (trimmed_label(ctx), x(center.trimmed_mean_20)),
         (ctx.text(f"{key}.range"), ctx.exact_range(spread.min, spread.max)),
         (ctx.text(f"{key}.p5_p95"), ctx.exact_range(spread.p5, spread.p95)),
         (ctx.text(f"{key}.mad"), x(spread.mad_scaled)),
     ]
+    if tiny:
+        rows = [row for k, row in enumerate(rows) if k not in (5, 7, 8)]
     name = ctx.axis_name
     return Table(
         key="statistics",
         caption=ctx.caption(f"{key}.caption", name=name),
         header=(ctx.text(f"{key}.statistic"), ctx.text(f"{key}.value")),
         rows=tuple(rows),
-        keys=("n", "n_missing", "center.mean", "spread.sd", "center.median", "spread.q1", "spread.q3",
-              "center.trimmed_mean_20", "spread.min", "spread.max", "spread.p5", "spread.p95", "spread.mad_scaled"),
+        keys=("n", "n_missing", "center.mean", "spread.sd", "center.median", "spread.min", "spread.max") if tiny else
+        ("n", "n_missing", "center.mean", "spread.sd", "center.median", "spread.q1", "spread.q3",
+         "center.trimmed_mean_20", "spread.min", "spread.max", "spread.p5", "spread.p95", "spread.mad_scaled"),
         align=("left", "right"),
     )
 

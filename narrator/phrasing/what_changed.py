@@ -18,7 +18,7 @@ says when the fences moved, so it does not read as the same values changing.
 from __future__ import annotations
 
 from narrator.findings import Findings
-from narrator.history.changes import COUNT_SHARE, POPULATION_SHARE, SPREAD_SHARE, Changes, SetChanges
+from narrator.history.changes import COUNT_SHARE, POPULATION_SHARE, SPREAD_SHARE, Changes, SetChanges, same_findings
 from narrator.phrasing.context import WordingContext, make_context, member
 from narrator.phrasing.licences import ChangeFacts
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence
@@ -92,6 +92,16 @@ def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: 
     """The sentences about one variable (or group) in two builds, in the fixed order (``brief``: a memo's
     words where the bank has them, ``changes.center_memo``)."""
     facts = ChangeFacts(ctx=ctx, changes=changes, old=old, new=new)
+    if same_findings(old, new) and new.center is not None:
+        # The same data as last time: one sentence (count, center and spread the same), never a list of "unchanged".
+        lead = new.center.lead
+        unchanged = ctx.say("changes.nothing_changed", ("n", f"center.{lead}"), about=facts, claim_about=about,
+                            subject=(new.n, "value"), n_values=ctx.count(new.n, "value"),
+                            measure=ctx.text(f"changes.measure.{lead}"), center=ctx.memo(getattr(new.center, lead)),
+                            claim={"old_n": old.n, "new_n": new.n, "measure": lead,
+                                   "old": getattr(old.center, lead), "new": getattr(new.center, lead)})
+        if unchanged is not None:
+            return [unchanged]
     n_item = changes.item("n")
     sentences = [
         ctx.say("changes.little_changed", (), about=facts, claim_about=about),
@@ -151,12 +161,10 @@ def changes_section(
     """The "what changed since the previous data" section, worded for any audience (everyday words;
     ``brief``: a memo's shorter words where the bank has them)."""
     ctx = make_context(new, locale, currency=currency, unit=unit, name=name)
-    return Section(
-        key="changes",
-        title=ctx.text("changes.title"),
-        paragraphs=(Paragraph(tuple(change_sentences(ctx, changes, old, new, brief=brief))),
-                    Paragraph((_rule_sentence(ctx, changes, old, new),))),
-    )
+    sentences = tuple(change_sentences(ctx, changes, old, new, brief=brief))
+    # Nothing changed: the one sentence says so; the rule for judging changes has nothing to judge.
+    rule = () if same_findings(old, new) else (Paragraph((_rule_sentence(ctx, changes, old, new),)),)
+    return Section(key="changes", title=ctx.text("changes.title"), paragraphs=(Paragraph(sentences), *rule))
 
 
 def set_changes_narrative(compared: SetChanges, *, locale: str = "en_US", currency: str | None = None) -> Narrative:

@@ -262,6 +262,12 @@ def check_left_out(c, raw, p):
             _problem(c[name] == actual, f"{name}: claimed {c[name]}, the raw column has {actual}", p)
     if c.get("non_numeric"):
         p.append("rows of text claimed, the raw column has none")
+    if "used" in c:
+        _problem(c["used"] == raw.n, f"{c['used']} values used claimed, the raw column has {raw.n}", p)
+        left = raw.missing + raw.impossible + raw.non_finite
+        _problem(c["rows_read"] == raw.n + left, f"{c['rows_read']} rows read claimed, the raw column has "
+                 f"{raw.n + left}", p)
+        _problem(abs(c["share"] - left / (raw.n + left)) < 1e-12, f"share left out {c['share']} claimed", p)
     for value in c.get("impossible_values", ()):
         inside = ((raw.valid_min is None or value >= raw.valid_min)
                   and (raw.valid_max is None or value <= raw.valid_max))
@@ -887,6 +893,16 @@ def check_change_count(c, pair, p):
     _problem((c["old_n"], c["new_n"]) == (old.n, new.n), "the counts of the two builds", p)
 
 
+def check_change_none(c, pair, p):
+    # "Nothing changed": the same count, center and spread, recomputed from both builds' raw values with numpy.
+    old, new = pair
+    check_change_count(c, pair, p)
+    check_change_center(c, pair, p)
+    _problem(close(old.quartiles[0], new.quartiles[0], old.scale) and close(old.quartiles[1], new.quartiles[1],
+                                                                                 old.scale)
+             and (old.n < 2 or close(old.sd, new.sd, old.scale)), "'the same spread' but it changed", p)
+
+
 def check_change_center(c, pair, p, when=()):
     old, new = pair
     measure = c["measure"]
@@ -1188,7 +1204,7 @@ CHECKS = {
 GROUP_CHECKS = {"groups_compared": check_groups_compared, "groups_intervals": check_groups_intervals,
                 "groups_same": check_groups_same, "group_shift": check_group_shift,
                 "groups_alike": check_groups_alike, "groups_unclear": check_groups_unclear}
-CHANGE_CHECKS = {"change_count": check_change_count, "change_center": check_change_center,
+CHANGE_CHECKS = {"change_count": check_change_count, "change_none": check_change_none, "change_center": check_change_center,
                  "change_spread": check_change_spread, "change_flagged": check_change_flagged,
                  "change_other": lambda c, pair, p: None, "groups_moved": lambda c, pair, p: None}
 TAKES_WHEN = {check_mean_pulled, check_skew_statistics, check_flagged, check_without_flagged, check_lead,

@@ -76,8 +76,10 @@ def test_unchanged_data_little_changed(lake):
     _, new = lake
     changes = compare(new, new)
     assert changes.little_changed and changes.identical
-    text = changes_section(changes, new, new).paragraphs[0].text
-    assert text.startswith("Little changed")
+    section = changes_section(changes, new, new)
+    # The same data: one sentence says nothing changed (count, center and spread), with no rule to judge by.
+    assert len(section.paragraphs) == 1 and len(section.paragraphs[0].sentences) == 1
+    assert section.paragraphs[0].text.startswith(f"Nothing changed since the previous data: the same {new.n} values")
 
 
 def test_population_uses_share_of_sd():
@@ -159,4 +161,4 @@ def test_compare_reads_grouped_and_several_variable_sidecars(tmp_path):
     assert "Hillcrest" in summary and "Northgate" not in summary and "Riverside" not in summary
     same = subprocess.run([sys.executable, "-m", "narrator", "compare", str(tmp_path / "old.findings.json"),
                            str(tmp_path / "old.findings.json")], capture_output=True, text=True, timeout=120)
-    assert "No office moved clearly" in same.stdout and "Little changed" in same.stdout
+    assert "No office moved clearly" in same.stdout and "Nothing changed since the previous data" in same.stdout

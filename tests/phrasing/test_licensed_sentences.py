@@ -239,7 +239,7 @@ def test_item5_missing_cells_are_said_to_be_what_they_held(tmp_path):
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     findings = describe(read_column(path, "wait", missing=["-99"]), name="wait")
     text = memo(findings)
-    assert "We left out five rows where wait was blank or marked as missing (“-99”)." in text
+    assert "We left out five rows where wait was blank or marked as missing (“-99”), 20% of the 25 rows read" in text
     assert "empty row" not in every_text(findings)
     spanish = memo(findings, "es_ES")
     assert "cinco filas sin dato de wait (en blanco o con la marca «-99»)" in spanish

@@ -179,8 +179,10 @@ def test_small_samples_hedge(rivers_6, rivers_12):
 def test_missing_values_are_reported(ozone):
     # airquality Ozone: 37 of 153 missing (R documentation of `airquality`).
     # The values come as NaN from a data frame: no cell text is known, so the text says "with no value".
-    assert "We left out 37 rows with no value." in _memo_text(ozone)
-    assert "Dejamos fuera 37 filas sin valor." in _memo_text(ozone, "es_ES")
+    # 24% of the rows: a share of 5% or more is said first, with the share of the rows read (selection.py).
+    assert _memo_text(ozone).startswith("We left out 37 rows with no value, 24% of the 153 rows read; the figures "
+                                        "that follow describe the other 116 values.")
+    assert _memo_text(ozone, "es_ES").startswith("Dejamos fuera 37 filas sin valor, el 24\u00a0% de las 153 filas leídas")
     methods = narrate(ozone, "methods").section("methods").paragraphs[0].text
     assert "116 values of ozone from 153 rows" in methods
 
@@ -308,6 +310,10 @@ def test_every_memo_number_parses_back_to_a_cited_finding(rivers, huron, ozone, 
             if sentence.claims and sentence.claims[0].kind == "clusters":
                 # "about 6 in 10": the shares in tenths, which tests/claims checks against the shares
                 cited += [float(k) for k in sentence.claims[0].numbers["tenths"]] + [10.0]
+            if sentence.claims and "rows_read" in sentence.claims[0].numbers:
+                # "24% of the 153 rows read": the share left out, which tests/claims checks against the raw column
+                numbers = sentence.claims[0].numbers
+                cited += [100 * numbers["share"], float(numbers["rows_read"])]
             for text in _NUMBER[locale].findall(sentence.text):
                 parsed = parse_decimal(text, locale=locale)
                 places = -parsed.as_tuple().exponent if parsed.as_tuple().exponent < 0 else 0
@@ -403,7 +409,7 @@ def test_tell_prints_the_narrative(tmp_path, capsys):
     assert main(["tell", str(path), "--column", "hours", "--unit", "hours", "--locale", "es_ES"]) == 0
     out = capsys.readouterr().out
     assert out.startswith("Resumen\n")
-    assert "Dejamos fuera una fila con hours en blanco." in out  # the cell was blank, not the row
+    assert "Dejamos fuera una fila con hours en blanco, el 9\u00a0%" in out  # the cell was blank, not the row
     assert main(["tell", str(path), "--column", "hours", "--audience", "methods"]) == 0
     assert "Hyndman & Fan (1996)" in capsys.readouterr().out
     assert main(["tell", str(path), "--column", "hours", "--locale", "xx_NOWHERE"]) == 2
