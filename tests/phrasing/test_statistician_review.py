@@ -142,11 +142,11 @@ def test_drafting_again_on_the_same_data_says_nothing_changed(tmp_path, locale, 
 def test_three_values_lead_with_the_mean_because_there_are_too_few_to_judge_the_shape():
     findings = describe(np.array([12.0, 15.0, 31.0]), name="repair hours")
     for locale, words, wrong in (
-            ("en_US", "The text leads with the mean because there are too few values to judge the shape.",
+            ("en_US", "The text leads with the mean because there are too few values to judge the shape; no outlier rule was run.",
              "not clearly skewed"),
-            ("es_ES", "El texto empieza por la media porque hay demasiado pocos valores para juzgar la forma.",
+            ("es_ES", "El texto empieza por la media porque hay demasiado pocos valores para juzgar la forma; no se buscaron valores inusuales.",
              "no es claramente asimétrica"),
-            ("fr_FR", "Le texte met en avant la moyenne, car il y a trop peu de valeurs pour juger de la forme.",
+            ("fr_FR", "Le texte met en avant la moyenne, car il y a trop peu de valeurs pour juger de la forme\u202f; aucune règle de détection des valeurs atypiques n'a été appliquée.",
              "pas nettement asymétrique")):
         text = narrate(findings, "full", locale).plain_text()
         assert words in text and wrong not in text, locale
