@@ -30,8 +30,9 @@ textbook quantile matches):
 - none for fewer than ``MIN_FOR_FIT`` (20) values (``too_few``): four quartile-matched values say
   too little about a shape to call a value surprising or ordinary for it (the same 20 below which
   the shape and the texts hedge, narrator.engine.shape; common practice). The rule's own list
-  stays; no value is said to stand out or to be ordinary, and every entry-error candidate is only
-  possible.
+  stays; no value is said to stand out or to be ordinary, and no value is called a possible or
+  probable entry error (``entry_error_reason`` ``not_checked``): the memo names the rule's values
+  with their rows, to be checked.
 
 A far-out value *stands out* when a value at least that extreme is expected less than
 ``SURPRISE_P`` = 0.05 times in a sample of this size under the fitted shape
@@ -295,6 +296,10 @@ def unusual_values(findings: Findings) -> Unusual:
             complete=_far_out_complete(flagged), count_beyond_fences=flagged.count,
             expected_beyond_fences=expected_inner, excess=excess, excess_p=excess_p,
         )
+    if base["reason"] == "too_few":
+        # Too few values to tell a slip from the spread of the data: a small value ten times below the median, or
+        # one a decimal shift would move among the others, is as likely an ordinary value of a short sample.
+        return Unusual(**base, entry_error_reason="not_checked")
     has_fit = base["reason"] == "computed" and (rule == "esd" or fit is not None)
     errors, error_reason = _entry_errors(findings, values, rows, standing, has_fit)
     return Unusual(**base, entry_errors=errors[:LISTED_ENTRY_ERRORS], entry_error_count=len(errors),

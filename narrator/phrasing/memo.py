@@ -237,13 +237,20 @@ def _peaks_are_a_spike(findings) -> bool:
     return clusters is not None and clusters.reason == "spike_at_one_value"
 
 
-def _why(ctx: WordingContext) -> Sentence | None:
+EXACT_LEADS = ("median_with_ties", "median_counts", "median_ties_at_min", "median_ties_at_max",
+               "median_ties_at_ends")  # leads that write the middle value as recorded ("exactly $1,298.24")
+
+
+def _why(ctx: WordingContext, median_text: str | None = None) -> Sentence | None:
+    """Why the memo leads with the middle value; ``median_text`` is the middle value as the lead wrote it, so
+    one number is written one way in one paragraph ("$1,298.24" twice, never "$1,298.24" then "$1,298")."""
     findings = ctx.findings
     center = findings.center
     flagged = findings.outliers
     mean = ctx.memo(center.mean)
+    median_text = median_text if median_text is not None else ctx.memo(center.median)
     claim = {"mean": center.mean, "median": center.median, "mean_shown": mean,
-             "median_shown": ctx.memo(center.median), **flagged_claim(findings)}
+             "median_shown": median_text, **flagged_claim(findings)}
     if center.lead == "median":
         reasons = center.lead_reasons
         if "several_peaks" in reasons:
@@ -257,14 +264,14 @@ def _why(ctx: WordingContext) -> Sentence | None:
         said = None
         if "outliers_move_mean" in reasons:
             said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean", "center.median"),
-                           subject=(count, "value"), mean=mean, median=ctx.memo(center.median),
+                           subject=(count, "value"), mean=mean, median=median_text,
                            claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
         if said is None and "skewed" in reasons:
             said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean", "center.median"),
-                           mean=mean, median=ctx.memo(center.median),
+                           mean=mean, median=median_text,
                            claim={**claim, "cause": "tail", "label": findings.shape.label})
         return said
-    return ctx.say("memo.other_center", ("center.median",), median=ctx.memo(center.median),
+    return ctx.say("memo.other_center", ("center.median",), median=median_text,
                    claim={**claim, "sd": findings.spread.sd})
 
 
@@ -338,6 +345,7 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
 
 CENTER_ORDER = ("lead", "at_end", "range", "shape", "why")
 DROPPED_FIRST = ("why", "at_end", "range", "shape")  # to keep within MAX_SENTENCES, in this order
+TENTH_ADDS = 0.05  # the largest tenth's share is said only when it adds 5 points to the few largest's (our rule)
 LISTED = 5  # values named in one sentence at most; the full report lists them all
 
 
@@ -666,7 +674,9 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
                                expected=ctx.whole(numbers["expected_beyond_fences"])))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
     if possible:
-        out.append(ctx.say("memo.unusual.possible", ("unusual.entry_errors",), subject=(len(possible), "value"),
+        # Money is never called a typing error, not even a possible one: a large amount is often real.
+        key = "memo.unusual.possible_money" if numbers.get("money") else "memo.unusual.possible"
+        out.append(ctx.say(key, ("unusual.entry_errors",), subject=(len(possible), "value"),
                            claim={**far, "errors": [list(item) for item in possible]},
                            count=ctx.count(len(possible), "value"), items=_items(ctx, possible)))
     return [sentence for sentence in out if sentence is not None]
@@ -722,8 +732,9 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
               "tenth": ctx.fmt.percent(0.1, 0)}  # "the top 10% of values" (fr, es), "the largest tenth" (en)
     if message.code == "money_total":
         key = "memo.money.total"
-    elif found.top_tenth_count <= found.top_percent_count:
-        key = "memo.money.concentrated_short"
+    elif found.top_tenth_count <= found.top_percent_count or \
+            found.top_tenth_share - found.top_percent_share < TENTH_ADDS:
+        key = "memo.money.concentrated_short"  # the largest tenth says nothing the few largest did not
     else:
         key = "memo.money.concentrated"
     sentence = ctx.say(key, message.keys, subject=(found.top_percent_count, "value"), claim=claim, **values)
@@ -758,7 +769,9 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
             # Most values at one end: the share said it; "the middle value is the better guide" would point
             # at that end value as typical, which no statistician would say.
             at_one_end = said_range or said.lead
-            parts["why"] = [] if at_one_end else [_why(ctx)]
+            exact = bool(lead[0].claims) and lead[0].claims[0].kind in EXACT_LEADS
+            parts["why"] = [] if at_one_end else [
+                _why(ctx, ctx.recorded_unit(findings.center.median) if exact else None)]
     return {name: [s for s in sentences if s is not None] for name, sentences in parts.items()}
 
 

@@ -375,4 +375,4 @@ def _stand_out_message(findings: Findings, money: bool, within: Within | None = 
     return Message("stand_out", SCORE["stand_out"], ("unusual.values", "unusual.excess", "unusual.entry_errors"), {
         "values": values, "rows": tuple(row for _, row in kept) if all(row is not None for _, row in kept) else (),
         "excess": unusual.excess, "count_beyond_fences": unusual.count_beyond_fences,
-        "expected_beyond_fences": unusual.expected_beyond_fences, "possible_errors": possible})
+        "expected_beyond_fences": unusual.expected_beyond_fences, "possible_errors": possible, "money": money})

@@ -263,12 +263,17 @@ def test_fewer_than_twenty_values_are_never_judged_against_a_shape(locale):
     assert f"(row 7)".replace("row", row) in text and f"(row 8)".replace("row", row) in text
 
 
-def test_a_digit_shift_among_seven_readings_is_only_possibly_a_typing_error():
-    # Seven readings and one ten times the rest (40 among 3 to 7): with so few values, "could be", never "probably".
+def test_few_values_are_never_called_typing_errors():
+    # Seven readings and one ten times the rest (40 among 3 to 7), and 15 waits whose lowest (2 days) a decimal
+    # shift would move among the others: with fewer than 20 values neither is called a typing error, possible or
+    # probable; the rule's values are named with their rows, to be checked.
     found = describe([3.0, 4.0, 4.0, 5.0, 6.0, 7.0, 40.0])
-    assert [error.strength for error in found.unusual.entry_errors] == ["possible"]
+    assert found.unusual.entry_errors == () and found.unusual.entry_error_reason == "not_checked"
     text = summary(found)
-    assert "One value, 40 (row 7), could be a typing error; check it." in text and "probably" not in text
+    assert "typing" not in text and "40 (row 7)" in text and "cannot be judged" in text
+    waits = np.random.default_rng(25).gamma(2, 10, 15).round(0)
+    text = summary(describe(waits, unit="days"))
+    assert "typing" not in text, text
 
 
 @pytest.mark.parametrize(("values", "expected"), [
@@ -289,3 +294,34 @@ def test_the_values_beside_the_middle_one_are_named_when_they_are_one_value(valu
     assert text.startswith(expected), text
     share = expected.split(": ")[1].split("%")[0]
     assert text.count(f"{share}%") == 1, text
+
+
+@pytest.mark.parametrize(("locale", "words"), [
+    ("en_US", "One amount, $250,000 (row 301), is far from the others; large amounts can be real"),
+    ("es_ES", "Un importe, 250.000\u00a0US$ (fila 301), se aleja mucho de los demás"),
+    ("fr_FR", "Un montant, 250\u202f000\u00a0$US (ligne 301), s\u2019écarte nettement des autres"),
+])
+def test_money_is_never_even_possibly_a_typing_error(locale, words):
+    # Tukey's fences chosen by hand for clearly skewed awards: no fitted shape, so the far amount is only a
+    # possible slip; for money the memo still does not say "typing error", in any language.
+    awards = np.round(np.random.default_rng(7).lognormal(8, 0.6, 300), 2)
+    found = describe(np.concatenate([awards, [250000.0]]), lower_bound=0, outlier_rule="tukey")
+    assert [(e.value, e.strength) for e in found.unusual.entry_errors] == [(250000.0, "possible")]
+    text = summary(found, locale, currency="USD")
+    assert words.replace("\u2019", "'") in text.replace("\u2019", "'"), text
+    assert not any(word in text for word in ("typing", "tecleo", "saisie")), text
+    assert "could be a typing error" in summary(found)  # the same values, not money
+
+
+def test_the_largest_tenth_is_said_only_when_it_adds_to_the_few_largest():
+    # 15 awards near $1,200 and one of $250,000: the largest alone holds 93.5% of the total, the largest 10% (two
+    # values) 94.1%: "the largest 10% hold 94%" would repeat the largest value's share.
+    m = np.random.default_rng(61).normal(1200, 150, 15).round(2)
+    m[4] = 250000.0
+    found = describe(m)
+    assert found.concentration.top_percent_count == 1
+    assert found.concentration.top_tenth_share - found.concentration.top_percent_share < 0.05
+    text = summary(found, currency="USD")
+    assert "the largest value alone holds 94% of it" in text and "10%" not in text, text
+    # The middle value is written one way in the paragraph: as the lead wrote it.
+    assert text.count("$1,298.24") == 3 and "$1,298," not in text and "$1,298 " not in text, text
