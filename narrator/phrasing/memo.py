@@ -258,8 +258,8 @@ def _why(ctx: WordingContext, median_text: str | None = None) -> Sentence | None
                 return None
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
-        # The flagged values first when they move the mean: "the value far from the rest pulls the average up" is the more
-        # concrete of the two, and true when a single value, not a long tail, does the pulling.
+        # The flagged values first when they move the mean: "the value far from the rest pulls the average up" is
+        # the more concrete of the two, and true when a single value, not a long tail, does the pulling.
         count = flagged.count if flagged is not None else 0
         said = None
         if "outliers_move_mean" in reasons:
