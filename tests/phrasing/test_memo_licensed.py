@@ -133,7 +133,7 @@ def test_the_table_says_how_many_of_the_rules_values_stand_out():
     table = next(table for section in narrate(found, "memo").sections for table in section.tables
                  if table.key == "key_figures")
     rows = dict(table.rows)
-    assert rows["Unusual values (outlier rule)"] == str(found.outliers.count)
+    assert rows["Outside the outlier rule's limits"] == str(found.outliers.count)
     assert rows["Of these, standing out for this shape"] == str(len(found.unusual.values))
     assert len(found.unusual.values) < found.outliers.count
 
