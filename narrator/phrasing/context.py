@@ -31,7 +31,7 @@ from narrator.phrasing.bank import PhraseBank, Variant, load_bank
 from narrator.phrasing.hedges import Hedge, shape_hedge
 from narrator.phrasing.licences import holds
 from narrator.phrasing.narrative import Claim, Sentence
-from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals
+from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals, round_half_up
 
 COMPACT_FROM = 1_000_000  # memo numbers this large (without a unit) read better as "1.2 million"
 STATISTIC_DECIMALS = 2  # dimensionless statistics (G1, Bowley, medcouple) to two decimals (common practice)
@@ -212,8 +212,24 @@ class WordingContext:
                                       compact=self._compact_memo(low, high))
 
     def memo_recorded_pair(self, low: float, high: float) -> tuple[str, str]:
-        """Two data values as ends of a memo range: memo rounding, never finer than recorded."""
-        return self.fmt.quantity_pair(low, high, self._memo_places(min(self.memo_decimals, self.data_decimals)))
+        """Two data values as ends of a memo range: memo rounding, never finer than recorded, and never
+        rounded onto a declared bound they do not equal (:meth:`_recorded_places`)."""
+        return self.fmt.quantity_pair(low, high, self._memo_places(self._recorded_places(low, high)))
+
+    def _recorded_places(self, *values: float) -> int:
+        """The memo's places for data values (never finer than recorded), with more places, up to the data's own,
+        while a value would be rounded onto a declared bound or valid limit it does not equal: a highest share of
+        99.5% is never "100%" under an upper bound of 100 (a rule of ours: an extreme printed on the bound would
+        say a value reached it)."""
+        places = min(self.memo_decimals, self.data_decimals)
+        variable = self.findings.variable
+        limits = [limit for limit in (variable.lower_bound, variable.upper_bound, variable.valid_min,
+                                      variable.valid_max) if limit is not None and math.isfinite(limit)]
+        while places < self.data_decimals and any(
+                value != limit and float(round_half_up(value, places)) == limit
+                for value in values if math.isfinite(value) for limit in limits):
+            places += 1
+        return places
 
     def exact_range(self, low: float, high: float) -> str:
         """Two summary statistics as a table range, "13.30–27.65" (words when an end has a sign)."""
@@ -245,8 +261,9 @@ class WordingContext:
                      for k, (value, text) in enumerate(zip((low, high), pair, strict=True)))
 
     def memo_recorded(self, value: float) -> str:
-        """A single data value in a memo, with its unit: memo rounding, never finer than recorded."""
-        return self.fmt.quantity(value, self._memo_places(min(self.memo_decimals, self.data_decimals)))
+        """A single data value in a memo, with its unit: memo rounding, never finer than recorded, never rounded
+        onto a declared bound it does not equal."""
+        return self.fmt.quantity(value, self._memo_places(self._recorded_places(value)))
 
     def exact(self, value: float) -> str:
         """A summary statistic for methods text and tables: one decimal beyond the data (Cole 2015).
