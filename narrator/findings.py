@@ -214,7 +214,8 @@ class Outliers:
     low_range: tuple[float, float] | None = None  # (lowest, highest) of all low-side flagged values
     high_range: tuple[float, float] | None = None  # (lowest, highest) of all high-side flagged values
     # The rule first chosen, when it was degenerate for these data and ``rule`` is the one used instead,
-    # and why: "medcouple_at_bound" (the skew-adjusted rule with |MC| = 1), "iqr_zero" (fences on the quartiles).
+    # and why: "medcouple_at_bound" (the skew-adjusted rule with |MC| = 1), "quartile_at_median" (the adjusted rule
+    # with Q1 or Q3 equal to the median: the medcouple measures ties), "iqr_zero" (fences on the quartiles).
     fallback_from: str | None = None
     fallback_reason: str | None = None
 

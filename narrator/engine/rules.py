@@ -282,23 +282,31 @@ class RuleChoice:
     chosen_by: str  # "user" or "auto"
     auto_reason: str | None  # "skewed" or "not_skewed" when chosen automatically
     fallback_from: str | None = None  # the rule first chosen, when it was degenerate for these data
-    fallback_reason: str | None = None  # why: "medcouple_at_bound" or "iqr_zero"
+    fallback_reason: str | None = None  # why: "medcouple_at_bound", "quartile_at_median" or "iqr_zero"
 
 
 MEDCOUPLE_BOUND = 1.0 - 1e-12  # |MC| at or above this is at its bound (the medcouple lies in [-1, 1])
 
 
-def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: float | None) -> str | None:
+def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: float | None,
+                      median: float | None = None) -> str | None:
     """Why ``rule`` cannot work on these data, or None when it can (our own rule, stated in the findings):
 
     * ``"medcouple_at_bound"``: the skew-adjusted rule with |MC| = 1. The values on one side of the
       median all tie with it (half or more of a count are 0), so the medcouple measures the ties, not
       the tail, and the fence on the long side moves e^3 = 20 IQRs out: the rule can flag almost nothing;
+    * ``"quartile_at_median"``: the skew-adjusted rule when a quartile ties with the median (Q1 = median or
+      Q3 = median, as on a rating scale where a quarter or more of the values hold the median's point). The
+      medcouple then measures the ties at the median, not the tail: on ratings 1 to 5 with median = Q3 = 4 it
+      is -0.33 and pulls the upper fence to 4.4, so every top rating would be a far-out outlier. Tukey's
+      fences (the adjusted rule with MC = 0) replace it;
     * ``"iqr_zero"``: Tukey's or the adjusted rule with IQR = 0: the fences sit on the quartiles and
       every value that differs from them would be "unusual".
 
     >>> degenerate_reason("adjusted", n=50, q1=0.0, q3=2.0, medcouple=1.0)
     'medcouple_at_bound'
+    >>> degenerate_reason("adjusted", n=120, q1=3.0, q3=4.0, medcouple=-0.33, median=4.0)
+    'quartile_at_median'
     >>> degenerate_reason("tukey", n=50, q1=3.0, q3=3.0, medcouple=0.0)
     'iqr_zero'
     """
@@ -308,20 +316,23 @@ def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: flo
         return "iqr_zero"
     if rule == "adjusted" and medcouple is not None and abs(medcouple) >= MEDCOUPLE_BOUND:
         return "medcouple_at_bound"
+    if rule == "adjusted" and median is not None and (q1 == median or q3 == median):
+        return "quartile_at_median"
     return None
 
 
 def fallback_rule(reason: str) -> str:
     """The rule that replaces a degenerate one: Tukey's fences (the adjusted rule with MC = 0) for a medcouple
-    at its bound, the modified z-score (with its MeanAD fallback when the MAD is 0 too) for an IQR of 0."""
-    return "tukey" if reason == "medcouple_at_bound" else "modified-z"
+    at its bound or driven by ties at the median, the modified z-score (with its MeanAD fallback when the MAD is 0 too) for an IQR of 0."""
+    return "modified-z" if reason == "iqr_zero" else "tukey"
 
 
-def working_choice(choice: RuleChoice, n: int, *, q1: float, q3: float, medcouple: float | None) -> RuleChoice:
+def working_choice(choice: RuleChoice, n: int, *, q1: float, q3: float, medcouple: float | None,
+                   median: float | None = None) -> RuleChoice:
     """``choice``, or the rule that replaces it when it is degenerate for these data (recorded in the choice). A rule
     the user named is replaced the same way: a report must not call a quarter of the values unusual because the
     fences collapsed."""
-    reason = degenerate_reason(choice.rule, n=n, q1=q1, q3=q3, medcouple=medcouple)
+    reason = degenerate_reason(choice.rule, n=n, q1=q1, q3=q3, medcouple=medcouple, median=median)
     if reason is None:
         return choice
     return RuleChoice(fallback_rule(reason), choice.chosen_by, choice.auto_reason, choice.rule, reason)
@@ -413,7 +424,7 @@ def outlier_test(choice: RuleChoice, n: int, *, q1: float, median: float, q3: fl
     common-practice fallback scale for the modified z score. A degenerate rule is replaced first
     (:func:`working_choice`).
     """
-    choice = working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple)
+    choice = working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple, median=median)
     constants = rule_constants(choice, n, medcouple, coefficient=coefficient, far_coefficient=far_coefficient,
                                modified_z_threshold=modified_z_threshold)
     none = (None, None, None, None)

@@ -18,6 +18,7 @@ Name                           What it is
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -30,7 +31,7 @@ from narrator.phrasing.bank import PhraseBank, Variant, load_bank
 from narrator.phrasing.hedges import Hedge, shape_hedge
 from narrator.phrasing.licences import holds
 from narrator.phrasing.narrative import Claim, Sentence
-from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals
+from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals, round_half_up
 
 COMPACT_FROM = 1_000_000  # memo numbers this large (without a unit) read better as "1.2 million"
 STATISTIC_DECIMALS = 2  # dimensionless statistics (G1, Bowley, medcouple) to two decimals (common practice)
@@ -65,6 +66,21 @@ def capitalize_first(text: str) -> str:
         if not char.isspace() and char not in "\"'“‘¿¡(":
             return text
     return text
+
+
+def capitalize_ordinary_word(text: str) -> str:
+    """A text that opens with the user's own words: its first letter in upper case only when the first word is an
+    ordinary lower-case word ("eastgate office stands apart" -> "Eastgate office stands apart", as an editor
+    starts every sentence); an identifier stays as written: "wait_days", "eBay", "x2" (our rule, after the
+    style guides' advice to keep a term whose case carries meaning, Chicago Manual of Style, from memory).
+
+    >>> capitalize_ordinary_word("east and North are about the same"), capitalize_ordinary_word("wait_days by clinic")
+    ('East and North are about the same', 'wait_days by clinic')
+    """
+    word = re.match(r"[^\s,;:.()\[\]]+", text)
+    if word is None or not (word.group().isalpha() and word.group().islower()):
+        return text
+    return text[0].upper() + text[1:]
 
 
 def sentence_start(bank: PhraseBank, text: str) -> str:
@@ -108,7 +124,7 @@ class WordingContext:
         if not template.startswith("{"):
             return text  # text the bank itself starts in lower case ("n = 141") stays as written
         if opens_with_user_words(template):
-            return text  # "north and south are about the same": the user's words as written
+            return capitalize_ordinary_word(text)  # "North and south ...", but "wait_days ..." as written
         return self.sentence_start(text)
 
     def sentence_start(self, text: str) -> str:
@@ -143,13 +159,16 @@ class WordingContext:
         return category, (self.bank.noun(noun).gender if noun else None)
 
     def caption(self, key: str, category: str | None = None, **values: str) -> str:
-        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field, unless
-        that field holds the user's own words ("wait_days (days) by clinic")."""
+        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field; when that
+        field holds the user's own words, only an ordinary word is ("River length (miles)", "wait_days (days) by
+        clinic")."""
         text = self.text(key, category, **values)
         template = self.bank.raw(key)
         if isinstance(template, dict):
             template = template.get(category or "other", template["other"])
-        return capitalize_first(text) if template.startswith("{") and not opens_with_user_words(template) else text
+        if not template.startswith("{"):
+            return text
+        return capitalize_ordinary_word(text) if opens_with_user_words(template) else capitalize_first(text)
 
     def plural(self, count: float) -> str:
         """The CLDR plural category of ``count`` in this locale ("one", "few", "many", "other"...)."""
@@ -193,8 +212,24 @@ class WordingContext:
                                       compact=self._compact_memo(low, high))
 
     def memo_recorded_pair(self, low: float, high: float) -> tuple[str, str]:
-        """Two data values as ends of a memo range: memo rounding, never finer than recorded."""
-        return self.fmt.quantity_pair(low, high, self._memo_places(min(self.memo_decimals, self.data_decimals)))
+        """Two data values as ends of a memo range: memo rounding, never finer than recorded, and never
+        rounded onto a declared bound they do not equal (:meth:`_recorded_places`)."""
+        return self.fmt.quantity_pair(low, high, self._memo_places(self._recorded_places(low, high)))
+
+    def _recorded_places(self, *values: float) -> int:
+        """The memo's places for data values (never finer than recorded), with more places, up to the data's own,
+        while a value would be rounded onto a declared bound or valid limit it does not equal: a highest share of
+        99.5% is never "100%" under an upper bound of 100 (a rule of ours: an extreme printed on the bound would
+        say a value reached it)."""
+        places = min(self.memo_decimals, self.data_decimals)
+        variable = self.findings.variable
+        limits = [limit for limit in (variable.lower_bound, variable.upper_bound, variable.valid_min,
+                                      variable.valid_max) if limit is not None and math.isfinite(limit)]
+        while places < self.data_decimals and any(
+                value != limit and float(round_half_up(value, places)) == limit
+                for value in values if math.isfinite(value) for limit in limits):
+            places += 1
+        return places
 
     def exact_range(self, low: float, high: float) -> str:
         """Two summary statistics as a table range, "13.30–27.65" (words when an end has a sign)."""
@@ -226,8 +261,9 @@ class WordingContext:
                      for k, (value, text) in enumerate(zip((low, high), pair, strict=True)))
 
     def memo_recorded(self, value: float) -> str:
-        """A single data value in a memo, with its unit: memo rounding, never finer than recorded."""
-        return self.fmt.quantity(value, self._memo_places(min(self.memo_decimals, self.data_decimals)))
+        """A single data value in a memo, with its unit: memo rounding, never finer than recorded, never rounded
+        onto a declared bound it does not equal."""
+        return self.fmt.quantity(value, self._memo_places(self._recorded_places(value)))
 
     def exact(self, value: float) -> str:
         """A summary statistic for methods text and tables: one decimal beyond the data (Cole 2015).

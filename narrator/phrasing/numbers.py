@@ -741,7 +741,25 @@ class NumberFormatter:
             return self._unit_pattern(category).replace("{0}", number)
         if self.unit is None:
             return number
+        if self.unit == "%":
+            return self._percent_unit(number)
         return self.bank.format("format.quantity_with_text_unit", number=number, unit=self.unit)
+
+    def _percent_unit(self, number: str) -> str:
+        """A number with the unit "%" placed as the locale's CLDR percent pattern places its sign: "81%" in
+        en_US and es_MX ("#,##0%"), "81 %" with a no-break space in es_ES and fr_FR ("#,##0\xa0%").
+
+        >>> NumberFormatter("en_US", unit="%").quantity(81, 0), NumberFormatter("fr_FR", unit="%").quantity(81, 0)
+        ('81%', '81\xa0%')
+        """
+        pattern = self.locale.percent_formats[None].pattern.split(";")[0]
+        digits = [k for k, char in enumerate(pattern) if char in "#0,."]
+        if not digits or "%" not in pattern:
+            return self.bank.format("format.quantity_with_text_unit", number=number, unit=self.unit)
+        sign = pattern.index("%")
+        if sign < digits[0]:
+            return pattern[:digits[0]].replace("'", "") + number
+        return number + pattern[digits[-1] + 1:].replace("'", "")
 
     def quantity_pair(self, low: float, high: float, decimals: int, *, compact: bool = False) -> tuple[str, str]:
         """The two ends of a range with the unit written once ("29", "43 inches"; a rule of ours).

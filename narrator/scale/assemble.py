@@ -296,7 +296,8 @@ def describe_source(
         choices = ([rules.rule_choice(None, True), rules.rule_choice(None, False)] if options.outlier_rule is None
                    else [rules.rule_choice(options.outlier_rule, False)])
         for choice in choices:
-            if rules.working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple_value).rule == "modified-z":
+            if rules.working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple_value,
+                                    median=median).rule == "modified-z":
                 continue  # a rule that gives way to the modified z score needs the MAD: it waits for this pass
             test = rules.outlier_test(choice, n, q1=q1, median=median, q3=q3, mad=math.nan,
                                       medcouple=medcouple_value if medcouple_value is not None else 0.0,
@@ -322,7 +323,7 @@ def describe_source(
     if choice.rule in candidates:
         # The candidate's limits, with the final choice's words (and the rule that replaced it, if any).
         test = replace(candidates[choice.rule], choice=rules.working_choice(
-            choice, n, q1=q1, q3=q3, medcouple=medcouple_value if medcouple_value is not None else 0.0))
+            choice, n, q1=q1, q3=q3, medcouple=medcouple_value if medcouple_value is not None else 0.0, median=median))
     else:  # ---- pass 4 (modified z only): the values it flags and the rest
         test = rules.outlier_test(
             choice, n, q1=q1, median=median, q3=q3, mad=mad, medcouple=None,

@@ -570,10 +570,14 @@ def check_outlier_rule(c, raw, p):
     if reason == "medcouple_at_bound":
         _problem(c.get("fallback_from") == "adjusted" and raw.mc is not None and abs(raw.mc) >= 1 - 1e-9,
                  f"the adjusted rule called degenerate, medcouple {raw.mc}", p)
+    elif reason == "quartile_at_median":
+        _problem(c.get("fallback_from") == "adjusted" and raw.median in (q1, q3),
+                 "the adjusted rule called driven by ties, but no quartile equals the median", p)
     elif reason == "iqr_zero":
         _problem(q3 == q1, "IQR 0 claimed", p)
     if rule == "adjusted":
-        _problem(raw.mc is not None and abs(raw.mc) < 1 - 1e-9 and q3 > q1, "a degenerate adjusted rule was used", p)
+        _problem(raw.mc is not None and abs(raw.mc) < 1 - 1e-9 and q3 > q1 and raw.median not in (q1, q3),
+                 "a degenerate adjusted rule was used", p)
     if rule == "tukey":
         _problem(q3 > q1, "Tukey's fences used with an IQR of 0", p)
     lower, upper, _, _ = raw.flagged(rule)

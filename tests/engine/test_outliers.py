@@ -207,6 +207,26 @@ def test_medcouple_at_its_bound_makes_the_adjusted_rule_degenerate():
     assert found.count_high == int(np.sum(values > q3 + 1.5 * (q3 - q1)))
 
 
+def test_a_quartile_tied_with_the_median_makes_the_adjusted_rule_give_way():
+    # Ratings 1 to 5 (generated, seed 3): median = Q3 = 4 (numpy's type 7 quantiles) and statsmodels'
+    # medcouple is -0.33, driven by the ties at 4: the adjusted upper fence would be 4 + 1.5 e^(-4/3) = 4.4 and
+    # every 5 a far-out outlier. By construction our rule hands the data to Tukey's fences (MC = 0).
+    from statsmodels.stats.stattools import medcouple as reference_medcouple
+
+    values = np.random.default_rng(3).choice([1, 2, 3, 4, 5], 120, p=[.05, .1, .2, .4, .25]).astype(float)
+    q1, median, q3 = np.quantile(values, [0.25, 0.5, 0.75])
+    assert (q1, median, q3) == (3.0, 4.0, 4.0)
+    assert float(reference_medcouple(values)) == pytest.approx(-1 / 3, abs=0.01)
+    found = detect_outliers(values, np.arange(2, 122), rule=None, skew_clear=True, **summaries(values))
+    assert (found.rule, found.chosen_by, found.fallback_from, found.fallback_reason) == (
+        "tukey", "auto", "adjusted", "quartile_at_median")
+    assert (found.lower_fence, found.upper_fence) == (1.5, 5.5)
+    assert found.count_high == 0 and found.count_low == int(np.sum(values < 1.5))
+    # A named adjusted rule is replaced the same way (as for the other degenerate cases).
+    named = detect_outliers(values, np.arange(2, 122), rule="adjusted", skew_clear=True, **summaries(values))
+    assert (named.rule, named.fallback_reason) == ("tukey", "quartile_at_median")
+
+
 def test_too_few_values_run_no_rule():
     for rule in ("tukey", "adjusted", "modified-z", "esd"):
         found = run([1.0, 2.0, 50.0], rule)

@@ -319,7 +319,7 @@ def test_many_flagged_values_are_listed_the_same_way_and_counted_in_full(tmp_pat
     assert memory.without_outliers.n == values.size - low.size - high.size
 
 
-@pytest.mark.parametrize("kind", ["zero_heavy", "all_tied_quartiles", "heavy_ties"])
+@pytest.mark.parametrize("kind", ["zero_heavy", "all_tied_quartiles", "heavy_ties", "ratings"])
 def test_the_claims_facts_agree_with_memory(tmp_path, kind):
     # Generated columns whose sentences depend on the new facts: the order counts, a degenerate outlier rule
     # replaced (medcouple at its bound; an IQR of 0), the undecided bin grid. Stream and memory must agree.
@@ -328,11 +328,13 @@ def test_the_claims_facts_agree_with_memory(tmp_path, kind):
         values = np.where(rng.random(900) < 0.7, 0.0, rng.poisson(4, 900) + 1.0)
     elif kind == "all_tied_quartiles":
         values = np.concatenate([np.full(700, 5.0), rng.integers(0, 60, 60).astype(float)])
+    elif kind == "ratings":  # median = Q3 = 4: the adjusted rule gives way to Tukey's fences
+        values = rng.choice([1.0, 2.0, 3.0, 4.0, 5.0], size=800, p=[0.05, 0.1, 0.2, 0.4, 0.25])
     else:
         values = rng.choice([1.0, 2.0, 3.0, 4.0, 5.0], size=800, p=[0.1, 0.15, 0.45, 0.2, 0.1])
     folder = tmp_path / "parts"
     whole = _write_parts(folder, "v", rng.permutation(values), parts=3)
-    options = {"outlier_rule": "adjusted"} if kind != "heavy_ties" else {}
+    options = {"outlier_rule": "adjusted"} if kind not in ("heavy_ties", "ratings") else {}
     memory = describe(read_column(whole, "v"), **options)
     streamed = describe_source(open_source(folder, "v", chunk_rows=97), **options).findings
     assert differences(memory, streamed) == []
@@ -341,5 +343,8 @@ def test_the_claims_facts_agree_with_memory(tmp_path, kind):
         assert memory.outliers.fallback_reason == "medcouple_at_bound"
     if kind == "all_tied_quartiles":
         assert memory.outliers.fallback_reason == "iqr_zero" and memory.outliers.rule == "modified-z"
+    if kind == "ratings":
+        assert np.quantile(values, 0.5) == np.quantile(values, 0.75) == 4.0  # numpy, type 7
+        assert (memory.outliers.fallback_from, memory.outliers.fallback_reason) == ("adjusted", "quartile_at_median")
     if kind == "heavy_ties":
         assert memory.order_counts.at_median == int((values == np.median(values)).sum())
