@@ -47,7 +47,7 @@ def test_tell_sizes_the_clear_difference_with_its_interval(iris_files):
     assert result.returncode == 0, result.stderr
     summary = _summary(result.stdout)
     first = summary.split(". ")[0]
-    match = re.match(r"setosa stands apart from versicolor and virginica: its values are typically about "
+    match = re.match(r"Setosa stands apart from versicolor and virginica: its values are typically about "
                      r"([\d.]+) lower \(likely between ([\d.]+) and ([\d.]+) lower\)", first)
     assert match, summary
     shift, low, high = (float(group) for group in match.groups())
@@ -63,7 +63,7 @@ def test_tell_never_ranks_alike_groups(iris_files):
     result = run("tell", str(folder / "setosa.csv"), "--column", "Petal.Length", "--group-by", "half")
     assert result.returncode == 0, result.stderr
     summary = _summary(result.stdout)
-    assert summary.startswith("first and second are about the same"), summary
+    assert summary.startswith("First and second are about the same"), summary
     for word in ("higher", "lower", "longer", "shorter"):
         assert word not in summary.split(". ")[0]
 

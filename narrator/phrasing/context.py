@@ -18,6 +18,7 @@ Name                           What it is
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -67,6 +68,21 @@ def capitalize_first(text: str) -> str:
     return text
 
 
+def capitalize_ordinary_word(text: str) -> str:
+    """A text that opens with the user's own words: its first letter in upper case only when the first word is an
+    ordinary lower-case word ("eastgate office stands apart" -> "Eastgate office stands apart", as an editor
+    starts every sentence); an identifier stays as written: "wait_days", "eBay", "x2" (our rule, after the
+    style guides' advice to keep a term whose case carries meaning, Chicago Manual of Style, from memory).
+
+    >>> capitalize_ordinary_word("east and North are about the same"), capitalize_ordinary_word("wait_days by clinic")
+    ('East and North are about the same', 'wait_days by clinic')
+    """
+    word = re.match(r"[^\s,;:.()\[\]]+", text)
+    if word is None or not (word.group().isalpha() and word.group().islower()):
+        return text
+    return text[0].upper() + text[1:]
+
+
 def sentence_start(bank: PhraseBank, text: str) -> str:
     """A sentence that opens with a filled-in field: a capital ("{outlier_count} stand out" -> "Eight values
     stand out"), and never a numeral first: "21 values stand out" is recast with the bank's
@@ -108,7 +124,7 @@ class WordingContext:
         if not template.startswith("{"):
             return text  # text the bank itself starts in lower case ("n = 141") stays as written
         if opens_with_user_words(template):
-            return text  # "north and south are about the same": the user's words as written
+            return capitalize_ordinary_word(text)  # "North and south ...", but "wait_days ..." as written
         return self.sentence_start(text)
 
     def sentence_start(self, text: str) -> str:
@@ -143,13 +159,16 @@ class WordingContext:
         return category, (self.bank.noun(noun).gender if noun else None)
 
     def caption(self, key: str, category: str | None = None, **values: str) -> str:
-        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field, unless
-        that field holds the user's own words ("wait_days (days) by clinic")."""
+        """A table or figure caption; capitalized like a sentence when it opens with a filled-in field; when that
+        field holds the user's own words, only an ordinary word is ("River length (miles)", "wait_days (days) by
+        clinic")."""
         text = self.text(key, category, **values)
         template = self.bank.raw(key)
         if isinstance(template, dict):
             template = template.get(category or "other", template["other"])
-        return capitalize_first(text) if template.startswith("{") and not opens_with_user_words(template) else text
+        if not template.startswith("{"):
+            return text
+        return capitalize_ordinary_word(text) if opens_with_user_words(template) else capitalize_first(text)
 
     def plural(self, count: float) -> str:
         """The CLDR plural category of ``count`` in this locale ("one", "few", "many", "other"...)."""

@@ -276,8 +276,9 @@ def _why(ctx: WordingContext, median_text: str | None = None) -> Sentence | None
                 return None
             return ctx.say("memo.why_median.several_peaks", ("center.lead_reasons", "center.mean"), mean=mean,
                            claim={**claim, "label": findings.shape.label})
-        # The flagged values first when they move the mean: "the value far from the rest pulls the average up" is the more
-        # concrete of the two, and true when a single value, not a long tail, does the pulling.
+        # The flagged values first when they move the mean: "the value outside the outlier rule's limits pulls the
+        # average up" is the more concrete of the two, and true when a single value, not a long tail, does the
+        # pulling.
         count = flagged.count if flagged is not None else 0
         said = None
         if "outliers_move_mean" in reasons:
@@ -489,6 +490,8 @@ def _together_sentences(ctx: WordingContext, groups: MemoGroups, said: _Said, *,
         said.together.add(together)
         inside = [(k, pair) for k, pair in enumerate(comparison.pairs)
                   if pair.first in together and pair.second in together]
+        if inside and all(k in said.pairs for k, _ in inside):
+            continue  # "A and C are about the same: ... about 1 day" was said pair by pair: not twice
         limits = [abs(value) for _, pair in inside for value in (pair.difference.low, pair.difference.high)
                   if value is not None]
         # Every "about the same" is sized: by the likely range (a sample), or by the largest typical difference

@@ -265,7 +265,11 @@ def groups_table(ctx: WordingContext, item: VariableFindings, group_by: str, aud
         return Table(
             key="groups",
             caption=ctx.caption(f"{key}.caption", name=ctx.axis_name, group=group_by),
-            header=(group_by, ctx.text(f"{key}.n"), ctx.text(f"{key}.typical"), ctx.text(f"{key}.middle_half")),
+            # The typical value's column says which measure it is, as the key figures do: the text's group shifts
+            # are Hodges-Lehmann shifts, and a reader comparing them with this column must know what it holds.
+            header=(group_by, ctx.text(f"{key}.n"),
+                    ctx.text("tables.key_figures.median" if lead == "median" else "tables.key_figures.mean"),
+                    ctx.text(f"{key}.middle_half")),
             rows=tuple(plain),
             keys=("groups", "n", f"center.{lead}", "spread.q1", "spread.q3"),
             align=("left", "right", "right", "right"),

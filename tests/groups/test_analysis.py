@@ -150,7 +150,7 @@ def test_two_groups_are_compared_by_the_hodges_lehmann_shift_with_its_interval(f
     assert difference.shift == pytest.approx(-4.0) and (difference.low, difference.high) == pytest.approx((-8.5, 0.1))
     assert sentences[0] == ("The data cannot tell whether supp OJ and supp VC differ: values for supp VC are likely "
                             "between 9 lower and 0.1 higher than for supp OJ.")
-    assert sentences[1] == ("supp VC minus supp OJ: Hodges-Lehmann shift -4.00, 95% confidence interval -8.50 to "
+    assert sentences[1] == ("Supp VC minus supp OJ: Hodges-Lehmann shift -4.00, 95% confidence interval -8.50 to "
                             "0.10; the data cannot tell.")
     assert not any("overlap" in s for s in sentences)
     assert sentences[-1] == "This describes the groups as they are; it does not show why they differ."
@@ -168,13 +168,13 @@ def test_several_groups_say_which_stand_apart_and_small_groups_are_hedged(folder
     ctx = make_context(item.findings, "en_US", currency=None, unit=None, name=None)
     sentences = [s.text for s in comparison_sentences(ctx, item, "Species")]
     # A label that names itself stands alone; a bare code would get the column's name ("Month 5"). Both are
-    # printed as the data write them, even at the start of a sentence ("setosa stands apart").
+    # printed as the data write them; an ordinary word opening a sentence takes a capital ("Setosa stands apart").
     assert item.comparison.stand_apart == ("setosa",)
-    assert sentences[0].startswith("setosa stands apart from versicolor and virginica: its values are typically "
+    assert sentences[0].startswith("Setosa stands apart from versicolor and virginica: its values are typically "
                                    "about ")
     assert "lower (likely between " in sentences[0]
     assert sentences[1].startswith("The data cannot tell whether versicolor and virginica differ")
-    assert any(s.startswith("virginica minus setosa: Hodges-Lehmann shift") for s in sentences)
+    assert any(s.startswith("Virginica minus setosa: Hodges-Lehmann shift") for s in sentences)
     assert "Some groups have fewer than 20 values, so treat the comparison as a rough guide." in sentences
 
 
@@ -186,7 +186,10 @@ def test_group_table_and_figure_follow_the_overall_lead(folder):
     table = section.tables[0]
     lead = found.variables[0].findings.center.lead
     # A memo's table: plain column names, memo rounding.
-    assert table.header == ("Month", "n", "Typical value", "Middle half")
+    # The typical value's column names its measure (the memo's key figures' words), so a reader comparing it with the
+    # text's Hodges-Lehmann shifts knows what it holds.
+    assert table.header == ("Month", "n", "Middle value (median)" if lead == "median" else "Average (mean)",
+                            "Middle half")
     assert [row[0] for row in table.rows] == ["5", "6", "7", "8", "9", "All shown"]  # Temp has no gaps
     full = next(s for s in narrate_set(found, SetOptions(audience="full")).sections if s.key.endswith("groups"))
     assert full.tables[0].header[2] == ("Median (IQR)" if lead == "median" else "Mean (SD)")

@@ -211,10 +211,10 @@ def test_item3_the_average_is_never_said_to_be_pulled_when_it_prints_as_the_medi
             if "pull" in sentence.text:
                 claim = sentence.claims[0]
                 assert claim.numbers["mean_shown"] != claim.numbers["median_shown"]
-    # One high unusual value: "the value far from the rest pulls", never "the few ... values".
+    # One high unusual value: "the value outside the outlier rule's limits pulls", never "the few ... values".
     values = np.array([31, 33, 34, 35, 35, 36, 37, 38, 39, 40, 41, 42, 400.0])
     text = every_text(describe(values, name="litres", outlier_rule="tukey"))
-    assert "The few" not in text and "The value far from the rest pulls the average up" in text
+    assert "The few" not in text and "The value outside the outlier rule's limits pulls the average up" in text
     assert_claims_hold(values, {"outlier_rule": "tukey"})
 
 

@@ -234,3 +234,15 @@ def test_alike_groups_of_a_whole_population_are_sized_by_their_largest_typical_d
     else:
         found = re.search(re.escape(words) + r"(\d+) ", alike)
         assert found and int(found.group(1)) == math.ceil(abs(pair.difference.shift)), alike
+
+
+def test_a_pair_said_to_be_about_the_same_is_said_once():
+    # Invented: four offices as a whole population, two alike; the alike pair's own sentence ("their values
+    # typically differ by about 1 day") and the groups-that-go-together sentence must not both be said.
+    rng = np.random.default_rng(6)
+    groups = {"A": rng.gamma(4, 30 / 4, 60).round(1), "B": rng.gamma(4, 30.5 / 4, 55).round(1),
+              "C": rng.gamma(4, 29.8 / 4, 50).round(1), "D": rng.gamma(4, 45 / 4, 45).round(1)}
+    sentences = _summary(_set(groups, population=True))
+    alike = [s for s in sentences if "about the same" in s]
+    pairs = [frozenset(word for word in s.split(":")[0].split() if word in groups) for s in alike]
+    assert len(pairs) == len(set(pairs)), alike

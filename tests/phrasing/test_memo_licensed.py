@@ -133,7 +133,7 @@ def test_the_table_says_how_many_of_the_rules_values_stand_out():
     table = next(table for section in narrate(found, "memo").sections for table in section.tables
                  if table.key == "key_figures")
     rows = dict(table.rows)
-    assert rows["Unusual values (outlier rule)"] == str(found.outliers.count)
+    assert rows["Outside the outlier rule's limits"] == str(found.outliers.count)
     assert rows["Of these, standing out for this shape"] == str(len(found.unusual.values))
     assert len(found.unusual.values) < found.outliers.count
 
@@ -260,7 +260,7 @@ def test_fewer_than_twenty_values_are_never_judged_against_a_shape(locale):
     for words in ("this shape", "esta forma", "cette forme", "typing", "tecleo", "saisie"):
         assert words not in text, (locale, text)
     row = {"en_US": "row", "es_ES": "fila", "fr_FR": "ligne"}[locale]
-    assert f"(row 7)".replace("row", row) in text and f"(row 8)".replace("row", row) in text
+    assert f"({row} 7)" in text and f"({row} 8)" in text
 
 
 def test_few_values_are_never_called_typing_errors():

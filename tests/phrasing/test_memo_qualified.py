@@ -79,7 +79,7 @@ def test_values_far_out_only_for_the_pooled_shape_are_not_called_errors_in_a_gro
     # (numpy), and 100 is an ordinary wait there.
     assert 50 <= np.median(groups["south"]) <= 70 and 100.0 in groups["south"]
     assert "probably a typing error" in _summary(overall)  # the pooled memo, without its groups
-    excess = "More values lie far from the rest than data of this shape usually have"
+    excess = "More values lie outside the outlier rule's limits than data of this shape usually have"
     assert excess in _summary(overall)  # pooled: yes; within each clinic: no (the groups' findings above)
     words = {"en_US": ("probably a typing error", excess),
              "es_ES": ("probablemente un error de tecleo", "Hay más valores alejados del resto"),

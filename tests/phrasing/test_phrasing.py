@@ -442,4 +442,5 @@ def test_long_outlier_lists_show_the_farthest_out_and_words_cover_them_all():
     assert ("values stand out even for data of this shape and are worth checking against the source records, "
             "among them") \
         in memo
-    assert f"More values lie far from the rest than data of this shape usually have: {low.size + high.size:,}" in memo
+    assert ("More values lie outside the outlier rule's limits than data of this shape usually have: "
+            f"{low.size + high.size:,}") in memo

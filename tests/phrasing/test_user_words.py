@@ -2,11 +2,14 @@
 
 A column named ``wait_days`` is an identifier, not a word: "Wait_days (days) by clinic" names no
 column of the file. Titles, captions, alt texts, table cells and sentences keep the user's words
-as given, even where a caption or sentence opens with one (issue 16: group values are shown as the
-user wrote them). The grouped data are invented, from a fixed seed.
+as given; only a sentence or caption that opens with an ordinary lower-case word ("north", "eastgate
+office") starts with a capital, as an editor starts every sentence, while an identifier ("wait_days")
+stays as written even there. The grouped data are invented, from a fixed seed.
 """
 
 from __future__ import annotations
+
+import re
 
 import numpy as np
 import pytest
@@ -19,7 +22,8 @@ from narrator.phrasing.context import opens_with_user_words
 from narrator.phrasing.sets import SetOptions, narrate_set
 
 GROUPS = ("north", "south", "eastgate office")
-CAPITALISED = ("Wait_days", "North", "South", "Eastgate", "Clinic ")
+IDENTIFIERS = ("Wait_days", "Clinic ")  # never capitalised, anywhere
+WORDS = ("North", "South", "Eastgate")  # capitalised only where they open a sentence or caption
 
 
 def _set() -> FindingsSet:
@@ -33,6 +37,15 @@ def _set() -> FindingsSet:
                                 lead=overall.center.lead)
     item = VariableFindings(findings=overall, groups=parts, suppressed_groups=0, comparison=comparison)
     return FindingsSet(variables=(item,), group_by="clinic", privacy_threshold=10)
+
+
+def _only_at_starts(text: str) -> bool:
+    """Every capitalised group value in ``text`` opens a sentence."""
+    for found in re.finditer("|".join(WORDS), text):
+        before = text[: found.start()].rstrip()
+        if before and before[-1] not in ".!?":
+            return False
+    return True
 
 
 def _every_text(narrative) -> list[str]:
@@ -53,8 +66,15 @@ def _every_text(narrative) -> list[str]:
 def test_column_names_and_group_values_are_printed_as_written(locale, audience):
     narrative = narrate_set(_set(), SetOptions(audience=audience, locale=locale))
     texts = _every_text(narrative)
-    wrong = [text for text in texts if any(word in text for word in CAPITALISED)]
+    wrong = [text for text in texts if any(word in text for word in IDENTIFIERS)]
     assert not wrong, wrong
+    # Inside a sentence a group value is as written; at a sentence's start an ordinary word takes a capital.
+    inside = [text for text in texts if re.search(r"[^.!?:;]\s+(" + "|".join(WORDS) + r")\b", " " + text)]
+    assert not [text for text in inside if not _only_at_starts(text)], inside
+    paragraphs = [p.text for section in narrative.sections for p in section.paragraphs]  # cells stay as written
+    sentences = [s for text in paragraphs for s in re.split(r"(?<=[.!?])\s+", text) if s]
+    assert any(s.startswith(("North", "South", "Eastgate")) for s in sentences) or audience == "memo"
+    assert not [s for s in sentences if s.startswith(GROUPS)], "a sentence opens in lower case"
     captions = [table.caption for section in narrative.sections for table in section.tables]
     captions += [figure.caption for figure in narrative.figures]
     assert any(caption.startswith("wait_days") for caption in captions), captions  # "wait_days (days) by clinic"
