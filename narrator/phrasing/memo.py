@@ -897,17 +897,23 @@ def tiny_values(findings) -> list[float]:
 
 
 def _tiny(ctx: WordingContext) -> list[Sentence]:
-    """Two to four values: the values, their average (and middle value), what was left out, the caution."""
+    """Two to four values: the values, their average (and middle value), what was left out, the caution; what was
+    left out comes first when it is a material share of the rows (message ``left_out``, as in a longer memo)."""
     findings = ctx.findings
+    material = [message for message in select_messages(findings, currency=ctx.fmt.currency_code)
+                if message.code == "left_out"]
+    opening = _left_out_first(ctx, material[0]) if material else []
     values = tiny_values(findings)
     shown = [ctx.memo_recorded_pair(value, values[-1])[0] for value in values[:-1]] + [ctx.memo_recorded(values[-1])]
-    out = [ctx.say("memo.tiny.values", ("n", "spread.min", "spread.max", "order_counts"), subject=(findings.n, "value"),
+    out = [*opening, ctx.say("memo.tiny.values", ("n", "spread.min", "spread.max", "order_counts"),
+                             subject=(findings.n, "value"),
                    n_values=ctx.count(findings.n, "value"), values=ctx.fmt.number_list(shown),
                    claim={"values": values, "n": findings.n})]
     center = findings.center
     out.append(ctx.say("memo.tiny.center", ("center.mean", "center.median"), mean=ctx.memo(center.mean),
                        median=ctx.memo(center.median), claim={"mean": center.mean, "median": center.median}))
-    out += _left_out(ctx)
+    if not opening:
+        out += _left_out(ctx)
     out.append(memo_caution(ctx, flagged_said=False))
     return [sentence for sentence in out if sentence is not None]
 

@@ -185,3 +185,15 @@ def test_a_row_of_text_left_out_is_named_by_its_row_not_its_text(tmp_path, local
     text = narrate(findings, "memo", locale).plain_text()
     assert words in text, text
     assert "foo" not in text
+
+
+def test_a_material_share_left_out_opens_a_memo_of_few_values_too(tmp_path):
+    # By construction: one of four rows (25%) held text; the memo of three values says so first.
+    from narrator.reading.columns import read_column
+
+    data = tmp_path / "cells.csv"
+    data.write_text("a,b\n1,x\n2,3\nfoo,4\n5,6\n", encoding="utf-8")
+    sentences = narrate(describe(read_column(data, "a"), name="a"), "memo").sections[0].paragraphs[0].sentences
+    assert sentences[0].text == ("We left out one row that held text instead of a number (row 4), 25% of the four rows "
+                                 "read; the figures that follow describe the other three values."), sentences[0].text
+    assert sum("left out" in s.text for s in sentences) == 1
