@@ -194,7 +194,7 @@ def _single_baseline(findings: Findings, previous: Previous) -> Findings | None:
     if earlier.findings.variable.name != findings.variable.name or \
             (earlier.findings.variable.unit or None) != (findings.variable.unit or None):
         return None
-    return baseline_for(findings, earlier.findings, earlier.baseline)
+    return baseline_for(findings, earlier.findings, earlier.baseline, say_unchanged=True)
 
 
 def _with_changes_section(
@@ -337,7 +337,8 @@ def _baselines(collection: Collection, previous: FindingsSet | None) -> tuple[li
         match = earlier.get(part.findings.variable.name)
         if match is not None and (match.findings.variable.unit or None) != (part.findings.variable.unit or None):
             match = None  # another unit: no comparison, rather than a wrong one
-        baseline = None if match is None else baseline_for(part.findings, match.findings, match.baseline)
+        baseline = None if match is None else baseline_for(part.findings, match.findings, match.baseline,
+                                                           say_unchanged=True)
         chosen.append(baseline)
         if baseline is None or not same_grouping:
             groups.append(())

@@ -301,15 +301,17 @@ def same_findings(a: Findings, b: Findings) -> bool:
     return json.dumps(_comparable(a), sort_keys=True) == json.dumps(_comparable(b), sort_keys=True)
 
 
-def baseline_for(new: Findings, previous: Findings | None, previous_baseline: Findings | None) -> Findings | None:
+def baseline_for(new: Findings, previous: Findings | None, previous_baseline: Findings | None, *,
+                 say_unchanged: bool = False) -> Findings | None:
     """The findings a new build is compared with.
 
     No earlier build: none. Data unchanged since the last build: the last
-    build's own baseline (so the text repeats), or the last build itself when it had none (so the
-    report says that nothing changed). Otherwise: the last build.
+    build's own baseline (so the text repeats); when it had none, none, or with ``say_unchanged`` (a
+    report) the last build itself, so the report says in one sentence that nothing changed (a fill keeps
+    none: a second fill on unchanged data writes nothing). Otherwise: the last build.
     """
     if previous is None:
         return None
-    if same_findings(previous, new) and previous_baseline is not None:
-        return previous_baseline
+    if same_findings(previous, new):
+        return previous if previous_baseline is None and say_unchanged else previous_baseline
     return previous
