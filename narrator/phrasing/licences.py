@@ -172,6 +172,8 @@ CLAIM_KINDS: dict[str, str] = {
     "missing_code_suspected": "the value `value` appears `count` times, far beyond the other values' far-out "
                               "fences, and is a value people type for missing",
     "at_bound": "a share `share` of the values sit at the declared bound `value`",
+    "shape_reason": "G1 `g1` and the robust measures `bowley` and `medcouple` tell different stories: both robust "
+                    "measures below 0.1 in size beside a G1 beyond the cut points, or not both leaning as G1 does",
     # methods
     "method": "a statement of how the numbers were made: the constants `numbers` it names are the engine's",
     "histogram_rule": "the histogram's bins are `width` wide, produced by `rule` (`note` names a cap, a "

@@ -227,6 +227,16 @@ def _range(ctx: WordingContext) -> Sentence | None:
                "high": spread.q3, "min": spread.min, "max": spread.max, "n": findings.n})
 
 
+def robust_leans_other_way(shape) -> bool:
+    """A skewed label whose robust measures are both defined and at least one leans against G1 (Bowley's
+    skewness or the medcouple of the other sign): the bulk of the data is not skewed the way G1 says."""
+    if shape.label not in ("right-skewed", "left-skewed") or shape.skewness is None:
+        return False
+    if shape.bowley is None or shape.medcouple is None:
+        return False
+    return any(value * shape.skewness < 0 for value in (shape.bowley, shape.medcouple))
+
+
 def _shape(ctx: WordingContext) -> Sentence | None:
     findings = ctx.findings
     shape = findings.shape
@@ -237,6 +247,8 @@ def _shape(ctx: WordingContext) -> Sentence | None:
         return ctx.say("memo.shape.unsettled", keys, n_values=n_values, claim=claim)
     if _peaks_are_a_spike(findings):
         return None  # the share at that one value is said; its spike is no group of its own
+    if robust_leans_other_way(shape):
+        return None  # G1 leans one way, the middle of the data the other: a few far values, not the bulk, skew it
     tail = ""
     if shape.label in ("right-skewed", "left-skewed"):
         side = "high" if shape.label == "right-skewed" else "low"

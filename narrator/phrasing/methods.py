@@ -25,7 +25,7 @@ from narrator.engine.bins import MAX_BINS
 from narrator.engine.center import MEAN_SHIFT_SHARE
 from narrator.engine.density import MAX_RANGE_IN_BANDWIDTHS
 from narrator.engine.entry_errors import DECIMAL_PLACES, LOG_FAR_K, SURPRISE_P
-from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE
+from narrator.engine.shape import BIMODALITY_THRESHOLD, BULMER_MODERATE, BULMER_STRONG, MIN_FOR_SHAPE, ROBUST_NEAR_ZERO
 from narrator.phrasing.context import WordingContext
 from narrator.phrasing.licences import TINY_N
 from narrator.phrasing.memo import flagged_claim, left_out_items
@@ -196,6 +196,8 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
                              moderate=fmt.fixed(BULMER_MODERATE, 1), strong=fmt.fixed(BULMER_STRONG, 1),
                              test_min_n=ctx.whole(MIN_FOR_SHAPE), bc_threshold=fmt.fixed(BIMODALITY_THRESHOLD, 3),
                              claim={"moderate": BULMER_MODERATE, "strong": BULMER_STRONG}))
+    sentences.append(ctx.say("methods.shape_robust", ("shape.bowley", "shape.medcouple"),
+                             near_zero=fmt.fixed(ROBUST_NEAR_ZERO, 1), claim={"near_zero": ROBUST_NEAR_ZERO}))
     method_parts = findings.shape.medcouple_method.split(":")
     if len(method_parts) == 3:
         # The engine took the medcouple on a fixed-seed random subsample (large samples): say so, with both numbers.

@@ -25,7 +25,7 @@ from narrator.engine.center import MEAN_SHIFT_SHARE
 from narrator.engine.quality import MIN_FOR_CONFIDENT, MIN_FOR_SHAPE
 from narrator.engine.shape import BIMODALITY_THRESHOLD, HEAVY_TAIL_KURTOSIS
 from narrator.phrasing.context import WordingContext
-from narrator.phrasing.memo import flagged_claim, left_out_items
+from narrator.phrasing.memo import flagged_claim, left_out_items, robust_leans_other_way
 from narrator.phrasing.narrative import Paragraph, Sentence
 
 PERCENT_EXAMPLE = 0.12  # the example share in the words about cells with a percent sign
@@ -142,6 +142,13 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
             claim={"g1": shape.skewness, "se": shape.skewness_se, "bowley": shape.bowley, "medcouple": shape.medcouple,
                    "g2": shape.excess_kurtosis, "z": shape.skewness_test_z, "p": shape.skewness_test_p,
                    "n": findings.n}))
+    if shape.skewness is not None and ("skew_from_few_values" in shape.reasons or robust_leans_other_way(shape)):
+        # G1 and the robust measures tell different stories: say which, so "roughly symmetric" beside G1 = 1.87
+        # (or "right-skewed" beside a negative Bowley skewness) is read as the rule meant it.
+        key = "technical.skew_from_few" if "skew_from_few_values" in shape.reasons else "technical.robust_disagree"
+        sentences += _kept(ctx.say(key, ("shape.skewness", "shape.bowley", "shape.medcouple"),
+                                   claim={"g1": shape.skewness, "bowley": shape.bowley,
+                                          "medcouple": shape.medcouple, "label": shape.label}))
     sentences += _kept(ctx.say(
         "technical.peaks", ("shape.density_peaks", "shape.bimodality_coefficient"),
         peaks=ctx.count(shape.density_peaks or 0, "peak"),

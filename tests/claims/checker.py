@@ -470,6 +470,15 @@ def _strength(g1: float) -> str:
     return "slight" if size < 0.5 else "moderate" if size < 1.0 else "strong"
 
 
+def check_shape_reason(c, raw, p):
+    g1, bowley, mc = raw.g1, raw.bowley, raw.mc
+    _same("g1", c["g1"], g1, raw, p)
+    near_zero = bowley is not None and abs(bowley) < 0.1 and mc is not None and abs(mc) < 0.1
+    disagree = bowley is not None and mc is not None and (bowley * g1 < 0 or mc * g1 < 0)
+    _problem(g1 is not None and ((near_zero and abs(g1) >= 0.5) or disagree),
+             f"G1 {g1} and the robust measures ({bowley}, {mc}) tell the same story", p)
+
+
 def check_shape(c, raw, p):
     label = c["label"]
     g1 = raw.g1
@@ -1185,7 +1194,8 @@ CHECKS = {
     "share_at_minimum": check_share_at_minimum, "share_at_maximum": check_share_at_maximum,
     "middle_half": check_middle_half, "share_between": check_share_between, "value_range": check_value_range,
     "mean_close": check_mean_close, "mean_pulled": check_mean_pulled, "several_groups": check_several_groups,
-    "shape": check_shape, "heaped": check_heaped, "shape_unclear": check_shape_unclear,
+    "shape": check_shape, "shape_reason": check_shape_reason, "heaped": check_heaped,
+    "shape_unclear": check_shape_unclear,
     "too_few_for_shape": check_too_few_for_shape, "no_spread": check_no_spread,
     "skew_statistics": check_skew_statistics, "peaks": check_peaks, "heavy_tails": check_heavy_tails,
     "bins": check_bins, "outliers_not_run": check_outliers_not_run, "outlier_rule": check_outlier_rule,

@@ -325,3 +325,17 @@ def test_the_largest_tenth_is_said_only_when_it_adds_to_the_few_largest():
     assert "the largest value alone holds 94% of it" in text and "10%" not in text, text
     # The middle value is written one way in the paragraph: as the lead wrote it.
     assert text.count("$1,298.24") == 3 and "$1,298," not in text and "$1,298 " not in text, text
+
+
+def test_a_skew_that_comes_from_a_few_far_values_is_said_so_and_not_given_to_the_bulk():
+    # Readings near 45 kg with one typed as 451.0: G1 is large and positive, but Bowley's skewness and the
+    # medcouple are negative (recomputed here with numpy). The memo does not call the bulk "fairly low with a few
+    # much higher"; the full report says the robust measures lean the other way.
+    t = np.random.default_rng(22).normal(45, 5, 100).round(1)
+    t[17] = 451.0
+    found = describe(t, unit="kg")
+    q1, q2, q3 = np.quantile(t, [0.25, 0.5, 0.75])
+    assert found.shape.label == "right-skewed" and ((q3 - q2) - (q2 - q1)) / (q3 - q1) < 0 < found.shape.skewness
+    assert "fairly low" not in summary(found) and "typing error" in summary(found)
+    full = narrate(found, "full", "en_US").plain_text()
+    assert "do not lean the same way as G1" in full
