@@ -140,9 +140,9 @@ def report_from_findings(
     with output_lock(output):
         clean_stale(output)
         moment = generation_time(generated_at)
-        narrative = narrate(findings, audience, locale, currency=currency, title=title)
         previous = previous_build(output)
         baseline = _single_baseline(findings, previous)
+        narrative = narrate(findings, audience, locale, currency=currency, title=title, baseline=baseline)
         if baseline is not None:
             narrative = _with_changes_section(narrative, baseline, findings, locale=locale, currency=currency)
         if drawing is not None:

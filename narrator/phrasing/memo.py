@@ -820,6 +820,24 @@ def _shape_adds_to_end_share(ctx: WordingContext) -> bool:
     return True
 
 
+def _change_in_center(ctx: WordingContext, baseline) -> list[Sentence]:
+    """ "Since the previous data, the middle value rose from 16 to 20 days (+4 days; likely between +0.5 and
+    +7.5 days)": the change the selection found clear, first when it leads (the what-changed section keeps
+    the whole comparison)."""
+    from narrator.history.changes import compare
+    from narrator.phrasing.licences import ChangeFacts
+    from narrator.phrasing.what_changed import center_values
+
+    changes = compare(baseline, ctx.findings)
+    facts = ChangeFacts(ctx=ctx, changes=changes, old=baseline, new=ctx.findings)
+    values, claim = center_values(ctx, changes)
+    if values is None:
+        return []
+    sentence = ctx.say("memo.change.center", (f"center.{changes.lead}",), about=facts, claim=claim,
+                       claim_about="change", **values)
+    return [sentence] if sentence is not None else []
+
+
 WORDERS: dict[str, Callable] = {
     "group_difference": _group_difference,
     "entry_error": _entry_error,
@@ -832,7 +850,8 @@ WORDERS: dict[str, Callable] = {
 }
 
 
-def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Paragraph:
+def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None, *,
+                   baseline=None) -> Paragraph:
     """The memo summary paragraph: the messages of narrator.phrasing.selection, in its order, then one caution.
 
     The first sentence states the top message. The center and range (message ``center_range``)
@@ -846,7 +865,10 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
     if 2 <= findings.n < TINY_N and findings.spread.range > 0:
         return Paragraph(tuple(_tiny(ctx)))
     messages = select_messages(findings, comparison=groups.comparison if groups is not None else None,
-                               currency=ctx.fmt.currency_code, within=groups.within if groups is not None else None)
+                               currency=ctx.fmt.currency_code, within=groups.within if groups is not None else None,
+                               baseline=baseline)
+    # A clear change since the previous build is worded with both builds at hand (narrator.phrasing.what_changed).
+    changed_from = baseline
     clustered = any(message.code == "clusters" for message in messages)
     said = _Said()
     blocks: list[tuple[str, list[Sentence]]] = []
@@ -863,6 +885,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None) -> Par
             lead = _lead(ctx)
             blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0])) if s is not None]))
             said.lead = True
+        elif message.code == "change_in_center" and changed_from is not None:
+            blocks.append((message.code, _change_in_center(ctx, changed_from)))
         elif message.code in WORDERS:
             blocks.append((message.code, WORDERS[message.code](ctx, message, groups, said)))
     if findings.n > 1 and findings.spread.range > 0:

@@ -114,6 +114,7 @@ def narrate(
     title: str | None = None,
     name: str | None = None,
     groups: MemoGroups | None = None,
+    baseline: Findings | None = None,
 ) -> Narrative:
     """Word the findings for one audience in one locale, following templates/plans/<audience>.toml.
 
@@ -124,7 +125,8 @@ def narrate(
     is what the text calls the variable (default: its column name); ``title``
     replaces the plan's title. Pure and deterministic: the same arguments give
     the same Narrative, word for word. ``groups`` (the groups' comparison and their column) lets
-    the summary lead with a difference between groups (narrator.phrasing.selection).
+    the summary lead with a difference between groups (narrator.phrasing.selection); ``baseline`` (the
+    previous build's findings) lets it lead with a clear change since then.
 
     Reporting conventions: SAMPL (Lang & Altman 2013); digits: Ehrenberg
     (1981) for memos, Cole (2015) for methods; plain language: US Federal
@@ -147,7 +149,7 @@ def narrate(
     for section in plan.sections:
         tables = tuple(table for table in (TABLE_BUILDERS[key](ctx) for key in section.tables) if table is not None)
         if section.key == "summary":
-            paragraphs = (memo_paragraph(ctx, groups),)
+            paragraphs = (memo_paragraph(ctx, groups, baseline=baseline),)
         else:
             paragraphs = PARAGRAPH_BUILDERS[section.key](ctx)
         figures = _figure_keys(section, plan, ctx, made)

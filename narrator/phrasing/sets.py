@@ -458,7 +458,8 @@ def narrate_set(findings_set: FindingsSet, options: SetOptions | None = None) ->
     audience = options.audience
     for index, (ctx, item) in enumerate(zip(contexts, findings_set.variables, strict=True), start=1):
         groups = memo_groups(item, findings_set.group_by)
-        part = narrate(item.findings, options.audience, options.locale, currency=options.currency, groups=groups)
+        part = narrate(item.findings, options.audience, options.locale, currency=options.currency, groups=groups,
+                       baseline=item.baseline)
         audience = part.audience
         renamed = {text.key: figure_key(index, text.key) for text in part.figures}
         figures.extend(replace(text, key=renamed[text.key]) for text in part.figures)

@@ -24,11 +24,11 @@ from narrator.phrasing.licences import ChangeFacts
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Sentence
 
 
-def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str, brief: bool = False) -> Sentence | None:
-    changes = facts.changes
+def center_values(ctx: WordingContext, changes: Changes) -> tuple[dict | None, dict | None]:
+    """The words and the claim of the center's change (both None when the center was not compared)."""
     item = changes.item(f"center.{changes.lead}")
     if item is None:
-        return None
+        return None, None
     # "rose from 23 to 29 days": the unit once, after the second number (numbers.quantity_pair); a currency
     # symbol stays on both.
     old_shown, new_shown = ctx.memo_pair(item.old, item.new)
@@ -45,6 +45,14 @@ def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str, brief:
     claim = {"measure": changes.lead, "old": item.old, "new": item.new, "difference": item.difference,
              "low": item.low, "high": item.high, "level": item.level, "reason": item.reason,
              "old_shown": values["old"], "new_shown": values["new"]}
+    return values, claim
+
+
+def _center_sentence(ctx: WordingContext, facts: ChangeFacts, about: str, brief: bool = False) -> Sentence | None:
+    changes = facts.changes
+    values, claim = center_values(ctx, changes)
+    if values is None:
+        return None
     if brief:  # a memo: the same judgement in fewer words, without the interval's ends
         said = ctx.say("changes.center_memo", (f"center.{changes.lead}",), about=facts, claim=claim,
                        claim_about=about, **values)

@@ -246,3 +246,31 @@ def test_a_pair_said_to_be_about_the_same_is_said_once():
     alike = [s for s in sentences if "about the same" in s]
     pairs = [frozenset(word for word in s.split(":")[0].split() if word in groups) for s in alike]
     assert len(pairs) == len(set(pairs)), alike
+
+
+def test_a_clear_change_since_the_previous_build_leads_the_memo(tmp_path):
+    # Invented: waits whose middle value rose from 16 to 20 days (30% longer), then a refresh of the same shape
+    # (the middle value stays within its uncertainty): the first leads the summary, the second is not in it.
+    before = describe(np.random.default_rng(8).gamma(3, 6, 120).round(0), name="days", unit="days")
+    after = describe((np.random.default_rng(9).gamma(3, 6, 140) * 1.3).round(0), name="days", unit="days")
+    summary = narrate(after, "memo", "en_US", baseline=before).sections[0].paragraphs[0].text
+    assert summary.startswith("Since the previous data, the middle value (median) rose from 16 to 20 days (+4 days; "
+                              "likely between +0.5 and +7.5 days)."), summary
+    same = describe(np.random.default_rng(10).gamma(3, 6, 130).round(0), name="days", unit="days")
+    assert "Since the previous data" not in narrate(same, "memo", "en_US", baseline=before).plain_text()
+    # The report wiring: a rebuild on refreshed data leads its summary with the change.
+    import docx
+    import pandas as pd
+
+    from narrator.cli import main
+
+    data, out = tmp_path / "waits.csv", tmp_path / "memo.docx"
+    pd.DataFrame({"days": np.random.default_rng(8).gamma(3, 6, 120).round(0)}).to_csv(data, index=False)
+    assert main(["draft", str(data), "--column", "days", "--unit", "days", "--audience", "memo", "-o", str(out),
+                 "--quiet"]) == 0
+    pd.DataFrame({"days": (np.random.default_rng(9).gamma(3, 6, 140) * 1.3).round(0)}).to_csv(data, index=False)
+    assert main(["draft", str(data), "--column", "days", "--unit", "days", "--audience", "memo", "-o", str(out),
+                 "--quiet", "--force"]) == 0
+    texts = [p.text for p in docx.Document(str(out)).paragraphs if p.text.strip()]
+    first = texts[texts.index("Summary") + 1]
+    assert first.startswith("Since the previous data, the middle value (median) rose from 16 to 20 days"), first
