@@ -323,7 +323,8 @@ def degenerate_reason(rule: str, *, n: int, q1: float, q3: float, medcouple: flo
 
 def fallback_rule(reason: str) -> str:
     """The rule that replaces a degenerate one: Tukey's fences (the adjusted rule with MC = 0) for a medcouple
-    at its bound or driven by ties at the median, the modified z-score (with its MeanAD fallback when the MAD is 0 too) for an IQR of 0."""
+    at its bound or driven by ties at the median, the modified z-score (with its MeanAD fallback when the MAD
+    is 0 too) for an IQR of 0."""
     return "modified-z" if reason == "iqr_zero" else "tukey"
 
 
