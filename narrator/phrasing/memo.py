@@ -742,6 +742,18 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
                                items=_items(ctx, listed), claim={**flagged_claim(findings),
                                                                  "values": list(flagged.values)})
             return [sentence] if sentence is not None else []
+        if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and flagged.far_out_values:
+            # No shape to judge them against (values at or below 0 in skewed data, a hand-chosen rule that ignores
+            # the skew): values beyond the rule's far-out fences are still named, with their rows, to be checked;
+            # no word on whether the shape explains them.
+            listed = list(zip(flagged.far_out_values, flagged.far_out_rows, strict=True))
+            count = unusual.count_far_out or len(listed)
+            key = "memo.unusual.far_unjudged" if len(listed) == count and count <= LISTED \
+                else "memo.unusual.far_unjudged_count"
+            sentence = ctx.say(key, ("outliers.far_out_values", "outliers.far_out_rows"),
+                               subject=(count, "value"), count=ctx.count(count, "value"), items=_items(ctx, listed),
+                               claim={**flagged_claim(findings), "values": [value for value, _ in listed]})
+            return [sentence] if sentence is not None else []
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),

@@ -339,3 +339,17 @@ def test_a_skew_that_comes_from_a_few_far_values_is_said_so_and_not_given_to_the
     assert "fairly low" not in summary(found) and "typing error" in summary(found)
     full = narrate(found, "full", "en_US").plain_text()
     assert "do not lean the same way as G1" in full
+
+
+def test_far_values_with_no_shape_to_judge_them_against_are_still_named():
+    # Net amounts around $20 with one of $9,000 and one of -$8,500: values at or below 0 leave no lognormal fit,
+    # so the shape cannot judge them, but they lie about 40 middle-halves out (recomputed with numpy) and the
+    # memo names both with their rows, to be checked (before: not a word about them).
+    m = np.random.default_rng(51).normal(20, 150, 200).round(2)
+    m[:2] = [9000.0, -8500.0]
+    found = describe(m)
+    assert found.unusual.reason == "no_fitted_shape" and sorted(found.outliers.far_out_values) == [-8500.0, 9000.0]
+    q1, q3 = np.quantile(m, [0.25, 0.75])
+    assert min(9000.0 - q3, q1 + 8500.0) > 30 * (q3 - q1)
+    text = summary(found, currency="USD")
+    assert "Two values lie far outside the outlier rule's limits, -$8,500 (row 2) and $9,000 (row 1)" in text, text
