@@ -723,6 +723,17 @@ def _excess_from_mixing(groups: MemoGroups | None) -> bool:
     return groups_may_mix(groups.comparison)
 
 
+def _unjudged(ctx: WordingContext, key: str, keys: tuple[str, ...], listed: list, count: int, *,
+              complete: bool) -> list:
+    """The rule's values that nothing can judge, each with its row ("``key``"), or only their count when not
+    all are listed or there are more than LISTED ("``key``_count")."""
+    if not (complete and len(listed) == count and count <= LISTED):
+        key = f"{key}_count"
+    sentence = ctx.say(key, keys, subject=(count, "value"), count=ctx.count(count, "value"), items=_items(ctx, listed),
+                       claim={**flagged_claim(ctx.findings), "values": [value for value, _ in listed]})
+    return [sentence] if sentence is not None else []
+
+
 def _nothing_stands_out(ctx: WordingContext) -> list:
     """No value stands out: none flagged, or the flagged ones are what the shape predicts."""
     findings = ctx.findings
@@ -734,26 +745,16 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
         if unusual.reason == "too_few":
             # Too few values to judge a shape: the rule's values with their rows, and no word on whether they are
             # ordinary or surprising for a shape nobody can see in so few values.
-            listed = list(zip(flagged.values, flagged.rows, strict=True))
-            key = "memo.unusual.few_to_judge" if flagged.complete and len(listed) <= LISTED \
-                else "memo.unusual.few_to_judge_count"
-            sentence = ctx.say(key, ("outliers.values", "outliers.rows", "outliers.count"),
-                               subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
-                               items=_items(ctx, listed), claim={**flagged_claim(findings),
-                                                                 "values": list(flagged.values)})
-            return [sentence] if sentence is not None else []
+            return _unjudged(ctx, "memo.unusual.few_to_judge", ("outliers.values", "outliers.rows", "outliers.count"),
+                             list(zip(flagged.values, flagged.rows, strict=True)), flagged.count,
+                             complete=flagged.complete)
         if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and flagged.far_out_values:
             # No shape to judge them against (values at or below 0 in skewed data, a hand-chosen rule that ignores
             # the skew): values beyond the rule's far-out fences are still named, with their rows, to be checked;
             # no word on whether the shape explains them.
             listed = list(zip(flagged.far_out_values, flagged.far_out_rows, strict=True))
-            count = unusual.count_far_out or len(listed)
-            key = "memo.unusual.far_unjudged" if len(listed) == count and count <= LISTED \
-                else "memo.unusual.far_unjudged_count"
-            sentence = ctx.say(key, ("outliers.far_out_values", "outliers.far_out_rows"),
-                               subject=(count, "value"), count=ctx.count(count, "value"), items=_items(ctx, listed),
-                               claim={**flagged_claim(findings), "values": [value for value, _ in listed]})
-            return [sentence] if sentence is not None else []
+            return _unjudged(ctx, "memo.unusual.far_unjudged", ("outliers.far_out_values", "outliers.far_out_rows"),
+                             listed, unusual.count_far_out or len(listed), complete=True)
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),

@@ -11,10 +11,10 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from helpers.grouped import grouped_set
 
 from narrator.engine.describe import describe
-from narrator.engine.group_difference import compare_groups
-from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
+from narrator.history.sidecar import FindingsSet
 from narrator.phrasing import narrate
 from narrator.phrasing.sets import SetOptions, narrate_set
 
@@ -23,15 +23,7 @@ RANKING_WORDS = ("higher", "lower", "more", "less", "longer", "shorter", "más",
 
 
 def _set(groups: dict[str, np.ndarray], *, threshold: int = THRESHOLD, **options) -> FindingsSet:
-    shown = {label: values for label, values in groups.items() if values.size >= threshold}
-    overall = describe(np.concatenate(list(shown.values())), name="days", unit="days", **options)
-    parts = tuple(GroupFindings(label, describe(values, name="days", unit="days", **options))
-                  for label, values in shown.items())
-    comparison = compare_groups([(part.label, shown[part.label], part.findings) for part in parts],
-                                lead=overall.center.lead, population=bool(options.get("population")))
-    item = VariableFindings(findings=overall, groups=parts, suppressed_groups=len(groups) - len(shown),
-                            comparison=comparison)
-    return FindingsSet(variables=(item,), group_by="office", privacy_threshold=threshold)
+    return grouped_set(groups, name="days", unit="days", group_by="office", threshold=threshold, **options)
 
 
 def _summary(findings_set: FindingsSet, locale: str = "en_US") -> list[str]:

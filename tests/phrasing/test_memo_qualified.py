@@ -17,10 +17,10 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from helpers.grouped import grouped_set
 
 from narrator.engine.describe import describe
-from narrator.engine.group_difference import compare_groups
-from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
+from narrator.history.sidecar import FindingsSet
 from narrator.phrasing import narrate
 from narrator.phrasing.sets import SetOptions, narrate_set
 
@@ -62,13 +62,7 @@ def _mixed() -> tuple[dict[str, np.ndarray], FindingsSet]:
     rng = np.random.default_rng(11)
     groups = {"north": np.round(rng.lognormal(np.log(10), 0.3, 540)),
               "south": np.round(rng.lognormal(np.log(60), 0.3, 60))}
-    overall = describe(np.concatenate(list(groups.values())), name="wait_days", unit="days")
-    parts = tuple(GroupFindings(label, describe(values, name="wait_days", unit="days"))
-                  for label, values in groups.items())
-    comparison = compare_groups([(part.label, groups[part.label], part.findings) for part in parts],
-                                lead=overall.center.lead)
-    item = VariableFindings(findings=overall, groups=parts, suppressed_groups=0, comparison=comparison)
-    return groups, FindingsSet(variables=(item,), group_by="clinic", privacy_threshold=10)
+    return groups, grouped_set(groups, name="wait_days", unit="days", group_by="clinic")
 
 
 def test_values_far_out_only_for_the_pooled_shape_are_not_called_errors_in_a_grouped_memo():

@@ -13,10 +13,10 @@ import re
 
 import numpy as np
 import pytest
+from helpers.grouped import grouped_set
 
 from narrator.engine.describe import describe
-from narrator.engine.group_difference import compare_groups
-from narrator.history.sidecar import FindingsSet, GroupFindings, VariableFindings
+from narrator.history.sidecar import FindingsSet
 from narrator.phrasing import narrate
 from narrator.phrasing.context import opens_with_user_words
 from narrator.phrasing.sets import SetOptions, narrate_set
@@ -30,13 +30,7 @@ def _set() -> FindingsSet:
     rng = np.random.default_rng(5)
     centers = dict(zip(GROUPS, (20, 21, 30), strict=True))
     groups = {label: np.round(rng.lognormal(np.log(mu), 0.35, 60)) for label, mu in centers.items()}
-    overall = describe(np.concatenate(list(groups.values())), name="wait_days", unit="days")
-    parts = tuple(GroupFindings(label, describe(values, name="wait_days", unit="days"))
-                  for label, values in groups.items())
-    comparison = compare_groups([(part.label, groups[part.label], part.findings) for part in parts],
-                                lead=overall.center.lead)
-    item = VariableFindings(findings=overall, groups=parts, suppressed_groups=0, comparison=comparison)
-    return FindingsSet(variables=(item,), group_by="clinic", privacy_threshold=10)
+    return grouped_set(groups, name="wait_days", unit="days", group_by="clinic")
 
 
 def _only_at_starts(text: str) -> bool:
