@@ -40,8 +40,9 @@ P_DECIMALS = 3  # p-values to three decimals, "p < 0.001" below that (APA 2020)
 
 
 # Fields that hold the user's own words: a column name, a label, a group's value ("wait_days", "north",
-# "site b"). They are printed as the user wrote them, even where a sentence or caption opens with one:
-# a capital would change an identifier ("Wait_days" names no column of the file).
+# "site b"). They are printed as the user wrote them; where a sentence or caption opens with one, only an
+# ordinary lower-case word takes a capital (capitalize_ordinary_word): a capital would change an identifier
+# ("Wait_days" names no column of the file).
 USER_WORD_FIELDS = frozenset({"name", "names", "axis_name", "group", "groups", "first", "second", "member",
                               "others", "categories"})
 
