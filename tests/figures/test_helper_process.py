@@ -125,3 +125,15 @@ def test_library_versions_equal_importlib_metadata():
         except metadata.PackageNotFoundError:
             continue
     assert library_versions() == expected
+
+
+def test_the_helper_imports_no_engine_reader_or_writer():
+    # The helper's imports are its start-up time, on the command's path: the figures need the findings,
+    # the Sample and the phrasing's narrative and numbers, not the engine (scipy), the readers (pyarrow)
+    # or the writer (python-docx). A fresh interpreter, as the helper is.
+    probe = ("import sys, narrator.figures.helper_process, narrator.figures.charts; "
+             "print(' '.join(sorted(m for m in ('scipy', 'pyarrow', 'docx', 'narrator.engine.describe', "
+             "'narrator.phrasing.planner', 'narrator.report') if m in sys.modules)))")
+    result = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, timeout=300)
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.split() == []
