@@ -39,14 +39,15 @@ import sys
 import threading
 from typing import IO, TYPE_CHECKING
 
-import numpy as np
-
 from narrator.figures.rendered import RenderedFigure
 from narrator.findings import Findings
-from narrator.reading.sample import Sample
 
 if TYPE_CHECKING:
     from narrator.phrasing.narrative import Narrative
+    from narrator.reading.sample import Sample
+
+# numpy is imported where the arrays are made, not here: the command starts the helper before it has
+# imported numpy, and the helper's own first import is the plotting library, which needs it anyway.
 
 FROM_FINDINGS_ALONE = frozenset({"histogram"})  # figures drawn without the values themselves
 _LENGTH = struct.Struct(">I")
@@ -94,6 +95,8 @@ class DrawingHelper:
         process = self._process
         if process is None:
             return
+        import numpy as np
+
         self._wanted = [t.key for t in narrative.figures]
         try:
             # Only the figures that draw values need them; the histogram is drawn from the findings alone.
@@ -236,8 +239,11 @@ def _read_header(stream: IO[bytes]) -> dict | None:
 
 def _serve(source: IO[bytes], sink: IO[bytes]) -> None:
     """Read one request from ``source``, draw it, and write the figures (or an error) to ``sink``."""
+    import numpy as np
+
     from narrator.figures.charts import render_figures  # the slow import, done while the caller reads its data
     from narrator.phrasing.narrative import FigureText
+    from narrator.reading.sample import Sample
 
     request = _read_header(source)
     if request is None:
