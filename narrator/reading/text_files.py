@@ -88,7 +88,7 @@ __all__ = [
 DETECTION_BYTES = 1 << 20  # the start of a file that decides its codec
 MAX_HEADER_BYTES = 8 << 20  # the longest header line read
 BLOCK_BYTES = 4 << 20  # bytes parsed at a time; also the longest row
-WHOLE_READ_BYTES = 64 << 20  # files up to this size are parsed whole, on every core (see _arrow_batches)
+WHOLE_READ_BYTES = 16 << 20  # files up to this size are parsed whole, on every core (see _arrow_batches)
 # A delimiter no one types: with it each line of a one-column file is one cell.
 ONE_COLUMN = "\x1f"
 _DELIMITER_NAMES = {",": "commas", ";": "semicolons", "\t": "tabs", ONE_COLUMN: "no delimiter"}
