@@ -89,7 +89,7 @@ def _left_out_first(ctx: WordingContext, message: Message) -> list[Sentence]:
         return []
     rows, n = message.numbers["rows"], message.numbers["n"]
     sentence = ctx.say("memo.left_out_first", (*keys, "n"), subject=(n, "value"), left_out=left_out,
-                       share=ctx.fmt.percent(message.numbers["share"], 0), rows=ctx.count(rows, "row"),
+                       share=_share(ctx, message.numbers["left_out"], rows), rows=ctx.count(rows, "row"),
                        n_values=ctx.count(n, "value"),
                        claim={**numbers, "rows_read": rows, "used": n, "share": message.numbers["share"]})
     return [sentence] if sentence is not None else []
@@ -117,8 +117,16 @@ def memo_caution(ctx: WordingContext, flagged_said: bool = True) -> Sentence:
     return ctx.say("cautions.descriptive")
 
 
-def _share(ctx: WordingContext, count: int) -> str:
-    return ctx.fmt.percent(count / ctx.findings.n, 0)
+def _share(ctx: WordingContext, count: int, of: int | None = None) -> str:
+    """The share ``count`` of ``of`` (default: the values) holds, as the memo prints it (ctx.shares)."""
+    whole = ctx.findings.n if of is None else of
+    return ctx.shares((count, whole - count))[0]
+
+
+def _share_of_total(ctx: WordingContext, share: float) -> str:
+    """A share of a total (0.18 of the money), printed by the rule of ctx.shares."""
+    share = min(max(share, 0.0), 1.0)
+    return ctx.shares((share, 1.0 - share))[0]
 
 
 def _lead(ctx: WordingContext) -> list[Sentence]:
@@ -149,14 +157,14 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "min": ctx.memo_recorded(spread.min),
         "max": ctx.memo_recorded(spread.max),
         "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,
-        "share_below": _share(ctx, counts.below_median),
-        "share_at": _share(ctx, counts.at_median),
-        "share_above": _share(ctx, counts.above_median),
         "share_at_min": _share(ctx, counts.at_min),
         "share_at_max": _share(ctx, counts.at_max),
         "next_low": ctx.memo_recorded(counts.next_above_min) if counts.next_above_min is not None else "",
         "next_high": ctx.memo_recorded(counts.next_below_max) if counts.next_below_max is not None else "",
     }
+    # Below, at and above the middle value partition the values: their percents add up to 100.
+    values["share_below"], values["share_at"], values["share_above"] = ctx.shares(
+        (counts.below_median, counts.at_median, counts.above_median))
     values["counts"] = _counts_around_median(ctx, values["median_exact"])
     claim = {
         "median": center.median, "n": findings.n,
@@ -772,9 +780,9 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
              "tenth_count": found.top_tenth_count, "tenth_share": found.top_tenth_share, "n": found.n}
     values = {"n_values": ctx.count(ctx.findings.n, "value"), "total": ctx.memo(numbers["total"]),
               "top_count": ctx.count(found.top_percent_count, "value"),
-              "top_share": ctx.fmt.percent(found.top_percent_share, 0),
+              "top_share": _share_of_total(ctx, found.top_percent_share),
               "tenth_count": ctx.count(found.top_tenth_count, "value"),
-              "tenth_share": ctx.fmt.percent(found.top_tenth_share, 0),
+              "tenth_share": _share_of_total(ctx, found.top_tenth_share),
               "tenth": ctx.fmt.percent(0.1, 0)}  # "the top 10% of values" (fr, es), "the largest tenth" (en)
     if message.code == "money_total":
         key = "memo.money.total"
