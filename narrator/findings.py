@@ -480,6 +480,16 @@ class Concentration:
 
 
 @dataclass(frozen=True, slots=True)
+class AboveMinimum:
+    """The values above the lowest one (narrator.engine.decision): when many values sit at the lowest (no
+    claim, no visit), the middle of the others is the typical amount a reader asks for."""
+
+    minimum: float
+    count: int  # the values above the minimum
+    median: float  # their middle value (the mean of the two middle ones for an even count)
+
+
+@dataclass(frozen=True, slots=True)
 class Difference:
     """How the values of one side compare with another's: ``second`` minus ``first``.
 
@@ -579,6 +589,8 @@ class Findings:
     clusters: Clusters | None = None
     unusual: Unusual | None = None
     concentration: Concentration | None = None
+    # The values above the lowest one: their count and middle value (None when all values are equal).
+    above_minimum: AboveMinimum | None = None
     not_computed: dict[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:

@@ -6,7 +6,8 @@ when its licence holds, narrator.phrasing.licences):
 1. the lead center (``memo.lead.*``): the share at the lowest or highest value when most values
    sit there, else the middle value with what lies on each side of it, or the average;
 2. what was left out, and what those cells held (``memo.left_out_sentence``);
-3. a large share at one end, when the lead did not already say it (``memo.at_end``);
+3. a large share at one end, when the lead did not already say it (``memo.at_end``), and then the middle
+   value of the values above the lowest one (``memo.above_min``);
 4. the typical range: half of the values lie between Q1 and Q3, or the share that does, or the
    range (``memo.range``);
 5. what the shape means in plain words, hedged by the ladder (``memo.shape.*``);
@@ -15,7 +16,7 @@ when its licence holds, narrator.phrasing.licences):
 8. one caution, the one that matters most here.
 
 To keep within seven sentences the "why" sentence goes first, then the share at one end, then
-the range (:data:`DROPPED_FIRST`).
+the range, the shape and the middle value above the lowest one (:data:`DROPPED_FIRST`).
 """
 
 from __future__ import annotations
@@ -221,6 +222,22 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
     return [sentence] if sentence is not None else []
 
 
+def _above_minimum(ctx: WordingContext) -> list[Sentence]:
+    """ "Among the 59 values above €0, the middle one was €943": a quarter or more of the values at the lowest
+    value (no claim, no visit) puts the whole's middle and quartiles at or near it, so the typical value of the
+    others is said (licence ``middle_above_minimum``; the engine's ``Findings.above_minimum``, None where an
+    engine that reads in passes did not compute it: then nothing is said)."""
+    above = ctx.findings.above_minimum
+    if above is None:
+        return []
+    sentence = ctx.say("memo.above_min", ("above_minimum.count", "above_minimum.median", "order_counts.at_min"),
+                       subject=(above.count, "value"), count=ctx.count(above.count, "value"),
+                       min=ctx.memo_recorded(above.minimum), median=ctx.memo(above.median),
+                       claim={"minimum": above.minimum, "count": above.count, "median": above.median,
+                              "n": ctx.findings.n})
+    return [sentence] if sentence is not None else []
+
+
 def _range(ctx: WordingContext) -> Sentence | None:
     findings = ctx.findings
     spread, counts = findings.spread, findings.order_counts
@@ -382,8 +399,8 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
 
 # --------------------------------------------------------------------------- the memo, message by message
 
-CENTER_ORDER = ("lead", "at_end", "range", "shape", "why")
-DROPPED_FIRST = ("why", "at_end", "range", "shape")  # to keep within MAX_SENTENCES, in this order
+CENTER_ORDER = ("lead", "at_end", "above_min", "range", "shape", "why")
+DROPPED_FIRST = ("why", "at_end", "range", "shape", "above_min")  # to keep within MAX_SENTENCES, in this order
 TENTH_ADDS = 0.05  # the largest tenth's share is said only when it adds 5 points to the few largest's (our rule)
 LISTED = 5  # values named in one sentence at most; the full report lists them all
 
@@ -803,9 +820,10 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
     if clustered:
         return {}
     lead = _lead(ctx)
-    parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}
-    if said.lead:  # the share at one value already gave the lead
-        parts["lead"] = parts["at_end"] = []
+    parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0]),
+                                        "above_min": _above_minimum(ctx)}
+    if said.lead:  # the share at one value already gave the lead (and the middle value above the lowest)
+        parts["lead"] = parts["at_end"] = parts["above_min"] = []
     if findings.n > 1 and findings.spread.range > 0:
         # A lead that gave the share at one end already said where the other values run.
         # So does one that named the lowest and the highest value with every value between ("30% were 1, 40% were
@@ -904,7 +922,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None, *,
             # The center's lead states it (the share at the lowest or highest value, or the ties at the middle);
             # said here, in the message's place, even when clusters leave the rest of the center out.
             lead = _lead(ctx)
-            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0])) if s is not None]))
+            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0]), *_above_minimum(ctx))
+                                     if s is not None]))
             said.lead = True
         elif message.code == "change_in_center" and changed_from is not None:
             blocks.append((message.code, _change_in_center(ctx, changed_from)))

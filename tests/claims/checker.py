@@ -359,6 +359,19 @@ def check_share_at_maximum(c, raw, p):
         _same("next_high", c["next_high"], x[x < x.max()].max(), raw, p)
 
 
+def check_median_above_minimum(c, raw, p):
+    # The values above the smallest, their count and median (numpy's median), and a quarter or more at the
+    # smallest (the licence's threshold).
+    x = raw.values
+    above = x[x > x.min()]
+    _same("minimum", c["minimum"], x.min(), raw, p)
+    _problem(c["count"] == above.size, f"{c['count']} values above the smallest claimed, the values give "
+             f"{above.size}", p)
+    if above.size:
+        _same("median", c["median"], float(np.median(above)), raw, p)
+    _problem(raw.share(x == x.min()) >= 0.25, "fewer than a quarter of the values equal the smallest", p)
+
+
 def check_middle_half(c, raw, p):
     q1, q3 = raw.quartiles
     _same("q1", c["q1"], q1, raw, p)
@@ -1209,7 +1222,7 @@ CHECKS = {
     "clusters": check_clusters, "clusters_separated": check_clusters_separated, "stand_out": check_stand_out,
     "stand_out_none": check_stand_out_none, "stand_out_excess": check_stand_out_excess,
     "entry_error": check_entry_error, "entry_error_possible": check_entry_error_possible,
-    "concentration": check_concentration,
+    "concentration": check_concentration, "median_above_minimum": check_median_above_minimum,
 }
 GROUP_CHECKS = {"groups_compared": check_groups_compared, "groups_intervals": check_groups_intervals,
                 "groups_same": check_groups_same, "group_shift": check_group_shift,
