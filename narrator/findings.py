@@ -462,6 +462,9 @@ class Unusual:
     entry_error_reason: str = "none_found"  # "none_found", "found", "many", "not_positive", "not_checked"
     fitted_shape: str | None = None  # "normal" or "lognormal": the shape the values are judged against
     entry_error_probable_count: int = 0  # of entry_error_count, those with strength "probable"
+    # Far-out values that many values hold, (value, count): not in ``values`` nor entry errors; their share
+    # is said instead (narrator.engine.entry_errors.shared_values).
+    shared: tuple[tuple[float, int], ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -119,6 +119,8 @@ CLAIM_KINDS: dict[str, str] = {
                         "the smallest other value and `max` the largest",
     "share_at_maximum": "the largest value is `value` and a share `share` equal it; `next` is the largest "
                         "other value and `min` the smallest",
+    "shared_far": "`count` of the `n` values (5 % or more, 3 at least) equal `value`, which lies beyond the far-out "
+                  "fences `far_lower`/`far_upper` on the side `side`",
     "median_above_minimum": "`count` of the `n` values lie above the smallest, `minimum`, and their median is "
                             "`median`; a quarter of the values or more equal the smallest",
     "middle_half": "Q1 and Q3 (type 7) are `q1` and `q3`, and the share of values from Q1 to Q3 is within "

@@ -740,6 +740,24 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     return [sentence for sentence in out if sentence is not None]
 
 
+def _shared_far(ctx: WordingContext) -> list[Sentence]:
+    """ "Twelve values, 6% of all, were exactly 99, far above the rest": a far-out value that many values hold
+    (``Unusual.shared``, narrator.engine.entry_errors.shared_values) is no stray entry to check; its share is
+    said instead (at most LISTED such values)."""
+    unusual, n = ctx.findings.unusual, ctx.findings.n
+    out = []
+    for value, count in unusual.shared[:LISTED]:
+        side = "high" if unusual.far_upper_fence is not None and value > unusual.far_upper_fence else "low"
+        sentence = ctx.say("memo.unusual.shared", ("unusual.shared",), subject=(count, "value"),
+                           count=ctx.count(count, "value"), share=_share(ctx, count),
+                           value=ctx.memo_recorded(value), side=ctx.text(f"memo.unusual.shared_side.{side}"),
+                           claim={"value": value, "count": count, "n": n, "side": side,
+                                  "far_lower": unusual.far_lower_fence, "far_upper": unusual.far_upper_fence})
+        if sentence is not None:
+            out.append(sentence)
+    return out
+
+
 def _excess_from_mixing(groups: MemoGroups | None) -> bool:
     """Whether the pooled values' excess of far-out values may come from mixing groups: no shown group has
     an excess of its own, and the groups are not all alike (alike groups mixed give one shape)."""
@@ -773,13 +791,18 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
             return _unjudged(ctx, "memo.unusual.few_to_judge", ("outliers.values", "outliers.rows", "outliers.count"),
                              list(zip(flagged.values, flagged.rows, strict=True)), flagged.count,
                              complete=flagged.complete)
-        if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and flagged.far_out_values:
+        held = {value for value, _ in unusual.shared}
+        listed = [(value, row) for value, row in zip(flagged.far_out_values, flagged.far_out_rows, strict=True)
+                  if value not in held]
+        if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and listed:
             # No shape to judge them against (values at or below 0 in skewed data, a hand-chosen rule that ignores
             # the skew): values beyond the rule's far-out fences are still named, with their rows, to be checked;
-            # no word on whether the shape explains them.
-            listed = list(zip(flagged.far_out_values, flagged.far_out_rows, strict=True))
+            # no word on whether the shape explains them. A value many values share is not one of them.
+            shared = sum(count for _, count in unusual.shared)
             return _unjudged(ctx, "memo.unusual.far_unjudged", ("outliers.far_out_values", "outliers.far_out_rows"),
-                             listed, unusual.count_far_out or len(listed), complete=True)
+                             listed, (unusual.count_far_out - shared) or len(listed), complete=True)
+        if unusual.shared:
+            return []  # the share of the value many values hold is said (_shared_far): "none stands out" is not
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
@@ -934,6 +957,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None, *,
             blocks.append(("outliers", _outliers(ctx)))  # an engine without the shape judgement: the rule's list
         elif not any(message.code in ("stand_out", "entry_error") for message in messages):
             blocks.append(("calm", _nothing_stands_out(ctx)))
+        if findings.unusual is not None and findings.unusual.shared:
+            blocks.append(("shared", _shared_far(ctx)))
     if groups is not None:
         blocks.append(("together", _together_sentences(ctx, groups, said)))
     mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)

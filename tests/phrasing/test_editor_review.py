@@ -66,3 +66,21 @@ def test_an_engine_without_every_value_says_nothing_of_it():
     streamed = replace(findings, above_minimum=None, not_computed={**findings.not_computed,
                                                                    "above_minimum": NOT_IN_PASSES})
     assert not any("above €0" in sentence for sentence in _memo(streamed, currency="EUR"))
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES", "fr_FR"])
+def test_a_far_value_many_values_share_is_no_stray_entry_to_check(locale):
+    # Invented: minutes to answer a call, about 30; 6% of the calls were logged at exactly 75 (a cap of the
+    # phone system), far above the rest. A value one call in twenty shares is no slip of typing.
+    rng = np.random.default_rng(8)
+    values = np.concatenate([rng.normal(30, 4, 188).round(), np.full(12, 75.0)])
+    findings = describe(values, name="minutes", unit="minutes")
+    assert (values == 75).sum() / values.size >= 0.05  # numpy: the share the rule reads
+    assert 75.0 not in findings.unusual.values and findings.unusual.shared == ((75.0, 12),)
+    assert not any(error.value == 75.0 for error in findings.unusual.entry_errors)
+    text = " ".join(_memo(findings, locale))
+    assert "(row " not in text and "(fila " not in text and "(ligne " not in text, text
+    said = {"en_US": "Far above the rest, 12 values (6% of all) were exactly 75 minutes.",
+            "es_ES": "Muy por encima del resto, 12 valores (el 6\u00a0% del conjunto) fueron exactamente 75 minutos.",
+            "fr_FR": "Bien au-dessus des autres, 12 valeurs (soit 6\u00a0% de l'ensemble) valaient exactement 75 minutes."}
+    assert said[locale] in text, text
