@@ -82,5 +82,33 @@ def test_a_far_value_many_values_share_is_no_stray_entry_to_check(locale):
     assert "(row " not in text and "(fila " not in text and "(ligne " not in text, text
     said = {"en_US": "Far above the rest, 12 values (6% of all) were exactly 75 minutes.",
             "es_ES": "Muy por encima del resto, 12 valores (el 6\u00a0% del conjunto) fueron exactamente 75 minutos.",
-            "fr_FR": "Bien au-dessus des autres, 12 valeurs (soit 6\u00a0% de l'ensemble) valaient exactement 75 minutes."}
+            "fr_FR": "Bien au-dessus des autres, 12 valeurs (soit 6\u00a0% de l'ensemble) valaient exactement "
+                     "75 minutes."}
     assert said[locale] in text, text
+
+
+@pytest.mark.parametrize("language", ["en", "es", "fr"])
+def test_figures_name_the_rule_s_values_as_the_text_does(language):
+    # One term for the values beyond the outlier rule's fences: the key figures' row and the memo's sentences
+    # say "outside the outlier rule's limits"; a legend that says "flagged value" sends a reader looking for a
+    # second set of values.
+    import tomllib
+    from pathlib import Path
+
+    bank = tomllib.loads((Path(__file__).parents[2] / "templates" / "phrases" / f"{language}.toml").read_text("utf-8"))
+
+    def entry(key):
+        node = bank
+        for part in key.split("."):
+            node = node[part]
+        return node
+
+    term = entry("tables.key_figures.unusual")  # "Outside the outlier rule's limits"
+    assert entry("figures.groups.flagged") == entry("figures.dotplot.flagged") == term
+    core = term.split(" ", 1)[1]  # "the outlier rule's limits", "los límites de ...", "limites de ..."
+    texts = [entry(key) for key in ("figures.dotplot.flagged_sentence", "figures.dotplot.none_flagged",
+                                    "figures.with_without.caption", "figures.with_without.without",
+                                    "tables.with_without.caption", "tables.with_without.without")]
+    texts += [variant[form] for variant in entry("memo.why_median.outliers") for form in ("one", "other")]
+    for text in texts:
+        assert core in text, text
