@@ -391,16 +391,23 @@ def many_at_maximum(ctx) -> bool:
 
 
 @licence("variable", "a quarter of the values or more (3 at least, of 8 or more) equal the smallest, which is 0 "
+                     "or the declared lower bound")
+def many_at_floor(ctx) -> bool:
+    # The lowest value means "none" (0: no claim, no visit; or the declared floor): a lowest rating of 1 is one
+    # more rating.
+    spread = ctx.findings.spread
+    return many_at_minimum(ctx) and (spread.min == 0 or minimum_is_bound(ctx))
+
+
+@licence("variable", "a quarter of the values or more (3 at least, of 8 or more) equal the smallest, which is 0 "
                      "or the declared lower bound, and at least 5 lie above it, with their middle value computed")
 def middle_above_minimum(ctx) -> bool:
     # With a quarter at the lowest value the lower quartile is that value, with half the middle one is too: the
     # whole's middle and quartiles no longer say what a typical value among the others is (the same quarter
-    # at which the memo names the share at an end). Only when the lowest value means "none" (0: no claim, no
-    # visit; or the declared floor): a lowest rating of 1 is one more rating. Fewer than TINY_N values are
+    # at which the memo names the share at an end), when that value means "none". Fewer than TINY_N values are
     # listed, never summarized.
     above = ctx.findings.above_minimum
-    return many_at_minimum(ctx) and above is not None and above.count >= TINY_N and (
-        above.minimum == 0 or minimum_is_bound(ctx))
+    return many_at_floor(ctx) and above is not None and above.count >= TINY_N
 
 
 @licence("variable", "the smallest value is the declared lower bound (or valid minimum)")

@@ -794,6 +794,18 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
         held = {value for value, _ in unusual.shared}
         listed = [(value, row) for value, row in zip(flagged.far_out_values, flagged.far_out_rows, strict=True)
                   if value not in held]
+        if unusual.reason == "no_fitted_shape" and listed and holds("many_at_floor", ctx) and all(
+                value > unusual.far_upper_fence for value, _ in listed):
+            # A quarter or more at 0 (no claim, no visit) draws the rule's limits in close to 0: the far-out values
+            # are the upper part of the others, and being far out for those limits says little about them (a rule
+            # of ours; the middle value above 0 is said, memo.above_min). Counted, not listed to check.
+            shared = sum(count for _, count in unusual.shared)
+            count = (unusual.count_far_out - shared) or len(listed)
+            sentence = ctx.say("memo.unusual.far_from_floor", ("outliers.far_out_values", "spread.min"),
+                               subject=(count, "value"), count=ctx.count(count, "value"),
+                               min=ctx.memo_recorded(findings.spread.min),
+                               claim={**flagged_claim(findings), "values": [value for value, _ in listed]})
+            return [sentence] if sentence is not None else []
         if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and listed:
             # No shape to judge them against (values at or below 0 in skewed data, a hand-chosen rule that ignores
             # the skew): values beyond the rule's far-out fences are still named, with their rows, to be checked;

@@ -112,3 +112,26 @@ def test_figures_name_the_rule_s_values_as_the_text_does(language):
     texts += [variant[form] for variant in entry("memo.why_median.outliers") for form in ("one", "other")]
     for text in texts:
         assert core in text, text
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES", "fr_FR"])
+def test_far_values_above_many_zeros_are_not_sent_to_be_checked(locale):
+    # With 70% of the claims at 0 the lower quartile is 0 and the upper one small, so the rule's far-out limit
+    # (Tukey's Q3 + 3 IQR, recomputed here with numpy) lies among the ordinary paid claims: a quarter of them
+    # are beyond it. They are counted, never listed as stray entries to check.
+    values = _claims()
+    q1, q3 = np.percentile(values, [25, 75])
+    beyond = int((values > q3 + 3 * (q3 - q1)).sum())
+    assert q1 == 0 and beyond >= 0.2 * (values > 0).sum()
+    findings = describe(values, name="claim")
+    text = " ".join(_memo(findings, locale, currency="EUR"))
+    for check in ("check them", "contrastarlos", "vérifier dans"):
+        assert check not in text, text
+    said = {"en_US": f"and {beyond} values lie far outside them; that alone does not make them suspect.",
+            "es_ES": f"y {beyond} valores quedan muy fuera de ellos; eso solo no los vuelve sospechosos.",
+            "fr_FR": f"et {beyond} valeurs en sortent nettement\u202f; cela seul ne les rend pas suspectes."}
+    assert said[locale] in text, text
+    from claims.corpus import Case
+    from claims.harness import check_case
+
+    assert check_case(Case("invented", 0, values, {})) == []
