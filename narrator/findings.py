@@ -183,6 +183,7 @@ class Shape:
     density_peaks: int | None
     bimodality_coefficient: float | None
     bin_sensitivity: BinSensitivity | None
+    tail_skewness: float | None = None  # Hinkley's skewness at the 5th and 95th percentiles
 
 
 @dataclass(frozen=True, slots=True)

@@ -253,7 +253,7 @@ def describe(
             keep_fine=True,
         )
     shape = rules.shape_of(n, moments, q1, median, q3, medcouple_value, medcouple_method, density_estimate,
-                           sensitivity, has_spread)
+                           sensitivity, has_spread, tails=(quantile_values[0], quantile_values[-1]))
 
     medcouple_or_zero = medcouple_value if medcouple_value is not None else 0.0
     if outlier_rule == "esd":

@@ -256,10 +256,13 @@ def median_at(value_at: Callable[[int], float], n: int, factor: float = 1.0) -> 
 
 
 def shape_of(n: int, moments: Moments | None, q1: float | None, median: float | None, q3: float | None,
-             medcouple: float | None, medcouple_method: str, density, sensitivity, has_spread: bool) -> Shape:
-    """The shape finding from the moments, the quartiles, the medcouple, the density and the bin grid."""
+             medcouple: float | None, medcouple_method: str, density, sensitivity, has_spread: bool,
+             tails: tuple[float, float] | None = None) -> Shape:
+    """The shape finding from the moments, the quartiles, the medcouple, the density, the bin grid and
+    ``tails``, the 5th and 95th percentiles (for Hinkley's skewness; None where they are not known)."""
     from narrator.engine.shape import substantial_peaks
 
+    tail = None
     if moments is None or n == 0:
         g1 = g1_se = z = p = g2 = bowley = None
     else:
@@ -267,10 +270,13 @@ def shape_of(n: int, moments: Moments | None, q1: float | None, median: float | 
         g2 = excess_kurtosis(moments)
         z, p = skewness_test(moments)
         bowley = robust.bowley_skewness(q1, median, q3)
+        if tails is not None:
+            tail = robust.bowley_skewness(tails[0], median, tails[1])  # the same formula at P5 and P95
     return classify_shape(ShapeSignals(
         n=n, skewness=g1, skewness_se=g1_se, skewness_test_z=z, skewness_test_p=p, bowley=bowley,
         medcouple=medcouple, medcouple_method=medcouple_method, excess_kurtosis=g2,
-        density_peaks=substantial_peaks(density), bin_sensitivity=sensitivity, has_spread=has_spread))
+        density_peaks=substantial_peaks(density), bin_sensitivity=sensitivity, has_spread=has_spread,
+        tail_skewness=tail))
 
 
 # --------------------------------------------------------------------------- outliers

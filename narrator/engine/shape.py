@@ -27,9 +27,12 @@ Rules (our own, documented so the methods text can state them):
 3. Otherwise skew. Strength from |G1| by Bulmer's cut points; a skew under
    0.5 is labelled ``slight`` only when the test gives p < 0.05 and both robust
    measures lean the same way, else the label is ``symmetric``. When |G1| is
-   0.5 or more but both robust measures are near zero (below 0.1 in size), the
-   skew comes from a few extreme values, not the bulk: the label is
-   ``symmetric`` with reason ``skew_from_few_values``.
+   0.5 or more but both robust measures are near zero (below 0.1 in size), and so
+   is Hinkley's skewness at the 5th and 95th percentiles ((P95 + P5 - 2 M) /
+   (P95 - P5), Hinkley 1975, *Biometrika* 62), the skew comes from a few extreme
+   values, not the bulk: the label is ``symmetric`` with reason
+   ``skew_from_few_values``. (The percentile check is there because the
+   quartiles of rounded data can tie into a symmetric picture.)
 4. Evidence: ``strong`` when p < 0.001 and the robust measures agree in
    direction, ``moderate`` when p < 0.05, ``weak`` otherwise; with fewer than
    20 values evidence is at most ``moderate``.
@@ -73,6 +76,7 @@ class ShapeSignals:
     density_peaks: int | None
     bin_sensitivity: BinSensitivity | None
     has_spread: bool
+    tail_skewness: float | None = None  # Hinkley's skewness at the 5th and 95th percentiles
 
 
 def bimodality_coefficient(skewness: float | None, kurtosis: float | None, n: int) -> float | None:
@@ -133,6 +137,7 @@ def classify_shape(signals: ShapeSignals) -> Shape:
             density_peaks=signals.density_peaks,
             bimodality_coefficient=bc,
             bin_sensitivity=signals.bin_sensitivity,
+            tail_skewness=signals.tail_skewness,
         )
 
     if not signals.has_spread:
@@ -167,9 +172,12 @@ def classify_shape(signals: ShapeSignals) -> Shape:
     direction = _sign(g1)
     robust_signs = {_sign(signals.bowley), _sign(signals.medcouple)}
     robust_agree = robust_signs == {direction}
+    # "The skew comes from a few far values" needs the body of the data, out to the 5th and 95th
+    # percentiles, to be symmetric: the quartiles alone can tie into a symmetric picture (whole-day
+    # waits with quartiles 9, 15, 21 from a clearly skewed gamma shape gave Bowley's 0.00).
     robust_near_zero = all(
         value is not None and abs(value) < ROBUST_NEAR_ZERO for value in (signals.bowley, signals.medcouple)
-    )
+    ) and (signals.tail_skewness is None or abs(signals.tail_skewness) < ROBUST_NEAR_ZERO)
 
     if p is not None and p < P_STRONG and robust_agree:
         evidence = "strong"

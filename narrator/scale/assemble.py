@@ -316,7 +316,7 @@ def describe_source(
         density_estimate, fine_density = layouts.density_from_counts(density_layout, third["density"].counts,
                                                                       keep_fine=True)
     shape = rules.shape_of(n, moments, q1, median, q3, medcouple_value, medcouple_method, density_estimate,
-                           sensitivity, has_spread)
+                           sensitivity, has_spread, tails=(quantile_values[0], quantile_values[-1]))
 
     choice = rules.rule_choice(options.outlier_rule, is_clearly_skewed(shape))
     flagged_pass = third

@@ -143,6 +143,12 @@ class Raw:
         return None if q3 == q1 else (q3 + q1 - 2 * self.median) / (q3 - q1)
 
     @cached_property
+    def tail(self) -> float | None:
+        # Hinkley's (1975) skewness at the 5th and 95th percentiles, numpy's default (type 7) percentiles.
+        p5, p95 = np.percentile(self.values, [5, 95])
+        return None if p95 == p5 else float((p95 + p5 - 2 * self.median) / (p95 - p5))
+
+    @cached_property
     def mc(self) -> float | None:
         # statsmodels' exact O(n^2) algorithm (its fast one is not meant for small samples); O(n^2) is fine here.
         return float(reference_medcouple(self.values, use_fast=False)) if self.n >= 3 else None
@@ -478,6 +484,13 @@ def check_several_groups(c, raw, p):
     _same("mean", c["mean"], raw.mean, raw, p)
 
 
+def _robust_zero(raw) -> bool:
+    """The body of the data is symmetric: Bowley's skewness, the medcouple and Hinkley's skewness at
+    the 5th and 95th percentiles all below 0.1 in size (the engine's documented rule)."""
+    return (raw.bowley is not None and abs(raw.bowley) < 0.1 and raw.mc is not None and abs(raw.mc) < 0.1
+            and (raw.tail is None or abs(raw.tail) < 0.1))
+
+
 def _strength(g1: float) -> str:
     size = abs(g1)  # Bulmer (1979)
     return "slight" if size < 0.5 else "moderate" if size < 1.0 else "strong"
@@ -486,7 +499,7 @@ def _strength(g1: float) -> str:
 def check_shape_reason(c, raw, p):
     g1, bowley, mc = raw.g1, raw.bowley, raw.mc
     _same("g1", c["g1"], g1, raw, p)
-    near_zero = bowley is not None and abs(bowley) < 0.1 and mc is not None and abs(mc) < 0.1
+    near_zero = _robust_zero(raw)
     disagree = bowley is not None and mc is not None and (bowley * g1 < 0 or mc * g1 < 0)
     _problem(g1 is not None and ((near_zero and abs(g1) >= 0.5) or disagree),
              f"G1 {g1} and the robust measures ({bowley}, {mc}) tell the same story", p)
@@ -500,7 +513,7 @@ def check_shape(c, raw, p):
         if g1 is not None and c.get("strength"):
             _problem(_strength(g1) == c["strength"], f"{c['strength']} skew claimed, G1 = {g1:.3f}", p)
     elif label == "symmetric":
-        robust_zero = raw.bowley is not None and abs(raw.bowley) < 0.1 and raw.mc is not None and abs(raw.mc) < 0.1
+        robust_zero = _robust_zero(raw)
         _problem(g1 is not None and (abs(g1) < 0.5 or robust_zero), f"roughly symmetric claimed, G1 = {g1}", p)
     elif label in ("bimodal", "multimodal"):
         _problem(raw.bimodal, "peaks claimed, no signal of two", p)
@@ -646,7 +659,7 @@ def _clearly_skewed(raw: Raw) -> bool:
     if raw.g1 is None or raw.n < 8 or abs(raw.g1) < 0.5:
         return False
     test = raw.skewtest
-    robust_zero = raw.bowley is not None and abs(raw.bowley) < 0.1 and raw.mc is not None and abs(raw.mc) < 0.1
+    robust_zero = _robust_zero(raw)
     return test is not None and test.pvalue < 0.05 and not robust_zero
 
 
