@@ -823,31 +823,56 @@ class EdgeCounts:
 
     def update(self, values: np.ndarray, rows: np.ndarray) -> EdgeCounts:
         if values.size:
-            self.counts += np.bincount(self._index(values), minlength=self.counts.size)
+            self.counts += self._counts(values)
         return self
 
-    def _index(self, values: np.ndarray) -> np.ndarray:
-        """``np.searchsorted(edges, values, side="right")`` (how many edges are at or below each value).
+    def _counts(self, values: np.ndarray) -> np.ndarray:
+        """How many values have each ``np.searchsorted(edges, values, side="right")`` (how many edges are
+        at or below them), without a binary search per value (several times slower on a million values).
 
-        The edges are evenly spaced up to rounding, so each index is first guessed by arithmetic and
-        then moved until edges[i - 1] <= value < edges[i] holds: the same answer without a binary
-        search per value (several times slower on a million values)."""
+        The edges are evenly spaced up to rounding (and the print-clean rounding of
+        :func:`narrator.engine.bins.focus_edges`, at most 1e-6 of a width), so each value's index is
+        found by arithmetic; a value within ``_slack`` of an edge, in units of the step (far more than
+        any of those roundings), is placed by the binary search instead, so every index is the search's.
+        """
         edges = self.edges
         last = edges.size
         if last < 2:
-            return np.searchsorted(edges, values, side="right")
+            return np.bincount(np.searchsorted(edges, values, side="right"), minlength=last + 1)
         step = (edges[-1] - edges[0]) / (last - 1)
+        slack = self._slack(step)
+        if not (step > 0 and math.isfinite(step) and slack < 0.25):
+            return np.bincount(np.searchsorted(edges, values, side="right"), minlength=last + 1)
         with np.errstate(invalid="ignore", over="ignore"):
-            guess = np.floor((values - edges[0]) / step) + 1.0
-        index = np.clip(np.nan_to_num(guess, nan=0.0), 0, last).astype(np.intp)
-        for _ in range(8):
-            low = (index > 0) & (values < edges[np.maximum(index - 1, 0)])
-            high = (index < last) & (values >= edges[np.minimum(index, last - 1)])
-            if not (low.any() or high.any()):
-                return index
-            index -= low
-            index += high
-        return np.searchsorted(edges, values, side="right")
+            position = values - edges[0]
+            position /= step
+        # Far outside the grid the arithmetic may overflow or lose the fraction; there the index is 0 or
+        # ``last`` and half a step away from any edge.
+        np.clip(position, -1.5, last - 0.5, out=position)
+        whole = np.floor(position)
+        position -= whole  # the fraction of a step past the edge below
+        near = position < slack
+        near |= position > 1.0 - slack
+        whole += 1.0
+        np.clip(whole, 0, last, out=whole)
+        index = whole.astype(np.intp)
+        counts = np.bincount(index, minlength=last + 1)
+        if near.any():
+            counts -= np.bincount(index[near], minlength=last + 1)
+            counts += np.bincount(np.searchsorted(edges, values[near], side="right"), minlength=last + 1)
+        return counts
+
+    def _slack(self, step: float) -> float:
+        """A bound, in steps, on how far a value's computed position (value - first edge) / step may sit
+        from its true place among the edges: twice the edges' measured distance from the line
+        first edge + i step (the print-clean rounding of the edges, and their arithmetic), and 64 units
+        of rounding of the largest magnitude involved (edges and index) for the position itself, with
+        a floor of 1e-6 of a step."""
+        edges = self.edges
+        line = edges[0] + np.arange(edges.size) * step
+        off_line = float(np.max(np.abs(edges - line))) / step
+        magnitude = (abs(float(edges[0])) + abs(float(edges[-1]))) / step + edges.size
+        return 1e-6 + 2.0 * off_line + 64.0 * np.finfo(float).eps * magnitude
 
     def merge(self, other: EdgeCounts) -> EdgeCounts:
         self.counts += other.counts
@@ -990,8 +1015,17 @@ class FlaggedValues:
         if high_values.size:
             self.count_high += int(high_values.size)
             self.high_min = min(self.high_min, float(high_values.min()))
-        self._keep(np.concatenate([self.low_values, low_values]), np.concatenate([self.low_rows, rows[low]]),
-                   np.concatenate([self.high_values, high_values]), np.concatenate([self.high_rows, rows[high]]))
+        low_rows, high_rows = rows[low], rows[high]
+        # Only a chunk's own k farthest out on each side (ties included) can be among the k kept: select
+        # them in O(chunk) before the sort.
+        if low_values.size > self.k:
+            enter = low_values <= np.partition(low_values, self.k - 1)[self.k - 1]
+            low_values, low_rows = low_values[enter], low_rows[enter]
+        if high_values.size > self.k:
+            enter = high_values >= -np.partition(-high_values, self.k - 1)[self.k - 1]
+            high_values, high_rows = high_values[enter], high_rows[enter]
+        self._keep(np.concatenate([self.low_values, low_values]), np.concatenate([self.low_rows, low_rows]),
+                   np.concatenate([self.high_values, high_values]), np.concatenate([self.high_rows, high_rows]))
         return self
 
     def merge(self, other: FlaggedValues) -> FlaggedValues:
