@@ -922,29 +922,33 @@ class BinCounts:
 
 
 class LinearBinCounts:
-    """Linear binning (Fan & Marron 1994; Wand 1994) on the grid start + j step, j = 0..size-1, of the
-    values in standard units (x - centre) / unit: each value splits its unit weight between the two
-    nearest grid points. The same arithmetic as the in-memory density's binning; only the order in
-    which the weights are added differs, so the counts agree to rounding."""
+    """Linear binning (Fan & Marron 1994; Wand 1994) on the lattice anchor + j step, j = 0..nodes-1, of the
+    values in standard units (x - centre) / unit, with ``lead`` empty points before and after: each value
+    splits its unit weight between the two nearest lattice points. The same arithmetic as the in-memory
+    density's binning (:func:`narrator.engine.density.fine_lattice`); only the order in which the
+    weights are added differs, so the counts agree to rounding."""
 
-    __slots__ = ("centre", "unit", "start", "step", "size", "counts")
+    __slots__ = ("centre", "unit", "anchor", "step", "nodes", "lead", "counts")
 
-    def __init__(self, centre: float, unit: float, start: float, step: float, size: int) -> None:
-        self.centre, self.unit, self.start, self.step, self.size = centre, unit, start, step, int(size)
-        self.counts = np.zeros(self.size)
+    def __init__(self, centre: float, unit: float, anchor: float, step: float, nodes: int, lead: int = 0) -> None:
+        self.centre, self.unit, self.anchor, self.step = centre, unit, anchor, step
+        self.nodes, self.lead = int(nodes), int(lead)
+        self.counts = np.zeros(self.nodes + 2 * self.lead)
 
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> LinearBinCounts:
         if values.size == 0:
             return self
         position = (values - self.centre) / self.unit
-        position -= self.start
+        position -= self.anchor
         position /= self.step
         index = np.floor(position).astype(np.intp)
-        np.clip(index, 0, self.size - 2, out=index)
+        np.clip(index, 0, self.nodes - 2, out=index)
         position -= index
-        self.counts += np.bincount(index, weights=1.0 - position, minlength=self.size)
+        index += self.lead
+        size = self.counts.size
+        self.counts += np.bincount(index, weights=1.0 - position, minlength=size)
         index += 1
-        self.counts += np.bincount(index, weights=position, minlength=self.size)
+        self.counts += np.bincount(index, weights=position, minlength=size)
         return self
 
     def merge(self, other: LinearBinCounts) -> LinearBinCounts:
@@ -952,10 +956,10 @@ class LinearBinCounts:
         return self
 
     def __getstate__(self):
-        return (self.centre, self.unit, self.start, self.step, self.size, self.counts)
+        return (self.centre, self.unit, self.anchor, self.step, self.nodes, self.lead, self.counts)
 
     def __setstate__(self, state) -> None:
-        self.centre, self.unit, self.start, self.step, self.size, self.counts = state
+        self.centre, self.unit, self.anchor, self.step, self.nodes, self.lead, self.counts = state
 
 
 class FlaggedValues:
