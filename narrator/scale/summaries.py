@@ -754,6 +754,31 @@ class PartitionCounts:
                 total += int(self.point_counts[j])
         return None
 
+    def covers(self, low: float, high: float) -> bool:
+        """Whether every value in [low, high] is counted as itself: each gap the interval meets is kept
+        (boundary points are counted as themselves)."""
+        first = int(np.searchsorted(self.boundaries, low, side="right"))
+        last = int(np.searchsorted(self.boundaries, high, side="left"))
+        return bool(np.all(self.collect[first : last + 1]))
+
+    def counts_at(self, value: float) -> tuple[int, int] | None:
+        """(values below ``value``, values equal to it), exactly, or None when ``value`` lies in a gap
+        whose values were not kept."""
+        size = self.boundaries.size
+        j = int(np.searchsorted(self.boundaries, value, side="left"))
+        if j < size and self.boundaries[j] == value:
+            return int(self.gap_counts[: j + 1].sum() + self.point_counts[:j].sum()), int(self.point_counts[j])
+        if not self.collect[j]:
+            return None
+        below = int(self.gap_counts[:j].sum() + self.point_counts[:j].sum())
+        kept, counts = self.kept_values, self.kept_counts
+        gap_low = -math.inf if j == 0 else self.boundaries[j - 1]
+        start = int(np.searchsorted(kept, gap_low, side="right"))
+        at = int(np.searchsorted(kept, value, side="left"))
+        below += int(counts[start:at].sum())
+        equal = int(counts[at]) if at < kept.size and kept[at] == value else 0
+        return below, equal
+
     def kept_between(self, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
         """Kept distinct values in [low, high] with counts, the boundary points in it included."""
         inside = (self.kept_values >= low) & (self.kept_values <= high)
@@ -1012,6 +1037,10 @@ class FlaggedValues:
             self.inside.update(values)
             return self
         self.inside.update(values[~outside])
+        return self.add_flagged(values, rows, low, high)
+
+    def add_flagged(self, values: np.ndarray, rows: np.ndarray, low: np.ndarray, high: np.ndarray) -> FlaggedValues:
+        """Count and keep the values marked ``low`` and ``high`` as flagged on that side (no moments)."""
         low_values, high_values = values[low], values[high]
         if low_values.size:
             self.count_low += int(low_values.size)
@@ -1097,8 +1126,10 @@ __all__ = [
     "DistinctValues",
     "ExcludingMoments",
     "ExtremeSummary",
+    "CentreBand",
     "FarthestValue",
     "EdgeCounts",
+    "FlaggedBand",
     "FlaggedValues",
     "LinearBinCounts",
     "MeanDistance",
@@ -1224,3 +1255,104 @@ class ExcludingMoments(MomentSummary):
     def __setstate__(self, state) -> None:
         MomentSummary.__setstate__(self, state[:6])
         self.excluded = state[6]
+
+
+class FlaggedBand:
+    """What :class:`FlaggedValues` needs for any limits (lower, upper) with lower in [lower_min, lower_max]
+    and upper in [upper_min, upper_max] (x / factor units), gathered before the limits are known: the
+    values below lower_min and above upper_max as flagged, the moments of the values strictly between
+    lower_max and upper_min, and the values in the two bands themselves with their rows.
+    :meth:`settle` gives the FlaggedValues of the exact limits, or None when they fall outside the bands.
+    """
+
+    def __init__(self, lower_min: float, lower_max: float, upper_min: float, upper_max: float,
+                 factor: float, k: int = LISTED_PER_SIDE) -> None:
+        self.bands = (float(lower_min), float(lower_max), float(upper_min), float(upper_max))
+        self.factor = factor
+        self.definite = FlaggedValues(("fences", lower_min, upper_max), factor, k)
+        self.band_values: list[np.ndarray] = []
+        self.band_rows: list[np.ndarray] = []
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> FlaggedBand:
+        if values.size == 0:
+            return self
+        lower_min, lower_max, upper_min, upper_max = self.bands
+        units = values if self.factor == 1.0 else values / self.factor
+        low, high = units < lower_min, units > upper_max
+        inside = (units > lower_max) & (units < upper_min)
+        band = ~(low | high | inside)
+        self.definite.inside.update(values[inside] if not inside.all() else values)
+        if low.any() or high.any():
+            self.definite.add_flagged(values, rows, low, high)
+        if band.any():
+            self.band_values.append(values[band])
+            self.band_rows.append(rows[band])
+        return self
+
+    def merge(self, other: FlaggedBand) -> FlaggedBand:
+        self.definite.merge(other.definite)
+        self.band_values.extend(other.band_values)
+        self.band_rows.extend(other.band_rows)
+        return self
+
+    def settle(self, lower: float, upper: float) -> FlaggedValues | None:
+        lower_min, lower_max, upper_min, upper_max = self.bands
+        if not (lower_min <= lower <= lower_max and upper_min <= upper <= upper_max):
+            return None
+        exact = FlaggedValues(("fences", lower, upper), self.factor, self.definite.k)
+        if self.band_values:
+            exact.update(np.concatenate(self.band_values), np.concatenate(self.band_rows))
+        return exact.merge(self.definite)
+
+
+class CentreBand:
+    """For the distances |x - m| from any centre m within ``reach`` of ``centre`` (data units): how many
+    values lie nearer ``centre`` than ``inner``, how many farther than ``outer``, and the values in between
+    themselves (distinct, with counts). :meth:`settle` turns them into the :class:`DistanceCounts` of the
+    exact centre, or None when it lies farther than ``reach``."""
+
+    def __init__(self, centre: float, reach: float, inner: float, outer: float, factor: float) -> None:
+        self.centre, self.reach, self.inner, self.outer, self.factor = centre, reach, inner, outer, factor
+        self.below = 0
+        self.above = 0
+        self.kept = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> CentreBand:
+        if values.size == 0:
+            return self
+        distances = np.abs(values - self.centre)
+        near = distances < self.inner
+        far = distances > self.outer
+        self.below += int(np.count_nonzero(near))
+        self.above += int(np.count_nonzero(far))
+        self.kept.update(values[~(near | far)])
+        return self
+
+    def merge(self, other: CentreBand) -> CentreBand:
+        self.below += other.below
+        self.above += other.above
+        self.kept.merge(other.kept)
+        return self
+
+    def settle(self, centre_units: float) -> DistanceCounts | None:
+        """The DistanceCounts of centre ``centre_units`` (x / factor units), its band [inner, outer]
+        shrunk by the reach and a rounding allowance so the values counted below and above lie there."""
+        factor = self.factor
+        allowance = 1e-12 * (abs(self.centre) + self.outer + self.reach)
+        if abs(centre_units * factor - self.centre) > self.reach - allowance:
+            return None
+        inner = (self.inner + self.reach + allowance) / factor
+        outer = (self.outer - self.reach - allowance) / factor
+        if not inner <= outer:
+            return None
+        counts = DistanceCounts(centre_units, factor, inner, outer)
+        values, copies = self.kept.kept_values, self.kept.kept_counts
+        units = values if factor == 1.0 else values / factor
+        distances = np.where(units < centre_units, centre_units - units, units - centre_units)
+        low, high = distances < inner, distances > outer
+        counts.below = self.below + int(copies[low].sum())
+        counts.above = self.above + int(copies[high].sum())
+        middle = ~(low | high)
+        counts._kept._add_kept(distances[middle], copies[middle])
+        counts._kept.gap_counts[0] = int(copies[middle].sum())
+        return counts
