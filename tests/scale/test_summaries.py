@@ -16,19 +16,19 @@ import numpy as np
 import pytest
 from scipy import stats
 
+from narrator.engine import bins as engine_bins
+from narrator.engine import density as engine_density
 from narrator.engine.moments import central_moments, excess_kurtosis, skewness_g1
 from narrator.reading.sample import guess_decimals
 from narrator.scale.ranks import OrderStatistics, plan_brackets, resolve, type7_quantiles, type7_ranks
-from narrator.engine import bins as engine_bins
-from narrator.engine import density as engine_density
 from narrator.scale.summaries import (
     BinCounts,
     CentreBand,
     DistanceCounts,
-    EdgeCounts,
-    FlaggedBand,
     DistinctValues,
+    EdgeCounts,
     ExtremeSummary,
+    FlaggedBand,
     FlaggedValues,
     LinearBinCounts,
     MomentSummary,
