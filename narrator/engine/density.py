@@ -12,6 +12,8 @@ Name                         What it does
 :func:`local_maxima`         every local maximum with its height and prominence
 :func:`standard_units`       an overflow-safe centred and scaled copy of the values
 :func:`next_fast_length`     the FFT length the convolution pads to (5-smooth)
+:func:`fine_lattice`         the fine binning grid (:class:`FineLattice`)
+:func:`coarsen_lattice`      a lattice binning as binned at twice the step
 :class:`BandwidthChoice`     width, rule used, reason code
 :class:`StandardUnits`       centre, unit and the scaled values
 ===========================  =========================================================
@@ -519,13 +521,6 @@ def fine_lattice(low: float, high: float, width: float) -> FineLattice:
         level += 1
 
 
-def lattice_positions(scaled: np.ndarray, lattice: FineLattice) -> np.ndarray:
-    """(scaled - anchor) / step, a new array: each value's place on the lattice, in steps from the anchor."""
-    position = scaled - lattice.anchor
-    position /= lattice.step
-    return position
-
-
 def coarsen_lattice(counts: np.ndarray) -> np.ndarray:
     """Counts linearly binned on a lattice of 2^(L+1) + 1 points, as binned on the one of 2^L + 1 points
     with twice the step: each coarse point takes its own fine point's weight and half of each
@@ -536,12 +531,6 @@ def coarsen_lattice(counts: np.ndarray) -> np.ndarray:
     coarse[:-1] += halves
     coarse[1:] += halves
     return coarse
-
-
-def fine_grid(low: float, high: float, width: float) -> tuple[float, float, int]:
-    """(start, step, size) of the fine binning grid of :func:`fine_lattice`."""
-    lattice = fine_lattice(low, high, width)
-    return lattice.start, lattice.step, lattice.size
 
 
 def choose_bandwidth(

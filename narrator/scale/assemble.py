@@ -8,17 +8,20 @@ Pass  What it gathers                                                         Wh
 1     rows read and left out; n, extremes; moments (Chan et al. 1979          plan,
       merge); KLL sketch; reservoir sample; tail values; suspect-code         centre
       counts; round-number counts; distinct values; precision
-2     exact order statistics in sketch brackets: P5..P95, quartiles,          spread
-      median, the median interval's ranks, the trimmed means' cut points,
-      code-free quartiles, tie candidates
-3     histogram and bin-sensitivity counts; density binning; the MAD's        shape,
-      bracket; trimmed-mean middles; tie-candidate counts; and for each       outliers,
-      rule the automatic choice may take (it waits for the shape): the        with/without
-      values it flags with rows, the moments of the rest, brackets for the
-      rest's quartiles and median, the focused histogram's counts
+2     exact order statistics in sketch brackets: P5..P95, quartiles,          spread,
+      median, the median interval's ranks, the trimmed means' cut points,     shape,
+      code-free quartiles, tie candidates; and, gathered ahead for every      outliers,
+      plan those brackets allow (:class:`_LookAhead`): histogram and          with/without
+      bin-sensitivity counts, density binning, the MAD's band,
+      trimmed-mean middles, and for each rule the automatic choice may take
+      (it waits for the shape): the values it flags with rows, the moments
+      of the rest, brackets for the rest's quartiles and median, the
+      focused histogram's counts
+(3)   the same summaries for the exact plan, read only when the look-ahead
+      did not hold one of them
 ====  ======================================================================  =====
 
-The modified z rule needs the MAD for its limits and takes a fourth pass; values beyond 1e60 or
+The modified z rule needs the MAD for its limits and takes a pass of its own; values beyond 1e60 or
 below 1e-60 in size take one more for their moments in scaled units. A bracket the sketch missed
 (its bound holds with 99 % confidence) is widened and read again in an extra pass, so exact figures
 are always exact. The medcouple is exact when the reservoir holds every value (n up to

@@ -31,7 +31,7 @@ Name                         What it keeps
 :class:`RangeMean`           count and mean of the values inside an open interval
 :class:`BinCounts`           counts per bin of a fixed grid (bin index rule of
                              :mod:`narrator.engine.bins`)
-:class:`LinearBinCounts`     linear binning on a fixed grid (Wand 1994), additive
+:class:`LinearBinCounts`     linear binning on a fixed lattice (Wand 1994), additive
                              over chunks
 :class:`EdgeCounts`          counts in half-open bins between given edges, and
                              beyond them (the histogram over the bulk)
@@ -42,6 +42,10 @@ Name                         What it keeps
 :class:`ExcludingMoments`    moments of the values other than one value
 :class:`DistanceCounts`      distances from a centre: counts below and above a band,
                              the distances inside it (the MAD's bracket)
+:class:`FlaggedBand`         FlaggedValues for any limits within given bands, gathered
+                             before the limits are known
+:class:`CentreBand`          DistanceCounts for any centre near a given one, gathered
+                             before the centre is known
 ===========================  ======================================================
 """
 
