@@ -498,7 +498,10 @@ class _LookAhead:
                 for median in medians:
                     if not q1 <= median <= q3:
                         continue
-                    planned = plan_for(float(q1), float(median), float(q3))
+                    try:
+                        planned = plan_for(float(q1), float(median), float(q3))
+                    except NarratorError:  # a plan the exact figures may not take: the exact one decides
+                        return None
                     for key, part in planned.parts.items():
                         if key == "histogram" or key.startswith("sensitivity"):
                             ahead.bin_keys.setdefault(_bin_key(part), part)
