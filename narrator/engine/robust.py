@@ -40,8 +40,12 @@ MEDCOUPLE_EXACT_MAX_N = 50_000
 # The sampling that narrows the selection's band (speed only; the result is exact whatever it draws).
 _SAMPLING_SEED = 20261201
 _SAMPLING_ROUNDS = 4
-_SAMPLE_SIZE = 8192
-_GATHER_MAX = 1 << 17  # a band this small is evaluated whole and the entry picked by np.partition
+_SAMPLE_SIZE = 4096
+# A band of at most max(_GATHER_PER_LINE x (rows + columns), _GATHER_MAX) entries is evaluated whole and the
+# entry picked by np.partition; a larger one takes another round. A round costs a few passes over the rows,
+# evaluating costs each entry, so the limit grows with n (measured at n = 1e4 and 5e4, tests/benchmarks/).
+_GATHER_MAX = 1 << 14
+_GATHER_PER_LINE = 4
 MEDCOUPLE_SUBSAMPLE_SIZE = 50_000
 
 
@@ -291,7 +295,7 @@ class _Kernel:
         up_to_right = p * q  # sum of right + 1
         left, right, known_larger, up_to_right = self._narrow_by_sampling(first, rank, left, right, known_larger,
                                                                           up_to_right)
-        while up_to_right - known_larger > max(p + q, _GATHER_MAX):
+        while not self._small_enough(up_to_right - known_larger):
             candidate = self._weighted_median_of_row_medians(left, right)
             larger = self.count_larger(candidate, left, right + 1)
             at_least = self.count_at_least(candidate, larger, right + 1)
@@ -319,25 +323,33 @@ class _Kernel:
         value = float(-np.partition(remaining, position)[position])
         return (value, None) if with_previous else value
 
+    def _small_enough(self, band: int) -> bool:
+        """Whether a band of this many entries is evaluated whole rather than narrowed further."""
+        return band <= max(_GATHER_PER_LINE * (self.rows + self.columns), _GATHER_MAX)
+
     def _narrow_by_sampling(self, first, rank, left, right, known_larger, up_to_right):
         """Narrow the band around the entry of ``rank`` before the selection rounds (a speed-up only).
 
-        A fixed-seed uniform sample of the band's entries gives two values that bracket the wanted
-        entry with near certainty (five standard errors of a sample quantile either side); exact counts
-        above and below them, by the same counting the rounds use, keep only the band between them.
-        When a bracket misses (the counts show it), the band is left as it was, so the result is exact
-        either way; only the time changes (a few rounds of sampling replace most selection rounds).
+        A fixed-seed stratified sample of the band's entries (one uniform draw in each of equal strata)
+        gives two values that bracket the wanted entry with near certainty (five standard errors of a
+        sample quantile either side); exact counts above and below them, by the same counting the
+        rounds use, keep only the band between them. When a bracket misses (the counts show it), the
+        band is left as it was, so the result is exact either way; only the time changes (a few rounds
+        of sampling replace most selection rounds).
         """
-        p, q = self.rows, self.columns
         generator = np.random.default_rng(_SAMPLING_SEED)
         for _ in range(_SAMPLING_ROUNDS):
             total = up_to_right - known_larger
-            if total <= max(p + q, _GATHER_MAX):
+            if self._small_enough(total):
                 break
             widths = np.maximum(right - left + 1, 0)
             cumulative = np.cumsum(widths)
             size = _SAMPLE_SIZE
-            draws = np.sort(generator.integers(0, total, size))  # ascending: the row lookups run in order
+            # One draw in each of `size` equal strata of the band: ascending, so the row lookups run in
+            # order with no sort, and the sample quantile's variance is at most a simple random sample's
+            # (a sum of independent indicators, one per stratum), so the margin below still holds.
+            draws = np.floor((np.arange(size) + generator.random(size)) * (total / size)).astype(np.int64)
+            np.minimum(draws, total - 1, out=draws)
             rows = np.searchsorted(cumulative, draws, side="right")
             columns = left[rows] + draws - (cumulative[rows] - widths[rows])
             sample = -self.at(rows, columns)  # negated: np.partition orders ascending, ranks here descend
