@@ -8,6 +8,7 @@ Name                           What it does
 :func:`nice_width`             round a width to 1, 2, 2.5 or 5 times a power of ten
 :func:`histogram_plan`         rule -> raw width -> nice width -> edges and counts
 :func:`count_visible_peaks`    peaks of a histogram that sampling noise cannot explain
+:func:`count_visible_peaks_each`  the same for several histograms, in one search
 :func:`bin_sensitivity`        visible peaks at 3 widths x 4 offsets -> BinSensitivity
 =============================  ========================================================
 
@@ -54,12 +55,13 @@ would squeeze the bulk (``Findings.histogram_focus``): see :func:`focus_layout`.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
 import numpy as np
 
-from narrator.engine.density import local_maxima, standard_units
+from narrator.engine.density import local_maxima_each, standard_units
 from narrator.engine.distributions import normal_isf
 from narrator.errors import NarratorError
 from narrator.findings import BinSensitivity, HistogramPlan
@@ -514,21 +516,40 @@ def count_visible_peaks(counts) -> int:
     >>> count_visible_peaks([50, 52, 49, 51, 50])
     1
     """
-    heights = np.asarray(counts, dtype=float).ravel()
-    if not (np.all(np.isfinite(heights)) and np.all(heights >= 0)):
-        raise NarratorError("histogram counts must be finite and not negative")
-    if heights.size == 0:
-        return 0
-    tallest = float(heights.max())
-    if tallest <= 0:
-        return 0
-    _, peak_height, prominence = local_maxima(heights)
-    valley = np.maximum(peak_height - prominence, 0.0)
-    noise_z = max(float(normal_isf(FALSE_PEAK_RATE / (2.0 * heights.size))), MIN_NOISE_Z)
-    needed = np.maximum(noise_z * np.sqrt(peak_height + valley), PEAK_MIN_SHARE * tallest)
-    visible = prominence >= needed
-    visible[np.argmax(prominence)] = True  # the tallest peak: its prominence is its full height
-    return int(visible.sum())
+    return count_visible_peaks_each([counts])[0]
+
+
+def count_visible_peaks_each(histograms) -> list[int]:
+    """:func:`count_visible_peaks` of each histogram, their maxima found in one search
+    (:func:`narrator.engine.density.local_maxima_each`).
+
+    >>> count_visible_peaks_each([[2, 30, 60, 30, 5, 30, 55, 25, 3], [50, 52, 49, 51, 50], []])
+    [2, 1, 0]
+    """
+    peaks = [0] * len(histograms)
+    chosen, curves = [], []
+    for k, counts in enumerate(histograms):
+        heights = np.asarray(counts, dtype=float).ravel()
+        if not (np.all(np.isfinite(heights)) and np.all(heights >= 0)):
+            raise NarratorError("histogram counts must be finite and not negative")
+        if heights.size and heights.max() > 0:
+            chosen.append(k)
+            curves.append(heights)
+    for k, heights, (_, peak_height, prominence) in zip(chosen, curves, local_maxima_each(curves), strict=True):
+        tallest = float(heights.max())
+        valley = np.maximum(peak_height - prominence, 0.0)
+        noise_z = _noise_z(heights.size)
+        needed = np.maximum(noise_z * np.sqrt(peak_height + valley), PEAK_MIN_SHARE * tallest)
+        visible = prominence >= needed
+        visible[np.argmax(prominence)] = True  # the tallest peak: its prominence is its full height
+        peaks[k] = int(visible.sum())
+    return peaks
+
+
+@functools.lru_cache(maxsize=256)
+def _noise_z(bins: int) -> float:
+    """z_k of :func:`count_visible_peaks` for k bins."""
+    return max(float(normal_isf(FALSE_PEAK_RATE / (2.0 * bins))), MIN_NOISE_Z)
 
 
 def _fine_resolution(widths: tuple[float, ...], offsets: tuple[float, ...]) -> tuple[float, int] | None:
@@ -646,28 +667,25 @@ def sensitivity_from_counts(grid: SensitivityGrid, counts) -> BinSensitivity:
         total = float(bin_counts.sum())
         return float(bin_counts.max()) / total if total > 0 else 1.0
 
+    columns = len(grid.offsets)
     if grid.fine is not None:
         step, _ = grid.fine
         fine_counts = np.asarray(counts[0])
+        histograms = []
         for w in grid.scaled_widths:
             steps_per_bin = round(w / step)
-            row, shares = [], []
             for o in grid.offsets:
                 # Fine bins before the offset are empty: the origin sits a whole period below the data.
                 shifted = fine_counts[round(o * w / step):]
                 padding = (-shifted.size) % steps_per_bin
                 coarse = np.concatenate((shifted, np.zeros(padding, dtype=shifted.dtype)))
-                summed = coarse.reshape(-1, steps_per_bin).sum(axis=1)
-                row.append(count_visible_peaks(summed))
-                shares.append(share_of_fullest(summed))
-            peak_counts.append(tuple(row))
-            fullest.append(shares)
+                histograms.append(coarse.reshape(-1, steps_per_bin).sum(axis=1))
     else:
-        columns = len(grid.offsets)
-        for i in range(len(grid.scaled_widths)):
-            peak_counts.append(tuple(count_visible_peaks(counts[i * columns + j]) for j in range(columns)))
-            fullest.append([share_of_fullest(counts[i * columns + j]) for j in range(columns)])
-    flat = [count for row in peak_counts for count in row]
+        histograms = list(counts)
+    flat = count_visible_peaks_each(histograms)
+    for i in range(len(grid.scaled_widths)):
+        peak_counts.append(tuple(flat[i * columns : (i + 1) * columns]))
+        fullest.append([share_of_fullest(histograms[i * columns + j]) for j in range(columns)])
     # At the base width (the row whose width is nearest the plan's), the offset that spreads the values most.
     base_row = min(range(len(grid.widths)), key=lambda i: (abs(grid.widths[i] - grid.base_width), i))
     largest = min(fullest[base_row])

@@ -10,6 +10,7 @@ Name                         What it does
 :func:`estimate_density`     Gaussian KDE by linear binning and FFT -> :class:`Density`
 :func:`find_peaks`           prominent peaks of a curve sampled on a grid
 :func:`local_maxima`         every local maximum with its height and prominence
+:func:`local_maxima_each`    the same for several curves, in one search
 :func:`standard_units`       an overflow-safe centred and scaled copy of the values
 :func:`next_fast_length`     the FFT length the convolution pads to (5-smooth)
 :class:`BandwidthChoice`     width, rule used, reason code
@@ -759,17 +760,51 @@ def local_maxima(curve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     >>> local_maxima([1.0, 3.0, 3.0, 3.0, 0.5, 2.0])
     (array([2, 5]), array([3., 2.]), array([3. , 1.5]))
     """
-    heights = np.asarray(curve, dtype=float).ravel()
-    padded = np.concatenate(([0.0], heights, [0.0]))
-    run_starts = np.concatenate(([0], np.flatnonzero(np.diff(padded) != 0) + 1))
-    run_ends = np.concatenate((run_starts[1:], [padded.size]))
-    run_heights = padded[run_starts]
-    top = float(run_heights.max()) if run_heights.size else 0.0
-    # A rising tie-break far below any real difference orders equal separate maxima.
-    tie_break = 1e-12 * max(top, 1e-300) * np.arange(run_heights.size) / max(run_heights.size, 1)
-    found, prominences = _peaks_and_prominences(run_heights + tie_break)
-    middles = (run_starts[found] + run_ends[found] - 1) // 2 - 1  # middle of the flat top, unpadded
-    return middles.astype(np.intp), run_heights[found], prominences
+    return local_maxima_each([curve])[0]
+
+
+def local_maxima_each(curves) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    """:func:`local_maxima` of each curve, found in one search over all of them.
+
+    The prepared curves (padded, flat runs collapsed, tie-break added, each curve on its own) are joined
+    end to end with a NaN between two: no curve's first or last point has a neighbour on both sides, and
+    no search for a base passes a NaN, so every maximum and prominence is the one the curve alone gives,
+    to the bit. One whole-array search over the joined curves costs about what one curve's does, where
+    the 12 short histograms of the bin-sensitivity grid paid for 12 scans.
+
+    >>> [found.tolist() for found, _, _ in local_maxima_each([[1.0, 0.0, 2.0], [5.0]])]
+    [[0, 2], [0]]
+    """
+    prepared, pieces = [], []
+    for curve in curves:
+        heights = np.asarray(curve, dtype=float).ravel()
+        padded = np.concatenate(([0.0], heights, [0.0]))
+        run_starts = np.concatenate(([0], np.flatnonzero(np.diff(padded) != 0) + 1))
+        run_ends = np.concatenate((run_starts[1:], [padded.size]))
+        run_heights = padded[run_starts]
+        top = float(run_heights.max()) if run_heights.size else 0.0
+        # A rising tie-break far below any real difference orders equal separate maxima.
+        tie_break = 1e-12 * max(top, 1e-300) * np.arange(run_heights.size) / max(run_heights.size, 1)
+        prepared.append((run_starts, run_ends, run_heights))
+        pieces.append(run_heights + tie_break)
+    if not pieces:
+        return []
+    if len(pieces) == 1:
+        joined, begins = pieces[0], np.zeros(1, dtype=np.intp)
+    else:
+        sizes = np.array([piece.size for piece in pieces], dtype=np.intp)
+        begins = np.concatenate(([0], np.cumsum(sizes[:-1] + 1)))
+        joined = np.full(int(sizes.sum()) + len(pieces) - 1, np.nan)
+        for begin, piece in zip(begins.tolist(), pieces, strict=True):
+            joined[begin : begin + piece.size] = piece
+    found, prominences = _peaks_and_prominences(joined)
+    bounds = np.searchsorted(found, np.append(begins, joined.size)).tolist()
+    results = []
+    for k, (run_starts, run_ends, run_heights) in enumerate(prepared):
+        local = found[bounds[k] : bounds[k + 1]] - begins[k]
+        middles = (run_starts[local] + run_ends[local] - 1) // 2 - 1  # middle of the flat top, unpadded
+        results.append((middles.astype(np.intp), run_heights[local], prominences[bounds[k] : bounds[k + 1]]))
+    return results
 
 
 # scipy.signal would cost most of a second of start-up (it imports scipy.stats); the two routines the
