@@ -188,7 +188,7 @@ class _Kernel:
     median appear in both: last in ``upper``, first in ``lower``.
     """
 
-    __slots__ = ("upper", "lower", "rows", "columns", "ties")
+    __slots__ = ("upper", "lower", "rows", "columns", "ties", "every_row", "upper_ascending", "lower_negated")
 
     def __init__(self, upper: np.ndarray, lower: np.ndarray) -> None:
         self.upper = upper
@@ -196,6 +196,10 @@ class _Kernel:
         self.rows = int(upper.size)
         self.columns = int(lower.size)
         self.ties = bool(self.rows and upper[-1] == 0.0)  # some value equals the median
+        # Made once for the counting rounds: 0..rows-1, upper ascending, -lower (ascending).
+        self.every_row = np.arange(self.rows)
+        self.upper_ascending = np.ascontiguousarray(upper[::-1])
+        self.lower_negated = -lower
 
     def at(self, i: np.ndarray, j: np.ndarray) -> np.ndarray:
         """h(upper[i], lower[j]) for index arrays of equal shape."""
@@ -228,7 +232,7 @@ class _Kernel:
         [low[k], high[k]]; bisection finds it.
         """
         if rows is None:
-            rows = np.arange(low.size)
+            rows = self.every_row if low.size == self.rows else np.arange(low.size)
         low = low.copy()
         high = high.copy()
         pending = np.nonzero(low < high)[0]
@@ -251,12 +255,13 @@ class _Kernel:
         """
         if not -1.0 < value < 1.0:
             return self.count_above(value, low, high, strict=True)
-        threshold = self.upper * ((value - 1.0) / (value + 1.0))
-        # -lower is ascending; the number of lower values > threshold is the insertion point of -threshold.
-        # upper decreases and the multiplier is negative, so -threshold decreases: reversed, it is
-        # ascending, and the insertion points come from one linear merge.
-        guess = np.clip(_insertion_points(-self.lower, (-threshold)[::-1])[::-1], low, high)
-        rows = np.arange(self.rows)
+        # Row i's threshold is upper[i] (value - 1) / (value + 1). -lower is ascending; the number of lower
+        # values > threshold is the insertion point of -threshold, which decreases with i (upper decreases,
+        # the multiplier is negative): in ascending order it is upper ascending times -multiplier (negation
+        # is exact), and the insertion points come from one linear merge.
+        negated_thresholds = self.upper_ascending * -((value - 1.0) / (value + 1.0))
+        guess = np.clip(_insertion_points(self.lower_negated, negated_thresholds)[::-1], low, high)
+        rows = self.every_row
         last_column = self.columns - 1
         left_ok = (guess == low) | (self.at(rows, np.maximum(guess - 1, 0)) > value)
         right_ok = (guess == high) | (self.at(rows, np.minimum(guess, last_column)) <= value)
@@ -432,6 +437,6 @@ def _insertion_points(haystack: np.ndarray, needles: np.ndarray) -> np.ndarray:
     (its own index, the needles being ascending), is its insertion point.
     """
     merged = np.argsort(np.concatenate([needles, haystack]), kind="stable")
-    position = np.empty(merged.size, dtype=np.int64)
-    position[merged] = np.arange(merged.size)
-    return position[: needles.size] - np.arange(needles.size)
+    # The needles keep their order in the merge (ascending, and the sort is stable), so needle k is the
+    # k-th of the merged positions holding a needle.
+    return np.flatnonzero(merged < needles.size) - np.arange(needles.size)
