@@ -88,8 +88,16 @@ def medcouple_of_sample(sorted_values: np.ndarray, seed: int) -> tuple[float, st
     if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
         raise NarratorError(f"the medcouple subsample needs a whole-number seed >= 0; got {seed!r}")
     generator = np.random.default_rng(int(seed))
-    positions = np.sort(generator.choice(n, size=MEDCOUPLE_SUBSAMPLE_SIZE, replace=False))
-    subsample = np.asarray(sorted_values, dtype=np.float64)[positions]
+    positions = generator.choice(n, size=MEDCOUPLE_SUBSAMPLE_SIZE, replace=False)
+    values = np.asarray(sorted_values, dtype=np.float64)
+    if n <= 64 * MEDCOUPLE_SUBSAMPLE_SIZE:
+        # The positions are distinct: marking them and reading the marked values in order takes them in
+        # increasing order without a sort (a pass over n flags, cheaper than sorting the positions here).
+        chosen = np.zeros(n, dtype=bool)
+        chosen[positions] = True
+        subsample = values[chosen]
+    else:
+        subsample = values[np.sort(positions)]
     return medcouple(subsample), f"subsample:{MEDCOUPLE_SUBSAMPLE_SIZE}:{int(seed)}"
 
 
