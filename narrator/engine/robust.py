@@ -211,8 +211,14 @@ class _Kernel:
 
     def at(self, i: np.ndarray, j: np.ndarray) -> np.ndarray:
         """h(upper[i], lower[j]) for index arrays of equal shape."""
-        a = self.upper[i]
-        b = self.lower[j]
+        return self._kernel_of(self.upper[i], self.lower[j], i, j)
+
+    def at_each_row(self, j: np.ndarray) -> np.ndarray:
+        """h(upper[i], lower[j[i]]) for every row i (no gather of the rows' values)."""
+        return self._kernel_of(self.upper, self.lower[j], self.every_row, j)
+
+    def _kernel_of(self, a: np.ndarray, b: np.ndarray, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        """h(a, b) for a = upper[i], b = lower[j]."""
         if not self.ties:
             return (a + b) / (a - b)  # no value equals the median: a > 0 > b, the denominator is positive
         both_at_median = (a == 0.0) & (b == 0.0)
@@ -269,10 +275,9 @@ class _Kernel:
         # is exact), and the insertion points come from one linear merge.
         negated_thresholds = self.upper_ascending * -((value - 1.0) / (value + 1.0))
         guess = np.clip(_insertion_points(self.lower_negated, negated_thresholds)[::-1], low, high)
-        rows = self.every_row
         last_column = self.columns - 1
-        left_ok = (guess == low) | (self.at(rows, np.maximum(guess - 1, 0)) > value)
-        right_ok = (guess == high) | (self.at(rows, np.minimum(guess, last_column)) <= value)
+        left_ok = (guess == low) | (self.at_each_row(np.maximum(guess - 1, 0)) > value)
+        right_ok = (guess == high) | (self.at_each_row(np.minimum(guess, last_column)) <= value)
         wrong = np.nonzero(~(left_ok & right_ok))[0]
         if wrong.size:
             guess[wrong] = self.count_above(value, low[wrong], high[wrong], strict=True, rows=wrong)
