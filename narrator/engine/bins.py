@@ -61,7 +61,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from narrator.engine.density import local_maxima_each, standard_units
+from narrator.engine.density import local_maxima_of_curves, standard_units
 from narrator.engine.distributions import normal_isf
 from narrator.errors import NarratorError
 from narrator.findings import BinSensitivity, HistogramPlan
@@ -520,30 +520,37 @@ def count_visible_peaks(counts) -> int:
 
 
 def count_visible_peaks_each(histograms) -> list[int]:
-    """:func:`count_visible_peaks` of each histogram, their maxima found in one search
-    (:func:`narrator.engine.density.local_maxima_each`).
+    """:func:`count_visible_peaks` of each histogram, all in one pass: their maxima found in one search
+    (:func:`narrator.engine.density.local_maxima_of_curves`) and the rule applied to every peak at once.
 
     >>> count_visible_peaks_each([[2, 30, 60, 30, 5, 30, 55, 25, 3], [50, 52, 49, 51, 50], []])
     [2, 1, 0]
     """
-    peaks = [0] * len(histograms)
-    chosen, curves = [], []
-    for k, counts in enumerate(histograms):
-        heights = np.asarray(counts, dtype=float).ravel()
-        if not (np.all(np.isfinite(heights)) and np.all(heights >= 0)):
-            raise NarratorError("histogram counts must be finite and not negative")
-        if heights.size and heights.max() > 0:
-            chosen.append(k)
-            curves.append(heights)
-    for k, heights, (_, peak_height, prominence) in zip(chosen, curves, local_maxima_each(curves), strict=True):
-        tallest = float(heights.max())
+    arrays = [np.asarray(counts, dtype=float).ravel() for counts in histograms]
+    every = np.concatenate(arrays) if arrays else np.zeros(0)
+    if not (np.all(np.isfinite(every)) and np.all(every >= 0)):
+        raise NarratorError("histogram counts must be finite and not negative")
+    sizes = np.array([array.size for array in arrays], dtype=np.intp)
+    tallest = np.zeros(len(arrays))
+    filled = np.flatnonzero(sizes)
+    if filled.size:
+        tallest[filled] = np.maximum.reduceat(every, (np.cumsum(sizes) - sizes)[filled])
+    chosen = np.flatnonzero(tallest > 0)
+    peaks = np.zeros(len(arrays), dtype=np.int64)
+    if chosen.size:
+        curve, _, peak_height, prominence = local_maxima_of_curves([arrays[k] for k in chosen.tolist()])
         valley = np.maximum(peak_height - prominence, 0.0)
-        noise_z = _noise_z(heights.size)
-        needed = np.maximum(noise_z * np.sqrt(peak_height + valley), PEAK_MIN_SHARE * tallest)
+        noise_z = np.array([_noise_z(int(sizes[k])) for k in chosen.tolist()])[curve]
+        needed = np.maximum(noise_z * np.sqrt(peak_height + valley), PEAK_MIN_SHARE * tallest[chosen][curve])
         visible = prominence >= needed
-        visible[np.argmax(prominence)] = True  # the tallest peak: its prominence is its full height
-        peaks[k] = int(visible.sum())
-    return peaks
+        # The tallest peak of each histogram (its prominence is its full height), the first of equal ones.
+        firsts = np.searchsorted(curve, np.arange(chosen.size))
+        highest = prominence == np.maximum.reduceat(prominence, firsts)[curve]
+        candidates = np.flatnonzero(highest)
+        first_of_curve = np.concatenate(([True], curve[candidates][1:] != curve[candidates][:-1]))
+        visible[candidates[first_of_curve]] = True
+        peaks[chosen] = np.bincount(curve[visible], minlength=chosen.size)
+    return peaks.tolist()
 
 
 @functools.lru_cache(maxsize=256)
