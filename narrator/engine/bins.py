@@ -208,6 +208,25 @@ def _sorted_bin_counts(
     return np.diff(starts)
 
 
+# Below this many values, indexing every value costs less than the binary searches' fixed steps
+# (measured: 20 to 100 us against 110 to 420 us at 3 000 to 30 000 values, 40 to 700 bins).
+_INDEX_EVERY_VALUE_MAX = 32_768
+
+
+def _grid_counts(
+    array: np.ndarray, width: float, shift: float, first_index: float, tolerance: float, bins: int, *,
+    presorted: bool,
+) -> np.ndarray:
+    """Counts per bin, clipped to bins 0..bins-1: by binary search in sorted values when that is cheaper
+    (many values, few bins), else by indexing every value; the counts are the same either way."""
+    n = array.size
+    if presorted and n > _INDEX_EVERY_VALUE_MAX and bins * math.log2(n + 1) < n:
+        return _sorted_bin_counts(array, width, shift, first_index, tolerance, bins)
+    index = _bin_index(array, width, shift, first_index, tolerance)
+    np.clip(index, 0, bins - 1, out=index)
+    return np.bincount(index, minlength=bins)
+
+
 def _sorted_ends(array: np.ndarray, what: str) -> tuple[float, float]:
     """(smallest, largest) of values said to be sorted ascending; a NaN sorts last, infinities sit at the ends."""
     if array.size == 0:
@@ -478,12 +497,8 @@ def histogram_plan(
             skewness = float(np.mean(centred**3)) / float(np.mean(centred**2)) ** 1.5
     layout = histogram_layout(n=array.size, low=low, high=high, rule=rule, whole=whole, units=units,
                               sd_scaled=sd_scaled, iqr_scaled=iqr_scaled, doane_skewness=skewness)
-    if presorted:
-        counts = _sorted_bin_counts(array, layout.width, layout.shift, layout.first, layout.tolerance, layout.bins)
-    else:
-        index = _bin_index(array, layout.width, layout.shift, layout.first, layout.tolerance)
-        np.clip(index, 0, layout.bins - 1, out=index)
-        counts = np.bincount(index, minlength=layout.bins)
+    counts = _grid_counts(array, layout.width, layout.shift, layout.first, layout.tolerance, layout.bins,
+                          presorted=presorted)
     return plan_from_counts(layout, counts)
 
 
@@ -742,14 +757,8 @@ def bin_sensitivity(
                             integer_valued=integer_valued)
     if grid.factor != 1.0:
         array = array / grid.factor
-    counts = []
-    for width, shift, first, tolerance, bins in grid.grids:
-        if presorted and bins * math.log2(array.size + 1) < array.size:
-            counts.append(_sorted_bin_counts(array, width, shift, first, tolerance, bins))
-        else:
-            index = _bin_index(array, width, shift, first, tolerance)
-            np.clip(index, 0, bins - 1, out=index)
-            counts.append(np.bincount(index, minlength=bins))
+    counts = [_grid_counts(array, width, shift, first, tolerance, bins, presorted=presorted)
+              for width, shift, first, tolerance, bins in grid.grids]
     return sensitivity_from_counts(grid, counts)
 
 
