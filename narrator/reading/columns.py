@@ -26,6 +26,7 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Iterable
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
@@ -129,18 +130,23 @@ def read_column(
         layout = text_files.text_layout(target, kind, encoding)
         headers = list(layout.headers)
         index = select_column(headers, column, name)
-        if id_column is None:
-            cells = next(text_files.text_column_cells(layout, index, rules))
-        else:
-            id_index = _select_id_column(headers, id_column, index, name)
-            parts, id_parts = [], []
-            for texts, id_texts in text_files.text_columns(layout, [index, id_index],
-                                                           decimal_comma=rules.decimal_comma):
-                parts.append(classify_texts(texts, rules).kept_examples(rules))
-                id_parts.extend(_id_text(cell) for cell in id_texts.to_pylist())
-            cells = Cells.concatenate(parts, rules)
-            ids, id_header = np.array(id_parts, dtype=object), headers[id_index]
-        facts = {"sha256": file_sha256(target), "sheet": None, "encoding": layout.encoding,
+        # The file's digest is taken on a second thread while the column is read (hashlib lets
+        # the other thread run), so a core left free by the cell rules is used.
+        with ThreadPoolExecutor(1) as pool:
+            digest = pool.submit(file_sha256, target)
+            if id_column is None:
+                cells = next(text_files.text_column_cells(layout, index, rules))
+            else:
+                id_index = _select_id_column(headers, id_column, index, name)
+                parts, id_parts = [], []
+                for texts, id_texts in text_files.text_columns(layout, [index, id_index],
+                                                               decimal_comma=rules.decimal_comma):
+                    parts.append(classify_texts(texts, rules).kept_examples(rules))
+                    id_parts.extend(_id_text(cell) for cell in id_texts.to_pylist())
+                cells = Cells.concatenate(parts, rules)
+                ids, id_header = np.array(id_parts, dtype=object), headers[id_index]
+            sha256 = digest.result()
+        facts = {"sha256": sha256, "sheet": None, "encoding": layout.encoding,
                  "encoding_guessed": layout.encoding_guessed, "delimiter": layout.shown_delimiter}
     elif kind == "xlsx":
         headers, index, cells, facts, ids, id_header = _read_excel(target, column, sheet, rules, id_column)

@@ -42,7 +42,9 @@ one cell, is refused with its row. Fully blank rows at the very end of the
 file are not data rows.
 
 Bounds. Only the chosen columns are kept, block by block (pyarrow's CSV
-reader, :data:`BLOCK_BYTES` at a time, which is also the longest row read);
+reader, :data:`BLOCK_BYTES` at a time, which is also the longest row read; a
+file of up to :data:`WHOLE_READ_BYTES` is parsed whole on every core, a larger
+one streamed so that memory holds one block's text at a time);
 the header line is at most :data:`MAX_HEADER_BYTES`, the header at most
 :data:`~narrator.reading.files.MAX_COLUMNS` wide, and a kept cell at most
 :data:`~narrator.reading.files.MAX_CELL_CHARACTERS` long. Rows are numbered as
@@ -74,6 +76,7 @@ __all__ = [
     "DETECTION_BYTES",
     "MAX_HEADER_BYTES",
     "ONE_COLUMN",
+    "WHOLE_READ_BYTES",
     "TextLayout",
     "choose_delimiter",
     "detect_encoding",
@@ -85,6 +88,7 @@ __all__ = [
 DETECTION_BYTES = 1 << 20  # the start of a file that decides its codec
 MAX_HEADER_BYTES = 8 << 20  # the longest header line read
 BLOCK_BYTES = 4 << 20  # bytes parsed at a time; also the longest row
+WHOLE_READ_BYTES = 16 << 20  # files up to this size are parsed whole, on every core (see _arrow_batches)
 # A delimiter no one types: with it each line of a one-column file is one cell.
 ONE_COLUMN = "\x1f"
 _DELIMITER_NAMES = {",": "commas", ";": "semicolons", "\t": "tabs", ONE_COLUMN: "no delimiter"}
@@ -308,25 +312,48 @@ def _shown_mark(delimiter: str) -> str:
     return {"\t": "tab", ONE_COLUMN: "unit separator"}.get(delimiter, delimiter)
 
 
-def _arrow_reader(layout: TextLayout, indices: Sequence[int], checks: _RowChecks):
+def _arrow_batches(layout: TextLayout, indices: Sequence[int], checks: _RowChecks) -> Iterator[pa.RecordBatch]:
+    """pyarrow's record batches of the columns at ``indices``, as text, in file order.
+
+    Read on several threads (``checks.threaded``), a file of up to :data:`WHOLE_READ_BYTES` is
+    parsed whole by pyarrow's table reader, which spreads the blocks over the cores (its
+    streaming reader parses on one thread); a larger file, or any file read on one thread,
+    streams block by block, so memory holds one block's text at a time. Both take the same
+    options, so they keep the same rows and cells. Opening the file may raise pyarrow's errors
+    at once; later errors come from the iteration.
+    """
     import pyarrow.csv as pa_csv
 
     names = [f"f{k}" for k in range(len(layout.headers))]
     kept = [names[k] for k in indices]
     codec = "utf8" if layout.encoding in ("utf-8", "utf-8-sig") else layout.encoding
+    read_options = pa_csv.ReadOptions(column_names=names, skip_rows=1, use_threads=checks.threaded,
+                                      block_size=BLOCK_BYTES, encoding=codec)
+    parse_options = pa_csv.ParseOptions(delimiter=layout.delimiter, quote_char='"', double_quote=True,
+                                        escape_char=False, newlines_in_values=layout.quoted,
+                                        ignore_empty_lines=False, invalid_row_handler=checks)
+    convert_options = pa_csv.ConvertOptions(include_columns=kept, column_types=dict.fromkeys(kept, pa.string()),
+                                            strings_can_be_null=False, quoted_strings_can_be_null=False)
+    if checks.threaded and layout.path.stat().st_size <= WHOLE_READ_BYTES:
+        def whole() -> Iterator[pa.RecordBatch]:
+            table = pa_csv.read_csv(str(layout.path), read_options=read_options, parse_options=parse_options,
+                                    convert_options=convert_options)
+            yield from table.combine_chunks().to_batches()
+        return whole()
     try:
-        return pa_csv.open_csv(
-            str(layout.path),
-            read_options=pa_csv.ReadOptions(column_names=names, skip_rows=1, use_threads=checks.threaded,
-                                            block_size=BLOCK_BYTES, encoding=codec),
-            parse_options=pa_csv.ParseOptions(delimiter=layout.delimiter, quote_char='"', double_quote=True,
-                                              escape_char=False, newlines_in_values=layout.quoted,
-                                              ignore_empty_lines=False, invalid_row_handler=checks),
-            convert_options=pa_csv.ConvertOptions(include_columns=kept, column_types=dict.fromkeys(kept, pa.string()),
-                                                  strings_can_be_null=False, quoted_strings_can_be_null=False),
-        )
+        reader = pa_csv.open_csv(str(layout.path), read_options=read_options, parse_options=parse_options,
+                                 convert_options=convert_options)
     except (pa.ArrowException, OSError) as exc:
         raise _arrow_error(layout, exc, indices) from None
+
+    def streamed() -> Iterator[pa.RecordBatch]:
+        while True:
+            try:
+                batch = reader.read_next_batch()
+            except StopIteration:
+                return
+            yield batch
+    return streamed()
 
 
 _OUT_OF_MEMORY = ("malloc of size", "cannot allocate memory", "out of memory", "bad_alloc")
@@ -451,7 +478,7 @@ def text_columns(layout: TextLayout, indices: Sequence[int], *, decimal_comma: b
     # Several threads first; the first row with another number of fields than the header sends
     # the reading back to one thread, from the start, dropping the rows already handed over.
     checks = _RowChecks(layout, decimal_comma, threaded=True)
-    reader = _arrow_reader(layout, read, checks)
+    batches = _arrow_batches(layout, read, checks)
     position = 0  # data position of the next row pyarrow's rows are placed from
     handed = 0  # rows already placed when the reading went back to one thread: dropped on the way
     held: list[list[pa.Array]] = []  # blank rows held back: blank rows at the very end are not data rows
@@ -460,7 +487,7 @@ def text_columns(layout: TextLayout, indices: Sequence[int], *, decimal_comma: b
     last_cells: list[str] = []
     while True:
         try:
-            batch = reader.read_next_batch()
+            batch = next(batches)
         except StopIteration:
             if checks.threaded and checks.odd_row_seen:
                 batch = None
@@ -472,7 +499,7 @@ def text_columns(layout: TextLayout, indices: Sequence[int], *, decimal_comma: b
         if checks.threaded and checks.odd_row_seen:
             handed, position = position, 0
             checks = _RowChecks(layout, decimal_comma)
-            reader = _arrow_reader(layout, read, checks)
+            batches = _arrow_batches(layout, read, checks)
             continue
         checks.raise_first()
         start = position

@@ -92,14 +92,23 @@ def narrator_reads(path):
     return list(layout.headers), columns
 
 
+@pytest.fixture(params=["whole", "streamed"])
+def read_path(request, monkeypatch):
+    """Both ways of reading a file on several threads: parsed whole (files up to
+    WHOLE_READ_BYTES) and streamed block by block (larger files; here every file)."""
+    if request.param == "streamed":
+        monkeypatch.setattr(text_files, "WHOLE_READ_BYTES", -1)
+    return request.param
+
+
 @pytest.mark.parametrize("label", sorted(AWKWARD))
-def test_reader_gives_the_same_cells_as_pandas(tmp_path, label):
+def test_reader_gives_the_same_cells_as_pandas(tmp_path, label, read_path):
     path = tmp_path / "data.csv"
     path.write_bytes(AWKWARD[label])
     assert narrator_reads(path) == reference(AWKWARD[label])
 
 
-def test_reader_matches_pandas_on_random_texts(tmp_path):
+def test_reader_matches_pandas_on_random_texts(tmp_path, read_path):
     # Short random texts over the characters that matter to line and field splitting; fixed seed.
     generator = random.Random(20261201)
     alphabet = ["1", "2", ".", ",", ";", "\t", " ", "\r", "\n", "\n", "-", "a", "\x0b", "\x1c", "\u0085", "\u00a0"]
@@ -115,7 +124,7 @@ def test_reader_matches_pandas_on_random_texts(tmp_path):
     assert read > 150  # most cases are read, so the comparison covers cells, not only refusals
 
 
-def test_blocks_and_short_rows_across_block_edges(tmp_path, monkeypatch):
+def test_blocks_and_short_rows_across_block_edges(tmp_path, monkeypatch, read_path):
     # Small blocks: short rows, blank rows and a quoted line break fall on block edges (generated data).
     monkeypatch.setattr(text_files, "BLOCK_BYTES", 64)
     lines = ["id,x,y"]
