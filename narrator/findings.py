@@ -462,6 +462,9 @@ class Unusual:
     entry_error_reason: str = "none_found"  # "none_found", "found", "many", "not_positive", "not_checked"
     fitted_shape: str | None = None  # "normal" or "lognormal": the shape the values are judged against
     entry_error_probable_count: int = 0  # of entry_error_count, those with strength "probable"
+    # Far-out values that many values hold, (value, count): not in ``values`` nor entry errors; their share
+    # is said instead (narrator.engine.entry_errors.shared_values).
+    shared: tuple[tuple[float, int], ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -477,6 +480,16 @@ class Concentration:
     top_counts: tuple[tuple[int, float], ...]  # (k, share of the total held by the k largest values)
     gini: float  # 1 - 2 * area under the Lorenz curve (no small-sample correction)
     lorenz: tuple[float, ...]  # share of the total held by the lowest 10 %, 20 %, ..., 90 % of values
+
+
+@dataclass(frozen=True, slots=True)
+class AboveMinimum:
+    """The values above the lowest one (narrator.engine.decision): when many values sit at the lowest (no
+    claim, no visit), the middle of the others is the typical amount a reader asks for."""
+
+    minimum: float
+    count: int  # the values above the minimum
+    median: float  # their middle value (the mean of the two middle ones for an even count)
 
 
 @dataclass(frozen=True, slots=True)
@@ -579,6 +592,8 @@ class Findings:
     clusters: Clusters | None = None
     unusual: Unusual | None = None
     concentration: Concentration | None = None
+    # The values above the lowest one: their count and middle value (None when all values are equal).
+    above_minimum: AboveMinimum | None = None
     not_computed: dict[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:

@@ -8,6 +8,7 @@ Field              Module                                Needs
 ``clusters``       :mod:`narrator.engine.clusters`       the sorted values and the density
 ``unusual``        :mod:`narrator.engine.entry_errors`   the findings only
 ``concentration``  :mod:`narrator.engine.concentration`  the sorted values
+``above_minimum``  :func:`above_minimum` (here)          the sorted values
 =================  ====================================  ==========================================
 
 The in-memory engine passes its sorted values. The engines that read in passes
@@ -26,10 +27,29 @@ import numpy as np
 from narrator.engine.clusters import find_clusters
 from narrator.engine.concentration import concentration, not_computed_reason
 from narrator.engine.entry_errors import unusual_values
+from narrator.engine.moments import median_sorted
 from narrator.engine.shape import MIN_PEAK_MASS
-from narrator.findings import Findings
+from narrator.findings import AboveMinimum, Findings
 
 NOT_IN_PASSES = "engine_in_passes"
+
+
+def above_minimum(sorted_values: np.ndarray) -> AboveMinimum | None:
+    """The count and the middle value (an order statistic) of the values above the
+    lowest one; None when every value is the lowest (moments.median_sorted, the median of the whole).
+
+    >>> above_minimum(np.array([0.0, 0.0, 0.0, 120.0, 300.0, 410.0]))
+    AboveMinimum(minimum=0.0, count=3, median=300.0)
+    """
+    n = int(sorted_values.size)
+    if n == 0:
+        return None
+    lowest = float(sorted_values[0])
+    at_min = int(np.searchsorted(sorted_values, lowest, side="right"))
+    if at_min == n:
+        return None
+    return AboveMinimum(minimum=lowest, count=n - at_min,
+                        median=median_sorted(sorted_values[at_min:]))
 
 
 def add_decision_findings(findings: Findings, sorted_values: np.ndarray | None) -> Findings:
@@ -39,11 +59,15 @@ def add_decision_findings(findings: Findings, sorted_values: np.ndarray | None) 
     not hold them.
     """
     not_computed = dict(findings.not_computed)
-    clusters = total = None
+    clusters = total = above = None
     if sorted_values is None:
+        # The middle value above the lowest one is one more order statistic; the engines that read in passes
+        # would need another pass for it once they know how many values sit at the lowest, so they leave it out.
         not_computed["clusters"] = NOT_IN_PASSES
         not_computed["concentration"] = NOT_IN_PASSES
+        not_computed["above_minimum"] = NOT_IN_PASSES
     else:
+        above = above_minimum(sorted_values)
         if findings.density is None:
             not_computed["clusters"] = "no_spread" if findings.n else "no_values"
         else:
@@ -52,4 +76,4 @@ def add_decision_findings(findings: Findings, sorted_values: np.ndarray | None) 
         if total is None:
             not_computed["concentration"] = not_computed_reason(sorted_values)
     return replace(findings, clusters=clusters, unusual=unusual_values(findings), concentration=total,
-                   not_computed=not_computed)
+                   above_minimum=above, not_computed=not_computed)

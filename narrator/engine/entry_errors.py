@@ -9,6 +9,7 @@ Name                           What it does
 :func:`entry_error_reasons`    why one far-out value looks like a slip of typing
 :func:`strong_slip`            whether that evidence is strong enough to call it probable
 :func:`values_are_money`       whether the findings' values are money (unit or cell marks)
+:func:`shared_values`          far-out values that many values hold: no stray entries
 ``INNER_RATE``, ``FAR_RATE``   shares of normal values beyond Tukey's fences
 =============================  ==================================================
 
@@ -47,6 +48,11 @@ choice is the skew-adjusted rule) do not fit its shape (reason ``rule_ignores_sk
 is said to stand out. The modified z-score has no far-out band (``no_far_band``); the
 generalized ESD test already judges against the size of the sample, so its flagged values are
 the ones that stand out.
+
+**Shared values.** A far-out value that at least ``SHARED_SHARE`` (5 %) of the values hold, three at
+least (:func:`shared_values`), is a feature of the data (a cap, a common amount, a code), not a stray
+entry: it is neither said to stand out nor checked as an entry error; ``Unusual.shared`` gives it with
+its count, and the memo says its share (our rule).
 
 **Probable entry errors.** A far-out value (or one flagged by the ESD test) whose size a slip
 of typing explains (our rules, after the common checks of data cleaning; the ten-times rule is
@@ -110,6 +116,8 @@ MAX_ENTRY_ERROR_SHARE = 0.005
 LISTED_ENTRY_ERRORS = 20
 LOG_FAR_K = 3.0
 MIN_FOR_FIT = 20
+SHARED_SHARE = 0.05  # a far-out value that 5 % of the values hold (3 at least) is shared, no stray entry (our rule)
+SHARED_MIN_COUNT = 3
 
 
 def entry_error_reasons(value: float, median: float, p10: float, p90: float) -> tuple[tuple[str, ...], float | None,
@@ -264,13 +272,16 @@ def unusual_values(findings: Findings) -> Unusual:
                     complete=_far_out_complete(flagged), count_beyond_fences=flagged.count)
         standing = [False] * len(values)
     elif rule == "esd":
-        values, rows = flagged.values, flagged.rows
+        shared = shared_values(flagged.values, n)
+        values, rows = _without_shared(flagged.values, flagged.rows, shared)
         base = dict(fence_rule=rule, reason="computed", fitted_shape=None if fit is None else fit.name,
                     count_far_out=flagged.count, far_out_surprising=bool(values), values=values, rows=rows,
-                    complete=flagged.complete, count_beyond_fences=flagged.count)
+                    complete=flagged.complete, count_beyond_fences=flagged.count, shared=shared)
         standing = [True] * len(values)
     else:
-        values, rows = flagged.far_out_values, flagged.far_out_rows
+        shared = shared_values(flagged.far_out_values, n)
+        count_far_out = len(flagged.far_out_values)
+        values, rows = _without_shared(flagged.far_out_values, flagged.far_out_rows, shared)
         reason = "computed"
         if rule == "tukey" and flagged.chosen_by == "user" and is_clearly_skewed(findings.shape):
             reason = "rule_ignores_skew"
@@ -291,10 +302,10 @@ def unusual_values(findings: Findings) -> Unusual:
         base = dict(
             fence_rule=rule, reason=reason, fitted_shape=None if judged is None else judged.name,
             far_lower_fence=flagged.far_lower_fence, far_upper_fence=flagged.far_upper_fence,
-            count_far_out=len(values), expected_far_out=expected_far, far_out_surprising=bool(shown),
+            count_far_out=count_far_out, expected_far_out=expected_far, far_out_surprising=bool(shown),
             values=tuple(value for value, _ in shown), rows=tuple(row for _, row in shown),
             complete=_far_out_complete(flagged), count_beyond_fences=flagged.count,
-            expected_beyond_fences=expected_inner, excess=excess, excess_p=excess_p,
+            expected_beyond_fences=expected_inner, excess=excess, excess_p=excess_p, shared=shared,
         )
     if base["reason"] == "too_few":
         # Too few values to tell a slip from the spread of the data: a small value ten times below the median, or
@@ -305,6 +316,29 @@ def unusual_values(findings: Findings) -> Unusual:
     return Unusual(**base, entry_errors=errors[:LISTED_ENTRY_ERRORS], entry_error_count=len(errors),
                    entry_error_reason=error_reason,
                    entry_error_probable_count=sum(error.strength == "probable" for error in errors))
+
+
+def shared_values(values, n: int) -> tuple[tuple[float, int], ...]:
+    """(value, count) of the far-out ``values`` that many values share: at least ``SHARED_SHARE`` of the ``n``
+    values and ``SHARED_MIN_COUNT`` of them hold it. A value that one in twenty cases share is a feature of the
+    data (a cap, a common amount, a code), not a stray entry: it is not said to stand out or to be a typing
+    error, and the memo gives its share instead (our rule). Counted among the listed far-out values (every
+    far-out value is listed, up to ``LISTED_PER_SIDE`` on each side), so a count is never above the true one.
+
+    >>> shared_values((99.0, 99.0, 99.0, 120.0), 40)
+    ((99.0, 3),)
+    """
+    counts: dict[float, int] = {}
+    for value in values:
+        counts[value] = counts.get(value, 0) + 1
+    return tuple((value, count) for value, count in sorted(counts.items())
+                 if count >= SHARED_MIN_COUNT and count >= SHARED_SHARE * n)
+
+
+def _without_shared(values, rows, shared) -> tuple[tuple, tuple]:
+    held = {value for value, _ in shared}
+    kept = [(value, row) for value, row in zip(values, rows, strict=True) if value not in held]
+    return tuple(value for value, _ in kept), tuple(row for _, row in kept)
 
 
 def _far_out_complete(flagged) -> bool:

@@ -21,6 +21,7 @@ import math
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from fractions import Fraction
 from typing import Any
 
 from babel.numbers import get_currency_precision
@@ -31,12 +32,20 @@ from narrator.phrasing.bank import PhraseBank, Variant, load_bank
 from narrator.phrasing.hedges import Hedge, shape_hedge
 from narrator.phrasing.licences import holds
 from narrator.phrasing.narrative import Claim, Sentence
-from narrator.phrasing.numbers import NumberFormatter, memo_decimals, methods_decimals, round_half_up
+from narrator.phrasing.numbers import (
+    NumberFormatter,
+    largest_remainder,
+    memo_decimals,
+    methods_decimals,
+    places_clear_of,
+    round_half_up,
+)
 
 COMPACT_FROM = 1_000_000  # memo numbers this large (without a unit) read better as "1.2 million"
 STATISTIC_DECIMALS = 2  # dimensionless statistics (G1, Bowley, medcouple) to two decimals (common practice)
 NOT_DEFINED = "–"  # an en dash, the table convention for a statistic that is not defined (APA 2020)
 P_DECIMALS = 3  # p-values to three decimals, "p < 0.001" below that (APA 2020)
+SHARE_PLACES_MAX = 12  # a share of one value in 10^14 still prints as more than 0%
 
 
 # Fields that hold the user's own words: a column name, a label, a group's value ("wait_days", "north",
@@ -222,15 +231,25 @@ class WordingContext:
         while a value would be rounded onto a declared bound or valid limit it does not equal: a highest share of
         99.5% is never "100%" under an upper bound of 100 (a rule of ours: an extreme printed on the bound would
         say a value reached it)."""
-        places = min(self.memo_decimals, self.data_decimals)
         variable = self.findings.variable
         limits = [limit for limit in (variable.lower_bound, variable.upper_bound, variable.valid_min,
                                       variable.valid_max) if limit is not None and math.isfinite(limit)]
-        while places < self.data_decimals and any(
-                value != limit and float(round_half_up(value, places)) == limit
-                for value in values if math.isfinite(value) for limit in limits):
-            places += 1
-        return places
+        finite = [value for value in values if math.isfinite(value)]
+        return places_clear_of(limits, finite, lambda places: [round_half_up(value, places) for value in finite],
+                               min(self.memo_decimals, self.data_decimals), self.data_decimals)
+
+    def shares(self, parts: Sequence[float]) -> tuple[str, ...]:
+        """Percents of the whole that ``parts`` partition (counts, or shares adding up to 1), adding up to 100
+        (numbers.largest_remainder): whole percents, or more decimals, for every part alike, while a part would
+        be printed as 0% or 100% without being none or all (numbers.places_clear_of, the rule that keeps a
+        data value off a declared bound). A single share is ``shares((count, n - count))[0]``: (99, 6, 95) is
+        "50%", "3%", "47%"; (1, 999) is "0.1%", "99.9%" (tests/phrasing/test_shares.py)."""
+        exact = [Fraction(part) for part in parts]
+        total = sum(exact)
+        percents = [100 * part / total for part in exact]
+        places = places_clear_of((0, 100), percents, lambda places: largest_remainder(parts, places), 0,
+                                 SHARE_PLACES_MAX)
+        return tuple(self.fmt.percent_points(hundred, places) for hundred in largest_remainder(parts, places))
 
     def exact_range(self, low: float, high: float) -> str:
         """Two summary statistics as a table range, "13.30–27.65" (words when an end has a sign)."""

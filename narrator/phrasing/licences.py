@@ -119,6 +119,10 @@ CLAIM_KINDS: dict[str, str] = {
                         "the smallest other value and `max` the largest",
     "share_at_maximum": "the largest value is `value` and a share `share` equal it; `next` is the largest "
                         "other value and `min` the smallest",
+    "shared_far": "`count` of the `n` values (5 % or more, 3 at least) equal `value`, which lies beyond the far-out "
+                  "fences `far_lower`/`far_upper` on the side `side`",
+    "median_above_minimum": "`count` of the `n` values lie above the smallest, `minimum`, and their median is "
+                            "`median`; a quarter of the values or more equal the smallest",
     "middle_half": "Q1 and Q3 (type 7) are `q1` and `q3`, and the share of values from Q1 to Q3 is within "
                    "5 points of a half (n >= 8; exactly half when n < 20)",
     "count_between": "Q1 and Q3 (type 7) are `q1` and `q3`, and `count` of the `n` values lie from Q1 to Q3, "
@@ -384,6 +388,26 @@ def many_at_minimum(ctx) -> bool:
 def many_at_maximum(ctx) -> bool:
     return has_spread(ctx) and _share_at_max(ctx) >= MANY_AT_END_SHARE and _n(ctx) >= MIN_FOR_SHAPE and \
         _counts(ctx).at_max >= MANY_AT_END_COUNT
+
+
+@licence("variable", "a quarter of the values or more (3 at least, of 8 or more) equal the smallest, which is 0 "
+                     "or the declared lower bound")
+def many_at_floor(ctx) -> bool:
+    # The lowest value means "none" (0: no claim, no visit; or the declared floor): a lowest rating of 1 is one
+    # more rating.
+    spread = ctx.findings.spread
+    return many_at_minimum(ctx) and (spread.min == 0 or minimum_is_bound(ctx))
+
+
+@licence("variable", "a quarter of the values or more (3 at least, of 8 or more) equal the smallest, which is 0 "
+                     "or the declared lower bound, and at least 5 lie above it, with their middle value computed")
+def middle_above_minimum(ctx) -> bool:
+    # With a quarter at the lowest value the lower quartile is that value, with half the middle one is too: the
+    # whole's middle and quartiles no longer say what a typical value among the others is (the same quarter
+    # at which the memo names the share at an end), when that value means "none". Fewer than TINY_N values are
+    # listed, never summarized.
+    above = ctx.findings.above_minimum
+    return many_at_floor(ctx) and above is not None and above.count >= TINY_N
 
 
 @licence("variable", "the smallest value is the declared lower bound (or valid minimum)")

@@ -6,7 +6,8 @@ when its licence holds, narrator.phrasing.licences):
 1. the lead center (``memo.lead.*``): the share at the lowest or highest value when most values
    sit there, else the middle value with what lies on each side of it, or the average;
 2. what was left out, and what those cells held (``memo.left_out_sentence``);
-3. a large share at one end, when the lead did not already say it (``memo.at_end``);
+3. a large share at one end, when the lead did not already say it (``memo.at_end``), and then the middle
+   value of the values above the lowest one (``memo.above_min``);
 4. the typical range: half of the values lie between Q1 and Q3, or the share that does, or the
    range (``memo.range``);
 5. what the shape means in plain words, hedged by the ladder (``memo.shape.*``);
@@ -15,7 +16,7 @@ when its licence holds, narrator.phrasing.licences):
 8. one caution, the one that matters most here.
 
 To keep within seven sentences the "why" sentence goes first, then the share at one end, then
-the range (:data:`DROPPED_FIRST`).
+the range, the shape and the middle value above the lowest one (:data:`DROPPED_FIRST`).
 """
 
 from __future__ import annotations
@@ -89,7 +90,7 @@ def _left_out_first(ctx: WordingContext, message: Message) -> list[Sentence]:
         return []
     rows, n = message.numbers["rows"], message.numbers["n"]
     sentence = ctx.say("memo.left_out_first", (*keys, "n"), subject=(n, "value"), left_out=left_out,
-                       share=ctx.fmt.percent(message.numbers["share"], 0), rows=ctx.count(rows, "row"),
+                       share=_share(ctx, message.numbers["left_out"], rows), rows=ctx.count(rows, "row"),
                        n_values=ctx.count(n, "value"),
                        claim={**numbers, "rows_read": rows, "used": n, "share": message.numbers["share"]})
     return [sentence] if sentence is not None else []
@@ -117,8 +118,16 @@ def memo_caution(ctx: WordingContext, flagged_said: bool = True) -> Sentence:
     return ctx.say("cautions.descriptive")
 
 
-def _share(ctx: WordingContext, count: int) -> str:
-    return ctx.fmt.percent(count / ctx.findings.n, 0)
+def _share(ctx: WordingContext, count: int, of: int | None = None) -> str:
+    """The share ``count`` of ``of`` (default: the values) holds, as the memo prints it (ctx.shares)."""
+    whole = ctx.findings.n if of is None else of
+    return ctx.shares((count, whole - count))[0]
+
+
+def _share_of_total(ctx: WordingContext, share: float) -> str:
+    """A share of a total (0.18 of the money), printed by the rule of ctx.shares."""
+    share = min(max(share, 0.0), 1.0)
+    return ctx.shares((share, 1.0 - share))[0]
 
 
 def _lead(ctx: WordingContext) -> list[Sentence]:
@@ -149,14 +158,14 @@ def _lead(ctx: WordingContext) -> list[Sentence]:
         "min": ctx.memo_recorded(spread.min),
         "max": ctx.memo_recorded(spread.max),
         "next_low_range": next_low, "max_range": high, "min_range": low, "next_high_range": next_high,
-        "share_below": _share(ctx, counts.below_median),
-        "share_at": _share(ctx, counts.at_median),
-        "share_above": _share(ctx, counts.above_median),
         "share_at_min": _share(ctx, counts.at_min),
         "share_at_max": _share(ctx, counts.at_max),
         "next_low": ctx.memo_recorded(counts.next_above_min) if counts.next_above_min is not None else "",
         "next_high": ctx.memo_recorded(counts.next_below_max) if counts.next_below_max is not None else "",
     }
+    # Below, at and above the middle value partition the values: their percents add up to 100.
+    values["share_below"], values["share_at"], values["share_above"] = ctx.shares(
+        (counts.below_median, counts.at_median, counts.above_median))
     values["counts"] = _counts_around_median(ctx, values["median_exact"])
     claim = {
         "median": center.median, "n": findings.n,
@@ -210,6 +219,22 @@ def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
             or (sentence.claims[0].kind == "share_at_maximum" and kind in ("median_ties_at_max",
                                                                            "median_ties_at_ends"))):
         return []  # "44% were 0" in the lead already said it
+    return [sentence] if sentence is not None else []
+
+
+def _above_minimum(ctx: WordingContext) -> list[Sentence]:
+    """ "Among the 59 values above €0, the middle one was €943": a quarter or more of the values at the lowest
+    value (no claim, no visit) puts the whole's middle and quartiles at or near it, so the typical value of the
+    others is said (licence ``middle_above_minimum``; the engine's ``Findings.above_minimum``, None where an
+    engine that reads in passes did not compute it: then nothing is said)."""
+    above = ctx.findings.above_minimum
+    if above is None:
+        return []
+    sentence = ctx.say("memo.above_min", ("above_minimum.count", "above_minimum.median", "order_counts.at_min"),
+                       subject=(above.count, "value"), count=ctx.count(above.count, "value"),
+                       min=ctx.memo_recorded(above.minimum), median=ctx.memo(above.median),
+                       claim={"minimum": above.minimum, "count": above.count, "median": above.median,
+                              "n": ctx.findings.n})
     return [sentence] if sentence is not None else []
 
 
@@ -374,8 +399,8 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
 
 # --------------------------------------------------------------------------- the memo, message by message
 
-CENTER_ORDER = ("lead", "at_end", "range", "shape", "why")
-DROPPED_FIRST = ("why", "at_end", "range", "shape")  # to keep within MAX_SENTENCES, in this order
+CENTER_ORDER = ("lead", "at_end", "above_min", "range", "shape", "why")
+DROPPED_FIRST = ("why", "at_end", "range", "shape", "above_min")  # to keep within MAX_SENTENCES, in this order
 TENTH_ADDS = 0.05  # the largest tenth's share is said only when it adds 5 points to the few largest's (our rule)
 LISTED = 5  # values named in one sentence at most; the full report lists them all
 
@@ -715,6 +740,24 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
     return [sentence for sentence in out if sentence is not None]
 
 
+def _shared_far(ctx: WordingContext) -> list[Sentence]:
+    """ "Twelve values, 6% of all, were exactly 99, far above the rest": a far-out value that many values hold
+    (``Unusual.shared``, narrator.engine.entry_errors.shared_values) is no stray entry to check; its share is
+    said instead (at most LISTED such values)."""
+    unusual, n = ctx.findings.unusual, ctx.findings.n
+    out = []
+    for value, count in unusual.shared[:LISTED]:
+        side = "high" if unusual.far_upper_fence is not None and value > unusual.far_upper_fence else "low"
+        sentence = ctx.say("memo.unusual.shared", ("unusual.shared",), subject=(count, "value"),
+                           count=ctx.count(count, "value"), share=_share(ctx, count),
+                           value=ctx.memo_recorded(value), side=ctx.text(f"memo.unusual.shared_side.{side}"),
+                           claim={"value": value, "count": count, "n": n, "side": side,
+                                  "far_lower": unusual.far_lower_fence, "far_upper": unusual.far_upper_fence})
+        if sentence is not None:
+            out.append(sentence)
+    return out
+
+
 def _excess_from_mixing(groups: MemoGroups | None) -> bool:
     """Whether the pooled values' excess of far-out values may come from mixing groups: no shown group has
     an excess of its own, and the groups are not all alike (alike groups mixed give one shape)."""
@@ -748,13 +791,30 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
             return _unjudged(ctx, "memo.unusual.few_to_judge", ("outliers.values", "outliers.rows", "outliers.count"),
                              list(zip(flagged.values, flagged.rows, strict=True)), flagged.count,
                              complete=flagged.complete)
-        if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and flagged.far_out_values:
+        held = {value for value, _ in unusual.shared}
+        listed = [(value, row) for value, row in zip(flagged.far_out_values, flagged.far_out_rows, strict=True)
+                  if value not in held]
+        if unusual.reason == "no_fitted_shape" and listed and holds("many_at_floor", ctx) and all(
+                value > unusual.far_upper_fence for value, _ in listed):
+            # A quarter or more at 0 (no claim, no visit) draws the rule's limits in close to 0: the far-out values
+            # are the upper part of the others, and being far out for those limits says little about them (a rule
+            # of ours; the middle value above 0 is said, memo.above_min). Counted, not listed to check.
+            shared = sum(count for _, count in unusual.shared)
+            count = (unusual.count_far_out - shared) or len(listed)
+            sentence = ctx.say("memo.unusual.far_from_floor", ("outliers.far_out_values", "spread.min"),
+                               subject=(count, "value"), count=ctx.count(count, "value"),
+                               min=ctx.memo_recorded(findings.spread.min),
+                               claim={**flagged_claim(findings), "values": [value for value, _ in listed]})
+            return [sentence] if sentence is not None else []
+        if unusual.reason in ("no_fitted_shape", "rule_ignores_skew") and listed:
             # No shape to judge them against (values at or below 0 in skewed data, a hand-chosen rule that ignores
             # the skew): values beyond the rule's far-out fences are still named, with their rows, to be checked;
-            # no word on whether the shape explains them.
-            listed = list(zip(flagged.far_out_values, flagged.far_out_rows, strict=True))
+            # no word on whether the shape explains them. A value many values share is not one of them.
+            shared = sum(count for _, count in unusual.shared)
             return _unjudged(ctx, "memo.unusual.far_unjudged", ("outliers.far_out_values", "outliers.far_out_rows"),
-                             listed, unusual.count_far_out or len(listed), complete=True)
+                             listed, (unusual.count_far_out - shared) or len(listed), complete=True)
+        if unusual.shared:
+            return []  # the share of the value many values hold is said (_shared_far): "none stands out" is not
         if unusual.reason != "computed":
             return []
         sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
@@ -772,9 +832,9 @@ def _money(ctx: WordingContext, message: Message, groups, said) -> list:
              "tenth_count": found.top_tenth_count, "tenth_share": found.top_tenth_share, "n": found.n}
     values = {"n_values": ctx.count(ctx.findings.n, "value"), "total": ctx.memo(numbers["total"]),
               "top_count": ctx.count(found.top_percent_count, "value"),
-              "top_share": ctx.fmt.percent(found.top_percent_share, 0),
+              "top_share": _share_of_total(ctx, found.top_percent_share),
               "tenth_count": ctx.count(found.top_tenth_count, "value"),
-              "tenth_share": ctx.fmt.percent(found.top_tenth_share, 0),
+              "tenth_share": _share_of_total(ctx, found.top_tenth_share),
               "tenth": ctx.fmt.percent(0.1, 0)}  # "the top 10% of values" (fr, es), "the largest tenth" (en)
     if message.code == "money_total":
         key = "memo.money.total"
@@ -795,9 +855,10 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
     if clustered:
         return {}
     lead = _lead(ctx)
-    parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0])}
-    if said.lead:  # the share at one value already gave the lead
-        parts["lead"] = parts["at_end"] = []
+    parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0]),
+                                        "above_min": _above_minimum(ctx)}
+    if said.lead:  # the share at one value already gave the lead (and the middle value above the lowest)
+        parts["lead"] = parts["at_end"] = parts["above_min"] = []
     if findings.n > 1 and findings.spread.range > 0:
         # A lead that gave the share at one end already said where the other values run.
         # So does one that named the lowest and the highest value with every value between ("30% were 1, 40% were
@@ -896,7 +957,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None, *,
             # The center's lead states it (the share at the lowest or highest value, or the ties at the middle);
             # said here, in the message's place, even when clusters leave the rest of the center out.
             lead = _lead(ctx)
-            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0])) if s is not None]))
+            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0]), *_above_minimum(ctx))
+                                     if s is not None]))
             said.lead = True
         elif message.code == "change_in_center" and changed_from is not None:
             blocks.append((message.code, _change_in_center(ctx, changed_from)))
@@ -907,6 +969,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None, *,
             blocks.append(("outliers", _outliers(ctx)))  # an engine without the shape judgement: the rule's list
         elif not any(message.code in ("stand_out", "entry_error") for message in messages):
             blocks.append(("calm", _nothing_stands_out(ctx)))
+        if findings.unusual is not None and findings.unusual.shared:
+            blocks.append(("shared", _shared_far(ctx)))
     if groups is not None:
         blocks.append(("together", _together_sentences(ctx, groups, said)))
     mentioned_unusual = any(code in ("stand_out", "outliers") and sentences for code, sentences in blocks)

@@ -30,6 +30,8 @@ Name                                What it does
 :func:`minimum_grouping_digits`     CLDR ``minimumGroupingDigits`` of a locale
 :func:`plural_range`                CLDR plural category of a range ("1–2 days")
 :func:`round_half_up`               the one rounding rule, on the decimal representation
+:func:`largest_remainder`           percents of a whole, rounded so that they add up to 100
+:func:`places_clear_of`             the fewest places that print no value on a limit it does not equal
 :func:`memo_decimals`               rounding policy for memos (Ehrenberg 1981)
 :func:`methods_decimals`            rounding policy for methods text (Cole 2015)
 :func:`column_decimals`             one precision for a whole table column (APA 2020)
@@ -99,8 +101,9 @@ import functools
 import math
 import re
 import unicodedata
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from decimal import ROUND_HALF_UP, Decimal, localcontext
+from fractions import Fraction
 
 from babel import Locale, UnknownLocaleError, localedata
 from babel.core import get_global, get_locale_identifier
@@ -398,6 +401,47 @@ def round_half_up(value: float, decimals: int) -> Decimal:
     return abs(rounded) if rounded == 0 else rounded
 
 
+def largest_remainder(parts: Sequence[float], places: int) -> list[Decimal]:
+    """The percents of ``parts`` (non-negative numbers that partition a whole, their sum) rounded to ``places``
+    decimals so that they add up to exactly 100: each part takes its quota rounded down, and the units still
+    missing go one each to the largest remainders, the earlier part first on a tie (the largest-remainder, or
+    Hamilton, method: common practice for published tables of shares, so that "49%, 3% and 47%" never add up
+    to 99). Exact arithmetic (fractions), so a share of 7 in 100 is 7, never 6.
+
+    >>> [str(p) for p in largest_remainder([99, 6, 95], 0)]
+    ['50', '3', '47']
+    >>> [str(p) for p in largest_remainder([1, 1, 1], 1)]
+    ['33.4', '33.3', '33.3']
+    """
+    exact = [Fraction(part) for part in parts]
+    total = sum(exact)
+    if total <= 0 or any(part < 0 for part in exact):
+        raise NarratorError("shares need non-negative parts with a positive total")
+    scale = 100 * 10**places
+    quotas = [part * scale / total for part in exact]
+    units = [math.floor(quota) for quota in quotas]
+    missing = scale - sum(units)
+    for index in sorted(range(len(quotas)), key=lambda k: (-(quotas[k] - units[k]), k))[:missing]:
+        units[index] += 1
+    return [Decimal(unit).scaleb(-places) for unit in units]
+
+
+def places_clear_of(limits: Sequence[float], values: Sequence[float],
+                    rounded: Callable[[int], Sequence[Decimal]], start: int, stop: int) -> int:
+    """The fewest places from ``start`` (at most ``stop``) at which no value is printed, as ``rounded(places)``
+    gives it, on a limit it does not equal (a rule of ours, one for every printed value: a data value rounded
+    onto a declared bound would say it reached the bound, a share printed as 0% or 100% would say none or all).
+
+    >>> places_clear_of([0, 100], [0.4, 99.6], lambda p: [round_half_up(0.4, p), round_half_up(99.6, p)], 0, 3)
+    1
+    """
+    places = start
+    while places < stop and any(value != limit and shown == limit
+                                for value, shown in zip(values, rounded(places), strict=True) for limit in limits):
+        places += 1
+    return places
+
+
 def _magnitude(value: float) -> int:
     """floor(log10 |value|): 2 for 425, 0 for 1.8, -2 for 0.034."""
     return math.floor(math.log10(abs(value)))
@@ -662,7 +706,16 @@ class NumberFormatter:
         hundred = round_half_up(share * 100, decimals)
         if abs(hundred) >= SCIENTIFIC_FROM:
             return self._wrap("percent", self.scientific(abs(share) * 100), negative=share < 0)
-        return self._digits_text(hundred / 100, "percent", decimals)
+        return self.percent_points(hundred, decimals)
+
+    def percent_points(self, hundred: Decimal, decimals: int) -> str:
+        """A percent already rounded to ``decimals`` places (``Decimal("12.5")`` is "12.5%"), as
+        :func:`largest_remainder` gives it.
+
+        >>> NumberFormatter("en_US").percent_points(Decimal("49"), 0)
+        '49%'
+        """
+        return self._digits_text(hundred / 100, "percent", max(0, int(decimals)))
 
     def currency(self, value: float, decimals: int | None = None) -> str:
         """An amount in the formatter's ISO 4217 currency; ``decimals`` defaults to the currency's own.

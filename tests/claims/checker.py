@@ -359,6 +359,19 @@ def check_share_at_maximum(c, raw, p):
         _same("next_high", c["next_high"], x[x < x.max()].max(), raw, p)
 
 
+def check_median_above_minimum(c, raw, p):
+    # The values above the smallest, their count and median (numpy's median), and a quarter or more at the
+    # smallest (the licence's threshold).
+    x = raw.values
+    above = x[x > x.min()]
+    _same("minimum", c["minimum"], x.min(), raw, p)
+    _problem(c["count"] == above.size, f"{c['count']} values above the smallest claimed, the values give "
+             f"{above.size}", p)
+    if above.size:
+        _same("median", c["median"], float(np.median(above)), raw, p)
+    _problem(raw.share(x == x.min()) >= 0.25, "fewer than a quarter of the values equal the smallest", p)
+
+
 def check_middle_half(c, raw, p):
     q1, q3 = raw.quartiles
     _same("q1", c["q1"], q1, raw, p)
@@ -1143,6 +1156,16 @@ def check_stand_out_excess(c, raw, p):
     _problem(c["count"] > (c["expected"] or 0), "no more values beyond the fences than expected", p)
 
 
+def check_shared_far(c, raw, p):
+    # A value that 5 % of the values or more hold (3 at least), beyond the far-out fences on the side said.
+    x = raw.values
+    count = int((x == c["value"]).sum())
+    _problem(c["count"] == count, f"{c['value']} held by {c['count']} values claimed, the values give {count}", p)
+    _problem(count >= 3 and count >= 0.05 * raw.n, f"{c['value']} is held by {count} of {raw.n} values: not 5 %", p)
+    beyond = c["value"] > c["far_upper"] if c["side"] == "high" else c["value"] < c["far_lower"]
+    _problem(bool(beyond), f"{c['value']} is not beyond the far-out fence on the {c['side']} side", p)
+
+
 def check_entry_error(c, raw, p):
     # "Probably a typing error": the decimal point moved 1 to 3 places lands the value in the middle half
     # (type 7 quartiles, numpy), a digit shift of a typical value; a value ten times the median is not enough.
@@ -1209,7 +1232,8 @@ CHECKS = {
     "clusters": check_clusters, "clusters_separated": check_clusters_separated, "stand_out": check_stand_out,
     "stand_out_none": check_stand_out_none, "stand_out_excess": check_stand_out_excess,
     "entry_error": check_entry_error, "entry_error_possible": check_entry_error_possible,
-    "concentration": check_concentration,
+    "concentration": check_concentration, "median_above_minimum": check_median_above_minimum,
+    "shared_far": check_shared_far,
 }
 GROUP_CHECKS = {"groups_compared": check_groups_compared, "groups_intervals": check_groups_intervals,
                 "groups_same": check_groups_same, "group_shift": check_group_shift,

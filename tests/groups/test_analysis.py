@@ -172,7 +172,7 @@ def test_several_groups_say_which_stand_apart_and_small_groups_are_hedged(folder
     assert item.comparison.stand_apart == ("setosa",)
     assert sentences[0].startswith("Setosa stands apart from versicolor and virginica: its values are typically "
                                    "about ")
-    assert "lower (likely between " in sentences[0]
+    assert "lower than theirs taken together (likely between " in sentences[0]
     assert sentences[1].startswith("The data cannot tell whether versicolor and virginica differ")
     assert any(s.startswith("Virginica minus setosa: Hodges-Lehmann shift") for s in sentences)
     assert "Some groups have fewer than 20 values, so treat the comparison as a rough guide." in sentences

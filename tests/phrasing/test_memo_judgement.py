@@ -66,7 +66,7 @@ def test_the_clearly_different_group_is_named_first_and_sized(seed):
     assert "Southgate" in " ".join(sentences[:2])
     first = sentences[0]
     assert first.startswith("Southgate stands apart from Northgate and Eastgate: its values are typically about ")
-    assert "days higher (likely between " in first
+    assert "days higher than theirs taken together (likely between " in first  # sized against the pooled others
     # The stated size is the engine's shift at the memo's rounding, its range the interval's.
     rest = comparison.versus_rest[0].difference
     assert f"about {rest.shift:.0f} days higher" in first

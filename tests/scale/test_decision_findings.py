@@ -3,7 +3,8 @@
 Reference: the in-memory engine on the same values (itself checked against outside references in
 tests/engine). Generated data (fixed seeds), written as Parquet part files: a two-cluster mixture
 with a typed digit too many and values outside the valid range. With every value in the
-fixed-seed sample the stream engine gives the same clusters, unusual values and concentration;
+fixed-seed sample the stream engine gives the same clusters, unusual values, concentration and middle
+value above the lowest one;
 with a smaller sample it computes the unusual values the same way (they read only the findings)
 and records the others as not computed, with the reason.
 """
@@ -46,6 +47,7 @@ def test_whole_sample_gives_the_same_memo_findings(tmp_path):
     assert memory.clusters.count == 2
     assert streamed.clusters == memory.clusters
     assert streamed.concentration == memory.concentration
+    assert streamed.above_minimum == memory.above_minimum is not None
     assert streamed.unusual == memory.unusual
     assert streamed.not_computed == memory.not_computed == {}
     impossible = streamed.quality.get("impossible")
@@ -58,7 +60,8 @@ def test_partial_sample_records_what_it_did_not_compute(tmp_path):
     memory = describe(read_column(whole, "minutes"), outlier_rule="tukey")
     streamed = describe_source(open_source(tmp_path / "parts", "minutes", chunk_rows=500), outlier_rule="tukey",
                                reservoir_size=1000).findings
-    assert streamed.clusters is None and streamed.concentration is None
-    assert streamed.not_computed == {"clusters": NOT_IN_PASSES, "concentration": NOT_IN_PASSES}
+    assert streamed.clusters is None and streamed.concentration is None and streamed.above_minimum is None
+    assert streamed.not_computed == {"clusters": NOT_IN_PASSES, "concentration": NOT_IN_PASSES,
+                                     "above_minimum": NOT_IN_PASSES}
     assert streamed.unusual == memory.unusual
     assert 900.0 in streamed.unusual.values  # far beyond the far-out fence of values below 100
