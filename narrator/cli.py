@@ -191,21 +191,22 @@ def grouped_collection(args: argparse.Namespace, step=None):
 
 
 def command_draft(args: argparse.Namespace) -> int:
-    from narrator.report import report_from_findings
     from narrator.safe_io import refuse_same_file
 
     refuse_same_file(args.output, args.file)  # before any work, not only at the end
     if args.group_by is not None:
         return _draft_by_group(args)
     from narrator.figures.helper_process import DrawingHelper, worth_a_helper
-
-    # A large input: a helper process loads the plotting library while this one reads (narrator.figures.helper_process).
-    from narrator.request import naming_the_input
     from narrator.safe_io import check_output
 
     check_output(args.output, protect=(args.file, args.template), force=args.force)
+    # A large input: a helper process loads the plotting library while this one reads (narrator.figures.helper_process).
+    # It starts before this process imports the engine and the phrase builders, so those imports overlap it too.
     helper = DrawingHelper.start() if worth_a_helper(args.file) else None
     try:
+        from narrator.report import report_from_findings
+        from narrator.request import naming_the_input
+
         request = request_from_arguments(args)
         sample, found = read_and_describe(args)
         with naming_the_input(request):

@@ -51,6 +51,7 @@ from pathlib import Path
 from typing import Any
 
 import docx
+from docx.enum.style import WD_STYLE_TYPE
 from docx.enum.table import WD_TABLE_ALIGNMENT
 from docx.enum.text import WD_ALIGN_PARAGRAPH
 from docx.opc.constants import RELATIONSHIP_TYPE as RT
@@ -363,12 +364,13 @@ def _add_table(document, table: Table, pattern: str | None, number: int, *, comp
     align = tuple(table.align) + ("left",) * (columns - len(table.align))
     header_row = grid.rows[0]
     _repeat_as_header(header_row)
+    heading_style, text_style = _style_id(document, "table_heading"), _style_id(document, "table_text")
     for col, text in enumerate(table.header):
-        _fill_cell(header_row.cells[col], text, STYLE_NAMES["table_heading"], align[col])
+        _fill_cell(header_row.cells[col], text, heading_style, align[col])
     for row_index, row in enumerate(table.rows, start=1):
         cells = grid.rows[row_index].cells
         for col, text in enumerate(row):
-            _fill_cell(cells[col], text, STYLE_NAMES["table_text"], align[col])
+            _fill_cell(cells[col], text, text_style, align[col])
         _keep_row_together(grid.rows[row_index])
     _set_widths(grid, _column_widths(table, _text_width(document)))
     _keep_table_on_one_page(grid)
@@ -383,9 +385,16 @@ def _add_table(document, table: Table, pattern: str | None, number: int, *, comp
     document.add_paragraph(style=STYLE_NAMES["body"]).paragraph_format.space_after = Cm(0.1)
 
 
-def _fill_cell(cell, text: str, style: str, align: str) -> None:
+def _style_id(document, key: str) -> str | None:
+    """The id python-docx's ``paragraph.style = name`` sets for the style of ``STYLE_NAMES[key]`` (None for
+    the default style), looked up once for a table's cells: the lookup by name searches every style."""
+    return document.part.get_style_id(STYLE_NAMES[key], WD_STYLE_TYPE.PARAGRAPH)
+
+
+def _fill_cell(cell, text: str, style_id: str | None, align: str) -> None:
+    """One cell's text, in the paragraph style of id ``style_id`` (from :func:`_style_id`)."""
     paragraph = cell.paragraphs[0]
-    paragraph.style = style
+    paragraph._p.style = style_id  # what the ``style`` setter does once it has the id
     paragraph.add_run(xml_safe(text))
     if align == "right":
         paragraph.alignment = WD_ALIGN_PARAGRAPH.RIGHT
@@ -500,14 +509,15 @@ def _add_appendix(document, frame: ReportFrame) -> None:
     grid.style = document.styles[STYLE_NAMES["table"]]
     widths = (Cm(5.0), Emu(int(_text_width(document)) - int(Cm(5.0))))
     rows = list(grid.rows)
+    heading_style, text_style = _style_id(document, "table_heading"), _style_id(document, "table_text")
     if header:
         _repeat_as_header(rows[0])
         for col, text in enumerate(header):
-            _fill_cell(rows[0].cells[col], text, STYLE_NAMES["table_heading"], "left")
+            _fill_cell(rows[0].cells[col], text, heading_style, "left")
         rows = rows[1:]
     for row, (label, value) in zip(rows, frame.appendix_rows, strict=True):
-        _fill_cell(row.cells[0], label, STYLE_NAMES["table_text"], "left")
-        _fill_cell(row.cells[1], value, STYLE_NAMES["table_text"], "left")
+        _fill_cell(row.cells[0], label, text_style, "left")
+        _fill_cell(row.cells[1], value, text_style, "left")
         _keep_row_together(row)
     _set_widths(grid, widths)
     if not header:

@@ -2,8 +2,10 @@
 
 Importing the plotting library takes about as long as reading and describing a million values.
 A report made from the command line therefore starts a helper process first (``python -m
-narrator.figures.helper_process``); the helper loads :mod:`narrator.figures.charts` while this
-process reads and describes, then draws the figures this process asks for. The figures are the same,
+narrator.figures.helper_process``), before it imports the engine and the phrase builders; the
+helper loads :mod:`narrator.figures.charts` while this process imports, reads, describes and
+words the report, then draws the figures this process asks for. On two cores this pays for an
+input of any size: the plotting library's import is the longest single step of a small report. The figures are the same,
 byte for byte, as :func:`narrator.figures.charts.render_figures` draws in this process (a test
 checks it): the helper gets the findings (as the sidecar's JSON, which keeps every number exactly),
 the figure texts, the locale, the audience (a memo's figures are drawn smaller), and the values and
@@ -18,7 +20,7 @@ process, where a real problem with the figures raises its usual message.
 Name                            What it does
 ==============================  ====================================================
 :class:`DrawingHelper`          the helper process: start, send, collect (or render), close
-:func:`worth_a_helper`          whether an input is large enough for the overlap to pay
+:func:`worth_a_helper`          whether a helper is started for an input (any file or folder there)
 :func:`main`                    the helper's side (``python -m narrator.figures.helper_process``)
 ==============================  ====================================================
 
@@ -37,31 +39,31 @@ import sys
 import threading
 from typing import IO, TYPE_CHECKING
 
-import numpy as np
-
 from narrator.figures.rendered import RenderedFigure
 from narrator.findings import Findings
-from narrator.reading.sample import Sample
 
 if TYPE_CHECKING:
     from narrator.phrasing.narrative import Narrative
+    from narrator.reading.sample import Sample
 
-HELPER_MIN_BYTES = 1 << 18  # below 256 KiB of input, starting a helper gains nothing measurable
+# numpy is imported where the arrays are made, not here: the command starts the helper before it has
+# imported numpy, and the helper's own first import is the plotting library, which needs it anyway.
+
 FROM_FINDINGS_ALONE = frozenset({"histogram"})  # figures drawn without the values themselves
 _LENGTH = struct.Struct(">I")
 _MAX_HEADER = 64 << 20
 
 
 def worth_a_helper(path: str | os.PathLike[str]) -> bool:
-    """Whether the input is big enough that reading it takes about as long as loading the plotting library.
+    """Whether a helper is started for the input: for any file or folder that is there, whatever its size.
 
-    Folders and globs (read in chunks by the stream engine) always are; a missing path is not.
+    Measured as a whole command (tests/benchmarks/bench_report.py, README there): with the helper's
+    imports kept to the figures, a report on 1,000 values takes less time with a helper than without,
+    though both processes start Python and numpy. A missing path (the command is about to say so) is not.
     """
     try:
-        if os.path.isdir(path):
-            return True
-        return os.path.getsize(path) >= HELPER_MIN_BYTES
-    except (OSError, ValueError, TypeError):
+        return os.path.exists(path)
+    except (ValueError, TypeError):
         return False
 
 
@@ -93,6 +95,8 @@ class DrawingHelper:
         process = self._process
         if process is None:
             return
+        import numpy as np
+
         self._wanted = [t.key for t in narrative.figures]
         try:
             # Only the figures that draw values need them; the histogram is drawn from the findings alone.
@@ -150,9 +154,12 @@ class DrawingHelper:
         return self.collect()
 
     def close(self) -> None:
-        """Stop the helper if it was never asked to draw."""
+        """Stop the helper if it was never asked to draw (it has nothing to finish: no wait for its imports)."""
         process, self._process = self._process, None
         if process is not None:
+            if self._sender is None:
+                with contextlib.suppress(OSError):
+                    process.terminate()
             _finish(process)
 
     def __enter__(self) -> DrawingHelper:
@@ -232,8 +239,11 @@ def _read_header(stream: IO[bytes]) -> dict | None:
 
 def _serve(source: IO[bytes], sink: IO[bytes]) -> None:
     """Read one request from ``source``, draw it, and write the figures (or an error) to ``sink``."""
+    import numpy as np
+
     from narrator.figures.charts import render_figures  # the slow import, done while the caller reads its data
     from narrator.phrasing.narrative import FigureText
+    from narrator.reading.sample import Sample
 
     request = _read_header(source)
     if request is None:

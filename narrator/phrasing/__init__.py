@@ -7,11 +7,14 @@ Name                     What it is
 :class:`NumberFormatter` the one door for numbers (babel/CLDR)
 :class:`Narrative`       sections > paragraphs > sentences, tables, figure texts
 =======================  ========================================================
+
+``narrate`` and ``AUDIENCES`` are loaded on first use, so a module that needs only the
+narrative's classes or the number formatter (the figures, in the drawing helper) does not load
+the builders and the engine constants they read.
 """
 
 from narrator.phrasing.narrative import FigureText, Narrative, Paragraph, Section, Sentence, Table
 from narrator.phrasing.numbers import NumberFormatter
-from narrator.phrasing.planner import AUDIENCES, narrate
 
 __all__ = [
     "AUDIENCES",
@@ -24,3 +27,17 @@ __all__ = [
     "Table",
     "narrate",
 ]
+
+
+def __getattr__(name: str):
+    if name in ("AUDIENCES", "narrate"):
+        from narrator.phrasing import planner
+
+        value = getattr(planner, name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module 'narrator.phrasing' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted({*globals(), "AUDIENCES", "narrate"})

