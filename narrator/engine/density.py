@@ -13,6 +13,8 @@ Name                         What it does
 :func:`local_maxima_of_curves`  the same for several curves, in one search
 :func:`standard_units`       an overflow-safe centred and scaled copy of the values
 :func:`next_fast_length`     the FFT length the convolution pads to (5-smooth)
+:func:`fine_lattice`         the fine binning grid (:class:`FineLattice`)
+:func:`coarsen_lattice`      a lattice binning as binned at twice the step
 :class:`BandwidthChoice`     width, rule used, reason code
 :class:`StandardUnits`       centre, unit and the scaled values
 ===========================  =========================================================
@@ -47,7 +49,10 @@ tightly packed bulk).
 
 Density: the data are linearly binned (Fan & Marron 1994; Wand 1994) onto a
 fine grid with at least ``FINE_STEPS_PER_BANDWIDTH`` (32) points per
-bandwidth (4096 to 2^20 points), convolved with the Gaussian kernel by FFT
+bandwidth (4096 to 2^20 points; the step is the range times a power of two,
+anchored at the smallest value, so it depends on the bandwidth only through a
+whole number and the stream engine can bin before the bandwidth is known,
+:class:`FineLattice`), convolved with the Gaussian kernel by FFT
 (kernel cut at ``KERNEL_REACH_BANDWIDTHS`` = 8 bandwidths, where it is below
 1e-13 of its peak), then read off at ``grid_size`` output points by linear
 interpolation. Only the non-empty grid points are kept, and each cluster of
@@ -235,23 +240,39 @@ def _linear_bin(scaled: np.ndarray, start: float, step: float, size: int, *, ove
     else:
         position = scaled - start
     position /= step
+    return _bin_positions(position, size)
+
+
+def _bin_positions(position: np.ndarray, size: int, lead: int = 0) -> np.ndarray:
+    """Linear binning of positions (in steps from grid point 0) onto ``size`` points, then ``lead`` empty
+    points on each side; ``position`` is used as the work array (its values are lost)."""
     index = np.empty(position.size, dtype=np.intp)
     for block in range(0, position.size, _BLOCK):
         index[block : block + _BLOCK] = np.floor(position[block : block + _BLOCK])
     np.clip(index, 0, size - 2, out=index)
     position -= index  # now the share of the weight that goes to the upper grid point
-    index += 1
-    upper = np.bincount(index, weights=position, minlength=size)
+    index += 1 + lead
+    total = size + 2 * lead
+    upper = np.bincount(index, weights=position, minlength=total)
     index -= 1
     np.subtract(1.0, position, out=position)  # now the share that goes to the lower grid point
-    counts = np.bincount(index, weights=position, minlength=size)
+    counts = np.bincount(index, weights=position, minlength=total)
     counts += upper
     return counts
 
 
-def _linear_bin_sorted(sorted_values: np.ndarray, centre: float, unit: float, start: float, step: float,
-                       size: int) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`_linear_bin` of (sorted_values - centre) / unit, for values sorted ascending, as (grid points,
+def _lattice_bin(scaled: np.ndarray, lattice: FineLattice) -> np.ndarray:
+    """Linear binning of standard-unit values on a :class:`FineLattice` (``scaled`` is used as the work
+    array): positions from the anchor, the same arithmetic the stream engine does chunk by chunk."""
+    position = scaled
+    position -= lattice.anchor
+    position /= lattice.step
+    return _bin_positions(position, lattice.nodes, lattice.lead)
+
+
+def _linear_bin_sorted(sorted_values: np.ndarray, centre: float, unit: float,
+                       lattice: FineLattice) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_lattice_bin` of (sorted_values - centre) / unit, for values sorted ascending, as (grid points,
     weights) of the non-empty grid points only, with no array the size of the data or of the grid.
 
     Block by block, each value's grid index (which never decreases along sorted values) is formed as
@@ -268,15 +289,15 @@ def _linear_bin_sorted(sorted_values: np.ndarray, centre: float, unit: float, st
         here, low_share, where = position[: values.size], lower[: values.size], index[: values.size]
         np.subtract(values, centre, out=here)
         here /= unit
-        here -= start
-        here /= step
+        here -= lattice.anchor
+        here /= lattice.step
         np.floor(here, out=low_share)
         where[:] = low_share
-        np.clip(where, 0, size - 2, out=where)
+        np.clip(where, 0, lattice.nodes - 2, out=where)
         here -= where  # the share of the weight that goes to the upper grid point
         np.subtract(1.0, here, out=low_share)
         runs = np.concatenate(([0], np.flatnonzero(where[1:] != where[:-1]) + 1))
-        grid_points = where[runs]
+        grid_points = where[runs] + lattice.lead
         upper_weights, lower_weights = np.add.reduceat(here, runs), np.add.reduceat(low_share, runs)
         # Each run gives its lower point and the next one; consecutive runs share points.
         points.append(np.concatenate((grid_points, grid_points + 1)))
@@ -453,15 +474,64 @@ def rule_bandwidth(
     return width, rule, note
 
 
-def fine_grid(low: float, high: float, width: float) -> tuple[float, float, int]:
-    """(start, step, size) of the fine binning grid for extremes ``low``, ``high`` and bandwidth
-    ``width`` (standard units): out to where the kernel vanishes, FINE_STEPS_PER_BANDWIDTH steps a
-    bandwidth, between FINE_GRID_MIN and FINE_GRID_MAX points."""
-    reach = KERNEL_REACH_BANDWIDTHS * width
-    fine_start, fine_stop = low - reach, high + reach
-    wanted = math.ceil((fine_stop - fine_start) / (width / FINE_STEPS_PER_BANDWIDTH)) + 1
-    fine_size = int(min(max(wanted, FINE_GRID_MIN), FINE_GRID_MAX))
-    return fine_start, (fine_stop - fine_start) / (fine_size - 1), fine_size
+@dataclass(frozen=True, slots=True)
+class FineLattice:
+    """The fine binning grid: ``nodes`` points anchor + i step from the smallest value (``anchor``) up to
+    at least the largest, and ``lead`` empty points on each side out to where the kernel vanishes.
+
+    The step is the range (standard units) times a power of two, 2^-``level``: it depends on the bandwidth
+    only through the whole number ``level``, so values binned before the bandwidth is known land on
+    the same points (and a binning at ``level`` + 1 coarsens exactly to ``level``, see
+    :func:`coarsen_lattice`). Empty points change no weight.
+    """
+
+    anchor: float
+    step: float
+    nodes: int
+    lead: int
+    level: int
+
+    @property
+    def start(self) -> float:
+        return self.anchor - self.lead * self.step
+
+    @property
+    def size(self) -> int:
+        return self.nodes + 2 * self.lead
+
+
+def fine_lattice(low: float, high: float, width: float) -> FineLattice:
+    """The binning lattice for extremes ``low``, ``high`` and bandwidth ``width`` (standard units): the
+    coarsest step range x 2^-level with at least FINE_STEPS_PER_BANDWIDTH steps a bandwidth and at least
+    FINE_GRID_MIN points in all, out to KERNEL_REACH_BANDWIDTHS bandwidths beyond the extremes. (With no
+    spread the step is a 256th of the width.)"""
+    span = high - low
+    if not span > 0:
+        step = width / 256.0
+        lead = math.ceil(KERNEL_REACH_BANDWIDTHS * width / step)
+        return FineLattice(low, step, 2, lead, 0)
+    level = math.ceil(math.log2(FINE_STEPS_PER_BANDWIDTH * span / width))
+    while math.ldexp(span, -level) > width / FINE_STEPS_PER_BANDWIDTH:  # rounding of the logarithm
+        level += 1
+    while True:
+        step = math.ldexp(span, -level)
+        nodes = (1 << level) + 1 if level >= 0 else 2
+        lead = math.ceil(KERNEL_REACH_BANDWIDTHS * width / step)
+        if nodes + 2 * lead >= FINE_GRID_MIN or nodes + 2 * lead > FINE_GRID_MAX // 2:
+            return FineLattice(low, step, nodes, lead, level)
+        level += 1
+
+
+def coarsen_lattice(counts: np.ndarray) -> np.ndarray:
+    """Counts linearly binned on a lattice of 2^(L+1) + 1 points, as binned on the one of 2^L + 1 points
+    with twice the step: each coarse point takes its own fine point's weight and half of each
+    neighbour's. Exact up to rounding: a coarse hat function is linear on each fine cell, so it is the
+    sum of the fine hat functions weighted by its values at the fine points (1 and 1/2)."""
+    coarse = counts[0::2].copy()
+    halves = 0.5 * counts[1::2]
+    coarse[:-1] += halves
+    coarse[1:] += halves
+    return coarse
 
 
 def choose_bandwidth(
@@ -580,12 +650,12 @@ def estimate_density(
         low, high = float(units.scaled[0]), float(units.scaled[1])
         sd_scaled, iqr_scaled = _sd_and_iqr(units.scaled, sd, iqr, units.unit)
         width, used_rule, note = floored_bandwidth(units, *rule_bandwidth(units, n, rule, sd_scaled, iqr_scaled))
-        fine_start, fine_step, fine_size = fine_grid(low, high, width)
-        counts = _linear_bin_sorted(array, units.centre, units.unit, fine_start, fine_step, fine_size)
+        lattice = fine_lattice(low, high, width)
+        counts = _linear_bin_sorted(array, units.centre, units.unit, lattice)
         return density_from_fine_counts(
             counts, n=n, centre=units.centre, unit=units.unit, width=width, rule=used_rule, note=note, low=low,
-            high=high, fine_start=fine_start, fine_step=fine_step, lower_bound=lower_bound,
-            upper_bound=upper_bound, grid_size=grid_size, keep_fine=keep_fine, fine_size=fine_size,
+            high=high, fine_start=lattice.start, fine_step=lattice.step, lower_bound=lower_bound,
+            upper_bound=upper_bound, grid_size=grid_size, keep_fine=keep_fine, fine_size=lattice.size,
         )
     units = _standard_units(array, presorted=presorted)
     if bandwidth is None:
@@ -599,11 +669,11 @@ def estimate_density(
     n = scaled.size
     low, high = (float(scaled[0]), float(scaled[-1])) if presorted else (float(scaled.min()), float(scaled.max()))
     # Fine grid for binning: the unbounded estimate, out to where the kernel vanishes.
-    fine_start, fine_step, fine_size = fine_grid(low, high, width)
-    counts = _linear_bin(scaled, fine_start, fine_step, fine_size, overwrite=True)  # scaled is not used again
+    lattice = fine_lattice(low, high, width)
+    counts = _lattice_bin(scaled, lattice)  # scaled is not used again
     return density_from_fine_counts(
         counts, n=n, centre=units.centre, unit=units.unit, width=width, rule=used_rule, note=note, low=low,
-        high=high, fine_start=fine_start, fine_step=fine_step, lower_bound=lower_bound, upper_bound=upper_bound,
+        high=high, fine_start=lattice.start, fine_step=lattice.step, lower_bound=lower_bound, upper_bound=upper_bound,
         grid_size=grid_size, keep_fine=keep_fine,
     )
 

@@ -8,17 +8,20 @@ Pass  What it gathers                                                         Wh
 1     rows read and left out; n, extremes; moments (Chan et al. 1979          plan,
       merge); KLL sketch; reservoir sample; tail values; suspect-code         centre
       counts; round-number counts; distinct values; precision
-2     exact order statistics in sketch brackets: P5..P95, quartiles,          spread
-      median, the median interval's ranks, the trimmed means' cut points,
-      code-free quartiles, tie candidates
-3     histogram and bin-sensitivity counts; density binning; the MAD's        shape,
-      bracket; trimmed-mean middles; tie-candidate counts; and for each       outliers,
-      rule the automatic choice may take (it waits for the shape): the        with/without
-      values it flags with rows, the moments of the rest, brackets for the
-      rest's quartiles and median, the focused histogram's counts
+2     exact order statistics in sketch brackets: P5..P95, quartiles,          spread,
+      median, the median interval's ranks, the trimmed means' cut points,     shape,
+      code-free quartiles, tie candidates; and, gathered ahead for every      outliers,
+      plan those brackets allow (:class:`_LookAhead`): histogram and          with/without
+      bin-sensitivity counts, density binning, the MAD's band,
+      trimmed-mean middles, and for each rule the automatic choice may take
+      (it waits for the shape): the values it flags with rows, the moments
+      of the rest, brackets for the rest's quartiles and median, the
+      focused histogram's counts
+(3)   the same summaries for the exact plan, read only when the look-ahead
+      did not hold one of them
 ====  ======================================================================  =====
 
-The modified z rule needs the MAD for its limits and takes a fourth pass; values beyond 1e60 or
+The modified z rule needs the MAD for its limits and takes a pass of its own; values beyond 1e60 or
 below 1e-60 in size take one more for their moments in scaled units. A bracket the sketch missed
 (its bound holds with 99 % confidence) is widened and read again in an extra pass, so exact figures
 are always exact. The medcouple is exact when the reservoir holds every value (n up to
@@ -46,6 +49,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from narrator.engine import bins as engine_bins
+from narrator.engine import density as engine_density
 from narrator.engine import intervals, robust, rules
 from narrator.engine.describe import library_versions
 from narrator.engine.moments import scaled
@@ -76,6 +80,8 @@ from narrator.scale.ranks import (
 from narrator.scale.sources import ColumnSource
 from narrator.scale.streaming import Pass, StreamRunner
 from narrator.scale.summaries import (
+    BinCounts,
+    CentreBand,
     CodeCounts,
     DistanceCounts,
     DistinctValues,
@@ -83,6 +89,7 @@ from narrator.scale.summaries import (
     ExcludingMoments,
     ExtremeSummary,
     FarthestValue,
+    FlaggedBand,
     FlaggedValues,
     MeanDistance,
     MomentSummary,
@@ -235,7 +242,24 @@ def describe_source(
     tie_step = rules.tie_run_length(n) if n >= MIN_FOR_CONFIDENT and distinct > 1 else None
     tie_ranks = list(range(0, n, tie_step)) if tie_step else []
     wanted |= set(tie_ranks)
-    second = reader.run({"order": reader.brackets([(r, r) for r in sorted(wanted)])})
+    reservoir: ReservoirSample = first["reservoir"]
+    whole_reservoir = reservoir.values.size == n
+    medcouple_value, medcouple_method = (None, "exact")
+    if n >= 3:
+        medcouple_value, medcouple_method = _medcouple(np.sort(reservoir.values) / factor, whole_reservoir, seed)
+    plan_for = _QuartilePlanner(reader=reader, options=options, n=n, low=low, high=high, factor=factor,
+                                moments=moments, integer_valued=integer_valued, has_spread=has_spread,
+                                medcouple=medcouple_value)
+    farthest = rules.farthest_plan(
+        rules.Extremes(extremes.low, extremes.low_row, extremes.high, extremes.high_row, extremes.second_low,
+                       extremes.second_high), moments.mean * factor, n)
+    # What the third pass would gather is gathered now, for every plan the sketch's brackets for the
+    # quartiles and the median allow (narrator.scale.ahead); it is used when the exact plan is among them.
+    ahead = _LookAhead.plan(plan_for, reader, n, factor, code_plans, cuts, farthest is None, moments.mean * factor)
+    second_parts = {"order": reader.brackets([(r, r) for r in sorted(wanted)])}
+    if ahead is not None:
+        second_parts.update(ahead.parts)
+    second = reader.run(second_parts)
     statistics = OrderStatistics(n)
     statistics.add(second["order"])
     reader.settle(statistics, wanted)
@@ -243,32 +267,13 @@ def describe_source(
     quantile_values = tuple(float(v) for v in rules.quantiles_at(statistics, n, PERCENTILES, factor))
     _, _, q1, _, q3, _, _ = quantile_values
     median = rules.median_at(statistics, n, factor)
-    sd = moments.sd
-    reservoir: ReservoirSample = first["reservoir"]
-    whole_reservoir = reservoir.values.size == n
-    medcouple_value, medcouple_method = (None, "exact")
-    if n >= 3:
-        medcouple_value, medcouple_method = _medcouple(np.sort(reservoir.values) / factor, whole_reservoir, seed)
 
     # ---- pass 3: pictures, MAD, trimmed means, tie counts, and the values each candidate rule flags
     # (the automatic choice waits for the shape, which waits for the density: both rules are gathered)
-    parts: dict = {}
-    histogram_layout = sensitivity_layout = density_layout = None
-    if has_spread:
-        skewness_biased = moments.s3 / moments.s2**1.5 if moments.s2 > 0 else None
-        histogram_layout = layouts.histogram_layout(
-            n=n, low=low, high=high, sd=sd * factor, iqr=(q3 - q1) * factor, rule=options.bin_rule,
-            integer_valued=integer_valued, skewness_biased=skewness_biased)
-        parts["histogram"] = layouts.histogram_counter(histogram_layout)
-        if n >= MIN_FOR_SHAPE:
-            sensitivity_layout = layouts.sensitivity_layout(low=low, high=high, base_width=histogram_layout.width,
-                                                             integer_valued=integer_valued)
-            for k, counter in enumerate(sensitivity_layout.counters):
-                parts[f"sensitivity{k}"] = counter
-        density_layout = layouts.density_layout(n=n, low=low, high=high, sd=sd * factor, iqr=(q3 - q1) * factor,
-                                                 rule=options.bandwidth_rule,
-                                                 lower_bound=options.lower_bound, upper_bound=options.upper_bound)
-        parts["density"] = density_layout.counter()
+    planned = plan_for(q1, median, q3)
+    parts = dict(planned.parts)
+    histogram_layout, sensitivity_layout = planned.histogram_layout, planned.sensitivity_layout
+    density_layout, provisional, candidates = planned.density_layout, planned.provisional, planned.candidates
     mad_plan = _MadPlan(reader.sketch, n, median, factor, low, high,
                         margin=BRACKET_MARGIN * reader.sketch.rank_error)
     parts["mad"] = mad_plan.counter()
@@ -283,28 +288,11 @@ def describe_source(
         _code_quartiles(plan, statistics, n)
         if plan["q3"] - plan["q1"] <= 0:  # the code-free values tie: their SD stands in for the IQR
             parts[f"others{plan['index']}"] = ExcludingMoments(plan["code"])
-    farthest = rules.farthest_plan(
-        rules.Extremes(extremes.low, extremes.low_row, extremes.high, extremes.high_row, extremes.second_low,
-                       extremes.second_high), moments.mean * factor, n)
     if farthest is None:
         parts["farthest"] = FarthestValue(moments.mean * factor)
-    provisional = None
-    if has_spread:  # the histogram's widths are known before its counts; the focus needs only those
-        provisional = layouts.histogram_from_counts(histogram_layout, np.zeros(histogram_layout.bins, dtype=int))
-    candidates = {}
-    if options.outlier_rule != "modified-z":  # the modified z rule needs the MAD: it waits for this pass
-        choices = ([rules.rule_choice(None, True), rules.rule_choice(None, False)] if options.outlier_rule is None
-                   else [rules.rule_choice(options.outlier_rule, False)])
-        for choice in choices:
-            if rules.working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple_value,
-                                    median=median).rule == "modified-z":
-                continue  # a rule that gives way to the modified z score needs the MAD: it waits for this pass
-            test = rules.outlier_test(choice, n, q1=q1, median=median, q3=q3, mad=math.nan,
-                                      medcouple=medcouple_value if medcouple_value is not None else 0.0,
-                                      mean_absolute_deviation=lambda: math.nan)
-            candidates[choice.rule] = test
-            _gather_flagged(parts, choice.rule, test, reader, n, factor, provisional, low, high)
-    third = reader.run(parts)
+    third = ahead.settle(parts, second, statistics, median) if ahead is not None else None
+    if third is None:
+        third = reader.run(parts)
     mad = mad_plan.settle(third["mad"], reader)
 
     histogram_plan = sensitivity = density_estimate = fine_density = None
@@ -379,6 +367,310 @@ def describe_source(
     findings = rules.decide(gathered, options, variable, provenance,
                             _accuracy(runner, first, n, approximate, seed, reservoir_size))
     return ScaleResult(findings, _figure_sample(account, first, flagged), reader.passes)
+
+
+# ---------------------------------------------------------------------------
+# The third pass's plan, and gathering it ahead in the second pass
+# ---------------------------------------------------------------------------
+
+
+@dataclass(frozen=True, slots=True)
+class _Planned:
+    """What the summaries that need the quartiles are, for one (q1, median, q3)."""
+
+    parts: dict
+    histogram_layout: object
+    sensitivity_layout: object
+    density_layout: object
+    provisional: object
+    candidates: dict  # rule -> OutlierTest, for each rule the automatic choice may take
+
+
+@dataclass(frozen=True, slots=True)
+class _QuartilePlanner:
+    """The histogram, bin-sensitivity and density layouts and each candidate rule's summaries, from the
+    quartiles and the median (x / factor units): one function for the exact plan and for the plans the
+    look-ahead gathers."""
+
+    reader: object
+    options: Options
+    n: int
+    low: float
+    high: float
+    factor: float
+    moments: object
+    integer_valued: bool
+    has_spread: bool
+    medcouple: float | None
+
+    def __call__(self, q1: float, median: float, q3: float) -> _Planned:
+        n, low, high, factor, options, moments = self.n, self.low, self.high, self.factor, self.options, self.moments
+        sd = moments.sd
+        parts: dict = {}
+        histogram_layout = sensitivity_layout = density_layout = provisional = None
+        if self.has_spread:
+            skewness_biased = moments.s3 / moments.s2**1.5 if moments.s2 > 0 else None
+            histogram_layout = layouts.histogram_layout(
+                n=n, low=low, high=high, sd=sd * factor, iqr=(q3 - q1) * factor, rule=options.bin_rule,
+                integer_valued=self.integer_valued, skewness_biased=skewness_biased)
+            parts["histogram"] = layouts.histogram_counter(histogram_layout)
+            if n >= MIN_FOR_SHAPE:
+                sensitivity_layout = layouts.sensitivity_layout(low=low, high=high, base_width=histogram_layout.width,
+                                                                 integer_valued=self.integer_valued)
+                for k, counter in enumerate(sensitivity_layout.counters):
+                    parts[f"sensitivity{k}"] = counter
+            density_layout = layouts.density_layout(n=n, low=low, high=high, sd=sd * factor, iqr=(q3 - q1) * factor,
+                                                     rule=options.bandwidth_rule, lower_bound=options.lower_bound,
+                                                     upper_bound=options.upper_bound)
+            parts["density"] = density_layout.counter()
+            # the histogram's widths are known before its counts; the focus needs only those
+            provisional = layouts.histogram_from_counts(histogram_layout, np.zeros(histogram_layout.bins, dtype=int))
+        candidates = {}
+        medcouple = self.medcouple
+        if options.outlier_rule != "modified-z":  # the modified z rule needs the MAD: it waits for the MAD's pass
+            choices = ([rules.rule_choice(None, True), rules.rule_choice(None, False)] if options.outlier_rule is None
+                       else [rules.rule_choice(options.outlier_rule, False)])
+            for choice in choices:
+                if rules.working_choice(choice, n, q1=q1, q3=q3, medcouple=medcouple,
+                                        median=median).rule == "modified-z":
+                    continue  # a rule that gives way to the modified z score needs the MAD: it waits for it
+                test = rules.outlier_test(choice, n, q1=q1, median=median, q3=q3, mad=math.nan,
+                                          medcouple=medcouple if medcouple is not None else 0.0,
+                                          mean_absolute_deviation=lambda: math.nan)
+                candidates[choice.rule] = test
+                _gather_flagged(parts, choice.rule, test, self.reader, n, factor, provisional, low, high)
+        return _Planned(parts, histogram_layout, sensitivity_layout, density_layout, provisional, candidates)
+
+
+# Points per quartile bracket at which the look-ahead evaluates the plan (and both ends).
+_AHEAD_STEPS = 5
+
+
+class _LookAhead:
+    """The third pass's summaries gathered in the second, before the exact quartiles and median are known.
+
+    The sketch brackets each order statistic; every plan those brackets allow (the plan at a grid of
+    quartiles and medians across them, ends included) is gathered: each distinct histogram and bin grid,
+    the density's lattice at its finest level (a coarser one is exact from it,
+    :func:`narrator.engine.density.coarsen_lattice`), each focused histogram's edges, each rule's values
+    between the least and greatest limits (:class:`~.summaries.FlaggedBand`), the MAD's distances for any
+    median in its bracket (:class:`~.summaries.CentreBand`); the trimmed means' middles between the
+    brackets; tie and order counts come from the order statistics' own brackets. Once the exact
+    figures are known, :meth:`settle` rebuilds every summary of the exact plan from these, or gives
+    None (and the third pass is read) when any is not among them: never a different result.
+    """
+
+    def __init__(self) -> None:
+        self.parts: dict = {}
+        self.bin_keys: dict = {}
+        self.edge_keys: dict = {}
+        self.trims: dict = {}
+        self.ok = True
+
+    @classmethod
+    def plan(cls, plan_for: _QuartilePlanner, reader: _Reader, n: int, factor: float, code_plans, cuts,
+             want_farthest: bool, mean_data: float) -> _LookAhead | None:
+        if not plan_for.has_spread or n < 2:
+            return None
+        sketch = reader.sketch
+        margin = BRACKET_MARGIN * sketch.rank_error
+        low, high = plan_for.low, plan_for.high
+
+        def lower(rank: int) -> float:
+            share = rank / n - margin
+            return low if share <= 0 else min(max(sketch.quantile(share), low), high)
+
+        def upper(rank: int) -> float:
+            share = (rank + 1) / n + margin
+            return high if share >= 1 else min(max(sketch.quantile(share), low), high)
+
+        quartile_low = rules.quantiles_at(lower, n, [0.25, 0.75], factor)
+        quartile_high = rules.quantiles_at(upper, n, [0.25, 0.75], factor)
+        median_low, median_high = rules.median_at(lower, n, factor), rules.median_at(upper, n, factor)
+        ahead = cls()
+        grids = [np.linspace(a, b, _AHEAD_STEPS) for a, b in zip(quartile_low, quartile_high, strict=True)]
+        medians = np.linspace(median_low, median_high, 3)
+        density = None
+        fences: dict = {}
+        rest_ranges: dict = {}
+        for q1 in grids[0]:
+            for q3 in grids[1]:
+                for median in medians:
+                    if not q1 <= median <= q3:
+                        continue
+                    try:
+                        planned = plan_for(float(q1), float(median), float(q3))
+                    except NarratorError:  # a plan the exact figures may not take: the exact one decides
+                        return None
+                    for key, part in planned.parts.items():
+                        if key == "histogram" or key.startswith("sensitivity"):
+                            ahead.bin_keys.setdefault(_bin_key(part), part)
+                        elif key == "density":
+                            if density is None or part.step < density.step:
+                                density = part
+                        elif key.startswith("focus_"):
+                            ahead.edge_keys.setdefault(part.edges.tobytes(), part)
+                    for rule, test in planned.candidates.items():
+                        if test.kind != "fences":
+                            return None
+                        lower_fence, upper_fence = test.fences[0], test.fences[1]
+                        known = fences.setdefault(rule, [lower_fence, lower_fence, upper_fence, upper_fence])
+                        known[0], known[1] = min(known[0], lower_fence), max(known[1], lower_fence)
+                        known[2], known[3] = min(known[2], upper_fence), max(known[3], upper_fence)
+                        rest_ranges.setdefault(rule, []).extend(_rest_rank_ranges(sketch, n, test, factor))
+        if density is None:
+            return None
+        lattice_nodes = density.nodes
+        # The finest lattice, without its empty lead points (they change no weight).
+        ahead.parts["ahead_density"] = type(density)(density.centre, density.unit, density.anchor, density.step,
+                                                     lattice_nodes)
+        for k, part in enumerate(ahead.bin_keys.values()):
+            ahead.parts[f"ahead_bins{k}"] = part
+        for k, part in enumerate(ahead.edge_keys.values()):
+            ahead.parts[f"ahead_edges{k}"] = part
+        for rule, (lower_min, lower_max, upper_min, upper_max) in fences.items():
+            slack = 1e-12 * max(abs(lower_min), abs(upper_max), 1e-300)
+            lower_min, lower_max, upper_min, upper_max = (lower_min - slack, lower_max + slack, upper_min - slack,
+                                                          upper_max + slack)
+            if not lower_max < upper_min:
+                return None
+            ahead.parts[f"ahead_flagged_{rule}"] = FlaggedBand(lower_min, lower_max, upper_min, upper_max, factor)
+            ahead.parts[f"ahead_order_{rule}"] = reader.brackets(rest_ranges[rule])
+        # The MAD: distances from the middle of the median's bracket, for any median inside it.
+        centre = (median_low / 2 + median_high / 2) * factor
+        reach = (median_high / 2 - median_low / 2) * factor
+        reach += 1e-9 * max(abs(centre), reach, 1e-300)
+        mad_plan = _MadPlan(sketch, n, centre / factor, factor, low, high, margin=margin)
+        band = mad_plan.counter()
+        # Any median within ``reach`` of the centre moves each distance by at most ``reach``: the band is
+        # widened by that, and by as much again for the settling's own allowance.
+        ahead.parts["ahead_mad"] = CentreBand(centre, 2 * reach, max(band.inner * factor - 3 * reach, 0.0),
+                                              band.outer * factor + 3 * reach, factor)
+        # Trimmed means: the values strictly between the brackets' inner ends; the rest are in the brackets.
+        for proportion, cut in cuts.items():
+            inner_low, inner_high = upper(cut), lower(n - cut - 1)
+            if inner_low < inner_high:
+                ahead.trims[proportion] = (inner_low, inner_high)
+                ahead.parts[f"ahead_trim{proportion}"] = RangeMean(inner_low, inner_high, factor)
+        for plan in code_plans:
+            ahead.parts[f"ahead_others{plan['index']}"] = ExcludingMoments(plan["code"])
+        if want_farthest:
+            ahead.parts["ahead_farthest"] = FarthestValue(mean_data)
+        return ahead
+
+    def settle(self, parts: dict, second: Pass, statistics: OrderStatistics, median: float) -> dict | None:
+        """The exact plan's summaries (``parts``, not yet filled) rebuilt from what the second pass gathered,
+        or None when any of them is not among its plans."""
+        order: PartitionCounts = second["order"]
+        settled: dict = {}
+        for key, part in parts.items():
+            found = self._settle_one(key, part, second, order, statistics, median)
+            if found is None:
+                return None
+            settled[key] = found
+        return settled
+
+    def _settle_one(self, key, part, second, order, statistics, median):
+        if key == "histogram" or key.startswith("sensitivity"):
+            found = self.bin_keys.get(_bin_key(part))
+            return None if found is None else second[self._name_of(found)]
+        if key == "density":
+            return _coarsened(second["ahead_density"], part)
+        if key.startswith("focus_"):
+            found = self.edge_keys.get(part.edges.tobytes())
+            if found is None or not np.array_equal(found.edges, part.edges):
+                return None
+            return second[self._name_of(found)]
+        if key.startswith("flagged_"):
+            band = second.parts.get("ahead_" + key)
+            if band is None or part.test[0] != "fences":
+                return None
+            return band.settle(part.test[1], part.test[2])
+        if key.startswith("order_"):
+            return second.parts.get("ahead_" + key)
+        if key == "mad":
+            return second["ahead_mad"].settle(median)
+        if key == "points":
+            return _PointCounts.of(part.boundaries, statistics.partitions)
+        if key.startswith("trim"):
+            return self._trim(key, part, second, statistics.partitions)
+        if key.startswith("others") or key == "farthest":
+            return second.parts.get("ahead_" + key)
+        return None
+
+    def _name_of(self, part) -> str:
+        for name, value in self.parts.items():
+            if value is part:
+                return name
+        raise LookupError(name)
+
+    def _trim(self, key, part: RangeMean, second, partitions) -> RangeMean | None:
+        proportion = float(key[len("trim"):])
+        if proportion not in self.trims:
+            return None
+        inner_low, inner_high = self.trims[proportion]
+        low_value, high_value = part.low, part.high
+        if not (low_value <= inner_low and inner_high <= high_value):
+            return None
+        middle: RangeMean = second[f"ahead_trim{proportion}"]
+        result = RangeMean(low_value, high_value, part.factor)
+        result._add(middle.n, middle.mean)
+        for start, stop in ((low_value, inner_low), (inner_high, high_value)):
+            holder = next((p for p in partitions if p.covers(start, stop)), None)
+            if holder is None:
+                return None
+            values, copies = holder.kept_between(start, stop)
+            inside = (values > low_value) & (values < high_value)
+            values, copies = values[inside], copies[inside]
+            if values.size:
+                units = values if part.factor == 1.0 else values / part.factor
+                count = int(copies.sum())
+                result._add(count, float(np.sum(units * copies) / count))
+        return result
+
+
+def _bin_key(part: BinCounts) -> tuple:
+    return (part.width, part.shift, part.first, part.tolerance, part.bins, part.clip, part.factor)
+
+
+def _coarsened(finest, part):
+    """The exact plan's density counts from the finest lattice's: coarsened level by level, with the
+    plan's empty lead points around them; None when the plan's lattice is not a coarsening of it."""
+    if (finest.centre, finest.unit, finest.anchor) != (part.centre, part.unit, part.anchor):
+        return None
+    counts = finest.counts
+    step = finest.step
+    while step < part.step and counts.size > 2 and (counts.size - 1) % 2 == 0:
+        counts = engine_density.coarsen_lattice(counts)
+        step *= 2.0
+    if step != part.step or counts.size != part.nodes:
+        return None
+    result = type(part)(part.centre, part.unit, part.anchor, part.step, part.nodes, part.lead)
+    result.counts[part.lead : part.lead + part.nodes] = counts
+    return result
+
+
+class _PointCounts:
+    """count_below and count_equal at given points, read from the order statistics' brackets."""
+
+    def __init__(self, answers: dict) -> None:
+        self.answers = answers
+
+    @classmethod
+    def of(cls, points, partitions) -> _PointCounts | None:
+        answers = {}
+        for point in points:
+            found = next((a for a in (p.counts_at(float(point)) for p in partitions) if a is not None), None)
+            if found is None:
+                return None
+            answers[float(point)] = found
+        return cls(answers)
+
+    def count_below(self, value: float) -> int:
+        return self.answers[float(value)][0]
+
+    def count_equal(self, value: float) -> int:
+        return self.answers[float(value)][1]
 
 
 # ---------------------------------------------------------------------------

@@ -1,52 +1,39 @@
-"""The same passes on a Dask cluster: each partition of the Parquet data fills its own summaries on a
-worker, and the summaries are merged pairwise, in partition order, on the workers too.
+"""The same passes on a Dask cluster: each row group of the Parquet files fills its own summaries on a
+worker, and the summaries are merged pairwise, in file and row-group order, on the workers too.
 
 ====================  ==============================================================
 Name                  What it does
 ====================  ==============================================================
-:class:`DaskRunner`   runs a :class:`~.streaming.Pass` over ``dask.dataframe.read_parquet``
-                      partitions with a ``distributed`` client (a scheduler address,
-                      or a client the caller made)
+:class:`DaskRunner`   runs a :class:`~.streaming.Pass` over the row groups of the
+                      Parquet files with a ``distributed`` client (a scheduler
+                      address, or a client the caller made)
 ====================  ==============================================================
 
-Only Parquet input is read this way (a CSV file has no independent parts to hand out). Each
-partition is cut into chunks of the source's ``chunk_rows`` and parsed with the same cell rules as
-the streaming reader, and its rows are numbered from the partition's offset (the lengths of the
-partitions before it, counted once by the cluster), so row numbers, the reservoir sample and every
+Only Parquet input is read this way (a CSV file has no independent parts to hand out). Each row group
+is read on a worker by the streaming reader itself (:meth:`~.sources.ColumnSource.parquet_file_chunks`:
+chunks of the source's ``chunk_rows``, the same cell rules), and its rows are numbered from its offset
+(the row counts before it, from the files' metadata), so row numbers, the reservoir sample and every
 exact figure are the same as in a streaming run. Merged sums can differ from the streaming run's in
-the last bits only (another grouping of the same additions).
+the last bits only (another grouping of the same additions). The workers must see the files at the
+same paths.
 
 No scheduler of our own: the cluster is Dask's ``distributed`` scheduler (Dask Development Team 2016).
 """
 
 from __future__ import annotations
 
-import numpy as np
+from pathlib import Path
 
 from narrator.errors import NarratorError
 from narrator.scale.sources import ColumnSource
 from narrator.scale.streaming import Pass
 
 
-def _arrow_column(frame):
-    """The partition's one column as a pyarrow Array (pyarrow-backed frames hand theirs over as is)."""
-    import pyarrow as pa
-
-    series = frame.iloc[:, 0]
-    array = pa.array(series.array) if hasattr(series.array, "__arrow_array__") else pa.array(series,
-                                                                                          from_pandas=True)
-    return array.combine_chunks() if isinstance(array, pa.ChunkedArray) else array
-
-
-def _fill(frame, offset: int, empty: Pass, source: ColumnSource) -> Pass:
-    """One partition's summaries: the partition read in chunks, as the streaming reader reads a file."""
-    from narrator.reading.parquet import parquet_cells
-
-    plan = empty.empty_copy()  # a worker may hand the same deserialized plan to several partitions
-    array = _arrow_column(frame)
-    for start in range(0, len(array), source.chunk_rows):
-        part = array.slice(start, source.chunk_rows)
-        plan.feed(source.sample_of(parquet_cells(part, source.options), offset + start))
+def _fill(path: Path, group: int, offset: int, empty: Pass, source: ColumnSource) -> Pass:
+    """One row group's summaries, read in chunks as the streaming reader reads a file."""
+    plan = empty.empty_copy()  # a worker may hand the same deserialized plan to several row groups
+    for chunk in source.parquet_file_chunks(path, offset, row_groups=[group]):
+        plan.feed(chunk)
     return plan
 
 
@@ -54,17 +41,12 @@ def _merge(left: Pass, right: Pass) -> Pass:
     return left.merge(right)
 
 
-def _length(frame) -> int:
-    return len(frame)
-
-
 class DaskRunner:
     """Runs each pass on a Dask cluster.
 
     ``address`` is a scheduler address such as ``tcp://scheduler.example:8786``; or pass a ``client`` already
-    connected (a ``distributed.LocalCluster``'s, in tests). The Parquet files are opened with
-    ``dask.dataframe.read_parquet`` (only the described column), with pyarrow-backed dtypes so the
-    cells reach the reader exactly as the streaming reader sees them.
+    connected (a ``distributed.LocalCluster``'s, in tests). Each task reads one row group of one file
+    (only the described column) with the streaming reader, so the cells are the ones it sees.
     """
 
     name = "dask"
@@ -74,10 +56,10 @@ class DaskRunner:
             raise NarratorError("the dask engine reads Parquet files (a file, folder or glob); "
                                 "for a CSV file use the stream engine")
         try:
-            import dask.dataframe as dd
+            import dask  # noqa: F401
             from distributed import Client
         except ImportError:
-            raise NarratorError("the dask engine needs the packages dask[dataframe] and distributed") from None
+            raise NarratorError("the dask engine needs the packages dask and distributed") from None
         if client is None:
             if not address:
                 raise NarratorError("the dask engine needs a scheduler address (--scheduler tcp://host:8786)")
@@ -91,30 +73,17 @@ class DaskRunner:
         self.client = client
         self.source = source
         self.passes = 0
-        frame = dd.read_parquet([str(p) for p in source.paths], columns=[source.column_name],
-                                dtype_backend="pyarrow", index=False)
-        self.partitions = frame.to_delayed()
-        self._offsets: list[int] | None = None
-
-    def offsets(self) -> list[int]:
-        """Row offset of each partition: the lengths before it (counted on the cluster, once)."""
-        if self._offsets is None:
-            from dask import delayed
-
-            lengths = self.client.compute([delayed(_length)(part) for part in self.partitions], sync=True)
-            self._offsets = [int(v) for v in np.concatenate([[0], np.cumsum(lengths)[:-1]])]
-        return self._offsets
+        self.parts = source.parquet_parts()
 
     def run(self, plan: Pass) -> Pass:
         from dask import delayed
 
         self.passes += 1
-        empty = delayed(plan)  # sent to the cluster once, copied per partition
-        level = [delayed(_fill)(part, offset, empty, self.source)
-                 for part, offset in zip(self.partitions, self.offsets(), strict=True)]
+        empty = delayed(plan)  # sent to the cluster once, copied per row group
+        level = [delayed(_fill)(path, group, offset, empty, self.source) for path, group, offset in self.parts]
         if not level:
             return plan
-        while len(level) > 1:  # pairwise merges in partition order: a tree of depth log2(partitions)
+        while len(level) > 1:  # pairwise merges in order: a tree of depth log2(row groups)
             level = [delayed(_merge)(level[k], level[k + 1]) if k + 1 < len(level) else level[k]
                      for k in range(0, len(level), 2)]
         return self.client.compute(level[0], sync=True)

@@ -100,14 +100,13 @@ class DensityLayout:
     width: float  # bandwidth, standard units
     rule: str
     note: str | None
-    fine_start: float
-    fine_step: float
-    fine_size: int
+    lattice: engine_density.FineLattice
     lower_bound: float | None
     upper_bound: float | None
 
     def counter(self) -> LinearBinCounts:
-        return LinearBinCounts(self.centre, self.unit, self.fine_start, self.fine_step, self.fine_size)
+        lattice = self.lattice
+        return LinearBinCounts(self.centre, self.unit, lattice.anchor, lattice.step, lattice.nodes, lattice.lead)
 
 
 def density_layout(
@@ -129,9 +128,8 @@ def density_layout(
         raise NarratorError("bandwidth: sd and iqr must be finite and not negative")
     width, used, note = engine_density.floored_bandwidth(
         units, *engine_density.rule_bandwidth(units, n, rule, sd_scaled, iqr_scaled))
-    fine_start, fine_step, fine_size = engine_density.fine_grid(low_s, high_s, width)
-    return DensityLayout(n, centre, unit, has_spread, low_s, high_s, width, used, note, fine_start, fine_step,
-                         fine_size, lower_bound, upper_bound)
+    return DensityLayout(n, centre, unit, has_spread, low_s, high_s, width, used, note,
+                         engine_density.fine_lattice(low_s, high_s, width), lower_bound, upper_bound)
 
 
 def density_from_counts(layout: DensityLayout, counts: np.ndarray,
@@ -142,5 +140,5 @@ def density_from_counts(layout: DensityLayout, counts: np.ndarray,
     return engine_density.density_from_fine_counts(
         np.asarray(counts, dtype=np.float64), n=layout.n, centre=layout.centre, unit=layout.unit,
         width=layout.width, rule=layout.rule, note=layout.note, low=layout.low, high=layout.high,
-        fine_start=layout.fine_start, fine_step=layout.fine_step, lower_bound=layout.lower_bound,
+        fine_start=layout.lattice.start, fine_step=layout.lattice.step, lower_bound=layout.lower_bound,
         upper_bound=layout.upper_bound, grid_size=grid_size, keep_fine=keep_fine)

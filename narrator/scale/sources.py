@@ -105,12 +105,13 @@ class ColumnSource:
         else:
             yield from self._text_chunks()
 
-    def parquet_file_chunks(self, path: Path, offset: int) -> Iterator[Sample]:
+    def parquet_file_chunks(self, path: Path, offset: int, row_groups: list[int] | None = None) -> Iterator[Sample]:
+        """The chunks of one Parquet file (of its ``row_groups`` only, when given), rows from ``offset`` + 2."""
         opened = parquet.open_parquet(path)
         self._check_column(opened, path)
         name = opened.schema_arrow.names[parquet.data_columns(opened)[0][self.column_index]]
         try:
-            for batch in opened.iter_batches(batch_size=self.chunk_rows, columns=[name]):
+            for batch in opened.iter_batches(batch_size=self.chunk_rows, columns=[name], row_groups=row_groups):
                 yield self.sample_of(parquet.parquet_cells(batch.column(0), self.options), offset)
                 offset += batch.num_rows
         except Exception as exc:  # pyarrow raises several kinds for a damaged file
@@ -121,6 +122,18 @@ class ColumnSource:
 
     def parquet_rows(self, path: Path) -> int:
         return int(parquet.open_parquet(path).metadata.num_rows)
+
+    def parquet_parts(self) -> list[tuple[Path, int, int]]:
+        """(file, row group, first row's offset) of every row group of every file, in order, from the
+        files' metadata (no data read)."""
+        parts = []
+        offset = 0
+        for path in self.paths:
+            metadata = parquet.open_parquet(path).metadata
+            for group in range(metadata.num_row_groups):
+                parts.append((path, group, offset))
+                offset += int(metadata.row_group(group).num_rows)
+        return parts
 
     def _check_column(self, opened, path: Path) -> None:
         _positions, headers = parquet.data_columns(opened)

@@ -31,7 +31,7 @@ Name                         What it keeps
 :class:`RangeMean`           count and mean of the values inside an open interval
 :class:`BinCounts`           counts per bin of a fixed grid (bin index rule of
                              :mod:`narrator.engine.bins`)
-:class:`LinearBinCounts`     linear binning on a fixed grid (Wand 1994), additive
+:class:`LinearBinCounts`     linear binning on a fixed lattice (Wand 1994), additive
                              over chunks
 :class:`EdgeCounts`          counts in half-open bins between given edges, and
                              beyond them (the histogram over the bulk)
@@ -42,6 +42,10 @@ Name                         What it keeps
 :class:`ExcludingMoments`    moments of the values other than one value
 :class:`DistanceCounts`      distances from a centre: counts below and above a band,
                              the distances inside it (the MAD's bracket)
+:class:`FlaggedBand`         FlaggedValues for any limits within given bands, gathered
+                             before the limits are known
+:class:`CentreBand`          DistanceCounts for any centre near a given one, gathered
+                             before the centre is known
 ===========================  ======================================================
 """
 
@@ -754,6 +758,31 @@ class PartitionCounts:
                 total += int(self.point_counts[j])
         return None
 
+    def covers(self, low: float, high: float) -> bool:
+        """Whether every value in [low, high] is counted as itself: each gap the interval meets is kept
+        (boundary points are counted as themselves)."""
+        first = int(np.searchsorted(self.boundaries, low, side="right"))
+        last = int(np.searchsorted(self.boundaries, high, side="left"))
+        return bool(np.all(self.collect[first : last + 1]))
+
+    def counts_at(self, value: float) -> tuple[int, int] | None:
+        """(values below ``value``, values equal to it), exactly, or None when ``value`` lies in a gap
+        whose values were not kept."""
+        size = self.boundaries.size
+        j = int(np.searchsorted(self.boundaries, value, side="left"))
+        if j < size and self.boundaries[j] == value:
+            return int(self.gap_counts[: j + 1].sum() + self.point_counts[:j].sum()), int(self.point_counts[j])
+        if not self.collect[j]:
+            return None
+        below = int(self.gap_counts[:j].sum() + self.point_counts[:j].sum())
+        kept, counts = self.kept_values, self.kept_counts
+        gap_low = -math.inf if j == 0 else self.boundaries[j - 1]
+        start = int(np.searchsorted(kept, gap_low, side="right"))
+        at = int(np.searchsorted(kept, value, side="left"))
+        below += int(counts[start:at].sum())
+        equal = int(counts[at]) if at < kept.size and kept[at] == value else 0
+        return below, equal
+
     def kept_between(self, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
         """Kept distinct values in [low, high] with counts, the boundary points in it included."""
         inside = (self.kept_values >= low) & (self.kept_values <= high)
@@ -823,31 +852,56 @@ class EdgeCounts:
 
     def update(self, values: np.ndarray, rows: np.ndarray) -> EdgeCounts:
         if values.size:
-            self.counts += np.bincount(self._index(values), minlength=self.counts.size)
+            self.counts += self._counts(values)
         return self
 
-    def _index(self, values: np.ndarray) -> np.ndarray:
-        """``np.searchsorted(edges, values, side="right")`` (how many edges are at or below each value).
+    def _counts(self, values: np.ndarray) -> np.ndarray:
+        """How many values have each ``np.searchsorted(edges, values, side="right")`` (how many edges are
+        at or below them), without a binary search per value (several times slower on a million values).
 
-        The edges are evenly spaced up to rounding, so each index is first guessed by arithmetic and
-        then moved until edges[i - 1] <= value < edges[i] holds: the same answer without a binary
-        search per value (several times slower on a million values)."""
+        The edges are evenly spaced up to rounding (and the print-clean rounding of
+        :func:`narrator.engine.bins.focus_edges`, at most 1e-6 of a width), so each value's index is
+        found by arithmetic; a value within ``_slack`` of an edge, in units of the step (far more than
+        any of those roundings), is placed by the binary search instead, so every index is the search's.
+        """
         edges = self.edges
         last = edges.size
         if last < 2:
-            return np.searchsorted(edges, values, side="right")
+            return np.bincount(np.searchsorted(edges, values, side="right"), minlength=last + 1)
         step = (edges[-1] - edges[0]) / (last - 1)
+        slack = self._slack(step)
+        if not (step > 0 and math.isfinite(step) and slack < 0.25):
+            return np.bincount(np.searchsorted(edges, values, side="right"), minlength=last + 1)
         with np.errstate(invalid="ignore", over="ignore"):
-            guess = np.floor((values - edges[0]) / step) + 1.0
-        index = np.clip(np.nan_to_num(guess, nan=0.0), 0, last).astype(np.intp)
-        for _ in range(8):
-            low = (index > 0) & (values < edges[np.maximum(index - 1, 0)])
-            high = (index < last) & (values >= edges[np.minimum(index, last - 1)])
-            if not (low.any() or high.any()):
-                return index
-            index -= low
-            index += high
-        return np.searchsorted(edges, values, side="right")
+            position = values - edges[0]
+            position /= step
+        # Far outside the grid the arithmetic may overflow or lose the fraction; there the index is 0 or
+        # ``last`` and half a step away from any edge.
+        np.clip(position, -1.5, last - 0.5, out=position)
+        whole = np.floor(position)
+        position -= whole  # the fraction of a step past the edge below
+        near = position < slack
+        near |= position > 1.0 - slack
+        whole += 1.0
+        np.clip(whole, 0, last, out=whole)
+        index = whole.astype(np.intp)
+        counts = np.bincount(index, minlength=last + 1)
+        if near.any():
+            counts -= np.bincount(index[near], minlength=last + 1)
+            counts += np.bincount(np.searchsorted(edges, values[near], side="right"), minlength=last + 1)
+        return counts
+
+    def _slack(self, step: float) -> float:
+        """A bound, in steps, on how far a value's computed position (value - first edge) / step may sit
+        from its true place among the edges: twice the edges' measured distance from the line
+        first edge + i step (the print-clean rounding of the edges, and their arithmetic), and 64 units
+        of rounding of the largest magnitude involved (edges and index) for the position itself, with
+        a floor of 1e-6 of a step."""
+        edges = self.edges
+        line = edges[0] + np.arange(edges.size) * step
+        off_line = float(np.max(np.abs(edges - line))) / step
+        magnitude = (abs(float(edges[0])) + abs(float(edges[-1]))) / step + edges.size
+        return 1e-6 + 2.0 * off_line + 64.0 * np.finfo(float).eps * magnitude
 
     def merge(self, other: EdgeCounts) -> EdgeCounts:
         self.counts += other.counts
@@ -897,29 +951,33 @@ class BinCounts:
 
 
 class LinearBinCounts:
-    """Linear binning (Fan & Marron 1994; Wand 1994) on the grid start + j step, j = 0..size-1, of the
-    values in standard units (x - centre) / unit: each value splits its unit weight between the two
-    nearest grid points. The same arithmetic as the in-memory density's binning; only the order in
-    which the weights are added differs, so the counts agree to rounding."""
+    """Linear binning (Fan & Marron 1994; Wand 1994) on the lattice anchor + j step, j = 0..nodes-1, of the
+    values in standard units (x - centre) / unit, with ``lead`` empty points before and after: each value
+    splits its unit weight between the two nearest lattice points. The same arithmetic as the in-memory
+    density's binning (:func:`narrator.engine.density.fine_lattice`); only the order in which the
+    weights are added differs, so the counts agree to rounding."""
 
-    __slots__ = ("centre", "unit", "start", "step", "size", "counts")
+    __slots__ = ("centre", "unit", "anchor", "step", "nodes", "lead", "counts")
 
-    def __init__(self, centre: float, unit: float, start: float, step: float, size: int) -> None:
-        self.centre, self.unit, self.start, self.step, self.size = centre, unit, start, step, int(size)
-        self.counts = np.zeros(self.size)
+    def __init__(self, centre: float, unit: float, anchor: float, step: float, nodes: int, lead: int = 0) -> None:
+        self.centre, self.unit, self.anchor, self.step = centre, unit, anchor, step
+        self.nodes, self.lead = int(nodes), int(lead)
+        self.counts = np.zeros(self.nodes + 2 * self.lead)
 
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> LinearBinCounts:
         if values.size == 0:
             return self
         position = (values - self.centre) / self.unit
-        position -= self.start
+        position -= self.anchor
         position /= self.step
         index = np.floor(position).astype(np.intp)
-        np.clip(index, 0, self.size - 2, out=index)
+        np.clip(index, 0, self.nodes - 2, out=index)
         position -= index
-        self.counts += np.bincount(index, weights=1.0 - position, minlength=self.size)
+        index += self.lead
+        size = self.counts.size
+        self.counts += np.bincount(index, weights=1.0 - position, minlength=size)
         index += 1
-        self.counts += np.bincount(index, weights=position, minlength=self.size)
+        self.counts += np.bincount(index, weights=position, minlength=size)
         return self
 
     def merge(self, other: LinearBinCounts) -> LinearBinCounts:
@@ -927,10 +985,10 @@ class LinearBinCounts:
         return self
 
     def __getstate__(self):
-        return (self.centre, self.unit, self.start, self.step, self.size, self.counts)
+        return (self.centre, self.unit, self.anchor, self.step, self.nodes, self.lead, self.counts)
 
     def __setstate__(self, state) -> None:
-        self.centre, self.unit, self.start, self.step, self.size, self.counts = state
+        self.centre, self.unit, self.anchor, self.step, self.nodes, self.lead, self.counts = state
 
 
 class FlaggedValues:
@@ -983,6 +1041,10 @@ class FlaggedValues:
             self.inside.update(values)
             return self
         self.inside.update(values[~outside])
+        return self.add_flagged(values, rows, low, high)
+
+    def add_flagged(self, values: np.ndarray, rows: np.ndarray, low: np.ndarray, high: np.ndarray) -> FlaggedValues:
+        """Count and keep the values marked ``low`` and ``high`` as flagged on that side (no moments)."""
         low_values, high_values = values[low], values[high]
         if low_values.size:
             self.count_low += int(low_values.size)
@@ -990,8 +1052,17 @@ class FlaggedValues:
         if high_values.size:
             self.count_high += int(high_values.size)
             self.high_min = min(self.high_min, float(high_values.min()))
-        self._keep(np.concatenate([self.low_values, low_values]), np.concatenate([self.low_rows, rows[low]]),
-                   np.concatenate([self.high_values, high_values]), np.concatenate([self.high_rows, rows[high]]))
+        low_rows, high_rows = rows[low], rows[high]
+        # Only a chunk's own k farthest out on each side (ties included) can be among the k kept: select
+        # them in O(chunk) before the sort.
+        if low_values.size > self.k:
+            enter = low_values <= np.partition(low_values, self.k - 1)[self.k - 1]
+            low_values, low_rows = low_values[enter], low_rows[enter]
+        if high_values.size > self.k:
+            enter = high_values >= -np.partition(-high_values, self.k - 1)[self.k - 1]
+            high_values, high_rows = high_values[enter], high_rows[enter]
+        self._keep(np.concatenate([self.low_values, low_values]), np.concatenate([self.low_rows, low_rows]),
+                   np.concatenate([self.high_values, high_values]), np.concatenate([self.high_rows, high_rows]))
         return self
 
     def merge(self, other: FlaggedValues) -> FlaggedValues:
@@ -1059,8 +1130,10 @@ __all__ = [
     "DistinctValues",
     "ExcludingMoments",
     "ExtremeSummary",
+    "CentreBand",
     "FarthestValue",
     "EdgeCounts",
+    "FlaggedBand",
     "FlaggedValues",
     "LinearBinCounts",
     "MeanDistance",
@@ -1186,3 +1259,104 @@ class ExcludingMoments(MomentSummary):
     def __setstate__(self, state) -> None:
         MomentSummary.__setstate__(self, state[:6])
         self.excluded = state[6]
+
+
+class FlaggedBand:
+    """What :class:`FlaggedValues` needs for any limits (lower, upper) with lower in [lower_min, lower_max]
+    and upper in [upper_min, upper_max] (x / factor units), gathered before the limits are known: the
+    values below lower_min and above upper_max as flagged, the moments of the values strictly between
+    lower_max and upper_min, and the values in the two bands themselves with their rows.
+    :meth:`settle` gives the FlaggedValues of the exact limits, or None when they fall outside the bands.
+    """
+
+    def __init__(self, lower_min: float, lower_max: float, upper_min: float, upper_max: float,
+                 factor: float, k: int = LISTED_PER_SIDE) -> None:
+        self.bands = (float(lower_min), float(lower_max), float(upper_min), float(upper_max))
+        self.factor = factor
+        self.definite = FlaggedValues(("fences", lower_min, upper_max), factor, k)
+        self.band_values: list[np.ndarray] = []
+        self.band_rows: list[np.ndarray] = []
+
+    def update(self, values: np.ndarray, rows: np.ndarray) -> FlaggedBand:
+        if values.size == 0:
+            return self
+        lower_min, lower_max, upper_min, upper_max = self.bands
+        units = values if self.factor == 1.0 else values / self.factor
+        low, high = units < lower_min, units > upper_max
+        inside = (units > lower_max) & (units < upper_min)
+        band = ~(low | high | inside)
+        self.definite.inside.update(values[inside] if not inside.all() else values)
+        if low.any() or high.any():
+            self.definite.add_flagged(values, rows, low, high)
+        if band.any():
+            self.band_values.append(values[band])
+            self.band_rows.append(rows[band])
+        return self
+
+    def merge(self, other: FlaggedBand) -> FlaggedBand:
+        self.definite.merge(other.definite)
+        self.band_values.extend(other.band_values)
+        self.band_rows.extend(other.band_rows)
+        return self
+
+    def settle(self, lower: float, upper: float) -> FlaggedValues | None:
+        lower_min, lower_max, upper_min, upper_max = self.bands
+        if not (lower_min <= lower <= lower_max and upper_min <= upper <= upper_max):
+            return None
+        exact = FlaggedValues(("fences", lower, upper), self.factor, self.definite.k)
+        if self.band_values:
+            exact.update(np.concatenate(self.band_values), np.concatenate(self.band_rows))
+        return exact.merge(self.definite)
+
+
+class CentreBand:
+    """For the distances |x - m| from any centre m within ``reach`` of ``centre`` (data units): how many
+    values lie nearer ``centre`` than ``inner``, how many farther than ``outer``, and the values in between
+    themselves (distinct, with counts). :meth:`settle` turns them into the :class:`DistanceCounts` of the
+    exact centre, or None when it lies farther than ``reach``."""
+
+    def __init__(self, centre: float, reach: float, inner: float, outer: float, factor: float) -> None:
+        self.centre, self.reach, self.inner, self.outer, self.factor = centre, reach, inner, outer, factor
+        self.below = 0
+        self.above = 0
+        self.kept = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> CentreBand:
+        if values.size == 0:
+            return self
+        distances = np.abs(values - self.centre)
+        near = distances < self.inner
+        far = distances > self.outer
+        self.below += int(np.count_nonzero(near))
+        self.above += int(np.count_nonzero(far))
+        self.kept.update(values[~(near | far)])
+        return self
+
+    def merge(self, other: CentreBand) -> CentreBand:
+        self.below += other.below
+        self.above += other.above
+        self.kept.merge(other.kept)
+        return self
+
+    def settle(self, centre_units: float) -> DistanceCounts | None:
+        """The DistanceCounts of centre ``centre_units`` (x / factor units), its band [inner, outer]
+        shrunk by the reach and a rounding allowance so the values counted below and above lie there."""
+        factor = self.factor
+        allowance = 1e-12 * (abs(self.centre) + self.outer + self.reach)
+        if abs(centre_units * factor - self.centre) > self.reach - allowance:
+            return None
+        inner = (self.inner + self.reach + allowance) / factor
+        outer = (self.outer - self.reach - allowance) / factor
+        if not inner <= outer:
+            return None
+        counts = DistanceCounts(centre_units, factor, inner, outer)
+        values, copies = self.kept.kept_values, self.kept.kept_counts
+        units = values if factor == 1.0 else values / factor
+        distances = np.where(units < centre_units, centre_units - units, units - centre_units)
+        low, high = distances < inner, distances > outer
+        counts.below = self.below + int(copies[low].sum())
+        counts.above = self.above + int(copies[high].sum())
+        middle = ~(low | high)
+        counts._kept._add_kept(distances[middle], copies[middle])
+        counts._kept.gap_counts[0] = int(copies[middle].sum())
+        return counts

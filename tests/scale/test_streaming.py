@@ -70,7 +70,7 @@ def test_rivers_in_three_parts_equal_in_memory(rivers_parts):
     assert memory.spread.q1 == result.findings.spread.q1  # exact, to the last bit
     assert memory.outliers.rows == result.findings.outliers.rows
     accuracy = result.findings.accuracy
-    assert accuracy.engine == "stream" and result.passes >= 4
+    assert accuracy.engine == "stream" and result.passes == 2  # the third pass's summaries gathered in the second
     assert accuracy.approximate == ()  # 141 values: the reservoir holds them all
     assert result.findings.provenance["files"] == 3
     assert result.findings.shape.label == "right-skewed"  # rivers is strongly right-skewed (common knowledge)
@@ -348,3 +348,32 @@ def test_the_claims_facts_agree_with_memory(tmp_path, kind):
         assert (memory.outliers.fallback_from, memory.outliers.fallback_reason) == ("adjusted", "quartile_at_median")
     if kind == "heavy_ties":
         assert memory.order_counts.at_median == int((values == np.median(values)).sum())
+
+
+@pytest.mark.parametrize("case", ["lognormal", "ties", "normal"])
+def test_the_second_pass_gathers_what_the_third_would(tmp_path, monkeypatch, case):
+    # With the default sketch the look-ahead holds the exact plan: two passes. A small sketch (k = 200:
+    # brackets of several per cent of the ranks) makes it gather many candidate plans; the exact one may
+    # fall between them (the sketch is randomized), and then the third pass is read: the findings equal
+    # the in-memory engine's either way, and those of the third pass alone (the look-ahead switched off).
+    rng = np.random.default_rng(SEED + 11)
+    if case == "lognormal":
+        values = np.concatenate([rng.lognormal(3.0, 0.8, 20_000), [4000.0, 5000.0, -30.0]])
+    elif case == "ties":
+        values = np.round(rng.gamma(3.0, 4.0, 20_000))
+    else:
+        values = rng.normal(50.0, 4.0, 20_000)
+    whole = _write_parts(tmp_path / case, "x", values, parts=3)
+    memory = describe(read_column(whole, "x"))
+    default = describe_source(open_source(tmp_path / case, "x", chunk_rows=997))
+    assert differences(memory, default.findings) == []
+    assert default.passes == 2
+    ahead = describe_source(open_source(tmp_path / case, "x", chunk_rows=997), sketch_k=200)
+    assert differences(memory, ahead.findings) == []
+    assert ahead.passes in (2, 3)
+    from narrator.scale import assemble
+
+    monkeypatch.setattr(assemble._LookAhead, "plan", classmethod(lambda cls, *args, **kwargs: None))
+    third = describe_source(open_source(tmp_path / case, "x", chunk_rows=997), sketch_k=200)
+    assert differences(memory, third.findings) == []
+    assert third.passes >= 3

@@ -16,13 +16,19 @@ import numpy as np
 import pytest
 from scipy import stats
 
+from narrator.engine import bins as engine_bins
+from narrator.engine import density as engine_density
 from narrator.engine.moments import central_moments, excess_kurtosis, skewness_g1
 from narrator.reading.sample import guess_decimals
 from narrator.scale.ranks import OrderStatistics, plan_brackets, resolve, type7_quantiles, type7_ranks
 from narrator.scale.summaries import (
     BinCounts,
+    CentreBand,
+    DistanceCounts,
     DistinctValues,
+    EdgeCounts,
     ExtremeSummary,
+    FlaggedBand,
     FlaggedValues,
     LinearBinCounts,
     MomentSummary,
@@ -254,3 +260,86 @@ def test_linear_binning_is_additive():
         parts.update(chunk)
     assert np.allclose(whole.counts, parts.counts, rtol=1e-12, atol=1e-12)
     assert parts.counts.sum() == pytest.approx(values.size, rel=1e-12)
+
+
+def test_edge_counts_equal_a_binary_search():
+    # Reference: numpy.searchsorted (side="right") of every value, on print-clean edges of any width and
+    # offset, with values on, next to and far from the edges.
+    rng = np.random.default_rng(RNG_SEED + 5)
+    for _ in range(60):
+        width = 10.0 ** rng.uniform(-4, 3) * rng.choice([1.0, 2.0, 2.5, 5.0])
+        shift = float(rng.choice([0.0, rng.uniform(-1e3, 1e3), 1e9]))
+        edges = engine_bins._edges(float(rng.integers(-50, 50)), int(rng.integers(1, 200)), width, shift)
+        values = np.concatenate([rng.uniform(edges[0] - 3 * width, edges[-1] + 3 * width, 5000), edges,
+                                 np.nextafter(edges, np.inf), np.nextafter(edges, -np.inf), [1e308, -1e308]])
+        counts = EdgeCounts(edges)
+        for chunk in _chunks(values, [1000, 7, 4000, 10_000]):
+            counts.update(chunk, np.zeros(chunk.size, dtype=np.int64))
+        reference = np.bincount(np.searchsorted(edges, values, side="right"), minlength=edges.size + 1)
+        assert np.array_equal(counts.counts, reference)
+
+
+def test_flagged_band_settles_to_the_exact_limits():
+    # Reference: FlaggedValues with the exact limits, fed the same chunks.
+    rng = np.random.default_rng(RNG_SEED + 6)
+    values = np.round(rng.lognormal(2.0, 1.0, 30_000), 2)
+    rows = np.arange(2, values.size + 2, dtype=np.int64)
+    band = FlaggedBand(-1.0, 0.5, 30.0, 31.0, 1.0, k=50)
+    for chunk, chunk_rows in zip(_chunks(values, [5000, 333, 20_000]), _chunks(rows, [5000, 333, 20_000]),
+                                 strict=True):
+        band.update(chunk, chunk_rows)
+    band = pickle.loads(pickle.dumps(band))
+    for lower, upper in [(0.25, 30.0), (-1.0, 31.0), (0.5, 30.5)]:
+        exact = FlaggedValues(("fences", lower, upper), 1.0, k=50).update(values, rows)
+        settled = band.settle(lower, upper)
+        assert (settled.count_low, settled.count_high) == (exact.count_low, exact.count_high)
+        assert np.array_equal(settled.high_values, exact.high_values)
+        assert np.array_equal(settled.high_rows, exact.high_rows)
+        assert np.array_equal(settled.low_rows, exact.low_rows)
+        assert (settled.low_max, settled.high_min) == (exact.low_max, exact.high_min)
+        assert settled.inside.n == exact.inside.n
+        assert settled.inside.mean == pytest.approx(exact.inside.mean, rel=1e-12)
+        assert settled.inside.m2 == pytest.approx(exact.inside.m2, rel=1e-12)
+    assert band.settle(0.6, 30.0) is None  # outside the band: not settled, never guessed
+
+
+def test_centre_band_gives_the_distances_from_any_centre_in_reach():
+    # Reference: DistanceCounts with the exact centre (the MAD's median of distances, as numpy computes it).
+    rng = np.random.default_rng(RNG_SEED + 7)
+    values = rng.normal(10.0, 2.0, 20_001)
+    band = CentreBand(10.0, 0.05, 1.2, 1.5, 1.0)
+    for chunk in _chunks(values, [4000, 16_001]):
+        band.update(chunk)
+    for centre in (9.97, 10.0, 10.04):
+        settled = band.settle(centre)
+        distances = np.sort(np.abs(values - centre))
+        rank = values.size // 2
+        assert settled.smallest(rank) == distances[rank]
+        direct = DistanceCounts(centre, 1.0, settled.inner, settled.outer).update(values)
+        assert (settled.below, settled.above) == (direct.below, direct.above)
+    assert band.settle(10.06) is None
+
+
+def test_a_lattice_binning_coarsens_exactly():
+    # Linear binning on a lattice of 2^(L+1) + 1 points, coarsened, equals binning on 2^L + 1 points directly
+    # (to rounding), and the weights still add up to the number of values.
+    rng = np.random.default_rng(RNG_SEED + 8)
+    scaled = np.concatenate([[-1.0, 1.0], rng.uniform(-1.0, 1.0, 5000)])
+    fine = LinearBinCounts(0.0, 1.0, -1.0, 2.0**-9, 2**10 + 1).update(scaled)
+    coarse = LinearBinCounts(0.0, 1.0, -1.0, 2.0**-8, 2**9 + 1).update(scaled)
+    coarsened = engine_density.coarsen_lattice(fine.counts)
+    np.testing.assert_allclose(coarsened, coarse.counts, rtol=0, atol=1e-12)
+    assert coarsened.sum() == pytest.approx(scaled.size, rel=1e-14)
+
+
+def test_partition_counts_at_values_inside_kept_gaps():
+    rng = np.random.default_rng(RNG_SEED + 9)
+    values = np.round(rng.normal(0.0, 1.0, 4000), 2)
+    partition = PartitionCounts(np.array([-0.5, 0.5, 1.0]), np.array([False, True, False, False]))
+    partition.update(values)
+    for value in (-0.5, -0.2, 0.0, 0.37, 0.5):
+        below, equal = partition.counts_at(value)
+        assert below == int(np.count_nonzero(values < value))
+        assert equal == int(np.count_nonzero(values == value))
+    assert partition.counts_at(0.7) is None  # a gap whose values were not kept
+    assert partition.covers(-0.5, 0.5) and not partition.covers(-0.6, 0.5)
