@@ -10,6 +10,7 @@ Name                         What it does
 :func:`estimate_density`     Gaussian KDE by linear binning and FFT -> :class:`Density`
 :func:`find_peaks`           prominent peaks of a curve sampled on a grid
 :func:`local_maxima`         every local maximum with its height and prominence
+:func:`local_maxima_of_curves`  the same for several curves, in one search
 :func:`standard_units`       an overflow-safe centred and scaled copy of the values
 :func:`next_fast_length`     the FFT length the convolution pads to (5-smooth)
 :func:`fine_lattice`         the fine binning grid (:class:`FineLattice`)
@@ -829,17 +830,53 @@ def local_maxima(curve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     >>> local_maxima([1.0, 3.0, 3.0, 3.0, 0.5, 2.0])
     (array([2, 5]), array([3., 2.]), array([3. , 1.5]))
     """
-    heights = np.asarray(curve, dtype=float).ravel()
-    padded = np.concatenate(([0.0], heights, [0.0]))
-    run_starts = np.concatenate(([0], np.flatnonzero(np.diff(padded) != 0) + 1))
-    run_ends = np.concatenate((run_starts[1:], [padded.size]))
-    run_heights = padded[run_starts]
-    top = float(run_heights.max()) if run_heights.size else 0.0
+    _, index, height, prominence = local_maxima_of_curves([curve])
+    return index, height, prominence
+
+
+def local_maxima_of_curves(curves) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(curve, index, height, prominence) of every local maximum of each finite curve, curve by curve and
+    left to right within a curve: :func:`local_maxima` of each, found in one search over all of them.
+
+    The curves, each padded with 0, are joined end to end with a NaN between two; flat runs are collapsed
+    and each curve's tie-break added (from its own maximum and number of runs, as for the curve alone).
+    No curve's first or last point has a neighbour on both sides, and no search for a base passes a NaN,
+    so every maximum and prominence is the one the curve alone gives, to the bit. One whole-array search
+    costs about what one curve's does, where the 12 short histograms of the bin-sensitivity grid paid for
+    12 scans.
+
+    >>> [a.tolist() for a in local_maxima_of_curves([[1.0, 0.0, 2.0], [5.0]])[:2]]
+    [[0, 0, 1], [0, 2, 0]]
+    """
+    arrays = [np.asarray(curve, dtype=float).ravel() for curve in curves]
+    if not arrays:
+        return np.zeros(0, dtype=np.intp), np.zeros(0, dtype=np.intp), np.zeros(0), np.zeros(0)
+    padded_sizes = np.array([array.size + 2 for array in arrays], dtype=np.intp)
+    begins = np.concatenate(([0], np.cumsum(padded_sizes + 1)[:-1]))  # where each padded curve starts
+    zero, gap = np.zeros(1), np.full(1, np.nan)
+    pieces = []
+    for array in arrays:
+        pieces.extend((gap, zero, array, zero))
+    joined = np.concatenate(pieces[1:])
+    # Runs of equal values; a NaN is never equal, so each gap is a run of its own and no run crosses it.
+    run_starts = np.concatenate(([0], np.flatnonzero(np.diff(joined) != 0) + 1))
+    run_ends = np.concatenate((run_starts[1:], [joined.size]))
+    run_heights = joined[run_starts]
+    run_curve = np.searchsorted(begins, run_starts, side="right") - 1
+    in_curve = np.ones(run_starts.size, dtype=bool)
+    in_curve[np.searchsorted(run_starts, begins[1:] - 1)] = False  # the gaps
+    first_run = np.searchsorted(run_starts, begins)
+    runs = np.diff(np.append(first_run, run_starts.size)) - (np.arange(len(arrays)) < len(arrays) - 1)
+    curve_runs = run_heights[in_curve]
+    top = np.maximum.reduceat(curve_runs, np.searchsorted(np.flatnonzero(in_curve), first_run))
     # A rising tie-break far below any real difference orders equal separate maxima.
-    tie_break = 1e-12 * max(top, 1e-300) * np.arange(run_heights.size) / max(run_heights.size, 1)
-    found, prominences = _peaks_and_prominences(run_heights + tie_break)
-    middles = (run_starts[found] + run_ends[found] - 1) // 2 - 1  # middle of the flat top, unpadded
-    return middles.astype(np.intp), run_heights[found], prominences
+    run_number = np.arange(run_starts.size) - first_run[run_curve]
+    tie_break = (1e-12 * np.maximum(top, 1e-300))[run_curve] * run_number / np.maximum(runs, 1)[run_curve]
+    prepared = np.where(in_curve, run_heights + tie_break, np.nan)
+    found, prominences = _peaks_and_prominences(prepared)
+    curve = run_curve[found]
+    middles = (run_starts[found] + run_ends[found] - 1) // 2 - 1 - begins[curve]  # middle of the flat top
+    return curve.astype(np.intp), middles.astype(np.intp), run_heights[found], prominences
 
 
 # scipy.signal would cost most of a second of start-up (it imports scipy.stats); the two routines the

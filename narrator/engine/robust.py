@@ -40,8 +40,12 @@ MEDCOUPLE_EXACT_MAX_N = 50_000
 # The sampling that narrows the selection's band (speed only; the result is exact whatever it draws).
 _SAMPLING_SEED = 20261201
 _SAMPLING_ROUNDS = 4
-_SAMPLE_SIZE = 8192
-_GATHER_MAX = 1 << 17  # a band this small is evaluated whole and the entry picked by np.partition
+_SAMPLE_SIZE = 4096
+# A band of at most max(_GATHER_PER_LINE x (rows + columns), _GATHER_MAX) entries is evaluated whole and the
+# entry picked by np.partition; a larger one takes another round. A round costs a few passes over the rows,
+# evaluating costs each entry, so the limit grows with n (measured at n = 1e4 and 5e4, tests/benchmarks/).
+_GATHER_MAX = 1 << 14
+_GATHER_PER_LINE = 4
 MEDCOUPLE_SUBSAMPLE_SIZE = 50_000
 
 
@@ -84,8 +88,16 @@ def medcouple_of_sample(sorted_values: np.ndarray, seed: int) -> tuple[float, st
     if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
         raise NarratorError(f"the medcouple subsample needs a whole-number seed >= 0; got {seed!r}")
     generator = np.random.default_rng(int(seed))
-    positions = np.sort(generator.choice(n, size=MEDCOUPLE_SUBSAMPLE_SIZE, replace=False))
-    subsample = np.asarray(sorted_values, dtype=np.float64)[positions]
+    positions = generator.choice(n, size=MEDCOUPLE_SUBSAMPLE_SIZE, replace=False)
+    values = np.asarray(sorted_values, dtype=np.float64)
+    if n <= 64 * MEDCOUPLE_SUBSAMPLE_SIZE:
+        # The positions are distinct: marking them and reading the marked values in order takes them in
+        # increasing order without a sort (a pass over n flags, cheaper than sorting the positions here).
+        chosen = np.zeros(n, dtype=bool)
+        chosen[positions] = True
+        subsample = values[chosen]
+    else:
+        subsample = values[np.sort(positions)]
     return medcouple(subsample), f"subsample:{MEDCOUPLE_SUBSAMPLE_SIZE}:{int(seed)}"
 
 
@@ -184,7 +196,7 @@ class _Kernel:
     median appear in both: last in ``upper``, first in ``lower``.
     """
 
-    __slots__ = ("upper", "lower", "rows", "columns", "ties")
+    __slots__ = ("upper", "lower", "rows", "columns", "ties", "every_row", "upper_ascending", "lower_negated")
 
     def __init__(self, upper: np.ndarray, lower: np.ndarray) -> None:
         self.upper = upper
@@ -192,11 +204,21 @@ class _Kernel:
         self.rows = int(upper.size)
         self.columns = int(lower.size)
         self.ties = bool(self.rows and upper[-1] == 0.0)  # some value equals the median
+        # Made once for the counting rounds: 0..rows-1, upper ascending, -lower (ascending).
+        self.every_row = np.arange(self.rows)
+        self.upper_ascending = np.ascontiguousarray(upper[::-1])
+        self.lower_negated = -lower
 
     def at(self, i: np.ndarray, j: np.ndarray) -> np.ndarray:
         """h(upper[i], lower[j]) for index arrays of equal shape."""
-        a = self.upper[i]
-        b = self.lower[j]
+        return self._kernel_of(self.upper[i], self.lower[j], i, j)
+
+    def at_each_row(self, j: np.ndarray) -> np.ndarray:
+        """h(upper[i], lower[j[i]]) for every row i (no gather of the rows' values)."""
+        return self._kernel_of(self.upper, self.lower[j], self.every_row, j)
+
+    def _kernel_of(self, a: np.ndarray, b: np.ndarray, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        """h(a, b) for a = upper[i], b = lower[j]."""
         if not self.ties:
             return (a + b) / (a - b)  # no value equals the median: a > 0 > b, the denominator is positive
         both_at_median = (a == 0.0) & (b == 0.0)
@@ -224,7 +246,7 @@ class _Kernel:
         [low[k], high[k]]; bisection finds it.
         """
         if rows is None:
-            rows = np.arange(low.size)
+            rows = self.every_row if low.size == self.rows else np.arange(low.size)
         low = low.copy()
         high = high.copy()
         pending = np.nonzero(low < high)[0]
@@ -247,15 +269,15 @@ class _Kernel:
         """
         if not -1.0 < value < 1.0:
             return self.count_above(value, low, high, strict=True)
-        threshold = self.upper * ((value - 1.0) / (value + 1.0))
-        # -lower is ascending; the number of lower values > threshold is the insertion point of -threshold.
-        # upper decreases and the multiplier is negative, so -threshold decreases: reversed, it is
-        # ascending, and the insertion points come from one linear merge.
-        guess = np.clip(_insertion_points(-self.lower, (-threshold)[::-1])[::-1], low, high)
-        rows = np.arange(self.rows)
+        # Row i's threshold is upper[i] (value - 1) / (value + 1). -lower is ascending; the number of lower
+        # values > threshold is the insertion point of -threshold, which decreases with i (upper decreases,
+        # the multiplier is negative): in ascending order it is upper ascending times -multiplier (negation
+        # is exact), and the insertion points come from one linear merge.
+        negated_thresholds = self.upper_ascending * -((value - 1.0) / (value + 1.0))
+        guess = np.clip(_insertion_points(self.lower_negated, negated_thresholds)[::-1], low, high)
         last_column = self.columns - 1
-        left_ok = (guess == low) | (self.at(rows, np.maximum(guess - 1, 0)) > value)
-        right_ok = (guess == high) | (self.at(rows, np.minimum(guess, last_column)) <= value)
+        left_ok = (guess == low) | (self.at_each_row(np.maximum(guess - 1, 0)) > value)
+        right_ok = (guess == high) | (self.at_each_row(np.minimum(guess, last_column)) <= value)
         wrong = np.nonzero(~(left_ok & right_ok))[0]
         if wrong.size:
             guess[wrong] = self.count_above(value, low[wrong], high[wrong], strict=True, rows=wrong)
@@ -291,7 +313,7 @@ class _Kernel:
         up_to_right = p * q  # sum of right + 1
         left, right, known_larger, up_to_right = self._narrow_by_sampling(first, rank, left, right, known_larger,
                                                                           up_to_right)
-        while up_to_right - known_larger > max(p + q, _GATHER_MAX):
+        while not self._small_enough(up_to_right - known_larger):
             candidate = self._weighted_median_of_row_medians(left, right)
             larger = self.count_larger(candidate, left, right + 1)
             at_least = self.count_at_least(candidate, larger, right + 1)
@@ -319,25 +341,33 @@ class _Kernel:
         value = float(-np.partition(remaining, position)[position])
         return (value, None) if with_previous else value
 
+    def _small_enough(self, band: int) -> bool:
+        """Whether a band of this many entries is evaluated whole rather than narrowed further."""
+        return band <= max(_GATHER_PER_LINE * (self.rows + self.columns), _GATHER_MAX)
+
     def _narrow_by_sampling(self, first, rank, left, right, known_larger, up_to_right):
         """Narrow the band around the entry of ``rank`` before the selection rounds (a speed-up only).
 
-        A fixed-seed uniform sample of the band's entries gives two values that bracket the wanted
-        entry with near certainty (five standard errors of a sample quantile either side); exact counts
-        above and below them, by the same counting the rounds use, keep only the band between them.
-        When a bracket misses (the counts show it), the band is left as it was, so the result is exact
-        either way; only the time changes (a few rounds of sampling replace most selection rounds).
+        A fixed-seed stratified sample of the band's entries (one uniform draw in each of equal strata)
+        gives two values that bracket the wanted entry with near certainty (five standard errors of a
+        sample quantile either side); exact counts above and below them, by the same counting the
+        rounds use, keep only the band between them. When a bracket misses (the counts show it), the
+        band is left as it was, so the result is exact either way; only the time changes (a few rounds
+        of sampling replace most selection rounds).
         """
-        p, q = self.rows, self.columns
         generator = np.random.default_rng(_SAMPLING_SEED)
         for _ in range(_SAMPLING_ROUNDS):
             total = up_to_right - known_larger
-            if total <= max(p + q, _GATHER_MAX):
+            if self._small_enough(total):
                 break
             widths = np.maximum(right - left + 1, 0)
             cumulative = np.cumsum(widths)
             size = _SAMPLE_SIZE
-            draws = np.sort(generator.integers(0, total, size))  # ascending: the row lookups run in order
+            # One draw in each of `size` equal strata of the band: ascending, so the row lookups run in
+            # order with no sort, and the sample quantile's variance is at most a simple random sample's
+            # (a sum of independent indicators, one per stratum), so the margin below still holds.
+            draws = np.floor((np.arange(size) + generator.random(size)) * (total / size)).astype(np.int64)
+            np.minimum(draws, total - 1, out=draws)
             rows = np.searchsorted(cumulative, draws, side="right")
             columns = left[rows] + draws - (cumulative[rows] - widths[rows])
             sample = -self.at(rows, columns)  # negated: np.partition orders ascending, ranks here descend
@@ -420,6 +450,6 @@ def _insertion_points(haystack: np.ndarray, needles: np.ndarray) -> np.ndarray:
     (its own index, the needles being ascending), is its insertion point.
     """
     merged = np.argsort(np.concatenate([needles, haystack]), kind="stable")
-    position = np.empty(merged.size, dtype=np.int64)
-    position[merged] = np.arange(merged.size)
-    return position[: needles.size] - np.arange(needles.size)
+    # The needles keep their order in the merge (ascending, and the sort is stable), so needle k is the
+    # k-th of the merged positions holding a needle.
+    return np.flatnonzero(merged < needles.size) - np.arange(needles.size)
