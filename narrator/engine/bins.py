@@ -592,13 +592,6 @@ def _fine_resolution(widths: tuple[float, ...], offsets: tuple[float, ...]) -> t
     return None
 
 
-def _counts_direct(array: np.ndarray, width: float, shift: float) -> np.ndarray:
-    low, high = float(array.min()), float(array.max())
-    tolerance = _edge_tolerance(low, high, width, shift)
-    index = _bin_index(array, width, shift, _first_index(low, width, shift, tolerance), tolerance)
-    return np.bincount(index - index.min())
-
-
 @dataclass(frozen=True, slots=True)
 class SensitivityGrid:
     """The grids :func:`bin_sensitivity` counts into: one fine grid, or one per width x offset.
