@@ -1,17 +1,17 @@
-"""Exact order statistics in a second pass, inside brackets taken from the quantile sketch.
+"""Exact order statistics in a second pass, inside brackets taken from the first pass's rank bins.
 
-For each wanted range of ranks [a, b] (0-based, ascending order) the sketch gives a value below
-which fewer than a values lie and one above which fewer than n - b - 1 lie, widened by a margin of
-``BRACKET_MARGIN`` times the sketch's normalized rank error on each side. The next pass counts the
-values below each bracket exactly and keeps the (few) values inside it; the wanted order statistic
-is then read off exactly. The sketch's bound is probabilistic (99 % per query for KLL), so every
-bracket is checked against the exact counts and a bracket that missed is widened (by
-``WIDEN_FACTOR``) and read again in another pass; the result is exact either way.
+For each wanted range of ranks [a, b] (0-based, ascending order) the first pass's exact bin counts
+(:class:`~.summaries.RankBins`) give a value below the bin holding rank a and one above the bin holding
+rank b, so the wanted order statistics lie strictly between them. The next pass counts the values
+below each bracket exactly and keeps the (few) values inside it; the wanted order statistic is then
+read off exactly. Every bracket is checked against the exact counts all the same, and one that missed
+(it cannot, short of a fault) is widened by ``WIDEN_FACTOR`` times more ranks and read again in
+another pass; the result is exact either way.
 
 =========================  =====================================================
 Name                       What it does
 =========================  =====================================================
-:func:`plan_brackets`      rank ranges + sketch -> PartitionCounts to fill
+:func:`plan_brackets`      rank ranges + rank bins -> PartitionCounts to fill
 :class:`OrderStatistics`   exact values by rank from filled PartitionCounts
 :func:`type7_ranks`        the two ranks each type 7 quantile interpolates
 :func:`type7_quantiles`    type 7 quantiles from an order-statistic lookup
@@ -27,28 +27,27 @@ from collections.abc import Callable, Iterable
 import numpy as np
 
 from narrator.engine.rules import median_at, quantiles_at
-from narrator.scale.summaries import PartitionCounts, QuantileSketch
+from narrator.scale.summaries import PartitionCounts, RankBins
 
 # The type 7 quantiles and the median from an order-statistic lookup are the engine's own.
 type7_quantiles = quantiles_at
 median_of = median_at
 
-BRACKET_MARGIN = 2.0
 WIDEN_FACTOR = 8.0
+FIRST_WIDENING = 64  # ranks added on each side of a bracket that missed, the first time
 
 
-def plan_brackets(sketch: QuantileSketch, n: int, ranges: Iterable[tuple[int, int]], margin: float,
+def plan_brackets(bins: RankBins, ranges: Iterable[tuple[int, int]], widen: int = 0,
                   extra_points: Iterable[float] = ()) -> PartitionCounts:
-    """Boundaries and kept gaps covering every rank range with a margin of ``margin`` (a share of n).
+    """Boundaries and kept gaps covering every rank range, each widened by ``widen`` ranks a side.
 
     ``extra_points`` are values whose exact counts below and at are wanted too (no values kept).
     """
+    n = bins.n
     regions = []
     for a, b in ranges:
-        low_share = a / n - margin
-        high_share = (b + 1) / n + margin
-        low = -math.inf if low_share <= 0 else sketch.quantile(low_share)
-        high = math.inf if high_share >= 1 else sketch.quantile(high_share)
+        low = -math.inf if a - widen <= 0 else bins.value_below(a - widen)
+        high = math.inf if b + widen >= n - 1 else bins.value_above(b + widen)
         regions.append((low, high))
     regions.sort()
     merged: list[list[float]] = []
@@ -101,16 +100,17 @@ class OrderStatistics:
 
 
 def resolve(run_pass: Callable[[PartitionCounts], PartitionCounts], statistics: OrderStatistics,
-            sketch: QuantileSketch, ranks: Iterable[int], margin: float) -> int:
+            bins: RankBins, ranks: Iterable[int]) -> int:
     """Extra passes until every rank in ``ranks`` is known; returns how many passes it took."""
     passes = 0
     wanted = list(ranks)
+    widen = FIRST_WIDENING
     while True:
         missing = statistics.missing(wanted)
         if not missing:
             return passes
-        margin *= WIDEN_FACTOR
-        statistics.add(run_pass(plan_brackets(sketch, statistics.n, [(r, r) for r in missing], margin)))
+        statistics.add(run_pass(plan_brackets(bins, [(r, r) for r in missing], widen)))
+        widen = int(widen * WIDEN_FACTOR)
         passes += 1
 
 

@@ -17,8 +17,8 @@ Name                         What it keeps
 :func:`row_hash`             SplitMix64 of a row number and a seed (the reservoir's keys)
 :class:`ExtremeSummary`      min and max with their first rows, how often each
                              occurs, the next distinct values inwards
-:class:`QuantileSketch`      KLL sketch (Karnin, Lang & Liberty 2016) from the
-                             ``datasketches`` package, with its rank error
+:class:`RankBins`           exact counts in narrow bins of the distance from a
+                             reference value: brackets for any rank that always hold
 :class:`TailCandidates`      the k smallest and k largest values with rows
 :class:`ReservoirSample`     a fixed-seed uniform sample without replacement
                              (bottom-k of a row hash), the same for any chunking
@@ -56,7 +56,6 @@ import math
 import numpy as np
 
 from narrator.engine.moments import Moments, central_moments
-from narrator.errors import NarratorError
 from narrator.findings import LISTED_PER_SIDE
 
 # The reservoir's hash: SplitMix64 (Steele, Lea & Flood 2014), a bijection of 64-bit integers whose
@@ -277,60 +276,176 @@ class ExtremeSummary:
             setattr(self, name, value)
 
 
-class QuantileSketch:
-    """A KLL quantile sketch of doubles (Karnin, Lang & Liberty 2016, "Optimal quantile approximation
-    in streams", FOCS) from the Apache DataSketches library.
+# Distances from the reference below TINY and beyond HUGE scales (powers of two) share one bin each side,
+# which bounds the bins to 2 x 96 doublings whatever the values.
+_RANK_BINS_TINY = 2.0**-48
+_RANK_BINS_HUGE = 2.0**48
+RANK_BIN_BITS = 12  # 2^12 = 4096 bins to each doubling of the distance from the reference
 
-    Its normalized rank error (``rank_error``) holds with 99 % confidence for a single query, per the
-    library's documentation; the second pass never relies on it being met, it checks every bracket and
-    widens it when the true rank fell outside.
+
+class RankBins:
+    """Exact counts of the values in narrow bins of their distance from a reference value, which give
+    brackets for any rank that always hold (the counts are exact, not estimated).
+
+    A value x is binned by the float32 image of d = (x - centre) / scale: its sign, its exponent and
+    the first ``bits`` bits of its significand, so each doubling of |d| has 2^bits bins and a bin is at
+    most 2^-bits of its own distance from the centre wide (|d| below 2^-48 or beyond 2^48 shares one bin
+    a side). Every step (the subtraction, the product, the rounding to float32, the bits) is monotone in
+    x, so each bin is an interval of values and the count of values below any bin is exact; a bin
+    holding a wanted rank is a bracket for it. The counts merge exactly by addition in any grouping;
+    memory is one int64 count per bin between the lowest and highest seen (at most 2 x 96 x 2^bits).
+    ``centre`` and ``scale`` must be the same for every chunk merged (the engine takes them from the
+    first chunk read).
     """
 
-    __slots__ = ("k", "_sketch")
+    __slots__ = ("centre", "scale", "bits", "first", "counts", "_inverse", "_tiny", "_huge", "_below")
 
-    def __init__(self, k: int) -> None:
-        try:
-            from datasketches import kll_doubles_sketch
-        except ImportError:
-            raise NarratorError("the stream and dask engines need the package datasketches "
-                                "(pip install datasketches)") from None
+    def __init__(self, centre: float, scale: float, bits: int = RANK_BIN_BITS) -> None:
+        if not (math.isfinite(centre) and 0 < scale < math.inf and 1 <= bits <= 20):
+            raise ValueError("RankBins needs a finite centre, a positive finite scale and 1 to 20 bits")
+        self.centre, self.scale, self.bits = float(centre), float(scale), int(bits)
+        self.first = 0
+        self.counts = np.zeros(0, dtype=np.int64)
+        self._setup()
 
-        self.k = int(k)
-        self._sketch = kll_doubles_sketch(self.k)
+    def _setup(self) -> None:
+        self._inverse = 1.0 / self.scale
+        shift = 23 - self.bits
+        self._tiny = int(np.array([_RANK_BINS_TINY], dtype=np.float32).view(np.int32)[0]) >> shift
+        self._huge = int(np.array([_RANK_BINS_HUGE], dtype=np.float32).view(np.int32)[0]) >> shift
+        self._below = None
+
+    @classmethod
+    def around(cls, values: np.ndarray, bits: int = RANK_BIN_BITS) -> RankBins:
+        """Empty bins centred on the median of ``values`` (a first chunk), scaled by their IQR (or their
+        range, or the centre's size, or 1 when those are 0)."""
+        if values.size == 0:
+            return cls(0.0, 1.0, bits)
+        q1, centre, q3 = (float(v) for v in np.percentile(values, [25, 50, 75]))
+        for scale in (q3 - q1, float(values.max()) - float(values.min()), abs(centre), 1.0):
+            if 0 < scale < math.inf:
+                break
+        return cls(centre if math.isfinite(centre) else 0.0, scale, bits)
 
     @property
     def n(self) -> int:
-        return int(self._sketch.n)
+        return int(self._cumulative()[-1])
 
-    @property
-    def rank_error(self) -> float:
-        return float(self._sketch.normalized_rank_error(False))
+    def keys(self, values: np.ndarray) -> np.ndarray:
+        """Each value's bin (int32, non-decreasing in the value; 0 is the bin of the centre)."""
+        with np.errstate(over="ignore", invalid="ignore"):
+            distance = values - self.centre
+            distance *= self._inverse
+            key = distance.astype(np.float32).view(np.int32)
+        key ^= (key >> 31) & np.int32(0x7FFFFFFF)  # sign and magnitude to an order-keeping integer
+        key >>= 23 - self.bits
+        np.clip(key, -self._huge, self._huge, out=key)
+        key -= np.clip(key, -self._tiny, self._tiny)
+        return key
 
-    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> QuantileSketch:
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> RankBins:
         if values.size:
-            self._sketch.update(np.ascontiguousarray(values, dtype=np.float64))
+            key = self.keys(values)
+            low, high = int(key.min()), int(key.max())
+            key -= low
+            self._add(low, np.bincount(key, minlength=high - low + 1))
         return self
 
-    def merge(self, other: QuantileSketch) -> QuantileSketch:
-        if other.n:
-            self._sketch.merge(other._sketch)
+    def _add(self, first: int, counts: np.ndarray) -> None:
+        if counts.size == 0:
+            return
+        if self.counts.size == 0:
+            self.first, self.counts = first, counts.astype(np.int64)
+        else:
+            low = min(self.first, first)
+            high = max(self.first + self.counts.size, first + counts.size)
+            if low != self.first or high != self.first + self.counts.size:
+                grown = np.zeros(high - low, dtype=np.int64)
+                grown[self.first - low : self.first - low + self.counts.size] = self.counts
+                self.first, self.counts = low, grown
+            self.counts[first - self.first : first - self.first + counts.size] += counts
+        self._below = None
+
+    def merge(self, other: RankBins) -> RankBins:
+        if (other.centre, other.scale, other.bits) != (self.centre, self.scale, self.bits):
+            raise ValueError("RankBins with different centres, scales or bits do not merge")
+        self._add(other.first, other.counts)
         return self
 
-    def quantile(self, fraction: float) -> float:
-        return float(self._sketch.get_quantile(min(max(fraction, 0.0), 1.0)))
+    def _cumulative(self) -> np.ndarray:
+        """below[j]: how many values lie in the bins before bin first + j (length bins + 1)."""
+        if self._below is None:
+            self._below = np.concatenate([[0], np.cumsum(self.counts)])
+        return self._below
 
-    def rank(self, value: float) -> float:
-        """Approximate share of the values at or below ``value``."""
-        return float(self._sketch.get_rank(value, True))
+    def _bin_of_rank(self, rank: int) -> int:
+        below = self._cumulative()
+        return int(np.searchsorted(below, rank, side="right")) - 1 + self.first
+
+    def _key_of(self, value: float) -> int:
+        """:meth:`keys` of one value, the same steps on Python integers (no array overhead)."""
+        with np.errstate(over="ignore", invalid="ignore"):
+            distance = (float(value) - self.centre) * self._inverse
+            key = int(np.array([distance], dtype=np.float64).astype(np.float32).view(np.int32)[0])
+        key ^= (key >> 31) & 0x7FFFFFFF
+        key >>= 23 - self.bits
+        key = min(max(key, -self._huge), self._huge)
+        return key - min(max(key, -self._tiny), self._tiny)
+
+    def _edge(self, key: int) -> float:
+        """A value near the lower end of bin ``key`` (data units), before checking."""
+        # the key before the centre's bin was folded in: bin 0 starts at -tiny
+        inner = -self._tiny if key == 0 else key + self._tiny if key > 0 else key - self._tiny
+        bits = np.array([inner << (23 - self.bits)], dtype=np.int64)
+        bits = np.where(bits < 0, bits ^ 0x7FFFFFFF, bits).astype(np.int32)
+        return self.centre + float(bits.view(np.float32)[0]) * self.scale
+
+    def value_below(self, rank: int) -> float:
+        """A value below every value of the bin holding 0-based rank ``rank`` (-inf for the first bin):
+        the order statistic of that rank is greater than it."""
+        rank = min(max(int(rank), 0), max(self.n - 1, 0))
+        key = self._bin_of_rank(rank)
+        if key <= self.first or key <= -self._huge + self._tiny:
+            return -math.inf
+        value = self._edge(key)
+        return self._step_until(value, -1, lambda v: self._key_of(v) < key)
+
+    def value_above(self, rank: int) -> float:
+        """A value above every value of the bin holding 0-based rank ``rank`` (inf for the last bin)."""
+        rank = min(max(int(rank), 0), max(self.n - 1, 0))
+        key = self._bin_of_rank(rank)
+        if key >= self.first + self.counts.size - 1 or key >= self._huge - self._tiny:
+            return math.inf
+        value = self._edge(key + 1)
+        return self._step_until(value, 1, lambda v: self._key_of(v) > key)
+
+    def _step_until(self, value: float, direction: int, holds) -> float:
+        """``value`` moved outwards (``direction``) by growing steps until ``holds(value)``."""
+        # about a float32 step of the distance: a bin's edge is crossed in a step or two
+        step = max(abs(value - self.centre) * 2.0**-23, abs(value) * 2.0**-50, self.scale * _RANK_BINS_TINY * 2.0**-23)
+        for _ in range(1100):
+            if math.isfinite(value) and holds(value):
+                return value
+            value += direction * step
+            step *= 2.0
+        return -math.inf if direction < 0 else math.inf
+
+    def count_bounds(self, value: float) -> tuple[int, int]:
+        """(a, b) with a <= the number of values below ``value`` and the number at or below it <= b."""
+        below = self._cumulative()
+        j = self._key_of(value) - self.first
+        if j < 0:
+            return 0, 0
+        if j >= self.counts.size:
+            return int(below[-1]), int(below[-1])
+        return int(below[j]), int(below[j + 1])
 
     def __getstate__(self):
-        return (self.k, self._sketch.serialize())
+        return (self.centre, self.scale, self.bits, self.first, self.counts)
 
     def __setstate__(self, state) -> None:
-        from datasketches import kll_doubles_sketch
-
-        self.k = state[0]
-        self._sketch = kll_doubles_sketch.deserialize(state[1])
+        self.centre, self.scale, self.bits, self.first, self.counts = state
+        self._setup()
 
 
 class TailCandidates:
@@ -760,21 +875,22 @@ class PartitionCounts:
 
     def covers(self, low: float, high: float) -> bool:
         """Whether every value in [low, high] is counted as itself: each gap the interval meets is kept
-        (boundary points are counted as themselves)."""
+        or empty (boundary points are counted as themselves)."""
         first = int(np.searchsorted(self.boundaries, low, side="right"))
         last = int(np.searchsorted(self.boundaries, high, side="left"))
-        return bool(np.all(self.collect[first : last + 1]))
+        return bool(np.all(self.collect[first : last + 1] | (self.gap_counts[first : last + 1] == 0)))
 
     def counts_at(self, value: float) -> tuple[int, int] | None:
         """(values below ``value``, values equal to it), exactly, or None when ``value`` lies in a gap
-        whose values were not kept."""
+        that holds values and whose values were not kept."""
         size = self.boundaries.size
         j = int(np.searchsorted(self.boundaries, value, side="left"))
         if j < size and self.boundaries[j] == value:
             return int(self.gap_counts[: j + 1].sum() + self.point_counts[:j].sum()), int(self.point_counts[j])
-        if not self.collect[j]:
-            return None
         below = int(self.gap_counts[:j].sum() + self.point_counts[:j].sum())
+        if not self.collect[j]:
+            # an empty gap needs no kept values (two brackets of consecutive ranks have one between them)
+            return (below, 0) if self.gap_counts[j] == 0 else None
         kept, counts = self.kept_values, self.kept_counts
         gap_low = -math.inf if j == 0 else self.boundaries[j - 1]
         start = int(np.searchsorted(kept, gap_low, side="right"))
@@ -1140,8 +1256,8 @@ __all__ = [
     "MomentSummary",
     "PartitionCounts",
     "PrecisionSummary",
-    "QuantileSketch",
     "RangeMean",
+    "RankBins",
     "ReservoirSample",
     "RoundCounts",
     "ScaledMoments",
