@@ -259,7 +259,10 @@ def describe_source(
     # What the third pass would gather is gathered now, for every plan the bins' brackets for the
     # quartiles and the median allow (narrator.scale.ahead); it is used when the exact plan is among them.
     ahead = _LookAhead.plan(plan_for, reader, n, factor, code_plans, cuts, farthest is None, moments.mean * factor)
-    second_parts = {"order": reader.brackets([(r, r) for r in sorted(wanted)])}
+    # One partition for every bracket of the pass: the order statistics' and, gathered ahead, those of
+    # each candidate rule's rest (one set of comparisons per chunk instead of one per rule).
+    second_parts = {"order": reader.brackets([(r, r) for r in sorted(wanted)]
+                                             + (ahead.rest_ranges if ahead is not None else []))}
     if ahead is not None:
         second_parts.update(ahead.parts)
     second = reader.run(second_parts)
@@ -467,6 +470,8 @@ class _LookAhead:
         self.bin_keys: dict = {}
         self.edge_keys: dict = {}
         self.trims: dict = {}
+        self.rest_ranges: list = []  # the rest's rank ranges of every rule gathered ahead (in "order")
+        self.rest_rules: set = set()
         self.ok = True
 
     @classmethod
@@ -534,7 +539,8 @@ class _LookAhead:
             if not lower_max < upper_min:
                 return None
             ahead.parts[f"ahead_flagged_{rule}"] = FlaggedBand(lower_min, lower_max, upper_min, upper_max, factor)
-            ahead.parts[f"ahead_order_{rule}"] = reader.brackets(rest_ranges[rule])
+            ahead.rest_ranges.extend(rest_ranges[rule])
+            ahead.rest_rules.add(rule)
         # The MAD: distances from the middle of the median's bracket, for any median inside it.
         centre = (median_low / 2 + median_high / 2) * factor
         reach = (median_high / 2 - median_low / 2) * factor
@@ -586,7 +592,7 @@ class _LookAhead:
                 return None
             return band.settle(part.test[1], part.test[2])
         if key.startswith("order_"):
-            return second.parts.get("ahead_" + key)
+            return order if key[len("order_"):] in self.rest_rules else None
         if key == "mad":
             return second["ahead_mad"].settle(median)
         if key == "points":

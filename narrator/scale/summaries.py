@@ -236,12 +236,12 @@ class ExtremeSummary:
         low_at, high_at = int(np.argmin(values)), int(np.argmax(values))
         other.low, other.high = float(values[low_at]), float(values[high_at])
         other.low_row, other.high_row = int(rows[low_at]), int(rows[high_at])
-        at_low, at_high = values == other.low, values == other.high
-        other.low_count, other.high_count = int(np.count_nonzero(at_low)), int(np.count_nonzero(at_high))
-        above = values[~at_low]
-        below = values[~at_high]
-        other.second_low = float(above.min()) if above.size else math.inf
-        other.second_high = float(below.max()) if below.size else -math.inf
+        # the next values inwards by masked reductions (no copy of the chunk without its extremes)
+        not_low, not_high = values != other.low, values != other.high
+        other.low_count = int(values.size - np.count_nonzero(not_low))
+        other.high_count = int(values.size - np.count_nonzero(not_high))
+        other.second_low = float(np.min(values, where=not_low, initial=math.inf))
+        other.second_high = float(np.max(values, where=not_high, initial=-math.inf))
         return self.merge(other)
 
     def merge(self, other: ExtremeSummary) -> ExtremeSummary:
