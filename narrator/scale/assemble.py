@@ -84,6 +84,7 @@ from narrator.scale.sources import ColumnSource
 from narrator.scale.streaming import Pass, StreamRunner
 from narrator.scale.summaries import (
     RANK_BIN_BITS,
+    BinBrackets,
     BinCounts,
     CentreBand,
     CodeCounts,
@@ -151,10 +152,10 @@ class _Reader:
         self.passes += 1
         return self.runner.run(Pass(parts, low=self.low, high=self.high, record_reading=record_reading))
 
-    def partition_pass(self, partition: PartitionCounts) -> PartitionCounts:
+    def partition_pass(self, partition: BinBrackets) -> BinBrackets:
         return self.run({"order": partition})["order"]
 
-    def brackets(self, ranges) -> PartitionCounts:
+    def brackets(self, ranges) -> BinBrackets:
         return plan_brackets(self.bins, ranges)
 
     def settle(self, statistics: OrderStatistics, ranks) -> None:
@@ -262,7 +263,7 @@ def describe_source(
     # One partition for every bracket of the pass: the order statistics' and, gathered ahead, those of
     # each candidate rule's rest (one set of comparisons per chunk instead of one per rule).
     second_parts = {"order": reader.brackets([(r, r) for r in sorted(wanted)]
-                                             + (ahead.rest_ranges if ahead is not None else []))}
+                                             + (ahead.order_ranges if ahead is not None else []))}
     if ahead is not None:
         second_parts.update(ahead.parts)
     second = reader.run(second_parts)
@@ -470,7 +471,9 @@ class _LookAhead:
         self.bin_keys: dict = {}
         self.edge_keys: dict = {}
         self.trims: dict = {}
-        self.rest_ranges: list = []  # the rest's rank ranges of every rule gathered ahead (in "order")
+        # rank ranges whose bins "order" keeps besides the order statistics': the rest's of every rule
+        # gathered ahead, and the trimmed means' brackets out to their inner ends
+        self.order_ranges: list = []
         self.rest_rules: set = set()
         self.ok = True
 
@@ -539,7 +542,7 @@ class _LookAhead:
             if not lower_max < upper_min:
                 return None
             ahead.parts[f"ahead_flagged_{rule}"] = FlaggedBand(lower_min, lower_max, upper_min, upper_max, factor)
-            ahead.rest_ranges.extend(rest_ranges[rule])
+            ahead.order_ranges.extend(rest_ranges[rule])
             ahead.rest_rules.add(rule)
         # The MAD: distances from the middle of the median's bracket, for any median inside it.
         centre = (median_low / 2 + median_high / 2) * factor
@@ -556,6 +559,10 @@ class _LookAhead:
             inner_low, inner_high = upper(cut), lower(n - cut - 1)
             if inner_low < inner_high:
                 ahead.trims[proportion] = (inner_low, inner_high)
+                # The values from each cut point out to the inner end (the end included) are read from the
+                # kept bins: those of the cut's rank through the bin that holds the inner end.
+                ahead.order_ranges.append((cut, max(cut, bins.count_bounds(inner_low)[1] - 1)))
+                ahead.order_ranges.append((min(n - cut - 1, bins.count_bounds(inner_high)[0]), n - cut - 1))
                 ahead.parts[f"ahead_trim{proportion}"] = RangeMean(inner_low, inner_high, factor)
         for plan in code_plans:
             ahead.parts[f"ahead_others{plan['index']}"] = ExcludingMoments(plan["code"])

@@ -19,6 +19,8 @@ Name                         What it keeps
                              occurs, the next distinct values inwards
 :class:`RankBins`           exact counts in narrow bins of the distance from a
                              reference value: brackets for any rank that always hold
+:class:`BinBrackets`         the values of chosen runs of those bins (a later pass):
+                             exact order statistics there
 :class:`TailCandidates`      the k smallest and k largest values with rows
 :class:`ReservoirSample`     a fixed-seed uniform sample without replacement
                              (bottom-k of a row hash), the same for any chunking
@@ -378,7 +380,8 @@ class RankBins:
             self._below = np.concatenate([[0], np.cumsum(self.counts)])
         return self._below
 
-    def _bin_of_rank(self, rank: int) -> int:
+    def bin_of_rank(self, rank: int) -> int:
+        """The key of the bin that holds 0-based rank ``rank`` (0 <= rank < n)."""
         below = self._cumulative()
         return int(np.searchsorted(below, rank, side="right")) - 1 + self.first
 
@@ -404,7 +407,7 @@ class RankBins:
         """A value below every value of the bin holding 0-based rank ``rank`` (-inf for the first bin):
         the order statistic of that rank is greater than it."""
         rank = min(max(int(rank), 0), max(self.n - 1, 0))
-        key = self._bin_of_rank(rank)
+        key = self.bin_of_rank(rank)
         if key <= self.first or key <= -self._huge + self._tiny:
             return -math.inf
         value = self._edge(key)
@@ -413,7 +416,7 @@ class RankBins:
     def value_above(self, rank: int) -> float:
         """A value above every value of the bin holding 0-based rank ``rank`` (inf for the last bin)."""
         rank = min(max(int(rank), 0), max(self.n - 1, 0))
-        key = self._bin_of_rank(rank)
+        key = self.bin_of_rank(rank)
         if key >= self.first + self.counts.size - 1 or key >= self._huge - self._tiny:
             return math.inf
         value = self._edge(key + 1)
@@ -445,6 +448,136 @@ class RankBins:
 
     def __setstate__(self, state) -> None:
         self.centre, self.scale, self.bits, self.first, self.counts = state
+        self._setup()
+
+
+class BinBrackets:
+    """The values of chosen runs of :class:`RankBins` bins, kept in a later pass: with the bins' exact
+    counts, every order statistic whose rank falls in a kept run is known exactly.
+
+    ``runs`` are inclusive (first, last) bin keys. A later pass bins each value as the first did (the
+    same keys) and keeps those in a run, so the values below a run are counted by the first pass
+    already: one binning and one lookup a value, whatever the number of brackets. The methods answer
+    as :class:`PartitionCounts` does (``order_statistic``, ``counts_at``, ``covers``, ``kept_between``).
+    """
+
+    __slots__ = ("bins", "runs", "_store", "_table", "_kept_keys")
+
+    def __init__(self, bins: RankBins, runs) -> None:
+        self.bins = bins
+        merged: list[list[int]] = []
+        for first, last in sorted((int(a), int(b)) for a, b in runs):
+            if merged and first <= merged[-1][1] + 1:
+                merged[-1][1] = max(merged[-1][1], last)
+            else:
+                merged.append([first, last])
+        self.runs = [tuple(run) for run in merged]
+        self._store = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+        self._setup()
+
+    def _setup(self) -> None:
+        bins = self.bins
+        # kept[1 + key - first] for every key of the bins, False for any key outside them
+        table = np.zeros(bins.counts.size + 2, dtype=bool)
+        for first, last in self.runs:
+            table[1 + max(first - bins.first, -1) : 2 + min(last - bins.first, bins.counts.size)] = True
+        table[0] = table[-1] = False
+        self._table = table
+        self._kept_keys = None
+
+    @property
+    def kept_values(self) -> np.ndarray:
+        return self._store.kept_values
+
+    @property
+    def kept_counts(self) -> np.ndarray:
+        return self._store.kept_counts
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> BinBrackets:
+        if values.size and self.runs:
+            index = self.bins.keys(values)
+            index -= self.bins.first - 1
+            np.clip(index, 0, self._table.size - 1, out=index)
+            kept = values[self._table[index]]
+            if kept.size:
+                self._store._add_kept(kept, np.ones(kept.size, dtype=np.int64))
+                self._kept_keys = None
+        return self
+
+    def merge(self, other: BinBrackets) -> BinBrackets:
+        self._store._add_kept(other.kept_values, other.kept_counts)
+        self._kept_keys = None
+        return self
+
+    def _run_of(self, key: int) -> tuple[int, int] | None:
+        return next((run for run in self.runs if run[0] <= key <= run[1]), None)
+
+    def _below(self, key: int) -> int:
+        """How many values lie in the bins before ``key`` (from the first pass)."""
+        below = self.bins._cumulative()
+        return int(below[min(max(key - self.bins.first, 0), below.size - 1)])
+
+    def _slice(self, run: tuple[int, int]) -> tuple[np.ndarray, np.ndarray] | None:
+        """The kept values of one run with their counts, or None when they do not add up to the bins'
+        count (the data changed between the passes)."""
+        if self._kept_keys is None:
+            self._kept_keys = self.bins.keys(self.kept_values) if self.kept_values.size else np.zeros(0, np.int32)
+        start = int(np.searchsorted(self._kept_keys, run[0], side="left"))
+        stop = int(np.searchsorted(self._kept_keys, run[1], side="right"))
+        values, counts = self.kept_values[start:stop], self.kept_counts[start:stop]
+        if int(counts.sum()) != self._below(run[1] + 1) - self._below(run[0]):
+            return None
+        return values, counts
+
+    def order_statistic(self, rank: int) -> float | None:
+        """The value of 0-based rank ``rank`` in ascending order, or None when its bin was not kept."""
+        if not 0 <= rank < self.bins.n:
+            return None
+        run = self._run_of(self.bins.bin_of_rank(rank))
+        found = None if run is None else self._slice(run)
+        if found is None:
+            return None
+        values, counts = found
+        cumulative = np.cumsum(counts)
+        return float(values[int(np.searchsorted(cumulative, rank - self._below(run[0]), side="right"))])
+
+    def counts_at(self, value: float) -> tuple[int, int] | None:
+        """(values below ``value``, values equal to it), exactly, or None when its bin holds values and
+        was not kept."""
+        key = self.bins._key_of(value)
+        run = self._run_of(key)
+        if run is None:
+            if self._below(key + 1) == self._below(key):  # an empty bin: nothing equals the value
+                return self._below(key), 0
+            return None
+        found = self._slice(run)
+        if found is None:
+            return None
+        values, counts = found
+        at = int(np.searchsorted(values, value, side="left"))
+        equal = int(counts[at]) if at < values.size and values[at] == value else 0
+        return self._below(run[0]) + int(counts[:at].sum()), equal
+
+    def covers(self, low: float, high: float) -> bool:
+        """Whether every value in [low, high] was kept: each bin between theirs is kept or empty."""
+        first, last = self.bins._key_of(low), self.bins._key_of(high)
+        start, stop = first - self.bins.first, last - self.bins.first
+        if start < 0 or stop >= self.bins.counts.size:
+            return False
+        return bool(np.all(self._table[1 + start : 2 + stop] | (self.bins.counts[start : stop + 1] == 0)))
+
+    def kept_between(self, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
+        """Kept distinct values in [low, high] with counts, ascending."""
+        inside = (self.kept_values >= low) & (self.kept_values <= high)
+        return self.kept_values[inside], self.kept_counts[inside]
+
+    def __getstate__(self):
+        return (self.bins, self.runs, self._store.__getstate__())
+
+    def __setstate__(self, state) -> None:
+        self.bins, self.runs = state[0], state[1]
+        self._store = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+        self._store.__setstate__(state[2])
         self._setup()
 
 
@@ -1240,6 +1373,7 @@ class FarthestValue:
 
 
 __all__ = [
+    "BinBrackets",
     "BinCounts",
     "CodeCounts",
     "DistanceCounts",

@@ -179,7 +179,7 @@ def test_flagged_values_keep_the_farthest_out_per_side_in_any_chunking():
         assert found.inside.moments().n == inside.n
 
 
-def test_partition_counts_give_exact_order_statistics():
+def test_bin_brackets_give_exact_order_statistics():
     rng = np.random.default_rng(RNG_SEED + 4)
     values = np.round(rng.lognormal(2, 1, 50_000), 1)  # ties on purpose
     bins = RankBins.around(values[:5000])
@@ -202,6 +202,42 @@ def test_partition_counts_give_exact_order_statistics():
     probabilities = [0.05, 0.25, 0.5, 0.75, 0.95]
     assert np.array_equal(type7_quantiles(statistics, n, probabilities),
                           np.quantile(values, probabilities, method="linear"))
+
+
+def test_bin_brackets_answer_counts_as_numpy_does():
+    # Reference: numpy.sort (order statistics), numpy.count_nonzero (counts below and at a value). The kept
+    # runs of bins, filled chunk by chunk, merged in pieces and pickled, give every rank inside them, the
+    # counts at any value in a kept or an empty bin, and None (never a wrong count) elsewhere.
+    rng = np.random.default_rng(RNG_SEED + 12)
+    values = np.round(rng.lognormal(2, 1, 30_000), 2)  # ties on purpose
+    bins = RankBins.around(values[:3000]).update(values)
+    n = values.size
+    ordered = np.sort(values)
+    ranges = [(0, 0), (n // 4, n // 4 + 40), (n // 2, n // 2), (n - 1, n - 1)]
+    plan = plan_brackets(bins, ranges)
+    whole = pickle.loads(pickle.dumps(plan)).update(values)
+    pieces = [pickle.loads(pickle.dumps(plan_brackets(bins, ranges).update(c))) for c in np.array_split(values, 11)]
+    merged = pieces[0]
+    for piece in pieces[1:]:
+        merged.merge(piece)
+    for found in (whole, merged):
+        for a, b in ranges:
+            for rank in range(a, b + 1):
+                assert found.order_statistic(rank) == ordered[rank]
+        for value in [*rng.choice(values, 200), *(ordered[r] for r in (0, n // 4, n // 2, n - 1)), -1.0, 1e9]:
+            answer = found.counts_at(float(value))
+            key = bins.keys(np.array([value]))[0]
+            kept = any(bins.bin_of_rank(a) <= key <= bins.bin_of_rank(b) for a, b in ranges)
+            if kept or value < ordered[0] or value > ordered[-1]:
+                assert answer == (np.count_nonzero(values < value), np.count_nonzero(values == value))
+            else:
+                assert answer is None or answer == (np.count_nonzero(values < value), 0)
+        low, high = ordered[n // 4], ordered[n // 4 + 40]
+        assert found.covers(low, high)
+        kept_values, kept_counts = found.kept_between(low, high)
+        inside = values[(values >= low) & (values <= high)]
+        assert np.array_equal(np.repeat(kept_values, kept_counts), np.sort(inside))
+        assert not found.covers(ordered[n // 4], ordered[n // 2])
 
 
 @pytest.mark.parametrize("kind", ["normal", "far_from_zero", "sorted_parts", "zero_spike", "signed_tiny"])
