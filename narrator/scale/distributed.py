@@ -42,7 +42,6 @@ from narrator.errors import NarratorError
 from narrator.scale.sources import ColumnSource
 from narrator.scale.streaming import Pass
 
-
 _M_TRIM_THRESHOLD, _M_MMAP_THRESHOLD = -1, -3  # glibc's mallopt parameters (malloc.h)
 _GLIBC_MMAP_DEFAULT = 128 * 1024
 _KEPT_MMAP, _KEPT_TRIM = 32 << 20, 64 << 20
