@@ -727,7 +727,8 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
         if not _excess_from_mixing(groups):
             out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
                                claim={**far, "count": numbers["count_beyond_fences"],
-                                      "expected": numbers["expected_beyond_fences"]},
+                                      "expected": numbers["expected_beyond_fences"],
+                                      "fitted_shape": unusual.fitted_shape, "decimals": ctx.findings.variable.decimals},
                                count=ctx.whole(numbers["count_beyond_fences"]),
                                expected=ctx.whole(numbers["expected_beyond_fences"])))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice

@@ -1163,10 +1163,33 @@ def check_stand_out_none(c, raw, p):
     _problem(beyond == c["count_far_out"], f"{beyond} values beyond the far fences, not {c['count_far_out']}", p)
 
 
+def _quartile_shape(raw: Raw, name: str):
+    """The normal or lognormal distribution (scipy.stats) whose quartiles are the data's (type 7, numpy)."""
+    q1, q3 = raw.quartiles
+    z75 = stats.norm.ppf(0.75)
+    if name == "lognormal":
+        return stats.lognorm(s=(math.log(q3) - math.log(q1)) / (2 * z75), scale=math.sqrt(q1 * q3))
+    return stats.norm(loc=(q1 + q3) / 2, scale=(q3 - q1) / (2 * z75))
+
+
 def check_stand_out_excess(c, raw, p):
     _, _, low, high = raw.flagged(c["rule"])
     _problem(low.size + high.size == c["count"], f"{low.size + high.size} beyond the fences, not {c['count']}", p)
     _problem(c["count"] > (c["expected"] or 0), "no more values beyond the fences than expected", p)
+    # "Than usual in data of this shape": the shape matched to the quartiles must follow the data's ends. An end
+    # value that holds at least 5 % of all the values more than the shape gives one recording step there, with
+    # p < 0.001 (one-sided binomial), is a spike it cannot follow, and its expected count says nothing about these
+    # data (the engine's rule, re-derived here with scipy.stats.norm / lognorm and scipy.stats.binom).
+    x = raw.values
+    shape = _quartile_shape(raw, c["fitted_shape"])
+    half_step = 0.5 * 10.0 ** -c["decimals"]
+    for end in (x.min(), x.max()):
+        count = int((x == end).sum())
+        held = float(np.clip(shape.cdf(end + half_step) - shape.cdf(end - half_step), 0.0, 1.0))
+        spike = count / raw.n - held >= 0.05 and stats.binom.sf(count - 1, raw.n, held) < 0.001
+        _problem(not spike, f"{count} values at {end}: the {c['fitted_shape']} shape gives it {held:.3f}", p)
+    expected = raw.n * (shape.cdf(c["lower"]) + shape.sf(c["upper"]))
+    _same("expected count beyond the fences", c["expected"], expected, raw, p, rel=1e-6)
 
 
 def check_shared_far(c, raw, p):
