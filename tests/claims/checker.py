@@ -656,10 +656,14 @@ def check_without_flagged(c, raw, p, when=()):
 
 
 def _clearly_skewed(raw: Raw) -> bool:
+    """G1 of at least Bulmer's moderate 0.5, not from a few far values, and D'Agostino's test at p < 0.05; for a
+    whole population G1 is the population's own, and no test qualifies it (the methods text says so)."""
     if raw.g1 is None or raw.n < 8 or abs(raw.g1) < 0.5:
         return False
-    test = raw.skewtest
     robust_zero = _robust_zero(raw)
+    if raw.population:
+        return not robust_zero
+    test = raw.skewtest
     return test is not None and test.pvalue < 0.05 and not robust_zero
 
 

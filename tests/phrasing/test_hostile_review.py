@@ -85,3 +85,52 @@ def test_an_excess_is_still_said_when_the_shape_fits_and_its_count_is_scipys():
     beyond = int(np.sum((values < lower) | (values > upper)))
     assert unusual.count_beyond_fences == beyond
     assert f"{beyond} against about {unusual.expected_beyond_fences:.0f}" in memo(findings)
+
+
+# ------------------------------------------------------------------ 2. the rest's lead by the whole's shape rule
+
+
+def test_the_lead_without_the_flagged_values_reads_the_tails_as_the_shape_label_does():
+    # Rounded gamma(3) waits (scipy.stats.gamma(3) has skewness 2 / sqrt(3)): without the flagged values the
+    # rest still has G1 0.64 and a long right tail (Hinkley's skewness at P5 and P95, Hinkley 1975, above 0.1),
+    # though its quartiles tie into Bowley's 0.00. The shape label's rule calls such values right-skewed, so the
+    # lead without the flagged values stays the median; before, the rest's check ignored the tails and said the
+    # mean, against the label the report gives the same kind of values.
+    values = np.round(np.random.default_rng(1).gamma(3.0, 5.0, 300))
+    findings = describe(values, name="wait", unit="days")
+    flagged = findings.outliers
+    rest = values[(values >= flagged.lower_fence) & (values <= flagged.upper_fence)]
+    assert rest.size == findings.without_outliers.n
+    p5, q1, median, q3, p95 = np.quantile(rest, [0.05, 0.25, 0.5, 0.75, 0.95])  # type 7, numpy's default
+    g1 = stats.skew(rest, bias=False)  # Joanes & Gill's G1
+    assert g1 >= 0.5 and abs((q3 + q1 - 2 * median) / (q3 - q1)) < 0.1
+    assert (p95 + p5 - 2 * median) / (p95 - p5) > 0.1
+    assert stats.skewtest(rest).pvalue < 0.05  # D'Agostino's test: at least moderate evidence
+    assert findings.center.lead == "median"
+    assert findings.without_outliers.lead_without == "median" and not findings.without_outliers.lead_would_change
+    assert "would be the mean" not in every_text(findings)
+
+
+# ------------------------------------------------------------------ 3. a whole population: no test decides
+
+
+def test_a_whole_population_moderately_skewed_is_clearly_skewed_everywhere_the_report_says_so():
+    # 48 offices' complaints, every office (a whole population), from a gamma(3) shape: G1 = 0.57 is the
+    # population's own skewness (scipy.stats.skew, Joanes & Gill's G1), moderate by Bulmer's (1979) cut points.
+    # D'Agostino's test (scipy.stats.skewtest) gives p near 0.1, and that p had decided "not clearly skewed"
+    # (Tukey's fences, the mean) while the methods said no test is needed for a whole population.
+    rng = np.random.default_rng(20261212)
+    rng.random(240), rng.poisson(3, 240)  # the draws tests/phrasing/test_phrasing.py's golden texts make first
+    rng.choice(np.arange(1.0, 21.0), size=200, p=np.array([30, 35, 15, 10] + [10 / 16] * 16) / 100)
+    values = rng.gamma(3.0, 20.0, 48).round(1)
+    g1 = stats.skew(values, bias=False)
+    assert 0.5 <= g1 < 1.0 and stats.skewtest(values).pvalue > 0.05
+    findings = describe(values, name="complaints", population=True)
+    assert findings.shape.label == "right-skewed" and findings.shape.strength == "moderate"
+    text = narrate(findings, "full").plain_text()
+    assert "moderately right-skewed" in text and "not clearly skewed" not in text
+    assert findings.outliers.rule == "adjusted" and findings.center.lead == "median"
+    assert "so no test is needed and a skew of moderate or strong size is a clear one" in text
+    # The same values as a sample keep the test: weak evidence, hedged, and not clearly skewed.
+    sample = describe(values, name="complaints")
+    assert sample.outliers.rule == "tukey" and "may be moderately right-skewed" in narrate(sample, "full").plain_text()
