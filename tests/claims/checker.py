@@ -365,6 +365,20 @@ def check_share_at_maximum(c, raw, p):
         _same("next_high", c["next_high"], x[x < x.max()].max(), raw, p)
 
 
+def check_median_below_maximum(c, raw, p):
+    # The mirror: the values below the largest, their count and median (numpy's median), a quarter or more at the
+    # largest, and the largest is the declared upper bound (or valid maximum).
+    x = raw.values
+    below = x[x < x.max()]
+    _same("maximum", c["maximum"], x.max(), raw, p)
+    _problem(c["count"] == below.size, f"{c['count']} values below the largest claimed, the values give "
+             f"{below.size}", p)
+    if below.size:
+        _same("median", c["median"], float(np.median(below)), raw, p)
+    _problem(raw.share(x == x.max()) >= 0.25, "fewer than a quarter of the values equal the largest", p)
+    _problem(x.max() in (raw.upper_bound, raw.valid_max), "the largest value is no declared ceiling", p)
+
+
 def check_median_above_minimum(c, raw, p):
     # The values above the smallest, their count and median (numpy's median), and a quarter or more at the
     # smallest (the licence's threshold).
@@ -1273,6 +1287,7 @@ CHECKS = {
     "stand_out_none": check_stand_out_none, "stand_out_excess": check_stand_out_excess,
     "entry_error": check_entry_error, "entry_error_possible": check_entry_error_possible,
     "concentration": check_concentration, "median_above_minimum": check_median_above_minimum,
+    "median_below_maximum": check_median_below_maximum,
     "shared_far": check_shared_far,
 }
 GROUP_CHECKS = {"groups_compared": check_groups_compared, "groups_intervals": check_groups_intervals,

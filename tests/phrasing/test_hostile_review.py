@@ -134,3 +134,32 @@ def test_a_whole_population_moderately_skewed_is_clearly_skewed_everywhere_the_r
     # The same values as a sample keep the test: weak evidence, hedged, and not clearly skewed.
     sample = describe(values, name="complaints")
     assert sample.outliers.rule == "tukey" and "may be moderately right-skewed" in narrate(sample, "full").plain_text()
+
+
+# ------------------------------------------------------------------ 4. many values at a declared highest value
+
+
+@pytest.mark.parametrize("share", [0.34, 0.55])
+def test_many_full_scores_give_the_middle_value_of_the_others(share):
+    # Test scores out of 100, a share of them full marks (the declared upper bound): the whole's upper quartile is
+    # 100, and with more than half at 100 its middle value is 100 too. The middle of the others (numpy's median)
+    # is what a reader asks for, as for many values at 0 (memo.above_min).
+    rng = np.random.default_rng(11)
+    values = np.clip(np.round(rng.normal(70, 15, 300)), 0, 99)
+    values[rng.random(300) < share] = 100
+    others = values[values < 100]
+    findings = describe(values, name="score", lower_bound=0, upper_bound=100)
+    assert findings.below_maximum.count == others.size
+    assert findings.below_maximum.median == pytest.approx(float(np.median(others)), abs=1e-12)
+    expected = {"en_US": f"Among the {others.size} values below 100, the middle one was {np.median(others):.0f}.",
+                "es_ES": f"Entre los {others.size} valores por debajo de 100, el valor central fue "
+                         f"{np.median(others):.0f}.",
+                "fr_FR": f"Parmi les {others.size} valeurs en dessous de 100, la valeur du milieu était de "
+                         f"{np.median(others):.0f}."}
+    for locale, sentence in expected.items():
+        assert sentence in memo(findings, locale), (locale, memo(findings, locale))
+    # The share at the top is said first, then the others' middle value.
+    text = memo(findings)
+    assert text.index("were 100, the highest possible value") < text.index("below 100")
+    # Not said when 100 is no declared ceiling: a highest wait is one more wait.
+    assert "below 100" not in memo(describe(values, name="score"))
