@@ -416,7 +416,8 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
 # --------------------------------------------------------------------------- the memo, message by message
 
 CENTER_ORDER = ("lead", "at_end", "above_min", "below_max", "range", "shape", "why")
-DROPPED_FIRST = ("why", "at_end", "range", "shape", "above_min", "below_max")  # to keep within MAX_SENTENCES, in this order
+# To keep within MAX_SENTENCES, in this order.
+DROPPED_FIRST = ("why", "at_end", "range", "shape", "above_min", "below_max")
 TENTH_ADDS = 0.05  # the largest tenth's share is said only when it adds 5 points to the few largest's (our rule)
 LISTED = 5  # values named in one sentence at most; the full report lists them all
 
