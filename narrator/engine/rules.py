@@ -703,6 +703,15 @@ def reading_flags(sample) -> list[QualityFlag]:
             rows=tuple(int(r) for r in source.get("ambiguous_grouping_rows", ())[:ROWS_SHOWN]),
             detail={"decimal_comma": float(bool(source.get("decimal_comma")))},
         ))
+    other = int(source.get("other_convention") or 0)
+    if other:
+        # Left out as text, yet numbers under the other convention: the declared convention may be the wrong one.
+        flags.append(QualityFlag(
+            code="other_convention", count=other, share=other / total,
+            rows=tuple(int(r) for r in source.get("other_convention_rows", ())[:ROWS_SHOWN]),
+            texts=tuple(source.get("other_convention_texts") or ()),
+            detail={"decimal_comma": float(bool(source.get("decimal_comma")))},
+        ))
     percent = int(source.get("percent_cells") or 0)
     if percent:
         flags.append(QualityFlag(code="percent_signs", count=percent, share=percent / total))

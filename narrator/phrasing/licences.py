@@ -310,6 +310,28 @@ def text_rows_known(ctx) -> bool:
     return flag is not None and 0 < flag.count <= FEW_TEXT_ROWS_NAMED and len(flag.rows) == flag.count
 
 
+def _other_convention_declared_comma(ctx) -> bool | None:
+    """Whether a decimal comma was declared, when text cells left out are numbers under the other convention."""
+    flag = ctx.findings.quality.get("other_convention")
+    return None if flag is None or not flag.count else bool(flag.detail.get("decimal_comma"))
+
+
+@licence("variable", "cells left out as text read as numbers with a decimal comma, and a decimal point was declared")
+def other_convention_comma(ctx) -> bool:
+    return _other_convention_declared_comma(ctx) is False
+
+
+@licence("variable", "cells left out as text read as numbers with a decimal point, and a decimal comma was declared")
+def other_convention_point(ctx) -> bool:
+    return _other_convention_declared_comma(ctx) is True
+
+
+@licence("variable", "every cell left out as text reads as a number under the other decimal convention")
+def other_convention_all(ctx) -> bool:
+    flag = ctx.findings.quality.get("other_convention")
+    return flag is not None and 0 < flag.count == ctx.findings.quality.n_non_numeric
+
+
 @licence("variable", "some rows were left out (missing, not numbers, impossible or not finite)")
 def some_left_out(ctx) -> bool:
     quality = ctx.findings.quality

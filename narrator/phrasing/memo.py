@@ -94,6 +94,24 @@ def _left_out_first(ctx: WordingContext, message: Message) -> list[Sentence]:
                        share=_share(ctx, message.numbers["left_out"], rows), rows=ctx.count(rows, "row"),
                        n_values=ctx.count(n, "value"),
                        claim={**numbers, "rows_read": rows, "used": n, "share": message.numbers["share"]})
+    return [sentence, *_other_convention(ctx)] if sentence is not None else []
+
+
+def _other_convention(ctx: WordingContext) -> list[Sentence]:
+    """Right after the rows left out: how many of the text cells are numbers under the other decimal convention."""
+    flag = ctx.findings.quality.get("other_convention")
+    if flag is None or not flag.count:
+        return []
+    texts = [ctx.text("numbers.quoted", text=text) for text in flag.texts[:3] if text.strip()]
+    mark = "point" if flag.detail.get("decimal_comma") else "comma"  # the convention the cells are written in
+    text_count = ctx.findings.quality.n_non_numeric
+    sentence = ctx.say("memo.other_convention", ("quality.flags.other_convention", "quality.n_non_numeric"),
+                       subject=(flag.count if flag.count < text_count else text_count, "row"),
+                       count=ctx.fmt.count_number(flag.count, "row", alone=True), text_count=ctx.count(text_count, "row"),
+                       texts=ctx.fmt.list(texts, style="or"), mark=ctx.text(f"memo.other_convention_mark.{mark}"),
+                       action=ctx.text(f"memo.other_convention_action.{mark}"),
+                       claim={"code": "other_convention", "count": flag.count, "texts": tuple(flag.texts),
+                              "detail": dict(flag.detail), "non_numeric": text_count})
     return [sentence] if sentence is not None else []
 
 
@@ -198,7 +216,7 @@ def _left_out(ctx: WordingContext) -> list[Sentence]:
     if not left_out:
         return []
     sentence = ctx.say("memo.left_out_sentence", keys, left_out=left_out, claim=numbers)
-    return [sentence] if sentence is not None else []
+    return [sentence, *_other_convention(ctx)] if sentence is not None else []
 
 
 def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:

@@ -27,6 +27,7 @@ each claim kind to its check, and :data:`LICENCE_CHECKS` the licences whose fact
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -822,6 +823,15 @@ def check_quality(c, raw, p, when=()):
         _problem(8 <= raw.n < 20, "small sample", p)
     elif code == "missing_code":
         check_missing_code_suspected({"value": c["value"], "count": c["count"]}, raw, p)
+    elif code == "other_convention":
+        # Each text named must be a number written with the other decimal mark: digits, that mark, digits (with the
+        # declared mark, if any, only between groups of three). Written out here, apart from narrator's parser.
+        comma = not c["detail"].get("decimal_comma")
+        pattern = r"[+-]?\d{1,3}(\.\d{3})*,\d+|[+-]?\d+,\d+" if comma else r"[+-]?\d{1,3}(,\d{3})*\.\d+|[+-]?\d+\.\d+"
+        _problem(bool(c["texts"]) and all(re.fullmatch(pattern, text.strip()) for text in c["texts"]),
+                 f"texts {c['texts']} are not numbers with the other decimal mark", p)
+        if "non_numeric" in c:
+            _problem(0 < c["count"] <= c["non_numeric"], "more cells of the other convention than cells of text", p)
 
 
 def _nice(raw_width: float, whole: bool) -> float:
