@@ -483,8 +483,9 @@ def _size(ctx: WordingContext, value: float) -> str:
 
 
 def _bound(ctx: WordingContext, value: float) -> str:
-    """An upper bound in a memo ("likely less than 3 days", "at most 3 days"), rounded up at memo rounding, so the
-    printed bound is never below the true one (2.4 days is "less than 3 days", never "less than 2 days")."""
+    """An upper bound in a memo ("likely no more than 3 days", "at most 3 days"), rounded up at memo rounding, so the
+    printed bound is never below the true one (2.4 days is "no more than 3 days", never "no more than 2 days"); the
+    words allow the bound itself, which the interval may reach (its ends are values it holds)."""
     places = ctx._memo_places(min(ctx.memo_decimals, ctx.data_decimals))
     scale = 10.0 ** places
     return _size(ctx, math.ceil(round(abs(value) * scale, 9)) / scale)

@@ -163,3 +163,79 @@ def test_many_full_scores_give_the_middle_value_of_the_others(share):
     assert text.index("were 100, the highest possible value") < text.index("below 100")
     # Not said when 100 is no declared ceiling: a highest wait is one more wait.
     assert "below 100" not in memo(describe(values, name="score"))
+
+
+# ------------------------------------------------------------------ review: a bound the interval may reach
+
+
+def test_alike_groups_bound_is_no_more_than_an_interval_end_it_may_equal():
+    # Two offices' whole-day waits from one gamma(3, 5) shape. The Hodges-Lehmann interval (Hollander, Wolfe &
+    # Chicken 2014, ch. 4: the order statistics of the m n differences at the Mann-Whitney rank, here by its normal
+    # approximation with scipy.stats.norm) ends on whole days, -3 and 1, so its largest end in size is 3 itself:
+    # "likely less than 3 either way" excluded a difference the interval holds.
+    from helpers.grouped import grouped_set
+    from narrator.phrasing.sets import SetOptions, narrate_set
+
+    rng = np.random.default_rng(21)
+    rng.choice([1, 2, 3, 4, 5], size=250, p=[.05, .1, .2, .35, .3])
+    north, south = np.round(rng.gamma(3, 5, 120)), np.round(rng.gamma(3, 5, 130))
+    differences = np.sort((south[:, None] - north[None, :]).ravel())
+    m, n = north.size, south.size
+    k = int(np.floor(m * n / 2 - stats.norm.ppf(0.975) * np.sqrt(m * n * (m + n + 1) / 12)))
+    assert (differences[k - 1], differences[m * n - k]) == (-3, 1)
+    findings_set = grouped_set({"North": north, "South": south}, name="days", unit="days", group_by="office",
+                               threshold=10)
+    difference = findings_set.variables[0].comparison.pairs[0].difference
+    assert (difference.low, difference.high, difference.verdict) == (-3, 1, "alike")
+    expected = {"en_US": "is likely no more than 3 days either way.",
+                "es_ES": "probablemente no supera 3 días en uno u otro sentido.",
+                "fr_FR": "est probablement d'au plus 3 jours, dans un sens comme dans l'autre."}
+    for locale, words in expected.items():
+        narrative = narrate_set(findings_set, SetOptions(audience="memo", locale=locale))
+        text = narrative.plain_text().replace("\u2019", "'").replace("\u00a0", " ").replace("\u202f", " ")
+        assert words in text, (locale, text[:600])
+        assert "less than 3" not in text and "menor de 3" not in text and "inférieur à 3" not in text
+
+
+# ------------------------------------------------------------------ review: fences that moved past tied values
+
+
+def test_a_refresh_whose_fence_moved_past_tied_values_prints_the_fences_apart():
+    # Whole-day waits from a gamma(2.5, 6) shape; the refresh adds two values and changes one. The skew-adjusted
+    # lower fence (Hubert & Vandervieren 2008) moves from below 4 days to above it, past every wait of 4 days,
+    # and the count outside the fences more than doubles; at memo rounding both fences printed "4 days".
+    from narrator.history.changes import compare
+    from narrator.phrasing.what_changed import changes_section
+
+    old_values = np.round(np.random.default_rng(8).gamma(2.5, 6, 300))
+    new_values = old_values.copy()
+    new_values[5] += 1
+    new_values = np.append(new_values, [12.0, 14.0])
+    old = describe(old_values, name="wait", unit="days", lower_bound=0)
+    new = describe(new_values, name="wait", unit="days", lower_bound=0)
+    old_low, new_low = old.outliers.lower_fence, new.outliers.lower_fence
+    assert old_low < 4 < new_low and int(np.sum(new_values == 4)) > 0  # numpy: the tied waits it moved past
+    assert (old.outliers.count, new.outliers.count) == (int(np.sum((old_values < old_low)
+                                                                   | (old_values > old.outliers.upper_fence))),
+                                                        int(np.sum((new_values < new_low)
+                                                                   | (new_values > new.outliers.upper_fence))))
+    text = " ".join(p.text for p in changes_section(compare(old, new), old, new).paragraphs)
+    assert f"they were {old_low:.1f} and " in text and f"are now {new_low:.1f} and " in text, text
+
+
+# ------------------------------------------------------------------ review: lists of whole numbers
+
+
+@pytest.mark.parametrize("locale", ["es_ES", "fr_FR"])
+def test_a_list_of_whole_numbers_keeps_the_locales_list_commas(locale):
+    # CLDR's list pattern through babel (babel.lists.format_list) is the reference: "4, 5 y 9", "4, 5 et 9". The
+    # semicolon (CLDR's list number symbol) is for numbers that hold a decimal comma ("0,25; 0,50 y 0,75").
+    from babel.lists import format_list
+
+    from narrator.phrasing.numbers import NumberFormatter
+
+    fmt = NumberFormatter(locale)
+    assert fmt.number_list(["4", "5", "9"]) == format_list(["4", "5", "9"], locale=locale)
+    assert ";" in fmt.number_list(["0,25", "0,50", "0,75"])
+    text = memo(describe([4.0, 9.0, 5.0], name="v"), locale)
+    assert format_list(["4", "5", "9"], locale=locale) in text, text
