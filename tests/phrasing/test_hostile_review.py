@@ -174,6 +174,7 @@ def test_alike_groups_bound_is_no_more_than_an_interval_end_it_may_equal():
     # approximation with scipy.stats.norm) ends on whole days, -3 and 1, so its largest end in size is 3 itself:
     # "likely less than 3 either way" excluded a difference the interval holds.
     from helpers.grouped import grouped_set
+
     from narrator.phrasing.sets import SetOptions, narrate_set
 
     rng = np.random.default_rng(21)
