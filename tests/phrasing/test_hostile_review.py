@@ -240,3 +240,26 @@ def test_a_list_of_whole_numbers_keeps_the_locales_list_commas(locale):
     assert ";" in fmt.number_list(["0,25", "0,50", "0,75"])
     text = memo(describe([4.0, 9.0, 5.0], name="v"), locale)
     assert format_list(["4", "5", "9"], locale=locale) in text, text
+
+
+# ------------------------------------------------------------------ 5. amounts beyond the histogram's axis
+
+
+def test_zero_heavy_amounts_caption_counts_the_paid_claims_beyond_the_axis():
+    # Paid claims: 60 % paid nothing, the others lognormal amounts (scipy.stats.lognorm's long right tail). When the
+    # histogram's axis stops short of the largest amounts, the caption says how many lie beyond it and how far they
+    # reach, in every language; the count is numpy's.
+    from narrator.engine.window import histogram_window
+    from narrator.phrasing.context import make_context
+    from narrator.phrasing.figure_text import histogram_text
+
+    rng = np.random.default_rng(5)
+    values = np.where(rng.random(500) < 0.6, 0.0, np.round(rng.lognormal(6.5, 1.2, 500), 2))
+    findings = describe(values, name="paid", unit="EUR")
+    window = histogram_window(findings)
+    assert window is not None and window.hidden_high == int(np.sum(values > window.high)) > 0
+    words = {"en_US": f"{window.hidden_high} values larger", "es_ES": f"no se dibujan {window.hidden_high} valores",
+             "fr_FR": f"{window.hidden_high} valeurs plus grandes"}
+    for locale, expected in words.items():
+        caption = histogram_text(make_context(findings, locale, currency=None, unit=None, name=None)).caption
+        assert expected in caption, (locale, caption)
