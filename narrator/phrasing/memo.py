@@ -106,7 +106,7 @@ def _other_convention(ctx: WordingContext) -> list[Sentence]:
     mark = "point" if flag.detail.get("decimal_comma") else "comma"  # the convention the cells are written in
     text_count = ctx.findings.quality.n_non_numeric
     sentence = ctx.say("memo.other_convention", ("quality.flags.other_convention", "quality.n_non_numeric"),
-                       subject=(flag.count if flag.count < text_count else text_count, "row"),
+                       subject=(flag.count, "row"),  # at most text_count: the "all" variant is that count
                        count=ctx.fmt.count_number(flag.count, "row", alone=True), text_count=ctx.count(text_count, "row"),
                        texts=ctx.fmt.list(texts, style="or"), mark=ctx.text(f"memo.other_convention_mark.{mark}"),
                        action=ctx.text(f"memo.other_convention_action.{mark}"),
@@ -246,29 +246,29 @@ def _above_minimum(ctx: WordingContext) -> list[Sentence]:
     value (no claim, no visit) puts the whole's middle and quartiles at or near it, so the typical value of the
     others is said (licence ``middle_above_minimum``; the engine's ``Findings.above_minimum``, None where an
     engine that reads in passes did not compute it: then nothing is said)."""
-    above = ctx.findings.above_minimum
-    if above is None:
-        return []
-    sentence = ctx.say("memo.above_min", ("above_minimum.count", "above_minimum.median", "order_counts.at_min"),
-                       subject=(above.count, "value"), count=ctx.count(above.count, "value"),
-                       min=ctx.memo_recorded(above.minimum), median=ctx.memo(above.median),
-                       claim={"minimum": above.minimum, "count": above.count, "median": above.median,
-                              "n": ctx.findings.n})
-    return [sentence] if sentence is not None else []
+    return _middle_of_the_others(ctx, "memo.above_min", ctx.findings.above_minimum, "above_minimum", "minimum",
+                                 "order_counts.at_min", "min")
 
 
 def _below_maximum(ctx: WordingContext) -> list[Sentence]:
     """ "Among the 141 values below 100, the middle one was 70": the mirror of :func:`_above_minimum` for a quarter or
     more of the values at a declared highest value (a full score), licence ``middle_below_maximum``
     (``Findings.below_maximum``, None where an engine that reads in passes did not compute it)."""
-    below = ctx.findings.below_maximum
-    if below is None:
+    return _middle_of_the_others(ctx, "memo.below_max", ctx.findings.below_maximum, "below_maximum", "maximum",
+                                 "order_counts.at_max", "max")
+
+
+def _middle_of_the_others(ctx: WordingContext, key: str, others, field: str, end: str, at_end_key: str,
+                          placeholder: str) -> list[Sentence]:
+    """The count and middle value of the values off one end (``others``: an ``AboveMinimum`` or ``BelowMaximum``,
+    found in ``Findings.<field>``; ``end`` names its value of that end, ``placeholder`` the bank's field for it)."""
+    if others is None:
         return []
-    sentence = ctx.say("memo.below_max", ("below_maximum.count", "below_maximum.median", "order_counts.at_max"),
-                       subject=(below.count, "value"), count=ctx.count(below.count, "value"),
-                       max=ctx.memo_recorded(below.maximum), median=ctx.memo(below.median),
-                       claim={"maximum": below.maximum, "count": below.count, "median": below.median,
-                              "n": ctx.findings.n})
+    end_value = getattr(others, end)
+    sentence = ctx.say(key, (f"{field}.count", f"{field}.median", at_end_key),
+                       subject=(others.count, "value"), count=ctx.count(others.count, "value"),
+                       median=ctx.memo(others.median), **{placeholder: ctx.memo_recorded(end_value)},
+                       claim={end: end_value, "count": others.count, "median": others.median, "n": ctx.findings.n})
     return [sentence] if sentence is not None else []
 
 
