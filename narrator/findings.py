@@ -493,6 +493,16 @@ class AboveMinimum:
 
 
 @dataclass(frozen=True, slots=True)
+class BelowMaximum:
+    """The values below the highest one (narrator.engine.decision): when many values sit at the highest (a full
+    score, a capped amount), the middle of the others is the typical value a reader asks for."""
+
+    maximum: float
+    count: int  # the values below the maximum
+    median: float  # their middle value (the mean of the two middle ones for an even count)
+
+
+@dataclass(frozen=True, slots=True)
 class Difference:
     """How the values of one side compare with another's: ``second`` minus ``first``.
 
@@ -594,6 +604,8 @@ class Findings:
     concentration: Concentration | None = None
     # The values above the lowest one: their count and middle value (None when all values are equal).
     above_minimum: AboveMinimum | None = None
+    # The values below the highest one, likewise.
+    below_maximum: BelowMaximum | None = None
     not_computed: dict[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:

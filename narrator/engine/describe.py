@@ -253,7 +253,8 @@ def describe(
             keep_fine=True,
         )
     shape = rules.shape_of(n, moments, q1, median, q3, medcouple_value, medcouple_method, density_estimate,
-                           sensitivity, has_spread, tails=(quantile_values[0], quantile_values[-1]))
+                           sensitivity, has_spread, tails=(quantile_values[0], quantile_values[-1]),
+                           population=options.population)
 
     medcouple_or_zero = medcouple_value if medcouple_value is not None else 0.0
     if outlier_rule == "esd":

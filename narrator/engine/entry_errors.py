@@ -28,6 +28,15 @@ textbook quantile matches):
 - ``normal`` otherwise (symmetric or two-peaked data): mu = (Q1 + Q3) / 2, sigma = IQR / (2 z_0.75);
 - none for clearly left-skewed data or an IQR of 0 (``no_fitted_shape``): no value is then
   said to stand out;
+- none when the lowest or the highest value is a spike the fitted shape cannot follow
+  (``no_fitted_shape``, :func:`spike_at_an_end`): the values at that one value (no visit, no claim, a
+  full score) outnumber what the shape matched to the quartiles gives the values recorded there (one
+  recording step wide, 1 for whole numbers) by at least ``SHARED_SHARE`` (5 %) of all the values, and
+  a one-sided binomial test of that count against the shape's share gives p < ``EXCESS_P`` (the test
+  and level of the excess below). Such a shape is not the data's shape: how many values it puts
+  beyond the fences, and which values it finds surprising, say nothing about these data, so no
+  expected count is given and no value is said to stand out (our rule; the one place it is decided,
+  for every engine, the memo and the full report);
 - none for fewer than ``MIN_FOR_FIT`` (20) values (``too_few``): four quartile-matched values say
   too little about a shape to call a value surprising or ordinary for it (the same 20 below which
   the shape and the texts hedge, narrator.engine.shape; common practice). The rule's own list
@@ -224,7 +233,39 @@ class FittedShape:
 
 
 def fitted_shape(findings: Findings) -> FittedShape | None:
-    """The shape the module docstring fits to the quartiles, or None (left-skewed data, an IQR of 0).
+    """The shape the module docstring fits to the quartiles, or None (left-skewed data, an IQR of 0, a spike at
+    an end the shape cannot follow).
+
+    >>> from narrator.engine.describe import describe
+    >>> fitted_shape(describe([0.0] * 12 + [1.0, 2, 2, 3, 3, 3, 4, 4, 5, 6, 7, 8])) is None  # half the values are 0
+    True
+    """
+    fit = _quartile_fit(findings)
+    return None if fit is None or spike_at_an_end(findings, fit) else fit
+
+
+def spike_at_an_end(findings: Findings, fit: FittedShape) -> bool:
+    """Whether the lowest or the highest value holds more of the values than ``fit`` can follow (the module
+    docstring's rule: at least 5 % of all the values more than the shape gives one recording step there, and
+    p < 0.001 for that count, one-sided binomial).
+
+    >>> from narrator.engine.describe import describe
+    >>> spike_at_an_end(describe([1.0, 2, 3, 4, 5, 6, 7, 8, 9, 10] * 3), FittedShape("normal", 5.5, 3.3))
+    False
+    """
+    counts, spread, n = findings.order_counts, findings.spread, findings.n
+    if counts is None or not n:
+        return False
+    half_step = 0.5 * 10.0 ** -findings.variable.decimals
+    for value, count in ((spread.min, counts.at_min), (spread.max, counts.at_max)):
+        held = min(max(fit.upper_tail(value - half_step) - fit.upper_tail(value + half_step), 0.0), 1.0)
+        if count / n - held >= SHARED_SHARE and binomial_sf(count - 1, n, held) < EXCESS_P:
+            return True
+    return False
+
+
+def _quartile_fit(findings: Findings) -> FittedShape | None:
+    """The normal or lognormal shape matched to the quartiles (module docstring), before the spike check.
 
     >>> from narrator.engine.describe import describe
     >>> fitted_shape(describe([1.0, 2, 3, 4, 5, 6, 7, 8, 9, 10])).name

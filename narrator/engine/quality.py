@@ -11,6 +11,9 @@ Flag code                    When it is raised
 ``non_finite``               infinities or overflowing numbers were left out
 ``ambiguous_grouping``       cells such as "1,234" that the other decimal convention
                              reads differently were read under the declared one
+``other_convention``         cells left out as text are numbers under the other decimal
+                             convention ("3,4" with a decimal point declared): the
+                             declared one may be wrong
 ``percent_signs``            cells carried a "%"; the numbers were kept as written
 ``currency_marks``           cells carried a currency symbol or code, set aside
 ``encoding_guessed``         the text file was not UTF-8; a fallback codec was used

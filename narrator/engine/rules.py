@@ -257,9 +257,10 @@ def median_at(value_at: Callable[[int], float], n: int, factor: float = 1.0) -> 
 
 def shape_of(n: int, moments: Moments | None, q1: float | None, median: float | None, q3: float | None,
              medcouple: float | None, medcouple_method: str, density, sensitivity, has_spread: bool,
-             tails: tuple[float, float] | None = None) -> Shape:
+             tails: tuple[float, float] | None = None, population: bool = False) -> Shape:
     """The shape finding from the moments, the quartiles, the medcouple, the density, the bin grid and
-    ``tails``, the 5th and 95th percentiles (for Hinkley's skewness; None where they are not known)."""
+    ``tails``, the 5th and 95th percentiles (for Hinkley's skewness; None where they are not known);
+    ``population``: the rows are the whole population (no test judges the skew, narrator.engine.shape rule 4)."""
     from narrator.engine.shape import substantial_peaks
 
     tail = None
@@ -276,7 +277,7 @@ def shape_of(n: int, moments: Moments | None, q1: float | None, median: float | 
         n=n, skewness=g1, skewness_se=g1_se, skewness_test_z=z, skewness_test_p=p, bowley=bowley,
         medcouple=medcouple, medcouple_method=medcouple_method, excess_kurtosis=g2,
         density_peaks=substantial_peaks(density), bin_sensitivity=sensitivity, has_spread=has_spread,
-        tail_skewness=tail))
+        tail_skewness=tail, population=population))
 
 
 # --------------------------------------------------------------------------- outliers
@@ -539,18 +540,27 @@ def without_outliers(m: int, moments: Moments | None, rest_at: Callable[[int], f
         most_influential_value=None, most_influential_row=None, most_influential_mean_shift=None)
 
 
+# The quantiles of the values without the flagged ones that the lead rule reads (lead_without): P5, the
+# quartiles, the median and P95, as the shape of the whole reads them. Every engine gathers these ranks.
+REST_PROBABILITIES = (0.05, 0.25, 0.5, 0.75, 0.95)
+
+
 def lead_without(any_flagged: bool, m: int, moments: Moments | None, rest_at: Callable[[int], float],
-                 factor: float, medcouple: Callable[[], tuple[float, str]]) -> str | None:
+                 factor: float, medcouple: Callable[[], tuple[float, str]], population: bool = False) -> str | None:
     """The lead measure the same rule would choose on the values without the flagged ones (None when
-    nothing was flagged). ``medcouple()`` gives the rest's medcouple and its method code."""
+    nothing was flagged). ``medcouple()`` gives the rest's medcouple and its method code; ``population``: the
+    rows are the whole population."""
     if not any_flagged:
         return None
     if m < MIN_FOR_SHAPE or rest_at(m - 1) == rest_at(0):
         return "mean" if m else None
-    q1, median, q3 = (float(v) for v in quantiles_at(rest_at, m, [0.25, 0.5, 0.75], factor))
+    p5, q1, median, q3, p95 = (float(v) for v in quantiles_at(rest_at, m, REST_PROBABILITIES, factor))
 
+    # The shape rule of the whole (shape_of), Hinkley's tail skewness included: the rest is "clearly skewed"
+    # by the same test as the label the report gives the whole.
     def clearly_skewed(value: float, method: str = "exact") -> bool:
-        return is_clearly_skewed(shape_of(m, moments, q1, median, q3, value, method, None, None, True))
+        return is_clearly_skewed(shape_of(m, moments, q1, median, q3, value, method, None, None, True,
+                                          tails=(p5, p95), population=population))
 
     # The shape rule reads the medcouple's sign and whether it is near zero: when every kind of
     # medcouple gives the same answer, the answer does not depend on it and it is not computed.
@@ -691,6 +701,15 @@ def reading_flags(sample) -> list[QualityFlag]:
         flags.append(QualityFlag(
             code="ambiguous_grouping", count=ambiguous, share=ambiguous / total,
             rows=tuple(int(r) for r in source.get("ambiguous_grouping_rows", ())[:ROWS_SHOWN]),
+            detail={"decimal_comma": float(bool(source.get("decimal_comma")))},
+        ))
+    other = int(source.get("other_convention") or 0)
+    if other:
+        # Left out as text, yet numbers under the other convention: the declared convention may be the wrong one.
+        flags.append(QualityFlag(
+            code="other_convention", count=other, share=other / total,
+            rows=tuple(int(r) for r in source.get("other_convention_rows", ())[:ROWS_SHOWN]),
+            texts=tuple(source.get("other_convention_texts") or ()),
             detail={"decimal_comma": float(bool(source.get("decimal_comma")))},
         ))
     percent = int(source.get("percent_cells") or 0)
@@ -889,7 +908,8 @@ def decide(g: Gathered, options: Options, variable: Variable, provenance: dict, 
     lead, lead_reasons = choose_lead(clearly_skewed=clearly_skewed,
                                      several_peaks=g.shape.label in ("bimodal", "multimodal"),
                                      mean_shift=without.mean_change, sd_without=without.sd)
-    lead_w = lead_without(flagged.count > 0, m, rest_moments, g.rest_at, factor, g.rest_medcouple)
+    lead_w = lead_without(flagged.count > 0, m, rest_moments, g.rest_at, factor, g.rest_medcouple,
+                          population=options.population)
     without = replace(without, lead_without=lead if lead_w is None else lead_w,
                       lead_would_change=lead_w is not None and lead_w != lead)
     if g.farthest is not None:

@@ -35,7 +35,12 @@ Rules (our own, documented so the methods text can state them):
    quartiles of rounded data can tie into a symmetric picture.)
 4. Evidence: ``strong`` when p < 0.001 and the robust measures agree in
    direction, ``moderate`` when p < 0.05, ``weak`` otherwise; with fewer than
-   20 values evidence is at most ``moderate``.
+   20 values evidence is at most ``moderate``. When the rows are the whole
+   population of interest, G1 is the population's own skewness, not an
+   estimate, and no test judges it (the methods text says so): evidence is
+   ``strong`` when the robust measures agree in direction, else ``moderate``
+   (at most ``moderate`` below 20 values, as for a sample), and a skew under
+   0.5 is ``symmetric`` (Bulmer's "about symmetric"; ``slight`` needs the test).
 
 "Clearly skewed" (used to choose the outlier rule and the lead measure) means
 a skewed label of moderate or strong strength with moderate or strong evidence.
@@ -77,6 +82,7 @@ class ShapeSignals:
     bin_sensitivity: BinSensitivity | None
     has_spread: bool
     tail_skewness: float | None = None  # Hinkley's skewness at the 5th and 95th percentiles
+    population: bool = False  # the rows are the whole population: no test judges the skew (rule 4)
 
 
 def bimodality_coefficient(skewness: float | None, kurtosis: float | None, n: int) -> float | None:
@@ -179,7 +185,9 @@ def classify_shape(signals: ShapeSignals) -> Shape:
         value is not None and abs(value) < ROBUST_NEAR_ZERO for value in (signals.bowley, signals.medcouple)
     ) and (signals.tail_skewness is None or abs(signals.tail_skewness) < ROBUST_NEAR_ZERO)
 
-    if p is not None and p < P_STRONG and robust_agree:
+    if signals.population:
+        evidence = "strong" if robust_agree else "moderate"
+    elif p is not None and p < P_STRONG and robust_agree:
         evidence = "strong"
     elif p is not None and p < P_MODERATE:
         evidence = "moderate"
@@ -190,7 +198,7 @@ def classify_shape(signals: ShapeSignals) -> Shape:
 
     size = abs(g1)
     if size < BULMER_MODERATE:
-        if p is not None and p < P_MODERATE and robust_agree:
+        if p is not None and p < P_MODERATE and robust_agree and not signals.population:
             strength = "slight"
         else:
             return build("symmetric", None, evidence, (*reasons, "skew_small"))

@@ -123,6 +123,8 @@ CLAIM_KINDS: dict[str, str] = {
                   "fences `far_lower`/`far_upper` on the side `side`",
     "median_above_minimum": "`count` of the `n` values lie above the smallest, `minimum`, and their median is "
                             "`median`; a quarter of the values or more equal the smallest",
+    "median_below_maximum": "`count` of the `n` values lie below the largest, `maximum`, and their median is "
+                            "`median`; a quarter of the values or more equal the largest",
     "middle_half": "Q1 and Q3 (type 7) are `q1` and `q3`, and the share of values from Q1 to Q3 is within "
                    "5 points of a half (n >= 8; exactly half when n < 20)",
     "count_between": "Q1 and Q3 (type 7) are `q1` and `q3`, and `count` of the `n` values lie from Q1 to Q3, "
@@ -308,6 +310,28 @@ def text_rows_known(ctx) -> bool:
     return flag is not None and 0 < flag.count <= FEW_TEXT_ROWS_NAMED and len(flag.rows) == flag.count
 
 
+def _other_convention_declared_comma(ctx) -> bool | None:
+    """Whether a decimal comma was declared, when text cells left out are numbers under the other convention."""
+    flag = ctx.findings.quality.get("other_convention")
+    return None if flag is None or not flag.count else bool(flag.detail.get("decimal_comma"))
+
+
+@licence("variable", "cells left out as text read as numbers with a decimal comma, and a decimal point was declared")
+def other_convention_comma(ctx) -> bool:
+    return _other_convention_declared_comma(ctx) is False
+
+
+@licence("variable", "cells left out as text read as numbers with a decimal point, and a decimal comma was declared")
+def other_convention_point(ctx) -> bool:
+    return _other_convention_declared_comma(ctx) is True
+
+
+@licence("variable", "every cell left out as text reads as a number under the other decimal convention")
+def other_convention_all(ctx) -> bool:
+    flag = ctx.findings.quality.get("other_convention")
+    return flag is not None and 0 < flag.count == ctx.findings.quality.n_non_numeric
+
+
 @licence("variable", "some rows were left out (missing, not numbers, impossible or not finite)")
 def some_left_out(ctx) -> bool:
     quality = ctx.findings.quality
@@ -408,6 +432,21 @@ def middle_above_minimum(ctx) -> bool:
     # listed, never summarized.
     above = ctx.findings.above_minimum
     return many_at_floor(ctx) and above is not None and above.count >= TINY_N
+
+
+def _many_at_ceiling(ctx) -> bool:
+    # The highest value is a ceiling (a full score, a capped amount) only when it is declared: a highest wait is one
+    # more wait.
+    return many_at_maximum(ctx) and maximum_is_bound(ctx)
+
+
+@licence("variable", "a quarter of the values or more (3 at least, of 8 or more) equal the largest, which is the "
+                     "declared upper bound, and at least 5 lie below it, with their middle value computed")
+def middle_below_maximum(ctx) -> bool:
+    # The mirror of middle_above_minimum: with a quarter at the ceiling, the upper quartile is the ceiling, and the
+    # whole's middle and quartiles no longer say what a typical value among the others is.
+    below = ctx.findings.below_maximum
+    return _many_at_ceiling(ctx) and below is not None and below.count >= TINY_N
 
 
 @licence("variable", "the smallest value is the declared lower bound (or valid minimum)")

@@ -7,7 +7,8 @@ when its licence holds, narrator.phrasing.licences):
    sit there, else the middle value with what lies on each side of it, or the average;
 2. what was left out, and what those cells held (``memo.left_out_sentence``);
 3. a large share at one end, when the lead did not already say it (``memo.at_end``), and then the middle
-   value of the values above the lowest one (``memo.above_min``);
+   value of the values above the lowest one (``memo.above_min``) or below a declared highest one
+   (``memo.below_max``);
 4. the typical range: half of the values lie between Q1 and Q3, or the share that does, or the
    range (``memo.range``);
 5. what the shape means in plain words, hedged by the ladder (``memo.shape.*``);
@@ -93,6 +94,24 @@ def _left_out_first(ctx: WordingContext, message: Message) -> list[Sentence]:
                        share=_share(ctx, message.numbers["left_out"], rows), rows=ctx.count(rows, "row"),
                        n_values=ctx.count(n, "value"),
                        claim={**numbers, "rows_read": rows, "used": n, "share": message.numbers["share"]})
+    return [sentence, *_other_convention(ctx)] if sentence is not None else []
+
+
+def _other_convention(ctx: WordingContext) -> list[Sentence]:
+    """Right after the rows left out: how many of the text cells are numbers under the other decimal convention."""
+    flag = ctx.findings.quality.get("other_convention")
+    if flag is None or not flag.count:
+        return []
+    texts = [ctx.text("numbers.quoted", text=text) for text in flag.texts[:3] if text.strip()]
+    mark = "point" if flag.detail.get("decimal_comma") else "comma"  # the convention the cells are written in
+    text_count = ctx.findings.quality.n_non_numeric
+    sentence = ctx.say("memo.other_convention", ("quality.flags.other_convention", "quality.n_non_numeric"),
+                       subject=(flag.count, "row"),  # at most text_count: the "all" variant is that count
+                       count=ctx.fmt.count_number(flag.count, "row", alone=True), text_count=ctx.count(text_count, "row"),
+                       texts=ctx.fmt.list(texts, style="or"), mark=ctx.text(f"memo.other_convention_mark.{mark}"),
+                       action=ctx.text(f"memo.other_convention_action.{mark}"),
+                       claim={"code": "other_convention", "count": flag.count, "texts": tuple(flag.texts),
+                              "detail": dict(flag.detail), "non_numeric": text_count})
     return [sentence] if sentence is not None else []
 
 
@@ -197,7 +216,7 @@ def _left_out(ctx: WordingContext) -> list[Sentence]:
     if not left_out:
         return []
     sentence = ctx.say("memo.left_out_sentence", keys, left_out=left_out, claim=numbers)
-    return [sentence] if sentence is not None else []
+    return [sentence, *_other_convention(ctx)] if sentence is not None else []
 
 
 def _at_end(ctx: WordingContext, lead: Sentence) -> list[Sentence]:
@@ -227,14 +246,29 @@ def _above_minimum(ctx: WordingContext) -> list[Sentence]:
     value (no claim, no visit) puts the whole's middle and quartiles at or near it, so the typical value of the
     others is said (licence ``middle_above_minimum``; the engine's ``Findings.above_minimum``, None where an
     engine that reads in passes did not compute it: then nothing is said)."""
-    above = ctx.findings.above_minimum
-    if above is None:
+    return _middle_of_the_others(ctx, "memo.above_min", ctx.findings.above_minimum, "above_minimum", "minimum",
+                                 "order_counts.at_min", "min")
+
+
+def _below_maximum(ctx: WordingContext) -> list[Sentence]:
+    """ "Among the 141 values below 100, the middle one was 70": the mirror of :func:`_above_minimum` for a quarter or
+    more of the values at a declared highest value (a full score), licence ``middle_below_maximum``
+    (``Findings.below_maximum``, None where an engine that reads in passes did not compute it)."""
+    return _middle_of_the_others(ctx, "memo.below_max", ctx.findings.below_maximum, "below_maximum", "maximum",
+                                 "order_counts.at_max", "max")
+
+
+def _middle_of_the_others(ctx: WordingContext, key: str, others, field: str, end: str, at_end_key: str,
+                          placeholder: str) -> list[Sentence]:
+    """The count and middle value of the values off one end (``others``: an ``AboveMinimum`` or ``BelowMaximum``,
+    found in ``Findings.<field>``; ``end`` names its value of that end, ``placeholder`` the bank's field for it)."""
+    if others is None:
         return []
-    sentence = ctx.say("memo.above_min", ("above_minimum.count", "above_minimum.median", "order_counts.at_min"),
-                       subject=(above.count, "value"), count=ctx.count(above.count, "value"),
-                       min=ctx.memo_recorded(above.minimum), median=ctx.memo(above.median),
-                       claim={"minimum": above.minimum, "count": above.count, "median": above.median,
-                              "n": ctx.findings.n})
+    end_value = getattr(others, end)
+    sentence = ctx.say(key, (f"{field}.count", f"{field}.median", at_end_key),
+                       subject=(others.count, "value"), count=ctx.count(others.count, "value"),
+                       median=ctx.memo(others.median), **{placeholder: ctx.memo_recorded(end_value)},
+                       claim={end: end_value, "count": others.count, "median": others.median, "n": ctx.findings.n})
     return [sentence] if sentence is not None else []
 
 
@@ -399,8 +433,9 @@ def _outliers(ctx: WordingContext) -> list[Sentence]:
 
 # --------------------------------------------------------------------------- the memo, message by message
 
-CENTER_ORDER = ("lead", "at_end", "above_min", "range", "shape", "why")
-DROPPED_FIRST = ("why", "at_end", "range", "shape", "above_min")  # to keep within MAX_SENTENCES, in this order
+CENTER_ORDER = ("lead", "at_end", "above_min", "below_max", "range", "shape", "why")
+# To keep within MAX_SENTENCES, in this order.
+DROPPED_FIRST = ("why", "at_end", "range", "shape", "above_min", "below_max")
 TENTH_ADDS = 0.05  # the largest tenth's share is said only when it adds 5 points to the few largest's (our rule)
 LISTED = 5  # values named in one sentence at most; the full report lists them all
 
@@ -448,8 +483,9 @@ def _size(ctx: WordingContext, value: float) -> str:
 
 
 def _bound(ctx: WordingContext, value: float) -> str:
-    """An upper bound in a memo ("likely less than 3 days", "at most 3 days"), rounded up at memo rounding, so the
-    printed bound is never below the true one (2.4 days is "less than 3 days", never "less than 2 days")."""
+    """An upper bound in a memo ("likely no more than 3 days", "at most 3 days"), rounded up at memo rounding, so the
+    printed bound is never below the true one (2.4 days is "no more than 3 days", never "no more than 2 days"); the
+    words allow the bound itself, which the interval may reach (its ends are values it holds)."""
     places = ctx._memo_places(min(ctx.memo_decimals, ctx.data_decimals))
     scale = 10.0 ** places
     return _size(ctx, math.ceil(round(abs(value) * scale, 9)) / scale)
@@ -727,7 +763,8 @@ def _stand_out(ctx: WordingContext, message: Message, groups, said) -> list:
         if not _excess_from_mixing(groups):
             out.append(ctx.say(key, ("unusual.excess", "unusual.count_beyond_fences"),
                                claim={**far, "count": numbers["count_beyond_fences"],
-                                      "expected": numbers["expected_beyond_fences"]},
+                                      "expected": numbers["expected_beyond_fences"],
+                                      "fitted_shape": unusual.fitted_shape, "decimals": ctx.findings.variable.decimals},
                                count=ctx.whole(numbers["count_beyond_fences"]),
                                expected=ctx.whole(numbers["expected_beyond_fences"])))
     possible = tuple(item for item in numbers["possible_errors"] if item[0] not in values)  # not named twice
@@ -856,9 +893,9 @@ def _center(ctx: WordingContext, message: Message, groups, said, clustered: bool
         return {}
     lead = _lead(ctx)
     parts: dict[str, list[Sentence]] = {"lead": lead, "at_end": _at_end(ctx, lead[0]),
-                                        "above_min": _above_minimum(ctx)}
+                                        "above_min": _above_minimum(ctx), "below_max": _below_maximum(ctx)}
     if said.lead:  # the share at one value already gave the lead (and the middle value above the lowest)
-        parts["lead"] = parts["at_end"] = parts["above_min"] = []
+        parts["lead"] = parts["at_end"] = parts["above_min"] = parts["below_max"] = []
     if findings.n > 1 and findings.spread.range > 0:
         # A lead that gave the share at one end already said where the other values run.
         # So does one that named the lowest and the highest value with every value between ("30% were 1, 40% were
@@ -957,8 +994,8 @@ def memo_paragraph(ctx: WordingContext, groups: MemoGroups | None = None, *,
             # The center's lead states it (the share at the lowest or highest value, or the ties at the middle);
             # said here, in the message's place, even when clusters leave the rest of the center out.
             lead = _lead(ctx)
-            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0]), *_above_minimum(ctx))
-                                     if s is not None]))
+            blocks.append(("share", [s for s in (*lead, *_at_end(ctx, lead[0]), *_above_minimum(ctx),
+                                                 *_below_maximum(ctx)) if s is not None]))
             said.lead = True
         elif message.code == "change_in_center" and changed_from is not None:
             blocks.append((message.code, _change_in_center(ctx, changed_from)))

@@ -999,17 +999,20 @@ class NumberFormatter:
         return format_list(items, style=style, locale=self.locale)
 
     def number_list(self, items: Sequence[str], style: str = "standard") -> str:
-        """Numbers joined by the list pattern; in a decimal-comma locale the pattern's commas become
-        the CLDR ``list`` number symbol (";"), so "0,25; 0,50 y 0,75" reads as three numbers.
+        """Numbers joined by the list pattern; in a decimal-comma locale, when a number holds the decimal
+        comma, the pattern's commas become the CLDR ``list`` number symbol (";"), so "0,25; 0,50 y 0,75"
+        reads as three numbers; whole numbers keep the list's own commas ("4, 5 y 9").
 
         >>> NumberFormatter("es_ES").number_list(["0,25", "0,50", "0,75"])
         '0,25; 0,50 y 0,75'
+        >>> NumberFormatter("es_ES").number_list(["4", "5", "9"])
+        '4, 5 y 9'
         """
         items = [str(item) for item in items]
         if not items:
             return ""
         patterns = dict(self.locale.list_patterns[style])
-        if self.decimal_symbol == ",":
+        if self.decimal_symbol == "," and any(self.decimal_symbol in item for item in items):
             separator = self._symbols.get("list", ";")
             patterns = {key: pattern.replace("},", "}" + separator) for key, pattern in patterns.items()}
         return _join_list(items, patterns)

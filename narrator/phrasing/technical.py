@@ -305,7 +305,7 @@ def interval_method(ctx: WordingContext, interval) -> str:
 
 
 _FLAG_NOUNS = {"missing": "row", "non_numeric": "row", "non_finite": "row", "ambiguous_grouping": "row",
-               "percent_signs": "row", "groups_suppressed": "group"}
+               "other_convention": "row", "percent_signs": "row", "groups_suppressed": "group"}
 
 
 def quality_paragraphs(ctx: WordingContext) -> list[Paragraph]:

@@ -87,12 +87,30 @@ def _spread_sentence(ctx: WordingContext, facts: ChangeFacts, about: str) -> Sen
                           "new_q3": new.spread.q3})
 
 
-def _fences(ctx: WordingContext, findings: Findings) -> str:
+def _fence_pair(findings: Findings) -> tuple[float, float] | None:
     flagged = findings.outliers
     if flagged is None or flagged.lower_fence is None or flagged.upper_fence is None:
-        return ""
-    low, high = ctx.memo_pair(flagged.lower_fence, flagged.upper_fence)  # "2 and 67 days": the unit once
-    return ctx.text("format.both", low=low, high=high)
+        return None
+    return flagged.lower_fence, flagged.upper_fence
+
+
+EXTRA_FENCE_PLACES = 3  # at most this many places beyond the memo's to tell a moved fence from the old one
+
+
+def _fences(ctx: WordingContext, old: Findings, new: Findings) -> tuple[str, str]:
+    """Both builds' fences, "2 and 67 days" (the unit once), at memo rounding; with more places, up to
+    EXTRA_FENCE_PLACES, while a fence that moved prints as it did ("they were 4 and 71 days and are now 4 and 70
+    days" hid a lower limit that moved from 3.9 to 4.3 days, past every wait of 4 days)."""
+    pairs = [_fence_pair(old), _fence_pair(new)]
+    texts = [None if pair is None else ctx.memo_pair(*pair) for pair in pairs]
+    if None not in pairs:
+        places = ctx._memo_places(ctx._as_recorded(*pairs[0], *pairs[1]))
+        extra = 0
+        while extra < EXTRA_FENCE_PLACES and any(
+                pairs[0][k] != pairs[1][k] and texts[0][k] == texts[1][k] for k in (0, 1)):
+            extra += 1
+            texts = [ctx.fmt.quantity_pair(*pair, places + extra) for pair in pairs]
+    return tuple("" if text is None else ctx.text("format.both", low=text[0], high=text[1]) for text in texts)
 
 
 def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: Findings,
@@ -127,9 +145,10 @@ def change_sentences(ctx: WordingContext, changes: Changes, old: Findings, new: 
     sentences.append(_spread_sentence(ctx, facts, about))
     flagged = changes.item("outliers.count")
     if flagged is not None:
+        fences = _fences(ctx, old, new)
         sentences.append(ctx.say(
             "changes.flagged", ("outliers.count",), about=facts, old=ctx.whole(flagged.old), new=ctx.whole(flagged.new),
-            old_fences=_fences(ctx, old), new_fences=_fences(ctx, new), claim_about=about,
+            old_fences=fences[0], new_fences=fences[1], claim_about=about,
             claim={"old": flagged.old, "new": flagged.new,
                    "old_fences": (old.outliers.lower_fence, old.outliers.upper_fence) if old.outliers else None,
                    "new_fences": (new.outliers.lower_fence, new.outliers.upper_fence) if new.outliers else None}))

@@ -357,6 +357,9 @@ class Cells:
     currencies: frozenset[str] = frozenset()
     ambiguous: np.ndarray | None = None  # positions of cells like "1,234": the other convention differs
     shown: dict[int, str] | None = None  # the texts kept by kept_examples, by position
+    # Positions of text cells that hold a number only under the other decimal convention ("3,4" read with
+    # a decimal point): left out as text, and counted so the report can say the setting may be wrong.
+    other_convention: np.ndarray | None = None
 
     def __len__(self) -> int:
         return int(self.values.size)
@@ -369,7 +372,7 @@ class Cells:
         """
         shown = self._shown(rules, 0)
         return Cells(self.values, self.status, self.decimals, shown.__getitem__, self.percent_cells, self.currencies,
-                     self.ambiguous, shown)
+                     self.ambiguous, shown, self.other_convention)
 
     def _shown(self, rules: CellRules, offset: int) -> dict[int, str]:
         final = _final_status(self.values, self.status, rules)
@@ -388,7 +391,7 @@ class Cells:
             return cls(np.zeros(0), np.zeros(0, dtype=np.int8), np.zeros(0, dtype=np.int8), lambda _: "",
                        ambiguous=np.zeros(0, dtype=np.int64))
         shown: dict[int, str] = {}
-        ambiguous = []
+        ambiguous, other = [], []
         offset = 0
         for part in parts:
             if part.shown is not None:
@@ -397,6 +400,8 @@ class Cells:
                 shown.update(part._shown(rules, offset))
             if part.ambiguous is not None and part.ambiguous.size:
                 ambiguous.append(part.ambiguous + offset)
+            if part.other_convention is not None and part.other_convention.size:
+                other.append(part.other_convention + offset)
             offset += len(part)
         return cls(
             values=np.concatenate([part.values for part in parts]),
@@ -406,6 +411,7 @@ class Cells:
             percent_cells=sum(part.percent_cells for part in parts),
             currencies=frozenset().union(*(part.currencies for part in parts)),
             ambiguous=np.concatenate(ambiguous) if ambiguous else np.zeros(0, dtype=np.int64),
+            other_convention=np.concatenate(other) if other else None,
         )
 
 
@@ -650,12 +656,15 @@ def _parse_texts(texts: pa.Array, decimal_comma: bool, missing_keys: frozenset[s
     percent_cells = 0
     currencies: set[str] = set()
     ambiguous: list[int] = []
+    other_convention: list[int] = []
     rest = ~plain & ~missing
     rest_at = np.flatnonzero(rest)
     rest_texts = pc.filter(stripped, _arrow_mask(rest)).to_pylist() if rest_at.size else []
     for position, text in zip(rest_at.tolist(), rest_texts, strict=True):
         parsed = _parse_cell(text, decimal_comma)
         if parsed is None:
+            if _parse_cell(text, not decimal_comma) is not None:
+                other_convention.append(position)
             continue
         values[position] = parsed.value
         decimals[position] = min(parsed.decimals, MAX_DECIMALS)
@@ -673,6 +682,7 @@ def _parse_texts(texts: pa.Array, decimal_comma: bool, missing_keys: frozenset[s
         percent_cells=percent_cells,
         currencies=frozenset(currencies),
         ambiguous=np.asarray(ambiguous, dtype=np.int64),
+        other_convention=np.asarray(other_convention, dtype=np.int64),
     )
 
 
@@ -711,13 +721,7 @@ def format_number(value: float | int) -> str:
 def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Callable[[int], str],
                values: np.ndarray) -> Exclusion:
     positions = np.flatnonzero(status == _STATUS_OF_REASON[reason])
-    examples: list[str] = []
-    for position in positions[:EXAMPLES_SCANNED].tolist():  # enough to find a few distinct texts
-        shown = display(position)
-        if shown not in examples:
-            examples.append(shown)
-            if len(examples) == EXAMPLES_KEPT:
-                break
+    examples = _distinct_texts(display, positions)
     return Exclusion(
         reason=reason,
         count=int(positions.size),
@@ -726,6 +730,23 @@ def _exclusion(reason: str, status: np.ndarray, rows: np.ndarray, display: Calla
         examples_complete=len(examples) < EXAMPLES_KEPT and positions.size <= EXAMPLES_SCANNED,
         values=tuple(float(v) for v in values[positions[:ROWS_KEPT]]) if reason == "impossible" else (),
     )
+
+
+def _distinct_texts(display: Callable[[int], str], positions: np.ndarray) -> list[str]:
+    """The first distinct texts of the cells at ``positions``, from the first :data:`EXAMPLES_SCANNED` of them
+    (enough to find a few). A chunk's kept texts are those of its first excluded cells, so a cell whose text
+    was not kept is passed over."""
+    texts: list[str] = []
+    for position in positions[:EXAMPLES_SCANNED].tolist():
+        try:
+            shown = display(position)
+        except KeyError:
+            continue
+        if shown not in texts:
+            texts.append(shown)
+            if len(texts) == EXAMPLES_KEPT:
+                break
+    return texts
 
 
 def _final_status(values: np.ndarray, status: np.ndarray, rules: CellRules) -> np.ndarray:
@@ -765,6 +786,7 @@ def build_sample(cells: Cells, rows: np.ndarray, name: str, unit: str | None, ru
     guessed = guess_decimals(values[typed]) if typed.any() else 0
     ambiguous = cells.ambiguous if cells.ambiguous is not None else np.zeros(0, dtype=np.int64)
     ambiguous = ambiguous[keep[ambiguous]] if ambiguous.size else ambiguous
+    other = cells.other_convention if cells.other_convention is not None else np.zeros(0, dtype=np.int64)
     source = {
         **source,
         # Cleaned but not cut: the appendix shows it, and it must still name the column.
@@ -778,6 +800,9 @@ def build_sample(cells: Cells, rows: np.ndarray, name: str, unit: str | None, ru
         "currency_symbols": sorted(cells.currencies),
         "ambiguous_grouping": int(ambiguous.size),
         "ambiguous_grouping_rows": [int(row) for row in rows[ambiguous[:ROWS_KEPT]]],
+        "other_convention": int(other.size),
+        "other_convention_rows": [int(row) for row in rows[other[:ROWS_KEPT]]],
+        "other_convention_texts": _distinct_texts(cells.display, other),
     }
     rows = np.asarray(rows, dtype=np.int64)
     return Sample(

@@ -245,6 +245,7 @@ def excel_cells(raw: Sequence[object], rules: CellRules, formulas: dict[int, str
             texts.append(cell)
         # datetimes, dates, times and durations stay non-numeric
     percent_cells, currencies, ambiguous = 0, frozenset(), np.zeros(0, dtype=np.int64)
+    other_convention = None
     if texts:
         parsed = classify_texts(_arrow_texts(texts), rules)
         where = np.asarray(text_at, dtype=np.int64)
@@ -253,13 +254,16 @@ def excel_cells(raw: Sequence[object], rules: CellRules, formulas: dict[int, str
         decimals[where] = parsed.decimals
         percent_cells, currencies = parsed.percent_cells, parsed.currencies
         ambiguous = where[parsed.ambiguous] if parsed.ambiguous is not None else ambiguous
+        if parsed.other_convention is not None:
+            other_convention = where[parsed.other_convention]
 
     def display(position: int) -> str:
         if position in formulas:
             return printable(f"{formulas[position]} (formula without a saved result)")
         return printable(raw[position])
 
-    return Cells(values, status, decimals, display, percent_cells, currencies, ambiguous)
+    return Cells(values, status, decimals, display, percent_cells, currencies, ambiguous,
+                 other_convention=other_convention)
 
 
 def unsaved_formulas(path: Path, sheet_name: str, index: int, blank_rows: set[int]) -> dict[int, str]:

@@ -157,7 +157,16 @@ def no_numbers(sample: Sample) -> str:
     if text is not None and text.count:
         shown = ", ".join(repr(example) for example in text.examples[:3])
         example = f" (for example {shown})" if shown else ""
-        return f"none of its {sample.n_rows} cells holds a number{example}"
+        reason = f"none of its {sample.n_rows} cells holds a number{example}"
+        other = int((sample.source or {}).get("other_convention") or 0)
+        if other:
+            # Numbers under the other decimal convention: the likely cause, and the setting that reads them.
+            comma = not (sample.source or {}).get("decimal_comma")
+            mark, fix = (("a decimal comma", "add --decimal-comma (decimal_comma = true in a recipe)") if comma else
+                         ("a decimal point", "leave out --decimal-comma (decimal_comma = false in a recipe)"))
+            cells = "every one of them" if other == text.count else f"{other} of them"
+            reason += f"; {cells} reads as a number written with {mark}: if the file writes them that way, {fix}"
+        return reason
     impossible = sample.excluded("impossible")
     if impossible is not None and impossible.count == sample.n_rows - sample.n_missing and impossible.count:
         return "every value lies outside the valid range"

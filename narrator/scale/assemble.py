@@ -310,7 +310,8 @@ def describe_source(
         density_estimate, fine_density = layouts.density_from_counts(density_layout, third["density"].counts,
                                                                       keep_fine=True)
     shape = rules.shape_of(n, moments, q1, median, q3, medcouple_value, medcouple_method, density_estimate,
-                           sensitivity, has_spread, tails=(quantile_values[0], quantile_values[-1]))
+                           sensitivity, has_spread, tails=(quantile_values[0], quantile_values[-1]),
+                           population=options.population)
 
     choice = rules.rule_choice(options.outlier_rule, is_clearly_skewed(shape))
     flagged_pass = third
@@ -886,7 +887,7 @@ def _rest_ranks(m: int, count_low: int) -> list[int]:
     """Full-data ranks of the order statistics the values without the flagged ones need."""
     if m <= 0:
         return []
-    ranks = set(type7_ranks(m, [0.25, 0.5, 0.75])) | set(median_ranks(m)) | {0, m - 1}
+    ranks = set(type7_ranks(m, rules.REST_PROBABILITIES)) | set(median_ranks(m)) | {0, m - 1}
     return sorted(count_low + r for r in ranks)
 
 

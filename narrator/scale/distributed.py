@@ -17,28 +17,93 @@ exact figure are the same as in a streaming run. Merged sums can differ from the
 the last bits only (another grouping of the same additions). The workers must see the files at the
 same paths.
 
+Workers started by ``distributed``'s nanny run with ``MALLOC_TRIM_THRESHOLD_=65536`` (its setting
+``distributed.nanny.pre-spawn-environ``), which in glibc also turns off the growing threshold above which
+a block is mapped afresh from the system: every chunk-sized numpy array of a summary (8 MB at the default
+chunk) was then mapped, page-faulted in and handed back, and a row group took 1.5 to 2 times the CPU it
+takes in one process (tests/benchmarks/README.md, "Dask against the stream engine"). While a task fills
+or merges summaries on such a worker, :func:`_heap_kept` raises both thresholds (to 32 MiB and 64 MiB, the
+most glibc's growing thresholds reach) and puts the worker's own back after;
+a worker without that setting, or without glibc, is left as it is.
+
 No scheduler of our own: the cluster is Dask's ``distributed`` scheduler (Dask Development Team 2016).
 """
 
 from __future__ import annotations
 
+import ctypes
+import os
+import sys
+import threading
+from contextlib import contextmanager
 from pathlib import Path
 
 from narrator.errors import NarratorError
 from narrator.scale.sources import ColumnSource
 from narrator.scale.streaming import Pass
 
+_M_TRIM_THRESHOLD, _M_MMAP_THRESHOLD = -1, -3  # glibc's mallopt parameters (malloc.h)
+_GLIBC_MMAP_DEFAULT = 128 * 1024
+_KEPT_MMAP, _KEPT_TRIM = 32 << 20, 64 << 20
+_heap_lock = threading.Lock()
+_heap_users = [0]
+
+
+def _glibc_mallopt():
+    """glibc's ``mallopt``, or None (another C library, another system)."""
+    if not sys.platform.startswith("linux"):
+        return None
+    try:
+        libc = ctypes.CDLL(None)
+        libc.gnu_get_libc_version  # noqa: B018 (only glibc has it)
+        return libc.mallopt
+    except (OSError, AttributeError):
+        return None
+
+
+@contextmanager
+def _heap_kept():
+    """Freed chunk-sized blocks stay in this process's heap while the block runs, when a fixed trim
+    threshold in the environment (as ``distributed``'s nanny sets) has turned glibc's growing one off."""
+    fixed = os.environ.get("MALLOC_TRIM_THRESHOLD_")
+    mallopt = _glibc_mallopt() if fixed is not None else None
+    if mallopt is None:
+        yield
+        return
+    with _heap_lock:  # a worker may run several tasks on its threads: the last one out restores
+        if _heap_users[0] == 0:
+            mallopt(_M_MMAP_THRESHOLD, _KEPT_MMAP)
+            mallopt(_M_TRIM_THRESHOLD, _KEPT_TRIM)
+        _heap_users[0] += 1
+    try:
+        yield
+    finally:
+        with _heap_lock:
+            _heap_users[0] -= 1
+            if _heap_users[0] == 0:
+                mallopt(_M_TRIM_THRESHOLD, _whole(fixed, _KEPT_TRIM))
+                mallopt(_M_MMAP_THRESHOLD, _whole(os.environ.get("MALLOC_MMAP_THRESHOLD_"), _GLIBC_MMAP_DEFAULT))
+
+
+def _whole(text: str | None, default: int) -> int:
+    try:
+        return int(text) if text is not None else default
+    except ValueError:
+        return default
+
 
 def _fill(path: Path, group: int, offset: int, empty: Pass, source: ColumnSource) -> Pass:
     """One row group's summaries, read in chunks as the streaming reader reads a file."""
-    plan = empty.empty_copy()  # a worker may hand the same deserialized plan to several row groups
-    for chunk in source.parquet_file_chunks(path, offset, row_groups=[group]):
-        plan.feed(chunk)
-    return plan
+    with _heap_kept():
+        plan = empty.empty_copy()  # a worker may hand the same deserialized plan to several row groups
+        for chunk in source.parquet_file_chunks(path, offset, row_groups=[group]):
+            plan.feed(chunk)
+        return plan
 
 
 def _merge(left: Pass, right: Pass) -> Pass:
-    return left.merge(right)
+    with _heap_kept():
+        return left.merge(right)
 
 
 class DaskRunner:

@@ -231,7 +231,7 @@ class ReadingSummary:
     each exclusion's count, first rows and first distinct examples, and the reading facts."""
 
     __slots__ = ("n_rows", "exclusions", "bound_exclusion", "percent_cells", "currencies", "ambiguous",
-                 "ambiguous_rows")
+                 "ambiguous_rows", "other_convention")
 
     def __init__(self) -> None:
         self.n_rows = 0
@@ -243,6 +243,8 @@ class ReadingSummary:
         self.currencies: set[str] = set()
         self.ambiguous = 0
         self.ambiguous_rows: list[int] = []
+        # cells that are numbers only under the other decimal convention: [count, (row, None) pairs, examples]
+        self.other_convention: list = [0, [], []]
 
     def add_chunk(self, chunk: Sample, bound_rows: np.ndarray, bound_values: np.ndarray) -> None:
         self.n_rows += chunk.n_rows
@@ -264,6 +266,12 @@ class ReadingSummary:
         self.ambiguous += int(source.get("ambiguous_grouping") or 0)
         self.ambiguous_rows = sorted(self.ambiguous_rows + list(source.get("ambiguous_grouping_rows") or ()))[
             :ROWS_KEPT]
+        other = int(source.get("other_convention") or 0)
+        if other:
+            rows = [int(row) for row in source.get("other_convention_rows") or ()]
+            first = rows[0] if rows else 0
+            self._add(self.other_convention, other, [(row, None) for row in rows],
+                      [(first, k, text) for k, text in enumerate(source.get("other_convention_texts") or ())])
 
     @staticmethod
     def _add(entry: list, count: int, pairs: list, examples: list, distinct: bool = True) -> None:
@@ -287,6 +295,8 @@ class ReadingSummary:
         self.currencies |= other.currencies
         self.ambiguous += other.ambiguous
         self.ambiguous_rows = sorted(self.ambiguous_rows + other.ambiguous_rows)[:ROWS_KEPT]
+        if other.other_convention[0]:
+            self._add(self.other_convention, *other.other_convention)
         return self
 
     def exclusion_list(self) -> tuple[Exclusion, ...]:
@@ -322,12 +332,15 @@ class ReadingSummary:
             "currency_symbols": sorted(self.currencies),
             "ambiguous_grouping": self.ambiguous,
             "ambiguous_grouping_rows": list(self.ambiguous_rows),
+            "other_convention": self.other_convention[0],
+            "other_convention_rows": [row for row, _ in self.other_convention[1]],
+            "other_convention_texts": [text for _, _, text in self.other_convention[2]],
         }
 
     def __getstate__(self):
         return (self.n_rows, self.exclusions, self.bound_exclusion, self.percent_cells, self.currencies,
-                self.ambiguous, self.ambiguous_rows)
+                self.ambiguous, self.ambiguous_rows, self.other_convention)
 
     def __setstate__(self, state) -> None:
         (self.n_rows, self.exclusions, self.bound_exclusion, self.percent_cells, self.currencies,
-         self.ambiguous, self.ambiguous_rows) = state
+         self.ambiguous, self.ambiguous_rows, self.other_convention) = state

@@ -581,6 +581,16 @@ class BinBrackets:
         self._setup()
 
 
+def _kth_smallest(values: np.ndarray, k: int) -> float:
+    """The k-th smallest of ``values`` (k >= 1). The k-th smallest of every 16k-th value is at or above it,
+    so only the values up to that one are selected from (a fresh summary's first chunk, as each row
+    group's on a cluster, costs a comparison instead of a partition of the chunk)."""
+    step = values.size // (16 * k)
+    if step > 1:
+        values = values[values <= np.partition(values[::step], k - 1)[k - 1]]
+    return np.partition(values, k - 1)[k - 1]
+
+
 class TailCandidates:
     """The ``k`` smallest and ``k`` largest values with their rows; ties broken by the earlier row."""
 
@@ -611,8 +621,8 @@ class TailCandidates:
                     return self
         if values.size > 4 * self.k:
             # Only the chunk's own k extremes can survive: select them first, in O(chunk).
-            low_cut = np.partition(values, self.k - 1)[self.k - 1]
-            high_cut = -np.partition(-values, self.k - 1)[self.k - 1]
+            low_cut = _kth_smallest(values, self.k)
+            high_cut = -_kth_smallest(-values, self.k)
             keep = (values <= low_cut) | (values >= high_cut)
             values, rows = values[keep], rows[keep]
         self._keep(np.concatenate([self.low_values, self.high_values, values]),
@@ -804,6 +814,20 @@ class DistinctValues:
         self.limit, self.values, self.more = state
 
 
+_PROBE = 256  # values tested first by PrecisionSummary
+
+
+def _whole_numbers(values: np.ndarray) -> bool:
+    return bool(np.all(np.floor(values) == values))
+
+
+def _fit(values: np.ndarray, scale: int) -> bool:
+    """Whether every value times ``scale`` is within 1e-6 (relative, at least absolute) of a whole number."""
+    times = values * scale
+    error = np.abs(times - np.round(times))
+    return bool(np.all(error <= 1e-6 * np.maximum(1.0, np.abs(times))))
+
+
 class PrecisionSummary:
     """Whether every value is a whole number, and the decimals needed to write every value as recorded.
 
@@ -833,7 +857,7 @@ class PrecisionSummary:
     def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> PrecisionSummary:
         if values.size == 0:
             return self
-        if self.whole and not bool(np.all(np.floor(values) == values)):
+        if self.whole and not (_whole_numbers(values[:_PROBE]) and _whole_numbers(values)):
             self.whole = False
         low, high = float(values.min()), float(values.max())
         if not (low > -1e15 and high < 1e15):
@@ -848,9 +872,10 @@ class PrecisionSummary:
             nonzero = np.abs(values[values != 0])
             smallest = float(nonzero.min()) if nonzero.size else math.inf
         for decimals in np.flatnonzero(self.fits):
-            times = values * 10 ** int(decimals)
-            error = np.abs(times - np.round(times))
-            self.fits[decimals] = bool(np.all(error <= 1e-6 * np.maximum(1.0, np.abs(times))))
+            # The first values alone usually show a misfit (a fresh summary, as each row group's on a
+            # cluster, tests every d); all of them are tested only when those fit.
+            scale = 10 ** int(decimals)
+            self.fits[decimals] = _fit(values[:_PROBE], scale) and _fit(values, scale)
             if self.fits[decimals] and smallest * 10.0 ** int(decimals) >= 1.0:
                 # Every x 10^d is at least 1 in size, so the test is relative: fitting at d, the values fit
                 # at every larger d too (the fits already recorded there stay as they are).

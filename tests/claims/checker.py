@@ -27,6 +27,7 @@ each claim kind to its check, and :data:`LICENCE_CHECKS` the licences whose fact
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -365,6 +366,20 @@ def check_share_at_maximum(c, raw, p):
         _same("next_high", c["next_high"], x[x < x.max()].max(), raw, p)
 
 
+def check_median_below_maximum(c, raw, p):
+    # The mirror: the values below the largest, their count and median (numpy's median), a quarter or more at the
+    # largest, and the largest is the declared upper bound (or valid maximum).
+    x = raw.values
+    below = x[x < x.max()]
+    _same("maximum", c["maximum"], x.max(), raw, p)
+    _problem(c["count"] == below.size, f"{c['count']} values below the largest claimed, the values give "
+             f"{below.size}", p)
+    if below.size:
+        _same("median", c["median"], float(np.median(below)), raw, p)
+    _problem(raw.share(x == x.max()) >= 0.25, "fewer than a quarter of the values equal the largest", p)
+    _problem(x.max() in (raw.upper_bound, raw.valid_max), "the largest value is no declared ceiling", p)
+
+
 def check_median_above_minimum(c, raw, p):
     # The values above the smallest, their count and median (numpy's median), and a quarter or more at the
     # smallest (the licence's threshold).
@@ -656,10 +671,14 @@ def check_without_flagged(c, raw, p, when=()):
 
 
 def _clearly_skewed(raw: Raw) -> bool:
+    """G1 of at least Bulmer's moderate 0.5, not from a few far values, and D'Agostino's test at p < 0.05; for a
+    whole population G1 is the population's own, and no test qualifies it (the methods text says so)."""
     if raw.g1 is None or raw.n < 8 or abs(raw.g1) < 0.5:
         return False
-    test = raw.skewtest
     robust_zero = _robust_zero(raw)
+    if raw.population:
+        return not robust_zero
+    test = raw.skewtest
     return test is not None and test.pvalue < 0.05 and not robust_zero
 
 
@@ -804,6 +823,15 @@ def check_quality(c, raw, p, when=()):
         _problem(8 <= raw.n < 20, "small sample", p)
     elif code == "missing_code":
         check_missing_code_suspected({"value": c["value"], "count": c["count"]}, raw, p)
+    elif code == "other_convention":
+        # Each text named must be a number written with the other decimal mark: digits, that mark, digits (with the
+        # declared mark, if any, only between groups of three). Written out here, apart from narrator's parser.
+        comma = not c["detail"].get("decimal_comma")
+        pattern = r"[+-]?\d{1,3}(\.\d{3})*,\d+|[+-]?\d+,\d+" if comma else r"[+-]?\d{1,3}(,\d{3})*\.\d+|[+-]?\d+\.\d+"
+        _problem(bool(c["texts"]) and all(re.fullmatch(pattern, text.strip()) for text in c["texts"]),
+                 f"texts {c['texts']} are not numbers with the other decimal mark", p)
+        if "non_numeric" in c:
+            _problem(0 < c["count"] <= c["non_numeric"], "more cells of the other convention than cells of text", p)
 
 
 def _nice(raw_width: float, whole: bool) -> float:
@@ -1163,10 +1191,33 @@ def check_stand_out_none(c, raw, p):
     _problem(beyond == c["count_far_out"], f"{beyond} values beyond the far fences, not {c['count_far_out']}", p)
 
 
+def _quartile_shape(raw: Raw, name: str):
+    """The normal or lognormal distribution (scipy.stats) whose quartiles are the data's (type 7, numpy)."""
+    q1, q3 = raw.quartiles
+    z75 = stats.norm.ppf(0.75)
+    if name == "lognormal":
+        return stats.lognorm(s=(math.log(q3) - math.log(q1)) / (2 * z75), scale=math.sqrt(q1 * q3))
+    return stats.norm(loc=(q1 + q3) / 2, scale=(q3 - q1) / (2 * z75))
+
+
 def check_stand_out_excess(c, raw, p):
     _, _, low, high = raw.flagged(c["rule"])
     _problem(low.size + high.size == c["count"], f"{low.size + high.size} beyond the fences, not {c['count']}", p)
     _problem(c["count"] > (c["expected"] or 0), "no more values beyond the fences than expected", p)
+    # "Than usual in data of this shape": the shape matched to the quartiles must follow the data's ends. An end
+    # value that holds at least 5 % of all the values more than the shape gives one recording step there, with
+    # p < 0.001 (one-sided binomial), is a spike it cannot follow, and its expected count says nothing about these
+    # data (the engine's rule, re-derived here with scipy.stats.norm / lognorm and scipy.stats.binom).
+    x = raw.values
+    shape = _quartile_shape(raw, c["fitted_shape"])
+    half_step = 0.5 * 10.0 ** -c["decimals"]
+    for end in (x.min(), x.max()):
+        count = int((x == end).sum())
+        held = float(np.clip(shape.cdf(end + half_step) - shape.cdf(end - half_step), 0.0, 1.0))
+        spike = count / raw.n - held >= 0.05 and stats.binom.sf(count - 1, raw.n, held) < 0.001
+        _problem(not spike, f"{count} values at {end}: the {c['fitted_shape']} shape gives it {held:.3f}", p)
+    expected = raw.n * (shape.cdf(c["lower"]) + shape.sf(c["upper"]))
+    _same("expected count beyond the fences", c["expected"], expected, raw, p, rel=1e-6)
 
 
 def check_shared_far(c, raw, p):
@@ -1246,6 +1297,7 @@ CHECKS = {
     "stand_out_none": check_stand_out_none, "stand_out_excess": check_stand_out_excess,
     "entry_error": check_entry_error, "entry_error_possible": check_entry_error_possible,
     "concentration": check_concentration, "median_above_minimum": check_median_above_minimum,
+    "median_below_maximum": check_median_below_maximum,
     "shared_far": check_shared_far,
 }
 GROUP_CHECKS = {"groups_compared": check_groups_compared, "groups_intervals": check_groups_intervals,

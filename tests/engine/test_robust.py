@@ -17,6 +17,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from statsmodels.stats.stattools import medcouple as statsmodels_medcouple
 
+from narrator.engine import robust
 from narrator.engine.robust import _insertion_points, bowley_skewness, medcouple, weighted_lower_median
 from narrator.errors import NarratorError
 
@@ -45,14 +46,45 @@ def _samples(rng: np.random.Generator, count: int, largest_n: int):
         yield np.sort(makers[index % len(makers)](n))
 
 
-def test_matches_statsmodels_on_many_small_samples():
+@pytest.fixture(params=["by distinct values", "by selection"])
+def either_path(request, monkeypatch):
+    """Each reference test runs through both of medcouple's ways: the weighted kernel of distinct values (taken
+    whenever few distinct values make few pairs) and the selection over the whole kernel (taken otherwise)."""
+    if request.param == "by selection":
+        monkeypatch.setattr(robust, "_DISTINCT_PAIRS_MAX", 0)
+    return request.param
+
+
+def test_the_two_ways_agree_to_the_bit_on_tied_data(monkeypatch):
+    # Whole numbers with ties (days, counts), decimals rounded to one place, a spike at the median, huge and tiny
+    # magnitudes: the distinct-values way must give the very float the selection gives.
+    rng = np.random.default_rng(20261203)
+    makers = (
+        lambda n: rng.poisson(20, n).astype(float),
+        lambda n: np.round(rng.gamma(3.0, 5.0, n)),
+        lambda n: np.round(rng.lognormal(0.0, 0.7, n), 1),
+        lambda n: np.concatenate([np.zeros(n), rng.integers(1, 9, n // 3)]).astype(float),
+        lambda n: rng.choice([-1e300, 0.0, 1e-300, 5.0, 5.0, 5.0], n),
+        lambda n: rng.integers(-3, 4, n) * 0.1,
+    )
+    cases = []
+    for index in range(600):
+        n = int(rng.integers(1, 3000 if index % 10 == 0 else 300))
+        cases.append(np.sort(makers[index % len(makers)](n)))
+    distinct = [medcouple(values) for values in cases]
+    monkeypatch.setattr(robust, "_DISTINCT_PAIRS_MAX", 0)
+    selection = [medcouple(values) for values in cases]
+    assert [float(v).hex() for v in distinct] == [float(v).hex() for v in selection]
+
+
+def test_matches_statsmodels_on_many_small_samples(either_path):
     # Reference: statsmodels medcouple (matrix version), exact kernel median.
     rng = np.random.default_rng(20240611)
     for values in _samples(rng, count=700, largest_n=60):
         assert medcouple(values) == pytest.approx(reference_medcouple(values), abs=1e-12), values
 
 
-def test_matches_statsmodels_up_to_two_thousand_values():
+def test_matches_statsmodels_up_to_two_thousand_values(either_path):
     # Reference: statsmodels medcouple (matrix version); n up to 2000 keeps its n^2/4 matrix small.
     rng = np.random.default_rng(7)
     for values in _samples(rng, count=28, largest_n=2000):
@@ -62,9 +94,17 @@ def test_matches_statsmodels_up_to_two_thousand_values():
 @settings(max_examples=150, deadline=None)
 @given(st.lists(st.integers(min_value=-4, max_value=4), min_size=2, max_size=40))
 def test_matches_statsmodels_on_tied_integers(numbers):
+    # Both ways (the hypothesis examples cannot take a fixture): distinct values, then the selection.
     # Reference: statsmodels medcouple; small integer ranges force every kind of tie at the median.
     values = np.sort(np.asarray(numbers, dtype=float))
-    assert medcouple(values) == pytest.approx(reference_medcouple(values), abs=1e-12)
+    reference = reference_medcouple(values)
+    assert medcouple(values) == pytest.approx(reference, abs=1e-12)
+    saved = robust._DISTINCT_PAIRS_MAX
+    robust._DISTINCT_PAIRS_MAX = 0
+    try:
+        assert medcouple(values) == pytest.approx(reference, abs=1e-12)
+    finally:
+        robust._DISTINCT_PAIRS_MAX = saved
 
 
 def test_tiny_samples_and_constant_data():

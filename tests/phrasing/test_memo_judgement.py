@@ -79,13 +79,13 @@ def test_the_clearly_different_group_is_named_first_and_sized(seed):
 
 
 def _assert_sized_alike(comparison, sentences) -> str:
-    """ "Northgate and Eastgate are about the same: the typical difference between them is likely less than 2 days
+    """ "Northgate and Eastgate are about the same: the typical difference between them is likely no more than 2 days
     either way." The bound is the largest interval limit in size, rounded up (never printed below itself)."""
     import math
     import re
 
     (alike,) = [s for s in sentences if s.startswith("Northgate and Eastgate are about the same: ")]
-    found = re.search(r"likely less than (\d+) days? either way\.$", alike)
+    found = re.search(r"likely no more than (\d+) days? either way\.$", alike)
     assert found, alike
     (pair,) = [p for p in comparison.pairs if {p.first, p.second} == {"Northgate", "Eastgate"}]
     assert int(found.group(1)) == math.ceil(max(abs(pair.difference.low), abs(pair.difference.high)))

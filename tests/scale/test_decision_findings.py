@@ -48,6 +48,7 @@ def test_whole_sample_gives_the_same_memo_findings(tmp_path):
     assert streamed.clusters == memory.clusters
     assert streamed.concentration == memory.concentration
     assert streamed.above_minimum == memory.above_minimum is not None
+    assert streamed.below_maximum == memory.below_maximum is not None
     assert streamed.unusual == memory.unusual
     assert streamed.not_computed == memory.not_computed == {}
     impossible = streamed.quality.get("impossible")
@@ -61,7 +62,8 @@ def test_partial_sample_records_what_it_did_not_compute(tmp_path):
     streamed = describe_source(open_source(tmp_path / "parts", "minutes", chunk_rows=500), outlier_rule="tukey",
                                reservoir_size=1000).findings
     assert streamed.clusters is None and streamed.concentration is None and streamed.above_minimum is None
+    assert streamed.below_maximum is None
     assert streamed.not_computed == {"clusters": NOT_IN_PASSES, "concentration": NOT_IN_PASSES,
-                                     "above_minimum": NOT_IN_PASSES}
+                                     "above_minimum": NOT_IN_PASSES, "below_maximum": NOT_IN_PASSES}
     assert streamed.unusual == memory.unusual
     assert 900.0 in streamed.unusual.values  # far beyond the far-out fence of values below 100

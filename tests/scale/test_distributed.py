@@ -95,3 +95,27 @@ def test_dask_refusals(tmp_path):
     folder = _parts(tmp_path / "p", "x", [1.0, 2.0, 3.0], parts=1)
     with pytest.raises(NarratorError, match="scheduler"):
         DaskRunner(open_source(folder, "x"))
+
+
+def test_workers_fix_the_trim_threshold_and_tasks_put_it_back(cluster):
+    # distributed's own configuration (distributed.nanny.pre-spawn-environ) starts workers with a fixed
+    # glibc trim threshold, which is what the runner's tasks adapt to; each task leaves the count of
+    # tasks holding the raised thresholds where it found it.
+    from narrator.scale import distributed as runner
+
+    _, client = cluster
+
+    def inside(dask_worker=None):
+        import os
+
+        from narrator.scale import distributed as here
+
+        with here._heap_kept(), here._heap_kept():
+            during = here._heap_users[0]
+        return os.environ.get("MALLOC_TRIM_THRESHOLD_"), during, here._heap_users[0]
+
+    found = client.run(inside)
+    assert len(found) == 2
+    for trim, during, after in found.values():
+        assert trim is not None and int(trim) > 0
+        assert (during, after) == ((2, 0) if runner._glibc_mallopt() is not None else (0, 0))

@@ -155,6 +155,20 @@ def test_tail_candidates_are_the_extremes():
     assert np.array_equal(values[tails.high_rows - 2], tails.high_values)
 
 
+
+def test_tail_candidates_of_large_chunks_with_ties():
+    # A fresh summary's first chunk selects its extremes from a strided probe's cut: checked against
+    # numpy.lexsort of the whole (value, then row) on whole numbers that tie often, in chunks of 40 000.
+    rng = np.random.default_rng(RNG_SEED + 13)
+    values = np.round(rng.normal(0, 30, 120_000))
+    rows = np.arange(2, values.size + 2)
+    tails = TailCandidates(200)
+    for chunk_values, chunk_rows in zip(np.array_split(values, 3), np.array_split(rows, 3), strict=True):
+        tails.merge(TailCandidates(200).update(chunk_values, chunk_rows))
+    low, high = np.lexsort((rows, values))[:200], np.lexsort((rows, -values))[:200]
+    assert np.array_equal(tails.low_values, values[low]) and np.array_equal(tails.low_rows, rows[low])
+    assert np.array_equal(tails.high_values, values[high]) and np.array_equal(tails.high_rows, rows[high])
+
 def test_flagged_values_keep_the_farthest_out_per_side_in_any_chunking():
     # Checked against numpy directly: counts, ranges and the k farthest out on each side, with ties
     # (whole numbers repeat) resolved as the in-memory engine lists them (numpy.lexsort order).
@@ -313,6 +327,17 @@ def test_precision_and_distinct_values():
     assert distinct.count_up_to(10) == 3
     assert DistinctValues(11).update(np.arange(50.0)).count_up_to(10) == 11
 
+
+
+def test_precision_when_only_a_late_value_misfits():
+    # The summary tests the first values of a chunk before all of them: a value with more decimals far
+    # into the chunk must still count, as in the in-memory engine (guess_decimals looks at all 1000 here).
+    values = np.arange(1000) * 0.5 + 10.0
+    values[900] = 10.125
+    summary = PrecisionSummary().update(values)
+    assert summary.decimals == guess_decimals(values) == 3
+    assert not summary.whole
+    assert PrecisionSummary().update(np.arange(1000.0)).whole
 
 def test_bin_counts_are_additive_and_exact():
     rng = np.random.default_rng(RNG_SEED + 5)
