@@ -911,7 +911,7 @@ def _rest_rank_ranges(bins: RankBins, n: int, test: rules.OutlierTest, factor: f
         count_low = min(max(count_low, 0), n - 1)
         m = max(n - count_low - max(count_high, 0), 1)
         named = [m // 2 - 1 if m % 2 == 0 else m // 2, m // 2, 0, m - 1]
-        for p in (0.25, 0.5, 0.75):
+        for p in rules.REST_PROBABILITIES:  # type7_ranks's two ranks each, one pair per probability
             below = int(np.floor((m - 1) * p))
             named += [below, min(below + 1, m - 1)]
         return [count_low + r for r in named]
