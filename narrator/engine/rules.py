@@ -105,7 +105,10 @@ NEEDS_EVERY_VALUE = {
 }
 
 # Outlier rules (narrator.engine.outliers applies them to the values in memory).
-MIN_VALUES = 4  # below this, no rule is run
+# Below this, no rule is run: its fences or limits are made of quartiles, a median and a MAD, which between
+# four values or fewer are one value's doing (our rule; the reports give no such summary either:
+# narrator.phrasing.licences.TINY_N is this number, so the two can never disagree).
+MIN_VALUES = 5
 COEFFICIENT = 1.5  # Tukey (1977)
 FAR_COEFFICIENT = 3.0
 MODIFIED_Z_THRESHOLD = 3.5  # Iglewicz & Hoaglin (1993)

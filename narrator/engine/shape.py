@@ -61,7 +61,7 @@ ROBUST_NEAR_ZERO = 0.1
 BIMODALITY_THRESHOLD = 5.0 / 9.0
 P_STRONG = 0.001
 P_MODERATE = 0.05
-MIN_FOR_SHAPE = 8
+MIN_FOR_SHAPE = 8  # D'Agostino's test needs n >= 8 (D'Agostino 1970); the phrasing takes it from here
 MIN_FOR_STRONG_EVIDENCE = 20
 MIN_PEAK_MASS = 0.075  # a peak must hold this share of the values to count (our own cut)
 HEAVY_TAIL_KURTOSIS = 1.0  # G2 above this: tails heavier than the normal's (our cut, common practice)

@@ -62,10 +62,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from narrator.engine.shape import MIN_FOR_SHAPE  # D'Agostino's test needs n >= 8 (D'Agostino 1970)
 from narrator.findings import Findings
 
 HEDGE_LEVELS = ("too_few", "unclear", "tentative", "likely", "clear")
-MIN_FOR_SHAPE = 8  # D'Agostino's test needs n >= 8 (D'Agostino 1970)
 MIN_FOR_UNHEDGED = 20  # our choice, common practice
 NO_SKEW_P = 0.05  # a skewness test p at or above this is "no sign of skew" (our choice)
 _EVIDENCE_SCORE = {"none": 0, "weak": 1, "moderate": 2, "strong": 3}

@@ -34,6 +34,9 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
+from narrator.engine.rules import MIN_VALUES
+from narrator.engine.shape import MIN_FOR_SHAPE  # D'Agostino's test needs n >= 8 (D'Agostino 1970)
+
 # "Half" in a sentence: exactly half, or within two percentage points of half (our reading: a reader
 # told "half were lower" of 300 values does not mind 147, and minds 120). No slack of one value: of
 # seven values, three are not "half"; a small sample is given its counts instead.
@@ -49,14 +52,13 @@ MIN_FOR_MIDDLE_HALF = 8
 # a value far from the rest is one value's doing; with two, the middle value is the average by definition).
 # Every audience then gives no summary made of quantiles between the ends (IQR, 5th-95th percentiles, MAD,
 # trimmed mean) and draws no density curve: interpolated between two to four values, they say nothing.
-TINY_N = 5
+TINY_N = MIN_VALUES  # the engine's: no outlier rule is run below it either (fences are made of quartiles)
 # A share at the lowest (or highest) value worth a sentence of its own (our choice: a quarter, and at
 # least 3 of at least 8 values, as the engine's floor and ceiling flags ask for 3).
 MANY_AT_END_SHARE = 0.25
 MANY_AT_END_COUNT = 3
 # "Most" values at one end: at least half of them.
 MOST_SHARE = 0.5
-MIN_FOR_SHAPE = 8  # as narrator.phrasing.hedges.MIN_FOR_SHAPE
 SMALL_SAMPLE = 20  # fewer values: the cautions say the figures are a rough guide
 # "A few are much higher": some values, and at most one in ten, lie beyond the outlier rule's fence on
 # that side (our reading of "a few"; 40 % of the values above the rest are not a few).

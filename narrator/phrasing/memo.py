@@ -351,11 +351,17 @@ def _why(ctx: WordingContext, median_text: str | None = None) -> Sentence | None
         # average up" is the more concrete of the two, and true when a single value, not a long tail, does the
         # pulling.
         count = flagged.count if flagged is not None else 0
+        side = None
+        if flagged is not None and flagged.count_low and flagged.count_high:
+            # Flagged on both sides: the sentence names the side that moves the mean the way it moved (every
+            # value above the upper fence exceeds every other value, so those raise the mean; likewise below).
+            side = "high" if center.mean > center.median else "low"
+            count = flagged.count_high if side == "high" else flagged.count_low
         said = None
         if "outliers_move_mean" in reasons:
             said = ctx.say("memo.why_median.outliers", ("center.lead_reasons", "center.mean", "center.median"),
                            subject=(count, "value"), mean=mean, median=median_text,
-                           claim={**claim, "cause": "flagged", "count": count, "n": findings.n})
+                           claim={**claim, "cause": "flagged", "count": count, "n": findings.n, "side": side})
         if said is None and "skewed" in reasons:
             said = ctx.say("memo.why_median.skewed", ("center.lead_reasons", "center.mean", "center.median"),
                            mean=mean, median=median_text,
@@ -854,8 +860,15 @@ def _nothing_stands_out(ctx: WordingContext) -> list:
             return []  # the share of the value many values hold is said (_shared_far): "none stands out" is not
         if unusual.reason != "computed":
             return []
-        sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count"),
-                           subject=(flagged.count, "value"), count=ctx.count(flagged.count, "value"),
+        # Which side they lie on: "six low values (1.8 to 4.0 days) lie outside ...", never a bare count a
+        # reader of waiting times takes for six long waits.
+        spell_out = flagged.count <= ctx.bank.spell_out_max
+        parts = [_side_part(ctx, side, count, span, spell_out)
+                 for side, count, span in (("low", flagged.count_low, flagged.low_range),
+                                           ("high", flagged.count_high, flagged.high_range)) if count]
+        sentence = ctx.say("memo.unusual.none", ("unusual.values", "unusual.excess", "outliers.count",
+                                                 "outliers.low_range", "outliers.high_range"),
+                           subject=(flagged.count, "value"), values_part=ctx.fmt.list(parts),
                            claim={"rule": unusual.fence_rule, "far_lower": unusual.far_lower_fence,
                                   "far_upper": unusual.far_upper_fence, "count_far_out": unusual.count_far_out,
                                   **flagged_claim(findings)})

@@ -131,6 +131,10 @@ def shape_sentences(ctx: WordingContext) -> list[Sentence]:
                               claim={**shape_claim(findings), "base": base, "share": share}))
     if findings.spread is not None and findings.spread.range == 0:
         return sentences
+    if findings.n < MIN_FOR_SHAPE:
+        # "Too few values to judge the shape" stands alone: no skewness or kurtosis figures, no peaks of a
+        # density curve that is not drawn below TINY_N, no "tails heavier than a normal distribution's".
+        return sentences
     if shape.skewness is not None:
         stat_keys = ("shape.skewness", "shape.skewness_se", "shape.bowley", "shape.medcouple", "shape.excess_kurtosis")
         p_text = ctx.p_value(shape.skewness_test_p) if shape.skewness_test_p is not None else ""

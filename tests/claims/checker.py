@@ -446,11 +446,23 @@ def check_mean_pulled(c, raw, p, when=()):
     if c.get("cause") == "tail":
         _problem(_tail_high(raw) if up else _tail_low(raw),
                  "a long tail on that side is claimed, the values have none", p)
-    if c.get("cause") == "flagged":
+    if c.get("cause") == "flagged" and c.get("side") is None:
         rest = raw.without(c["rule"])
         _problem(rest.size > 0 and ((raw.mean > rest.mean()) if up else (raw.mean < rest.mean())),
                  "the flagged values do not move the mean that way", p)
         _problem(c["count"] == raw.n - rest.size, "the count of flagged values differs", p)
+    elif c.get("cause") == "flagged":
+        # Flagged on both sides, the sentence names one: those values alone move the mean the way it moved
+        # (the mean without that side's flagged values is on the other side of the mean of all values).
+        _lower, _upper, low, high = raw.flagged(c["rule"])
+        _problem(low.size > 0 and high.size > 0, "one side of flagged values is named, but only one side has any", p)
+        side = high if c["side"] == "high" else low
+        _problem((c["side"] == "high") == up, f"the {c['side']} flagged values are said to pull the mean the other way", p)
+        x = raw.values
+        rest = x[: x.size - high.size] if c["side"] == "high" else x[low.size:]
+        _problem(rest.size > 0 and ((raw.mean > rest.mean()) if up else (raw.mean < rest.mean())),
+                 f"the {c['side']} flagged values do not move the mean that way", p)
+        _problem(c["count"] == side.size, f"the count of {c['side']} flagged values differs", p)
 
 
 def _bimodal_signals(raw: Raw) -> bool:
@@ -614,7 +626,7 @@ def check_bins(c, raw, p):
 
 
 def check_outliers_not_run(c, raw, p):
-    _problem(raw.n < 4, f"no rule run for {raw.n} values", p)
+    _problem(raw.n < 5, f"no rule run for {raw.n} values", p)  # fences of quartiles need five values (our rule)
 
 
 def check_outlier_rule(c, raw, p):
@@ -704,7 +716,7 @@ def check_lead(c, raw, p, when=()):
         if "outliers_ran" in when and "any_flagged" not in when:
             _problem(rule is not None and raw.n - rest.size == 0, "'no value was flagged' but some are", p)
         if "outliers_ran" not in when and "any_flagged" not in when:
-            _problem(raw.n < 4, "'no outlier rule was run' for 4 values or more", p)
+            _problem(raw.n < 5, "'no outlier rule was run' for 5 values or more", p)
 
 
 def check_lead_without(c, raw, p):
@@ -1339,7 +1351,7 @@ LICENCE_CHECKS = {
     "fewer_than_20": lambda raw, c: 0 < raw.n < 20,
     "rows_are_population": lambda raw, c: raw.population,
     "estimating_allowed": lambda raw, c: not raw.population,
-    "outliers_not_run": lambda raw, c: raw.n < 4,
+    "outliers_not_run": lambda raw, c: raw.n < 5,
     "none_flagged": lambda raw, c: _flag_count(raw, c.get("rule")) in (0, None),
     "any_flagged": lambda raw, c: c.get("rule") is None or (_flag_count(raw, c.get("rule")) or 0) > 0,
     "tails_heavy": lambda raw, c: raw.g2 is not None and raw.g2 > 1,

@@ -231,12 +231,13 @@ def test_a_group_whose_typical_value_moved_clearly_is_named():
         assert "Northgate" not in text and "Eastgate" not in text
 
 
-def test_the_groups_table_says_each_row_has_its_own_fences():
+def test_the_groups_table_says_each_group_has_its_own_fences():
+    # "Row" elsewhere means a row of the data file ("row 84"): the table's lines are groups.
     from narrator.phrasing.sets import SetOptions, narrate_set
 
     narrative = narrate_set(_grouped(_three_offices(9.0)), SetOptions(audience="full"))
     table = next(table for section in narrative.sections for table in section.tables if table.key == "groups")
-    assert table.header[-1] == "Unusual values (each row's own fences)"
+    assert table.header[-1] == "Unusual values (each group's own fences)"
 
 
 def test_three_values_get_no_quartile_row():
