@@ -779,17 +779,44 @@ def _style_x(ax: Axes, numbers: NumberFormatter, x_label: str) -> None:
 
 
 def _mark_center(ax: Axes, mean: float, median: float, labels: Mapping[str, str]) -> None:
-    """Vertical mean (solid) and median (dashed) lines with direct labels on opposite sides."""
+    """Vertical mean (solid) and median (dashed) lines with direct labels on opposite sides.
+
+    A label that would run past the axes (a median at the left edge, its word over the y-axis title) goes
+    to the other side of its line; one that would then cross the other line or its label drops one row.
+    """
     ax.axvline(mean, color=MEAN_COLOUR, linestyle=MEAN_STYLE, linewidth=1.6, zorder=4)
     ax.axvline(median, color=MEDIAN_COLOUR, linestyle=MEDIAN_STYLE, linewidth=1.4, zorder=4)
     at_top = blended_transform_factory(ax.transData, ax.transAxes)
+    x_low, x_high = (float(v) for v in ax.get_xlim())
+    axes_width_pt, _ = _axes_size_points(ax.figure, ax)
+    per_point = (x_high / 2 - x_low / 2) * 2 / axes_width_pt  # data units a point; no overflow near the largest double
     mean_left = mean < median
+    placed: list[tuple[float, float, int]] = []  # (start, end, row) of each label in data units
     for x, word, colour, to_left in (
         (mean, labels["mean"], MEAN_COLOUR, mean_left),
         (median, labels["median"], MEDIAN_COLOUR, not mean_left),
     ):
+        if not x_low <= x <= x_high:
+            continue  # its line lies outside the axes: no word floating beside them
+        span = (len(word) * SMALL_FONT_SIZE * 0.6 + 4) * per_point
+
+        def extent(left: bool) -> tuple[float, float]:
+            return (x - span, x) if left else (x, x + span)
+
+        start, end = extent(to_left)
+        if start < x_low or end > x_high:
+            to_left = not to_left
+            start, end = extent(to_left)
+        others = [line for line in (mean, median) if line != x]
+        row = 0
+        if any(start < line < end for line in others) or any(
+            start < other_end and other_start < end and other_row == row for other_start, other_end, other_row in placed
+        ):
+            row = 1
+        placed.append((start, end, row))
         ax.annotate(
-            word, (x, 0.985), xycoords=at_top, xytext=(-4 if to_left else 4, 0),
+            word, (x, 0.985), xycoords=at_top,
+            xytext=(-4 if to_left else 4, -row * (SMALL_FONT_SIZE * 1.5)),
             textcoords="offset points", ha="right" if to_left else "left", va="top",
             color=colour, fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
             bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},

@@ -373,3 +373,34 @@ def test_a_full_reports_histogram_keeps_its_page_size(rivers):
     sample, found = rivers
     drawn = figures.histogram(found, sample, text_for("histogram"), locale="en_US")
     assert (drawn.width_px, drawn.height_px) == (round(6.0 * figures.DPI), round(3.3 * figures.DPI))
+
+
+@pytest.mark.parametrize("mirror", [False, True])
+@pytest.mark.parametrize("size", ["memo", "full"])
+def test_mean_and_median_words_stay_inside_the_axes_and_apart(mirror, size):
+    # Zero-heavy hours (about 45 % zeros, the rest gamma): the median sits at the left edge of the axes and
+    # its word, set to the left of its line, once ran over the y axis's title. Mirrored: the right edge.
+    # Invented data, built here for the geometry only.
+    rng = np.random.default_rng(5)
+    hours = np.where(rng.random(400) < 0.45, 0.0, rng.gamma(1.5, 3.0, 400)).round(1)
+    values = -hours if mirror else hours
+    sample = Sample.from_values(values, name="hours", unit="hours")
+    found = describe(sample)
+    fig = figures._draw_histogram(found, sample, text_for("histogram"), locale="en_US",
+                                  size=figures.figure_size(size))
+    ax = fig.axes[0]
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    frame = ax.get_window_extent(renderer)
+    boxes = {t.get_text(): t.get_window_extent(renderer) for t in ax.texts if t.get_text() in ("Mean", "Median")}
+    assert set(boxes) == {"Mean", "Median"}
+    for word, box in boxes.items():
+        assert frame.x0 - 0.5 <= box.x0 and box.x1 <= frame.x1 + 0.5, (word, box.extents, frame.extents)
+    mean_box, median_box = boxes["Mean"], boxes["Median"]
+    assert not mean_box.overlaps(median_box)
+    # Neither word crosses the other's line.
+    to_pixels = ax.transData.transform
+    mean_x = to_pixels((found.center.mean, 0))[0]
+    median_x = to_pixels((found.center.median, 0))[0]
+    assert not median_box.x0 < mean_x < median_box.x1
+    assert not mean_box.x0 < median_x < mean_box.x1
