@@ -799,14 +799,9 @@ def _mark_center(ax: Axes, mean: float, median: float, labels: Mapping[str, str]
         if not x_low <= x <= x_high:
             continue  # its line lies outside the axes: no word floating beside them
         span = (len(word) * SMALL_FONT_SIZE * 0.6 + 4) * per_point
-
-        def extent(left: bool) -> tuple[float, float]:
-            return (x - span, x) if left else (x, x + span)
-
-        start, end = extent(to_left)
-        if start < x_low or end > x_high:
+        if (x - span < x_low) if to_left else (x + span > x_high):
             to_left = not to_left
-            start, end = extent(to_left)
+        start, end = (x - span, x) if to_left else (x, x + span)
         others = [line for line in (mean, median) if line != x]
         row = 0
         if any(start < line < end for line in others) or any(
