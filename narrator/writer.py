@@ -42,6 +42,7 @@ from __future__ import annotations
 
 import copy
 import datetime as dt
+import hashlib
 import io
 import os
 import zipfile
@@ -64,7 +65,8 @@ from narrator.figures.rendered import RenderedFigure
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
 from narrator.phrasing.numbers import language_tag, parse_locale
 from narrator.resources import template_file
-from narrator.safe_io import REPORT_MARK, check_output, commit_report_pair
+from narrator.safe_io import REPORT_MARK, REPORT_WORDS, check_output, commit_report_pair
+from narrator.wordtext import visible_words
 from narrator.xmltext import xml_safe
 
 STYLE_NAMES = {
@@ -590,13 +592,29 @@ _EXTENDED_PROPERTIES = (
     b'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
     b"<Application>narrator</Application></Properties>"
 )
-_CUSTOM_PROPERTIES = (
-    '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
-    '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties" '
-    'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
-    '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="2" name="' + REPORT_MARK + '">'
-    "<vt:lpwstr>1</vt:lpwstr></property></Properties>"
-).encode("utf-8")
+def _custom_properties(words: str) -> bytes:
+    """The custom properties of a report: the mark, and the fingerprint of the words it was written with
+    (:data:`narrator.safe_io.REPORT_WORDS`, compared before a later build replaces it)."""
+    return (
+        '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+        '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties" '
+        'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
+        '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="2" name="' + REPORT_MARK + '">'
+        "<vt:lpwstr>1</vt:lpwstr></property>"
+        '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="3" name="' + REPORT_WORDS + '">'
+        f"<vt:lpwstr>{words}</vt:lpwstr></property></Properties>"
+    ).encode("utf-8")
+
+
+def _body_words(document) -> str:
+    """The fingerprint of the document's body as it will be saved (:func:`narrator.wordtext.visible_words`)."""
+    related = document.part.related_parts
+
+    def digest(rel_id: str) -> str:
+        part = related.get(rel_id)
+        return "missing" if part is None else hashlib.sha256(part.blob).hexdigest()[:16]
+
+    return visible_words(list(document.element.body), digest)[1]
 
 
 def _keep_only_the_template_look(document, mark: bool = True) -> None:
@@ -628,8 +646,8 @@ def _keep_only_the_template_look(document, mark: bool = True) -> None:
     package.relate_to(Part(PackURI("/docProps/app.xml"), CT.OFC_EXTENDED_PROPERTIES, _EXTENDED_PROPERTIES, package),
                       RT.EXTENDED_PROPERTIES)
     if mark:
-        package.relate_to(Part(PackURI("/docProps/custom.xml"), CT.OFC_CUSTOM_PROPERTIES, _CUSTOM_PROPERTIES,
-                               package), RT.CUSTOM_PROPERTIES)
+        package.relate_to(Part(PackURI("/docProps/custom.xml"), CT.OFC_CUSTOM_PROPERTIES,
+                               _custom_properties(_body_words(document)), package), RT.CUSTOM_PROPERTIES)
 
 
 def _edit_xml(part, edit) -> None:
