@@ -460,19 +460,25 @@ def _text_width(document) -> Emu:
 def _column_widths(table: Table, text_width: Emu) -> tuple[Emu, ...]:
     """Column widths from the longest cell of each column, so short tables stay compact.
 
-    About 0.2 cm per character at the 8.5 pt table font, plus cell padding;
-    when the total exceeds the text width, columns shrink in proportion and
-    their text wraps.
+    About 0.2 cm per character at the 8.5 pt table font, plus cell padding. When the total
+    exceeds the text width, every column first keeps room for its longest unbroken word (a
+    number, "Median"), so no word or number is split across lines; the room left is shared in
+    proportion to what each column wanted beyond that, and the long text wraps at its spaces.
+    Only when the words alone are wider than the page do all columns shrink in proportion.
     """
-    longest = [
-        max([len(text) for text in column] or [1])
-        for column in zip(table.header, *table.rows, strict=True)
-    ]
+    columns = list(zip(table.header, *table.rows, strict=True))
+    longest = [max([len(text) for text in column] or [1]) for column in columns]
+    unbroken = [max([len(word) for text in column for word in text.split()] or [1]) for column in columns]
     wanted = [max(1.6, 0.2 * chars + 0.5) for chars in longest]
-    total = sum(wanted)
+    least = [min(want, max(1.0, 0.21 * chars + 0.5)) for want, chars in zip(wanted, unbroken, strict=True)]
     available = int(text_width) / int(Cm(1))
-    scale = min(1.0, available / total)
-    return tuple(Cm(width * scale) for width in wanted)
+    if sum(wanted) <= available:
+        return tuple(Cm(width) for width in wanted)
+    if sum(least) >= available:
+        scale = available / sum(least)
+        return tuple(Cm(width * scale) for width in least)
+    spare = (available - sum(least)) / (sum(wanted) - sum(least))
+    return tuple(Cm(low + (want - low) * spare) for low, want in zip(least, wanted, strict=True))
 
 
 def _set_widths(grid, widths: Sequence[Emu]) -> None:
