@@ -354,16 +354,15 @@ class Accuracy:
 
     ``exact`` figures are the same numbers the in-memory engine gives; ``merged`` ones are sums merged
     over chunks, equal to the in-memory ones up to floating-point rounding (``merged_relative_error``);
-    ``approximate`` ones carry their bound. (How many reads of the data it took is not recorded: the
-    sketch's own randomness can, rarely, cost one more read, and the findings must not change with it.)
+    ``approximate`` ones carry their bound. (How many reads of the data it took is not recorded: a plan
+    the look-ahead did not gather can cost one more read, and the findings must not change with it.)
     """
 
     engine: str  # "stream" or "dask"
     exact: tuple[str, ...]
     merged: tuple[str, ...]
     approximate: tuple[ApproximateFigure, ...]
-    sketch: str | None = None  # e.g. "kll:2048"
-    sketch_rank_error: float | None = None  # normalized rank error of the sketch (99 % confidence)
+    sketch: str | None = None  # the first pass's bracket summary, e.g. "rank-bins:4096" (bins to each doubling)
     merged_relative_error: float | None = None
     reservoir_size: int | None = None
     seed: int | None = None

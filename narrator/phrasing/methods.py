@@ -207,9 +207,10 @@ def methods_paragraph(ctx: WordingContext) -> Paragraph:
     accuracy = findings.accuracy
     if accuracy is not None and findings.n > 0:
         # Data larger than memory (narrator.scale): say what is exact, what is merged, what is approximate.
-        sentences.append(ctx.say("methods.scale_exact", ("accuracy.engine", "accuracy.sketch_rank_error"),
-                                 rank_error=fmt.percent(accuracy.sketch_rank_error or 0.0, 2),
-                                 claim={"rank_error": accuracy.sketch_rank_error}))
+        # accuracy.sketch is "rank-bins:<bins to each doubling of the distance>" (narrator.scale.summaries.RankBins)
+        bins = int(str(accuracy.sketch).rsplit(":", 1)[-1])
+        sentences.append(ctx.say("methods.scale_exact", ("accuracy.engine", "accuracy.sketch"), bins=ctx.whole(bins),
+                                 claim={"bins": bins}))
         for approximate in accuracy.approximate:
             fences = any(key.startswith("outliers.") for key in approximate.depends)
             key = "methods.scale_approximate_fences" if fences else "methods.scale_approximate_medcouple"

@@ -17,7 +17,7 @@ Name                             What it is
 ===============================  ===================================================
 
 The mergeable summaries themselves are in :mod:`.summaries`, the exact order
-statistics in sketch brackets in :mod:`.ranks`, and the histogram, bin
+statistics in the rank bins' brackets in :mod:`.ranks`, and the histogram, bin
 sensitivity and density from counts in :mod:`.layouts`.
 """
 

@@ -6,9 +6,9 @@ The steps of the in-memory engine, each from summaries that merge over chunks:
 Pass  What it gathers                                                         Why
 ====  ======================================================================  =====
 1     rows read and left out; n, extremes; moments (Chan et al. 1979          plan,
-      merge); KLL sketch; reservoir sample; tail values; suspect-code         centre
+      merge); rank bins; reservoir sample; tail values; suspect-code          centre
       counts; round-number counts; distinct values; precision
-2     exact order statistics in sketch brackets: P5..P95, quartiles,          spread,
+2     exact order statistics in the bins' brackets: P5..P95, quartiles,       spread,
       median, the median interval's ranks, the trimmed means' cut points,     shape,
       code-free quartiles, tie candidates; and, gathered ahead for every      outliers,
       plan those brackets allow (:class:`_LookAhead`): histogram and          with/without
@@ -22,11 +22,13 @@ Pass  What it gathers                                                         Wh
 ====  ======================================================================  =====
 
 The modified z rule needs the MAD for its limits and takes a pass of its own; values beyond 1e60 or
-below 1e-60 in size take one more for their moments in scaled units. A bracket the sketch missed
-(its bound holds with 99 % confidence) is widened and read again in an extra pass, so exact figures
-are always exact. The medcouple is exact when the reservoir holds every value (n up to
-``reservoir_size``); above that it is the medcouple of the fixed-seed reservoir, and
-:class:`~narrator.findings.Accuracy` records it, with its standard error, and what depends on it.
+below 1e-60 in size take one more for their moments in scaled units. The rank bins
+(:class:`~.summaries.RankBins`, centred on the median of the first chunk read, which is read once
+more to find it) count exactly, so their brackets hold; each is checked all the same, and one that
+missed would be widened and read again in an extra pass: exact figures are always exact. The
+medcouple is exact when the reservoir holds every value (n up to ``reservoir_size``); above that it
+is the medcouple of the fixed-seed reservoir, and :class:`~narrator.findings.Accuracy` records it,
+with its standard error, and what depends on it.
 
 The generalized ESD rule and the Sheather-Jones bandwidth need every value at once and are refused
 here with a message that says so.
@@ -36,7 +38,7 @@ Name                       What it is
 =========================  =================================================
 :func:`describe_source`    ColumnSource (+ runner) -> :class:`ScaleResult`
 :class:`ScaleResult`       findings, a Sample for the figures, passes made
-``SKETCH_K``               the KLL sketch's k (rank error about 0.005 %)
+``RANK_BIN_BITS``          the rank bins' 2^bits bins to each doubling of the distance
 ``RESERVOIR_SIZE``         the reservoir's size (the engine's medcouple subsample size)
 =========================  =================================================
 """
@@ -70,7 +72,8 @@ from narrator.findings import Accuracy, ApproximateFigure, Findings, Outliers, Q
 from narrator.reading.sample import Sample, clean_label
 from narrator.scale import layouts
 from narrator.scale.ranks import (
-    BRACKET_MARGIN,
+    FIRST_WIDENING,
+    WIDEN_FACTOR,
     OrderStatistics,
     median_ranks,
     plan_brackets,
@@ -80,6 +83,8 @@ from narrator.scale.ranks import (
 from narrator.scale.sources import ColumnSource
 from narrator.scale.streaming import Pass, StreamRunner
 from narrator.scale.summaries import (
+    RANK_BIN_BITS,
+    BinBrackets,
     BinCounts,
     CentreBand,
     CodeCounts,
@@ -95,15 +100,14 @@ from narrator.scale.summaries import (
     MomentSummary,
     PartitionCounts,
     PrecisionSummary,
-    QuantileSketch,
     RangeMean,
+    RankBins,
     ReservoirSample,
     RoundCounts,
     ScaledMoments,
     TailCandidates,
 )
 
-SKETCH_K = 65535  # the largest the library allows: normalized rank error about 0.005 % (99 % confidence), 1.5 MB
 RESERVOIR_SIZE = robust.MEDCOUPLE_SUBSAMPLE_SIZE
 TAIL_COUNT = 200  # smallest and largest values kept for the figures
 # Merged sums (moments, means, binned counts) agree with one-pass sums to about this relative error:
@@ -139,24 +143,24 @@ class ScaleResult:
 class _Reader:
     """Runs passes and counts them; resolves order statistics, widening brackets that missed."""
 
-    def __init__(self, runner, low, high, sketch: QuantileSketch | None = None, n: int = 0) -> None:
+    def __init__(self, runner, low, high, bins: RankBins | None = None, n: int = 0) -> None:
         self.runner, self.low, self.high = runner, low, high
-        self.sketch, self.n = sketch, n
+        self.bins, self.n = bins, n
         self.passes = 0
 
     def run(self, parts: dict, record_reading: bool = False) -> Pass:
         self.passes += 1
         return self.runner.run(Pass(parts, low=self.low, high=self.high, record_reading=record_reading))
 
-    def partition_pass(self, partition: PartitionCounts) -> PartitionCounts:
+    def partition_pass(self, partition: BinBrackets) -> BinBrackets:
         return self.run({"order": partition})["order"]
 
-    def brackets(self, ranges) -> PartitionCounts:
-        return plan_brackets(self.sketch, self.n, ranges, BRACKET_MARGIN * self.sketch.rank_error)
+    def brackets(self, ranges) -> BinBrackets:
+        return plan_brackets(self.bins, ranges)
 
     def settle(self, statistics: OrderStatistics, ranks) -> None:
         """Extra passes (counted by partition_pass) until every rank in ``ranks`` is known."""
-        resolve(self.partition_pass, statistics, self.sketch, ranks, BRACKET_MARGIN * self.sketch.rank_error)
+        resolve(self.partition_pass, statistics, self.bins, ranks)
 
 
 def describe_source(
@@ -165,7 +169,7 @@ def describe_source(
     runner=None,
     name: str | None = None,
     unit: str | None = None,
-    sketch_k: int = SKETCH_K,
+    rank_bits: int = RANK_BIN_BITS,
     reservoir_size: int = RESERVOIR_SIZE,
     **describe_options,
 ) -> ScaleResult:
@@ -177,7 +181,7 @@ def describe_source(
     the passes (:class:`~.streaming.StreamRunner` on this machine by default, or
     :class:`~.distributed.DaskRunner`). Exact figures equal the in-memory engine's; merged sums agree
     to rounding; the rest are listed with their bounds in ``findings.accuracy``. Methods: Chan, Golub &
-    LeVeque (1979) and Pebay (2008) for merged moments; Karnin, Lang & Liberty (2016) for the sketch;
+    LeVeque (1979) and Pebay (2008) for merged moments; exact bin counts for the brackets;
     bottom-k sampling (Cohen & Kaplan 2007) for the reservoir.
     """
     try:
@@ -191,7 +195,7 @@ def describe_source(
     # ---- pass 1 -------------------------------------------------------------------------------
     first = reader.run({
         "extremes": ExtremeSummary(),
-        "sketch": QuantileSketch(sketch_k),
+        "bins": RankBins.around(_first_values(source, *options.effective_range), rank_bits),
         "reservoir": ReservoirSample(reservoir_size, seed),
         "tails": TailCandidates(TAIL_COUNT),
         "codes": CodeCounts(SUSPECT_CODES, ROWS_SHOWN),
@@ -202,7 +206,7 @@ def describe_source(
     }, record_reading=True)
     extremes: ExtremeSummary = first["extremes"]
     n = extremes.n
-    reader.sketch, reader.n = first["sketch"], n
+    reader.bins, reader.n = first["bins"], n
     account = _account(source, first, name, unit)
     integer_valued = bool(n) and first["precision"].whole
     decimals = 0 if integer_valued else first["precision"].decimals
@@ -253,10 +257,13 @@ def describe_source(
     farthest = rules.farthest_plan(
         rules.Extremes(extremes.low, extremes.low_row, extremes.high, extremes.high_row, extremes.second_low,
                        extremes.second_high), moments.mean * factor, n)
-    # What the third pass would gather is gathered now, for every plan the sketch's brackets for the
+    # What the third pass would gather is gathered now, for every plan the bins' brackets for the
     # quartiles and the median allow (narrator.scale.ahead); it is used when the exact plan is among them.
     ahead = _LookAhead.plan(plan_for, reader, n, factor, code_plans, cuts, farthest is None, moments.mean * factor)
-    second_parts = {"order": reader.brackets([(r, r) for r in sorted(wanted)])}
+    # One partition for every bracket of the pass: the order statistics' and, gathered ahead, those of
+    # each candidate rule's rest (one set of comparisons per chunk instead of one per rule).
+    second_parts = {"order": reader.brackets([(r, r) for r in sorted(wanted)]
+                                             + (ahead.order_ranges if ahead is not None else []))}
     if ahead is not None:
         second_parts.update(ahead.parts)
     second = reader.run(second_parts)
@@ -274,8 +281,7 @@ def describe_source(
     parts = dict(planned.parts)
     histogram_layout, sensitivity_layout = planned.histogram_layout, planned.sensitivity_layout
     density_layout, provisional, candidates = planned.density_layout, planned.provisional, planned.candidates
-    mad_plan = _MadPlan(reader.sketch, n, median, factor, low, high,
-                        margin=BRACKET_MARGIN * reader.sketch.rank_error)
+    mad_plan = _MadPlan(reader.bins, n, median, factor, low, high)
     parts["mad"] = mad_plan.counter()
     trim_points = {statistics(r) for cut in cuts.values() for r in (cut, n - cut - 1)}
     tie_candidates = sorted({statistics(r) for r in tie_ranks})
@@ -450,7 +456,7 @@ _AHEAD_STEPS = 5
 class _LookAhead:
     """The third pass's summaries gathered in the second, before the exact quartiles and median are known.
 
-    The sketch brackets each order statistic; every plan those brackets allow (the plan at a grid of
+    The rank bins bracket each order statistic; every plan those brackets allow (the plan at a grid of
     quartiles and medians across them, ends included) is gathered: each distinct histogram and bin grid,
     the density's lattice at its finest level (a coarser one is exact from it,
     :func:`narrator.engine.density.coarsen_lattice`), each focused histogram's edges, each rule's values
@@ -466,6 +472,10 @@ class _LookAhead:
         self.bin_keys: dict = {}
         self.edge_keys: dict = {}
         self.trims: dict = {}
+        # rank ranges whose bins "order" keeps besides the order statistics': the rest's of every rule
+        # gathered ahead, and the trimmed means' brackets out to their inner ends
+        self.order_ranges: list = []
+        self.rest_rules: set = set()
         self.ok = True
 
     @classmethod
@@ -473,17 +483,14 @@ class _LookAhead:
              want_farthest: bool, mean_data: float) -> _LookAhead | None:
         if not plan_for.has_spread or n < 2:
             return None
-        sketch = reader.sketch
-        margin = BRACKET_MARGIN * sketch.rank_error
+        bins = reader.bins
         low, high = plan_for.low, plan_for.high
 
         def lower(rank: int) -> float:
-            share = rank / n - margin
-            return low if share <= 0 else min(max(sketch.quantile(share), low), high)
+            return min(max(bins.value_below(rank), low), high)
 
         def upper(rank: int) -> float:
-            share = (rank + 1) / n + margin
-            return high if share >= 1 else min(max(sketch.quantile(share), low), high)
+            return min(max(bins.value_above(rank), low), high)
 
         quartile_low = rules.quantiles_at(lower, n, [0.25, 0.75], factor)
         quartile_high = rules.quantiles_at(upper, n, [0.25, 0.75], factor)
@@ -518,7 +525,7 @@ class _LookAhead:
                         known = fences.setdefault(rule, [lower_fence, lower_fence, upper_fence, upper_fence])
                         known[0], known[1] = min(known[0], lower_fence), max(known[1], lower_fence)
                         known[2], known[3] = min(known[2], upper_fence), max(known[3], upper_fence)
-                        rest_ranges.setdefault(rule, []).extend(_rest_rank_ranges(sketch, n, test, factor))
+                        rest_ranges.setdefault(rule, []).extend(_rest_rank_ranges(bins, n, test, factor))
         if density is None:
             return None
         lattice_nodes = density.nodes
@@ -536,12 +543,13 @@ class _LookAhead:
             if not lower_max < upper_min:
                 return None
             ahead.parts[f"ahead_flagged_{rule}"] = FlaggedBand(lower_min, lower_max, upper_min, upper_max, factor)
-            ahead.parts[f"ahead_order_{rule}"] = reader.brackets(rest_ranges[rule])
+            ahead.order_ranges.extend(rest_ranges[rule])
+            ahead.rest_rules.add(rule)
         # The MAD: distances from the middle of the median's bracket, for any median inside it.
         centre = (median_low / 2 + median_high / 2) * factor
         reach = (median_high / 2 - median_low / 2) * factor
         reach += 1e-9 * max(abs(centre), reach, 1e-300)
-        mad_plan = _MadPlan(sketch, n, centre / factor, factor, low, high, margin=margin)
+        mad_plan = _MadPlan(bins, n, centre / factor, factor, low, high)
         band = mad_plan.counter()
         # Any median within ``reach`` of the centre moves each distance by at most ``reach``: the band is
         # widened by that, and by as much again for the settling's own allowance.
@@ -552,6 +560,10 @@ class _LookAhead:
             inner_low, inner_high = upper(cut), lower(n - cut - 1)
             if inner_low < inner_high:
                 ahead.trims[proportion] = (inner_low, inner_high)
+                # The values from each cut point out to the inner end (the end included) are read from the
+                # kept bins: those of the cut's rank through the bin that holds the inner end.
+                ahead.order_ranges.append((cut, max(cut, bins.count_bounds(inner_low)[1] - 1)))
+                ahead.order_ranges.append((min(n - cut - 1, bins.count_bounds(inner_high)[0]), n - cut - 1))
                 ahead.parts[f"ahead_trim{proportion}"] = RangeMean(inner_low, inner_high, factor)
         for plan in code_plans:
             ahead.parts[f"ahead_others{plan['index']}"] = ExcludingMoments(plan["code"])
@@ -588,7 +600,7 @@ class _LookAhead:
                 return None
             return band.settle(part.test[1], part.test[2])
         if key.startswith("order_"):
-            return second.parts.get("ahead_" + key)
+            return order if key[len("order_"):] in self.rest_rules else None
         if key == "mad":
             return second["ahead_mad"].settle(median)
         if key == "points":
@@ -679,6 +691,33 @@ class _PointCounts:
 # ---------------------------------------------------------------------------
 
 
+class _FirstValues:
+    """The values of the first chunk that has any (after the valid range), kept once."""
+
+    def __init__(self) -> None:
+        self.values: np.ndarray | None = None
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> _FirstValues:
+        if self.values is None and values.size:
+            self.values = values.copy()
+        return self
+
+
+_FIRST_CHUNKS_LOOKED_AT = 8
+
+
+def _first_values(source: ColumnSource, low: float | None, high: float | None) -> np.ndarray:
+    """The values of the first chunk (of the first few) with any, for the rank bins' centre and scale:
+    the same chunk and cell rules as the passes, read once more (not a pass: one chunk)."""
+    look = Pass({"first": _FirstValues()}, low=low, high=high)
+    for k, chunk in enumerate(source.chunks()):
+        look.feed(chunk)
+        if look["first"].values is not None or k + 1 >= _FIRST_CHUNKS_LOOKED_AT:
+            break
+    found = look["first"].values
+    return found if found is not None else np.zeros(0)
+
+
 def _account(source: ColumnSource, first: Pass, name: str | None, unit: str | None) -> Sample:
     """A Sample with no values that carries what reading found (rows read, exclusions, source)."""
     reading = first.reading
@@ -747,38 +786,57 @@ def _trimmed_mean(third: Pass, proportion: float, cut: int, n: int, statistics, 
 
 class _MadPlan:
     """Bracket for the median absolute deviation: the distances |x - median| of rank about n / 2 lie in
-    a narrow band [inner, outer] found from the sketch; a pass counts the distances below it and keeps
-    those inside (:class:`~.summaries.DistanceCounts`), so the MAD is read off exactly."""
+    a narrow band [inner, outer] found from the rank bins' exact counts; a pass counts the distances below
+    it and keeps those inside (:class:`~.summaries.DistanceCounts`), so the MAD is read off exactly."""
 
-    def __init__(self, sketch: QuantileSketch, n: int, median: float, factor: float, low: float, high: float,
-                 margin: float) -> None:
-        self.sketch, self.n, self.median, self.factor = sketch, n, median, factor
+    def __init__(self, bins: RankBins, n: int, median: float, factor: float, low: float, high: float) -> None:
+        self.bins, self.n, self.median, self.factor = bins, n, median, factor
         self.centre = median * factor  # data units
         self.span = max(self.centre - low, high - self.centre, 0.0)
         middle = n // 2
         self.ranks = [middle] if n % 2 else [middle - 1, middle]
-        self.margin = margin
 
-    def _distance_for(self, share: float) -> float:
-        """Smallest t (data units) whose sketch share of values within t of the median reaches ``share``."""
-        if share <= 0:
+    def _within(self, t: float) -> tuple[int, int]:
+        """(a, b): a <= the number of values within t of the centre (ends included) <= b, from the bins."""
+        below_low, upto_low = self.bins.count_bounds(self.centre - t)
+        below_high, upto_high = self.bins.count_bounds(self.centre + t)
+        return below_high - upto_low, upto_high - below_low
+
+    def _inner(self, most: int) -> float:
+        """A distance t with at most ``most`` values nearer the centre than t (the largest the bisection
+        finds; 0 when none is)."""
+        if most < 0 or self._within(0.0)[1] > most:
             return 0.0
-        if share >= 1:
-            return math.inf
         low, high = 0.0, self.span
-        for _ in range(80):
+        if self._within(high)[1] <= most:
+            return high
+        for _ in range(64):
             t = (low + high) / 2
-            within = self.sketch.rank(self.centre + t) - self.sketch.rank(np.nextafter(self.centre - t, -np.inf))
-            if within >= share:
+            if self._within(t)[1] <= most:
+                low = t
+            else:
+                high = t
+        return low
+
+    def _outer(self, least: int) -> float:
+        """A distance t with at least ``least`` values within t of the centre (inf when the bins cannot
+        tell)."""
+        low, high = 0.0, self.span
+        if self._within(high)[0] < least:
+            return math.inf
+        if self._within(low)[0] >= least:
+            return 0.0
+        for _ in range(64):
+            t = (low + high) / 2
+            if self._within(t)[0] >= least:
                 high = t
             else:
                 low = t
         return high
 
-    def counter(self, margin: float | None = None) -> DistanceCounts:
-        margin = self.margin if margin is None else margin
-        inner = self._distance_for(self.ranks[0] / self.n - margin) / self.factor
-        outer = self._distance_for((self.ranks[-1] + 1) / self.n + margin) / self.factor
+    def counter(self, widen: int = 0) -> DistanceCounts:
+        inner = self._inner(self.ranks[0] - widen) / self.factor
+        outer = self._outer(self.ranks[-1] + 1 + widen) / self.factor
         # Rounding of the band's ends is harmless: the read checks that the ranks landed inside the band.
         return DistanceCounts(self.median, self.factor, inner, outer)
 
@@ -792,11 +850,11 @@ class _MadPlan:
 
     def settle(self, counts: DistanceCounts, reader: _Reader) -> float:
         result = self._read(counts)
-        margin = self.margin
+        widen = FIRST_WIDENING
         while result is None:
-            margin *= 8.0
-            counts = reader.run({"mad": self.counter(margin)})["mad"]
+            counts = reader.run({"mad": self.counter(widen)})["mad"]
             result = self._read(counts)
+            widen = int(widen * WIDEN_FACTOR)
         return result
 
 
@@ -812,7 +870,7 @@ def _gather_flagged(parts: dict, key: str, test: rules.OutlierTest, reader: _Rea
     if test.kind is None:
         return
     parts[f"flagged_{key}"] = FlaggedValues(_limits(test), factor)
-    parts[f"order_{key}"] = reader.brackets(_rest_rank_ranges(reader.sketch, n, test, factor))
+    parts[f"order_{key}"] = reader.brackets(_rest_rank_ranges(reader.bins, n, test, factor))
     layout = rules.focus_layout_for(provisional, *test.fences_in_data_units(factor)[2:], low, high)
     if layout is not None:
         parts[f"focus_{key}"] = EdgeCounts(engine_bins.focus_edges(layout))
@@ -833,24 +891,33 @@ def _rest_ranks(m: int, count_low: int) -> list[int]:
     return sorted(count_low + r for r in ranks)
 
 
-def _rest_rank_ranges(sketch: QuantileSketch, n: int, test: rules.OutlierTest, factor: float) -> list[tuple[int, int]]:
-    """Rank ranges covering the rest's order statistics for any flagged counts the sketch allows.
+def _rest_rank_ranges(bins: RankBins, n: int, test: rules.OutlierTest, factor: float) -> list[tuple[int, int]]:
+    """Rank ranges covering the rest's order statistics for any flagged counts the rank bins allow.
 
-    The sketch estimates how many values fall below and above the rule's limits to within ``error``
-    ranks; a needed rank then moves by at most twice that, so each is bracketed that widely.
+    The bins bound how many values fall below the rule's lower limit and above its upper one; each
+    needed rank (count below + a rank of the rest) does not fall as the count below grows nor rise as
+    the count above grows, so the two extreme pairs of counts give its range.
     """
-    error = BRACKET_MARGIN * sketch.rank_error * n + 1
     if test.kind == "fences":
         lower, upper = test.fences[0] * factor, test.fences[1] * factor
     else:
         lower = (test.centre - test.threshold * test.scale) * factor
         upper = (test.centre + test.threshold * test.scale) * factor
-    count_low = int(round(sketch.rank(float(np.nextafter(lower, -np.inf))) * n))
-    count_high = int(round((1.0 - sketch.rank(upper)) * n))
-    count_low, count_high = max(0, count_low), max(0, count_high)
-    spread = int(2 * error) + 2
-    ranks = _rest_ranks(max(n - count_low - count_high, 1), min(count_low, n - 1))
-    return [(max(0, r - spread), min(n - 1, r + spread)) for r in ranks]
+    low_least, low_most = bins.count_bounds(lower)
+    upper_least, upper_most = bins.count_bounds(upper)
+    high_least, high_most = n - upper_most, n - upper_least
+
+    def ranks(count_low: int, count_high: int) -> list[int]:
+        count_low = min(max(count_low, 0), n - 1)
+        m = max(n - count_low - max(count_high, 0), 1)
+        named = [m // 2 - 1 if m % 2 == 0 else m // 2, m // 2, 0, m - 1]
+        for p in rules.REST_PROBABILITIES:  # type7_ranks's two ranks each, one pair per probability
+            below = int(np.floor((m - 1) * p))
+            named += [below, min(below + 1, m - 1)]
+        return [count_low + r for r in named]
+
+    return [(max(0, a - 1), min(n - 1, b + 1)) for a, b in zip(ranks(low_least, high_most),
+                                                              ranks(low_most, high_least), strict=True)]
 
 
 # ---------------------------------------------------------------------------
@@ -954,9 +1021,8 @@ def _approximations(n, whole, reservoir: ReservoirSample, seed, flagged: Outlier
 
 
 def _accuracy(runner, first: Pass, n, approximate, seed, reservoir_size) -> Accuracy:
-    sketch: QuantileSketch = first["sketch"]
+    bins: RankBins = first["bins"]
     return Accuracy(
         engine=getattr(runner, "name", "stream"), exact=EXACT_FIGURES, merged=MERGED_FIGURES,
-        approximate=tuple(approximate), sketch=f"kll:{sketch.k}",
-        sketch_rank_error=sketch.rank_error if n else None, merged_relative_error=MERGED_RELATIVE_ERROR,
+        approximate=tuple(approximate), sketch=f"rank-bins:{2**bins.bits}", merged_relative_error=MERGED_RELATIVE_ERROR,
         reservoir_size=int(reservoir_size), seed=int(seed))

@@ -1,18 +1,17 @@
-"""Exact order statistics in a second pass, inside brackets taken from the quantile sketch.
+"""Exact order statistics in a second pass, inside brackets taken from the first pass's rank bins.
 
-For each wanted range of ranks [a, b] (0-based, ascending order) the sketch gives a value below
-which fewer than a values lie and one above which fewer than n - b - 1 lie, widened by a margin of
-``BRACKET_MARGIN`` times the sketch's normalized rank error on each side. The next pass counts the
-values below each bracket exactly and keeps the (few) values inside it; the wanted order statistic
-is then read off exactly. The sketch's bound is probabilistic (99 % per query for KLL), so every
-bracket is checked against the exact counts and a bracket that missed is widened (by
-``WIDEN_FACTOR``) and read again in another pass; the result is exact either way.
+For each wanted range of ranks [a, b] (0-based, ascending order) the first pass's exact bin counts
+(:class:`~.summaries.RankBins`) tell which bins hold ranks a to b and how many values lie below
+them; the next pass keeps the (few) values of those bins (:class:`~.summaries.BinBrackets`), and
+the wanted order statistic is read off exactly. Every bracket is checked against the exact counts
+all the same, and one that missed (it cannot, short of a fault) is widened by ``WIDEN_FACTOR`` times
+more ranks and read again in another pass; the result is exact either way.
 
 =========================  =====================================================
 Name                       What it does
 =========================  =====================================================
-:func:`plan_brackets`      rank ranges + sketch -> PartitionCounts to fill
-:class:`OrderStatistics`   exact values by rank from filled PartitionCounts
+:func:`plan_brackets`      rank ranges + rank bins -> BinBrackets to fill
+:class:`OrderStatistics`   exact values by rank from filled BinBrackets
 :func:`type7_ranks`        the two ranks each type 7 quantile interpolates
 :func:`type7_quantiles`    type 7 quantiles from an order-statistic lookup
                            (:func:`narrator.engine.rules.quantiles_at`)
@@ -21,63 +20,40 @@ Name                       What it does
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable, Iterable
 
 import numpy as np
 
 from narrator.engine.rules import median_at, quantiles_at
-from narrator.scale.summaries import PartitionCounts, QuantileSketch
+from narrator.scale.summaries import BinBrackets, PartitionCounts, RankBins
 
 # The type 7 quantiles and the median from an order-statistic lookup are the engine's own.
 type7_quantiles = quantiles_at
 median_of = median_at
 
-BRACKET_MARGIN = 2.0
 WIDEN_FACTOR = 8.0
+FIRST_WIDENING = 64  # ranks added on each side of a bracket that missed, the first time
 
 
-def plan_brackets(sketch: QuantileSketch, n: int, ranges: Iterable[tuple[int, int]], margin: float,
-                  extra_points: Iterable[float] = ()) -> PartitionCounts:
-    """Boundaries and kept gaps covering every rank range with a margin of ``margin`` (a share of n).
-
-    ``extra_points`` are values whose exact counts below and at are wanted too (no values kept).
-    """
-    regions = []
-    for a, b in ranges:
-        low_share = a / n - margin
-        high_share = (b + 1) / n + margin
-        low = -math.inf if low_share <= 0 else sketch.quantile(low_share)
-        high = math.inf if high_share >= 1 else sketch.quantile(high_share)
-        regions.append((low, high))
-    regions.sort()
-    merged: list[list[float]] = []
-    for low, high in regions:
-        if merged and low <= merged[-1][1]:
-            merged[-1][1] = max(merged[-1][1], high)
-        else:
-            merged.append([low, high])
-    points = {float(p) for p in extra_points if math.isfinite(p)}
-    for low, high in merged:
-        points.update(v for v in (low, high) if math.isfinite(v))
-    boundaries = np.array(sorted(points), dtype=np.float64)
-    collect = np.zeros(boundaries.size + 1, dtype=bool)
-    for j in range(boundaries.size + 1):
-        gap_low = -math.inf if j == 0 else boundaries[j - 1]
-        gap_high = math.inf if j == boundaries.size else boundaries[j]
-        collect[j] = any(low <= gap_low and gap_high <= high for low, high in merged)
-    return PartitionCounts(boundaries, collect)
+def plan_brackets(bins: RankBins, ranges: Iterable[tuple[int, int]], widen: int = 0) -> BinBrackets:
+    """The runs of bins holding every rank range, each widened by ``widen`` ranks a side, to keep."""
+    n = bins.n
+    if n == 0:
+        return BinBrackets(bins, [])
+    runs = [(bins.bin_of_rank(max(a - widen, 0)), bins.bin_of_rank(min(b + widen, n - 1))) for a, b in ranges]
+    return BinBrackets(bins, runs)
 
 
 class OrderStatistics:
-    """Exact order statistics by 0-based rank, from one or more filled :class:`PartitionCounts`."""
+    """Exact order statistics by 0-based rank, from one or more filled :class:`~.summaries.BinBrackets`
+    (or :class:`~.summaries.PartitionCounts`: anything with ``order_statistic``)."""
 
     def __init__(self, n: int) -> None:
         self.n = n
-        self.partitions: list[PartitionCounts] = []
+        self.partitions: list[BinBrackets | PartitionCounts] = []
         self.known: dict[int, float] = {}
 
-    def add(self, partition: PartitionCounts) -> None:
+    def add(self, partition: BinBrackets | PartitionCounts) -> None:
         self.partitions.append(partition)
 
     def value(self, rank: int) -> float | None:
@@ -100,17 +76,18 @@ class OrderStatistics:
         return found
 
 
-def resolve(run_pass: Callable[[PartitionCounts], PartitionCounts], statistics: OrderStatistics,
-            sketch: QuantileSketch, ranks: Iterable[int], margin: float) -> int:
+def resolve(run_pass: Callable[[BinBrackets], BinBrackets], statistics: OrderStatistics,
+            bins: RankBins, ranks: Iterable[int]) -> int:
     """Extra passes until every rank in ``ranks`` is known; returns how many passes it took."""
     passes = 0
     wanted = list(ranks)
+    widen = FIRST_WIDENING
     while True:
         missing = statistics.missing(wanted)
         if not missing:
             return passes
-        margin *= WIDEN_FACTOR
-        statistics.add(run_pass(plan_brackets(sketch, statistics.n, [(r, r) for r in missing], margin)))
+        statistics.add(run_pass(plan_brackets(bins, [(r, r) for r in missing], widen)))
+        widen = int(widen * WIDEN_FACTOR)
         passes += 1
 
 

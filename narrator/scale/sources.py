@@ -11,7 +11,8 @@ Name                        What it is
                             streaming engine is then the default)
 :class:`ReadingSummary`     what reading left out, merged over chunks, and the
                             Sample-like account the quality flags need
-:data:`DEFAULT_CHUNK_ROWS`  rows per chunk (about 8 MB of float64 values)
+:data:`DEFAULT_CHUNK_ROWS`  rows per chunk (2 MB of float64 values: each summary's whole-array
+                            steps then stay in the processor's cache)
 ==========================  ====================================================
 
 Rows are numbered as :func:`narrator.reading.columns.read_column` numbers them, counted
@@ -49,7 +50,7 @@ from narrator.reading.files import check_file, file_sha256, select_column, shown
 from narrator.reading.sample import Exclusion, Sample
 from narrator.reading.text_files import TextLayout, text_column_cells, text_layout
 
-DEFAULT_CHUNK_ROWS = 1 << 20
+DEFAULT_CHUNK_ROWS = 1 << 18
 _PARQUET_SUFFIXES = (".parquet", ".pq")
 _TEXT_FORMATS = {".csv": "csv", ".tsv": "tsv", ".tab": "tsv"}
 

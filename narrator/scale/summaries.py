@@ -17,8 +17,10 @@ Name                         What it keeps
 :func:`row_hash`             SplitMix64 of a row number and a seed (the reservoir's keys)
 :class:`ExtremeSummary`      min and max with their first rows, how often each
                              occurs, the next distinct values inwards
-:class:`QuantileSketch`      KLL sketch (Karnin, Lang & Liberty 2016) from the
-                             ``datasketches`` package, with its rank error
+:class:`RankBins`           exact counts in narrow bins of the distance from a
+                             reference value: brackets for any rank that always hold
+:class:`BinBrackets`         the values of chosen runs of those bins (a later pass):
+                             exact order statistics there
 :class:`TailCandidates`      the k smallest and k largest values with rows
 :class:`ReservoirSample`     a fixed-seed uniform sample without replacement
                              (bottom-k of a row hash), the same for any chunking
@@ -56,7 +58,6 @@ import math
 import numpy as np
 
 from narrator.engine.moments import Moments, central_moments
-from narrator.errors import NarratorError
 from narrator.findings import LISTED_PER_SIDE
 
 # The reservoir's hash: SplitMix64 (Steele, Lea & Flood 2014), a bijection of 64-bit integers whose
@@ -237,12 +238,12 @@ class ExtremeSummary:
         low_at, high_at = int(np.argmin(values)), int(np.argmax(values))
         other.low, other.high = float(values[low_at]), float(values[high_at])
         other.low_row, other.high_row = int(rows[low_at]), int(rows[high_at])
-        at_low, at_high = values == other.low, values == other.high
-        other.low_count, other.high_count = int(np.count_nonzero(at_low)), int(np.count_nonzero(at_high))
-        above = values[~at_low]
-        below = values[~at_high]
-        other.second_low = float(above.min()) if above.size else math.inf
-        other.second_high = float(below.max()) if below.size else -math.inf
+        # the next values inwards by masked reductions (no copy of the chunk without its extremes)
+        not_low, not_high = values != other.low, values != other.high
+        other.low_count = int(values.size - np.count_nonzero(not_low))
+        other.high_count = int(values.size - np.count_nonzero(not_high))
+        other.second_low = float(np.min(values, where=not_low, initial=math.inf))
+        other.second_high = float(np.max(values, where=not_high, initial=-math.inf))
         return self.merge(other)
 
     def merge(self, other: ExtremeSummary) -> ExtremeSummary:
@@ -277,60 +278,307 @@ class ExtremeSummary:
             setattr(self, name, value)
 
 
-class QuantileSketch:
-    """A KLL quantile sketch of doubles (Karnin, Lang & Liberty 2016, "Optimal quantile approximation
-    in streams", FOCS) from the Apache DataSketches library.
+# Distances from the reference below TINY and beyond HUGE scales (powers of two) share one bin each side,
+# which bounds the bins to 2 x 96 doublings whatever the values.
+_RANK_BINS_TINY = 2.0**-48
+_RANK_BINS_HUGE = 2.0**48
+RANK_BIN_BITS = 12  # 2^12 = 4096 bins to each doubling of the distance from the reference
 
-    Its normalized rank error (``rank_error``) holds with 99 % confidence for a single query, per the
-    library's documentation; the second pass never relies on it being met, it checks every bracket and
-    widens it when the true rank fell outside.
+
+class RankBins:
+    """Exact counts of the values in narrow bins of their distance from a reference value, which give
+    brackets for any rank that always hold (the counts are exact, not estimated).
+
+    A value x is binned by the float32 image of d = (x - centre) / scale: its sign, its exponent and
+    the first ``bits`` bits of its significand, so each doubling of |d| has 2^bits bins and a bin is at
+    most 2^-bits of its own distance from the centre wide (|d| below 2^-48 or beyond 2^48 shares one bin
+    a side). Every step (the subtraction, the product, the rounding to float32, the bits) is monotone in
+    x, so each bin is an interval of values and the count of values below any bin is exact; a bin
+    holding a wanted rank is a bracket for it. The counts merge exactly by addition in any grouping;
+    memory is one int64 count per bin between the lowest and highest seen (at most 2 x 96 x 2^bits).
+    ``centre`` and ``scale`` must be the same for every chunk merged (the engine takes them from the
+    first chunk read).
     """
 
-    __slots__ = ("k", "_sketch")
+    __slots__ = ("centre", "scale", "bits", "first", "counts", "_inverse", "_tiny", "_huge", "_below")
 
-    def __init__(self, k: int) -> None:
-        try:
-            from datasketches import kll_doubles_sketch
-        except ImportError:
-            raise NarratorError("the stream and dask engines need the package datasketches "
-                                "(pip install datasketches)") from None
+    def __init__(self, centre: float, scale: float, bits: int = RANK_BIN_BITS) -> None:
+        if not (math.isfinite(centre) and 0 < scale < math.inf and 1 <= bits <= 20):
+            raise ValueError("RankBins needs a finite centre, a positive finite scale and 1 to 20 bits")
+        self.centre, self.scale, self.bits = float(centre), float(scale), int(bits)
+        self.first = 0
+        self.counts = np.zeros(0, dtype=np.int64)
+        self._setup()
 
-        self.k = int(k)
-        self._sketch = kll_doubles_sketch(self.k)
+    def _setup(self) -> None:
+        self._inverse = 1.0 / self.scale
+        shift = 23 - self.bits
+        self._tiny = int(np.array([_RANK_BINS_TINY], dtype=np.float32).view(np.int32)[0]) >> shift
+        self._huge = int(np.array([_RANK_BINS_HUGE], dtype=np.float32).view(np.int32)[0]) >> shift
+        self._below = None
+
+    @classmethod
+    def around(cls, values: np.ndarray, bits: int = RANK_BIN_BITS) -> RankBins:
+        """Empty bins centred on the median of ``values`` (a first chunk), scaled by their IQR (or their
+        range, or the centre's size, or 1 when those are 0)."""
+        if values.size == 0:
+            return cls(0.0, 1.0, bits)
+        q1, centre, q3 = (float(v) for v in np.percentile(values, [25, 50, 75]))
+        for scale in (q3 - q1, float(values.max()) - float(values.min()), abs(centre), 1.0):
+            if 0 < scale < math.inf:
+                break
+        return cls(centre if math.isfinite(centre) else 0.0, scale, bits)
 
     @property
     def n(self) -> int:
-        return int(self._sketch.n)
+        return int(self._cumulative()[-1])
 
-    @property
-    def rank_error(self) -> float:
-        return float(self._sketch.normalized_rank_error(False))
+    def keys(self, values: np.ndarray) -> np.ndarray:
+        """Each value's bin (int32, non-decreasing in the value; 0 is the bin of the centre)."""
+        with np.errstate(over="ignore", invalid="ignore"):
+            distance = values - self.centre
+            distance *= self._inverse
+            key = distance.astype(np.float32).view(np.int32)
+        key ^= (key >> 31) & np.int32(0x7FFFFFFF)  # sign and magnitude to an order-keeping integer
+        key >>= 23 - self.bits
+        np.clip(key, -self._huge, self._huge, out=key)
+        key -= np.clip(key, -self._tiny, self._tiny)
+        return key
 
-    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> QuantileSketch:
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> RankBins:
         if values.size:
-            self._sketch.update(np.ascontiguousarray(values, dtype=np.float64))
+            key = self.keys(values)
+            low, high = int(key.min()), int(key.max())
+            key -= low
+            self._add(low, np.bincount(key, minlength=high - low + 1))
         return self
 
-    def merge(self, other: QuantileSketch) -> QuantileSketch:
-        if other.n:
-            self._sketch.merge(other._sketch)
+    def _add(self, first: int, counts: np.ndarray) -> None:
+        if counts.size == 0:
+            return
+        if self.counts.size == 0:
+            self.first, self.counts = first, counts.astype(np.int64)
+        else:
+            low = min(self.first, first)
+            high = max(self.first + self.counts.size, first + counts.size)
+            if low != self.first or high != self.first + self.counts.size:
+                grown = np.zeros(high - low, dtype=np.int64)
+                grown[self.first - low : self.first - low + self.counts.size] = self.counts
+                self.first, self.counts = low, grown
+            self.counts[first - self.first : first - self.first + counts.size] += counts
+        self._below = None
+
+    def merge(self, other: RankBins) -> RankBins:
+        if (other.centre, other.scale, other.bits) != (self.centre, self.scale, self.bits):
+            raise ValueError("RankBins with different centres, scales or bits do not merge")
+        self._add(other.first, other.counts)
         return self
 
-    def quantile(self, fraction: float) -> float:
-        return float(self._sketch.get_quantile(min(max(fraction, 0.0), 1.0)))
+    def _cumulative(self) -> np.ndarray:
+        """below[j]: how many values lie in the bins before bin first + j (length bins + 1)."""
+        if self._below is None:
+            self._below = np.concatenate([[0], np.cumsum(self.counts)])
+        return self._below
 
-    def rank(self, value: float) -> float:
-        """Approximate share of the values at or below ``value``."""
-        return float(self._sketch.get_rank(value, True))
+    def bin_of_rank(self, rank: int) -> int:
+        """The key of the bin that holds 0-based rank ``rank`` (0 <= rank < n)."""
+        below = self._cumulative()
+        return int(np.searchsorted(below, rank, side="right")) - 1 + self.first
+
+    def _key_of(self, value: float) -> int:
+        """:meth:`keys` of one value, the same steps on Python integers (no array overhead)."""
+        with np.errstate(over="ignore", invalid="ignore"):
+            distance = (float(value) - self.centre) * self._inverse
+            key = int(np.array([distance], dtype=np.float64).astype(np.float32).view(np.int32)[0])
+        key ^= (key >> 31) & 0x7FFFFFFF
+        key >>= 23 - self.bits
+        key = min(max(key, -self._huge), self._huge)
+        return key - min(max(key, -self._tiny), self._tiny)
+
+    def _edge(self, key: int) -> float:
+        """A value near the lower end of bin ``key`` (data units), before checking."""
+        # the key before the centre's bin was folded in: bin 0 starts at -tiny
+        inner = -self._tiny if key == 0 else key + self._tiny if key > 0 else key - self._tiny
+        bits = np.array([inner << (23 - self.bits)], dtype=np.int64)
+        bits = np.where(bits < 0, bits ^ 0x7FFFFFFF, bits).astype(np.int32)
+        return self.centre + float(bits.view(np.float32)[0]) * self.scale
+
+    def value_below(self, rank: int) -> float:
+        """A value below every value of the bin holding 0-based rank ``rank`` (-inf for the first bin):
+        the order statistic of that rank is greater than it."""
+        rank = min(max(int(rank), 0), max(self.n - 1, 0))
+        key = self.bin_of_rank(rank)
+        if key <= self.first or key <= -self._huge + self._tiny:
+            return -math.inf
+        value = self._edge(key)
+        return self._step_until(value, -1, lambda v: self._key_of(v) < key)
+
+    def value_above(self, rank: int) -> float:
+        """A value above every value of the bin holding 0-based rank ``rank`` (inf for the last bin)."""
+        rank = min(max(int(rank), 0), max(self.n - 1, 0))
+        key = self.bin_of_rank(rank)
+        if key >= self.first + self.counts.size - 1 or key >= self._huge - self._tiny:
+            return math.inf
+        value = self._edge(key + 1)
+        return self._step_until(value, 1, lambda v: self._key_of(v) > key)
+
+    def _step_until(self, value: float, direction: int, holds) -> float:
+        """``value`` moved outwards (``direction``) by growing steps until ``holds(value)``."""
+        # about a float32 step of the distance: a bin's edge is crossed in a step or two
+        step = max(abs(value - self.centre) * 2.0**-23, abs(value) * 2.0**-50, self.scale * _RANK_BINS_TINY * 2.0**-23)
+        for _ in range(1100):
+            if math.isfinite(value) and holds(value):
+                return value
+            value += direction * step
+            step *= 2.0
+        return -math.inf if direction < 0 else math.inf
+
+    def count_bounds(self, value: float) -> tuple[int, int]:
+        """(a, b) with a <= the number of values below ``value`` and the number at or below it <= b."""
+        below = self._cumulative()
+        j = self._key_of(value) - self.first
+        if j < 0:
+            return 0, 0
+        if j >= self.counts.size:
+            return int(below[-1]), int(below[-1])
+        return int(below[j]), int(below[j + 1])
 
     def __getstate__(self):
-        return (self.k, self._sketch.serialize())
+        return (self.centre, self.scale, self.bits, self.first, self.counts)
 
     def __setstate__(self, state) -> None:
-        from datasketches import kll_doubles_sketch
+        self.centre, self.scale, self.bits, self.first, self.counts = state
+        self._setup()
 
-        self.k = state[0]
-        self._sketch = kll_doubles_sketch.deserialize(state[1])
+
+class BinBrackets:
+    """The values of chosen runs of :class:`RankBins` bins, kept in a later pass: with the bins' exact
+    counts, every order statistic whose rank falls in a kept run is known exactly.
+
+    ``runs`` are inclusive (first, last) bin keys. A later pass bins each value as the first did (the
+    same keys) and keeps those in a run, so the values below a run are counted by the first pass
+    already: one binning and one lookup a value, whatever the number of brackets. The methods answer
+    as :class:`PartitionCounts` does (``order_statistic``, ``counts_at``, ``covers``, ``kept_between``).
+    """
+
+    __slots__ = ("bins", "runs", "_store", "_table", "_kept_keys")
+
+    def __init__(self, bins: RankBins, runs) -> None:
+        self.bins = bins
+        merged: list[list[int]] = []
+        for first, last in sorted((int(a), int(b)) for a, b in runs):
+            if merged and first <= merged[-1][1] + 1:
+                merged[-1][1] = max(merged[-1][1], last)
+            else:
+                merged.append([first, last])
+        self.runs = [tuple(run) for run in merged]
+        self._store = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+        self._setup()
+
+    def _setup(self) -> None:
+        bins = self.bins
+        # kept[1 + key - first] for every key of the bins, False for any key outside them
+        table = np.zeros(bins.counts.size + 2, dtype=bool)
+        for first, last in self.runs:
+            table[1 + max(first - bins.first, -1) : 2 + min(last - bins.first, bins.counts.size)] = True
+        table[0] = table[-1] = False
+        self._table = table
+        self._kept_keys = None
+
+    @property
+    def kept_values(self) -> np.ndarray:
+        return self._store.kept_values
+
+    @property
+    def kept_counts(self) -> np.ndarray:
+        return self._store.kept_counts
+
+    def update(self, values: np.ndarray, rows: np.ndarray | None = None) -> BinBrackets:
+        if values.size and self.runs:
+            index = self.bins.keys(values)
+            index -= self.bins.first - 1
+            np.clip(index, 0, self._table.size - 1, out=index)
+            kept = values[self._table[index]]
+            if kept.size:
+                self._store._add_kept(kept, np.ones(kept.size, dtype=np.int64))
+                self._kept_keys = None
+        return self
+
+    def merge(self, other: BinBrackets) -> BinBrackets:
+        self._store._add_kept(other.kept_values, other.kept_counts)
+        self._kept_keys = None
+        return self
+
+    def _run_of(self, key: int) -> tuple[int, int] | None:
+        return next((run for run in self.runs if run[0] <= key <= run[1]), None)
+
+    def _below(self, key: int) -> int:
+        """How many values lie in the bins before ``key`` (from the first pass)."""
+        below = self.bins._cumulative()
+        return int(below[min(max(key - self.bins.first, 0), below.size - 1)])
+
+    def _slice(self, run: tuple[int, int]) -> tuple[np.ndarray, np.ndarray] | None:
+        """The kept values of one run with their counts, or None when they do not add up to the bins'
+        count (the data changed between the passes)."""
+        if self._kept_keys is None:
+            self._kept_keys = self.bins.keys(self.kept_values) if self.kept_values.size else np.zeros(0, np.int32)
+        start = int(np.searchsorted(self._kept_keys, run[0], side="left"))
+        stop = int(np.searchsorted(self._kept_keys, run[1], side="right"))
+        values, counts = self.kept_values[start:stop], self.kept_counts[start:stop]
+        if int(counts.sum()) != self._below(run[1] + 1) - self._below(run[0]):
+            return None
+        return values, counts
+
+    def order_statistic(self, rank: int) -> float | None:
+        """The value of 0-based rank ``rank`` in ascending order, or None when its bin was not kept."""
+        if not 0 <= rank < self.bins.n:
+            return None
+        run = self._run_of(self.bins.bin_of_rank(rank))
+        found = None if run is None else self._slice(run)
+        if found is None:
+            return None
+        values, counts = found
+        cumulative = np.cumsum(counts)
+        return float(values[int(np.searchsorted(cumulative, rank - self._below(run[0]), side="right"))])
+
+    def counts_at(self, value: float) -> tuple[int, int] | None:
+        """(values below ``value``, values equal to it), exactly, or None when its bin holds values and
+        was not kept."""
+        key = self.bins._key_of(value)
+        run = self._run_of(key)
+        if run is None:
+            if self._below(key + 1) == self._below(key):  # an empty bin: nothing equals the value
+                return self._below(key), 0
+            return None
+        found = self._slice(run)
+        if found is None:
+            return None
+        values, counts = found
+        at = int(np.searchsorted(values, value, side="left"))
+        equal = int(counts[at]) if at < values.size and values[at] == value else 0
+        return self._below(run[0]) + int(counts[:at].sum()), equal
+
+    def covers(self, low: float, high: float) -> bool:
+        """Whether every value in [low, high] was kept: each bin between theirs is kept or empty."""
+        first, last = self.bins._key_of(low), self.bins._key_of(high)
+        start, stop = first - self.bins.first, last - self.bins.first
+        if start < 0 or stop >= self.bins.counts.size:
+            return False
+        return bool(np.all(self._table[1 + start : 2 + stop] | (self.bins.counts[start : stop + 1] == 0)))
+
+    def kept_between(self, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
+        """Kept distinct values in [low, high] with counts, ascending."""
+        inside = (self.kept_values >= low) & (self.kept_values <= high)
+        return self.kept_values[inside], self.kept_counts[inside]
+
+    def __getstate__(self):
+        return (self.bins, self.runs, self._store.__getstate__())
+
+    def __setstate__(self, state) -> None:
+        self.bins, self.runs = state[0], state[1]
+        self._store = PartitionCounts(np.zeros(0), np.ones(1, dtype=bool))
+        self._store.__setstate__(state[2])
+        self._setup()
 
 
 def _kth_smallest(values: np.ndarray, k: int) -> float:
@@ -785,21 +1033,22 @@ class PartitionCounts:
 
     def covers(self, low: float, high: float) -> bool:
         """Whether every value in [low, high] is counted as itself: each gap the interval meets is kept
-        (boundary points are counted as themselves)."""
+        or empty (boundary points are counted as themselves)."""
         first = int(np.searchsorted(self.boundaries, low, side="right"))
         last = int(np.searchsorted(self.boundaries, high, side="left"))
-        return bool(np.all(self.collect[first : last + 1]))
+        return bool(np.all(self.collect[first : last + 1] | (self.gap_counts[first : last + 1] == 0)))
 
     def counts_at(self, value: float) -> tuple[int, int] | None:
         """(values below ``value``, values equal to it), exactly, or None when ``value`` lies in a gap
-        whose values were not kept."""
+        that holds values and whose values were not kept."""
         size = self.boundaries.size
         j = int(np.searchsorted(self.boundaries, value, side="left"))
         if j < size and self.boundaries[j] == value:
             return int(self.gap_counts[: j + 1].sum() + self.point_counts[:j].sum()), int(self.point_counts[j])
-        if not self.collect[j]:
-            return None
         below = int(self.gap_counts[:j].sum() + self.point_counts[:j].sum())
+        if not self.collect[j]:
+            # an empty gap needs no kept values (two brackets of consecutive ranks have one between them)
+            return (below, 0) if self.gap_counts[j] == 0 else None
         kept, counts = self.kept_values, self.kept_counts
         gap_low = -math.inf if j == 0 else self.boundaries[j - 1]
         start = int(np.searchsorted(kept, gap_low, side="right"))
@@ -1149,6 +1398,7 @@ class FarthestValue:
 
 
 __all__ = [
+    "BinBrackets",
     "BinCounts",
     "CodeCounts",
     "DistanceCounts",
@@ -1165,8 +1415,8 @@ __all__ = [
     "MomentSummary",
     "PartitionCounts",
     "PrecisionSummary",
-    "QuantileSketch",
     "RangeMean",
+    "RankBins",
     "ReservoirSample",
     "RoundCounts",
     "ScaledMoments",

@@ -352,10 +352,10 @@ def test_the_claims_facts_agree_with_memory(tmp_path, kind):
 
 @pytest.mark.parametrize("case", ["lognormal", "ties", "normal"])
 def test_the_second_pass_gathers_what_the_third_would(tmp_path, monkeypatch, case):
-    # With the default sketch the look-ahead holds the exact plan: two passes. A small sketch (k = 200:
-    # brackets of several per cent of the ranks) makes it gather many candidate plans; the exact one may
-    # fall between them (the sketch is randomized), and then the third pass is read: the findings equal
-    # the in-memory engine's either way, and those of the third pass alone (the look-ahead switched off).
+    # With the default rank bins the look-ahead holds the exact plan: two passes. Coarse bins (2 bits:
+    # 4 to each doubling, brackets of several per cent of the ranks) make it gather many candidate plans;
+    # the exact one may fall between them, and then the third pass is read: the findings equal the
+    # in-memory engine's either way, and those of the third pass alone (the look-ahead switched off).
     rng = np.random.default_rng(SEED + 11)
     if case == "lognormal":
         values = np.concatenate([rng.lognormal(3.0, 0.8, 20_000), [4000.0, 5000.0, -30.0]])
@@ -368,12 +368,12 @@ def test_the_second_pass_gathers_what_the_third_would(tmp_path, monkeypatch, cas
     default = describe_source(open_source(tmp_path / case, "x", chunk_rows=997))
     assert differences(memory, default.findings) == []
     assert default.passes == 2
-    ahead = describe_source(open_source(tmp_path / case, "x", chunk_rows=997), sketch_k=200)
+    ahead = describe_source(open_source(tmp_path / case, "x", chunk_rows=997), rank_bits=2)
     assert differences(memory, ahead.findings) == []
     assert ahead.passes in (2, 3)
     from narrator.scale import assemble
 
     monkeypatch.setattr(assemble._LookAhead, "plan", classmethod(lambda cls, *args, **kwargs: None))
-    third = describe_source(open_source(tmp_path / case, "x", chunk_rows=997), sketch_k=200)
+    third = describe_source(open_source(tmp_path / case, "x", chunk_rows=997), rank_bits=2)
     assert differences(memory, third.findings) == []
     assert third.passes >= 3

@@ -5,11 +5,12 @@ References:
   (certified mean and SD, exact by construction).
 - numpy (np.sort, np.mean, np.std) and narrator.engine's in-memory two-pass moments as the
   reference for merged moments; scipy.stats.skew / kurtosis (bias=False) for G1 and G2.
-- The KLL sketch's rank error as the datasketches library reports it.
+- numpy.sort and numpy.count_nonzero as the reference for the rank bins' brackets and count bounds.
 """
 
 from __future__ import annotations
 
+import math
 import pickle
 
 import numpy as np
@@ -34,7 +35,7 @@ from narrator.scale.summaries import (
     MomentSummary,
     PartitionCounts,
     PrecisionSummary,
-    QuantileSketch,
+    RankBins,
     ReservoirSample,
     TailCandidates,
     merge_moments,
@@ -192,54 +193,127 @@ def test_flagged_values_keep_the_farthest_out_per_side_in_any_chunking():
         assert found.inside.moments().n == inside.n
 
 
-def test_partition_counts_give_exact_order_statistics():
+def test_bin_brackets_give_exact_order_statistics():
     rng = np.random.default_rng(RNG_SEED + 4)
     values = np.round(rng.lognormal(2, 1, 50_000), 1)  # ties on purpose
-    sketch = QuantileSketch(256)
+    bins = RankBins.around(values[:5000])
     for chunk in np.array_split(values, 13):
-        sketch.merge(QuantileSketch(256).update(chunk))
+        bins.merge(RankBins(bins.centre, bins.scale).update(chunk))
     n = values.size
+    assert bins.n == n
     ranks = type7_ranks(n, [0.05, 0.25, 0.5, 0.75, 0.95])
-    partition = plan_brackets(sketch, n, [(r, r) for r in ranks], 2 * sketch.rank_error)
+    partition = plan_brackets(bins, [(r, r) for r in ranks])
     for chunk in np.array_split(values, 17):
         partition.update(chunk)
     statistics = OrderStatistics(n)
     statistics.add(partition)
-
-    def reread(plan: PartitionCounts) -> PartitionCounts:
-        return plan.update(values)
-
-    resolve(reread, statistics, sketch, ranks, 2 * sketch.rank_error)
+    # The bins count exactly, so their brackets hold: no further pass.
+    assert statistics.missing(ranks) == []
     ordered = np.sort(values)
     for rank in ranks:
         assert statistics(rank) == ordered[rank]
-    # The kept values are few: each bracket spans 2 rank errors on each side of its target, and the
-    # (randomized) sketch may miss by one more at each end: at most 6 rank errors of n per rank.
-    assert partition.kept_counts.sum() <= len(ranks) * 6 * sketch.rank_error * n
     # numpy.quantile(method="linear") is Hyndman-Fan type 7.
     probabilities = [0.05, 0.25, 0.5, 0.75, 0.95]
     assert np.array_equal(type7_quantiles(statistics, n, probabilities),
                           np.quantile(values, probabilities, method="linear"))
 
 
+def test_bin_brackets_answer_counts_as_numpy_does():
+    # Reference: numpy.sort (order statistics), numpy.count_nonzero (counts below and at a value). The kept
+    # runs of bins, filled chunk by chunk, merged in pieces and pickled, give every rank inside them, the
+    # counts at any value in a kept or an empty bin, and None (never a wrong count) elsewhere.
+    rng = np.random.default_rng(RNG_SEED + 12)
+    values = np.round(rng.lognormal(2, 1, 30_000), 2)  # ties on purpose
+    bins = RankBins.around(values[:3000]).update(values)
+    n = values.size
+    ordered = np.sort(values)
+    ranges = [(0, 0), (n // 4, n // 4 + 40), (n // 2, n // 2), (n - 1, n - 1)]
+    plan = plan_brackets(bins, ranges)
+    whole = pickle.loads(pickle.dumps(plan)).update(values)
+    pieces = [pickle.loads(pickle.dumps(plan_brackets(bins, ranges).update(c))) for c in np.array_split(values, 11)]
+    merged = pieces[0]
+    for piece in pieces[1:]:
+        merged.merge(piece)
+    for found in (whole, merged):
+        for a, b in ranges:
+            for rank in range(a, b + 1):
+                assert found.order_statistic(rank) == ordered[rank]
+        for value in [*rng.choice(values, 200), *(ordered[r] for r in (0, n // 4, n // 2, n - 1)), -1.0, 1e9]:
+            answer = found.counts_at(float(value))
+            key = bins.keys(np.array([value]))[0]
+            kept = any(bins.bin_of_rank(a) <= key <= bins.bin_of_rank(b) for a, b in ranges)
+            if kept or value < ordered[0] or value > ordered[-1]:
+                assert answer == (np.count_nonzero(values < value), np.count_nonzero(values == value))
+            else:
+                assert answer is None or answer == (np.count_nonzero(values < value), 0)
+        low, high = ordered[n // 4], ordered[n // 4 + 40]
+        assert found.covers(low, high)
+        kept_values, kept_counts = found.kept_between(low, high)
+        inside = values[(values >= low) & (values <= high)]
+        assert np.array_equal(np.repeat(kept_values, kept_counts), np.sort(inside))
+        assert not found.covers(ordered[n // 4], ordered[n // 2])
+
+
+@pytest.mark.parametrize("kind", ["normal", "far_from_zero", "sorted_parts", "zero_spike", "signed_tiny"])
+def test_rank_bins_bracket_every_rank_and_bound_every_count(kind):
+    # Reference: numpy.sort (the order statistic of each rank) and numpy.count_nonzero (counts below and
+    # at a value). The brackets must hold for any data, the centre taken from the first chunk only.
+    rng = np.random.default_rng(RNG_SEED + 9)
+    if kind == "normal":
+        values = rng.normal(0.0, 1.0, 40_000)
+    elif kind == "far_from_zero":
+        values = 1e6 + rng.normal(0.0, 0.1, 40_000)
+    elif kind == "sorted_parts":  # the first chunk holds the smallest values only
+        values = np.sort(rng.lognormal(3.0, 0.8, 40_000))
+    elif kind == "zero_spike":
+        values = np.where(rng.random(40_000) < 0.4, 0.0, rng.lognormal(0.0, 1.0, 40_000))
+    else:
+        values = np.concatenate([rng.normal(0.0, 1e-30, 1000), rng.normal(0.0, 1e30, 1000), [1e308, -1e308, 0.0]])
+    chunks = np.array_split(values, 7)
+    bins = RankBins.around(chunks[0])
+    for chunk in chunks:
+        bins.update(chunk)
+    ordered = np.sort(values)
+    n = values.size
+    for rank in [0, 1, n // 4, n // 2, n - 2, n - 1, *rng.integers(0, n, 300)]:
+        assert bins.value_below(rank) < ordered[rank] < bins.value_above(rank)
+    for value in [*rng.choice(values, 300), 0.0, -math.inf, math.inf, float(ordered[n // 2])]:
+        least, most = bins.count_bounds(value)
+        assert least <= np.count_nonzero(values < value) <= np.count_nonzero(values <= value) <= most
+    # A bin is at most 2^-12 of its distance from the centre wide: the median's bracket is narrow.
+    if kind == "normal":
+        assert np.count_nonzero((values > bins.value_below(n // 2)) & (values < bins.value_above(n // 2))) < 50
+
+
+def test_rank_bins_merge_exactly_in_any_grouping():
+    rng = np.random.default_rng(RNG_SEED + 10)
+    values = rng.lognormal(1.0, 2.0, 30_000)
+    chunks = np.array_split(values, 9)
+    whole = RankBins(1.0, 2.0).update(values)
+    level = [RankBins(1.0, 2.0).update(chunk) for chunk in chunks]
+    while len(level) > 1:
+        level = [level[k].merge(level[k + 1]) if k + 1 < len(level) else level[k] for k in range(0, len(level), 2)]
+    assert (level[0].first, level[0].counts.tolist()) == (whole.first, whole.counts.tolist())
+    with pytest.raises(ValueError):
+        whole.merge(RankBins(1.5, 2.0))
+
+
 def test_a_missed_bracket_is_widened_until_exact():
     values = np.arange(1000.0)
-    sketch = QuantileSketch(200).update(values)
-    # A margin far too small (and a wrong guess) still ends exact after widening passes.
+    bins = RankBins.around(values).update(values)
+    # A wrong guess (one boundary, nothing kept) still ends exact after widening passes.
     statistics = OrderStatistics(values.size)
     statistics.add(PartitionCounts(np.array([990.0]), np.array([False, False])).update(values))
-    passes = resolve(lambda plan: plan.update(values), statistics, sketch, [3, 500, 997], 1e-9)
+    passes = resolve(lambda plan: plan.update(values), statistics, bins, [3, 500, 997])
     assert passes >= 1
     assert [statistics(r) for r in (3, 500, 997)] == [3.0, 500.0, 997.0]
 
 
-def test_sketch_survives_pickling():
-    sketch = QuantileSketch(128).update(np.arange(10_000.0))
-    copy = pickle.loads(pickle.dumps(sketch))
+def test_rank_bins_survive_pickling():
+    bins = RankBins.around(np.arange(10_000.0)).update(np.arange(10_000.0))
+    copy = pickle.loads(pickle.dumps(bins))
     assert copy.n == 10_000
-    assert copy.quantile(0.5) == sketch.quantile(0.5)
-    # The KLL bound as the library states it (normalized rank error, 99 % confidence), k = 128.
-    assert 0 < copy.rank_error < 0.05
+    assert (copy.value_below(5000), copy.value_above(5000)) == (bins.value_below(5000), bins.value_above(5000))
 
 
 def test_precision_and_distinct_values():
