@@ -406,7 +406,7 @@ def build_parser() -> argparse.ArgumentParser:
     add_group_options(draft, "break the figures down by this column (site, program, year...)")
     draft.add_argument("--quiet", action="store_true", help="show no progress line")
     draft.add_argument("--force", action="store_true",
-                       help="replace the output even when it is not a report narrator wrote")
+                       help="replace the output even when it is not a report narrator wrote, or was edited since")
     draft.set_defaults(handler=command_draft)
 
     recipe = commands.add_parser("recipe", help="write a starter report recipe (TOML) for a data file")
@@ -423,7 +423,8 @@ def build_parser() -> argparse.ArgumentParser:
     redraft.add_argument("recipe", metavar="RECIPE.toml", help="the report recipe")
     redraft.add_argument("--quiet", action="store_true", help="show no progress line")
     redraft.add_argument("--force", action="store_true",
-                         help="replace the recipe's outputs even when one is not a report narrator wrote")
+                         help="replace the recipe's outputs even when one is not a report narrator wrote, or was "
+                              "edited since")
     redraft.set_defaults(handler=command_redraft)
 
     fill = commands.add_parser(

@@ -75,6 +75,7 @@ __all__ = [
     "PAUSE_POINTS",
     "REPORT_HASH_KEY",
     "REPORT_MARK",
+    "REPORT_WORDS",
     "PairReading",
     "atomic_write_bytes",
     "atomic_write_text",
@@ -106,6 +107,7 @@ PAUSE_POINTS = (
 )
 REPORT_HASH_KEY = "report_sha256"
 REPORT_MARK = "narrator-report"  # the name of the custom document property every report carries
+REPORT_WORDS = "narrator-words"  # the custom property holding the fingerprint of the words a report was written with
 LOCK_WAIT_SECONDS = 60.0
 _TEMP_TAG = ".narrator-"
 _TEMP_SUFFIX = ".tmp"
@@ -216,17 +218,39 @@ def refuse_same_file(output: str | os.PathLike[str], *inputs: str | os.PathLike[
             )
 
 
-def is_narrator_report(path: str | os.PathLike[str]) -> bool:
-    """Whether ``path`` is a Word file narrator wrote: its custom properties carry :data:`REPORT_MARK`."""
+def _custom_properties_text(path: str | os.PathLike[str]) -> str | None:
     try:
         with zipfile.ZipFile(path) as package:
             member = package.getinfo("docProps/custom.xml")
             if member.file_size > 1 << 20:
-                return False
-            text = package.read(member).decode("utf-8", "replace")
-    except (OSError, KeyError, zipfile.BadZipFile, zipfile.LargeZipFile, ValueError, EOFError):
+                return None
+            return package.read(member).decode("utf-8", "replace")
+    except (OSError, KeyError, zipfile.BadZipFile, zipfile.LargeZipFile, ValueError, EOFError, NotImplementedError,
+            RuntimeError):
+        return None
+
+
+def is_narrator_report(path: str | os.PathLike[str]) -> bool:
+    """Whether ``path`` is a Word file narrator wrote: its custom properties carry :data:`REPORT_MARK`."""
+    text = _custom_properties_text(path)
+    return text is not None and re.search(rf'name="{re.escape(REPORT_MARK)}"', text) is not None
+
+
+def edited_since_written(path: str | os.PathLike[str]) -> bool:
+    """Whether the words of narrator's report at ``path`` differ from those it was written with
+    (:data:`REPORT_WORDS`; :func:`narrator.wordtext.body_fingerprint`). A word processor saving it again
+    is not an edit; a changed word, a picture swapped or a comment added is. A report from before the
+    fingerprint was recorded, or one whose body cannot be read, counts as not edited (nothing to compare)."""
+    text = _custom_properties_text(path)
+    if text is None:
         return False
-    return re.search(rf'name="{re.escape(REPORT_MARK)}"', text) is not None
+    found = re.search(rf'name="{re.escape(REPORT_WORDS)}"[^>]*>\s*<vt:lpwstr>([0-9a-f]{{64}})</vt:lpwstr>', text)
+    if found is None:
+        return False
+    from narrator.wordtext import body_fingerprint
+
+    now = body_fingerprint(path)
+    return now is not None and now != found.group(1)
 
 
 def sidecar_path(report_path: str | os.PathLike[str]) -> Path:
@@ -258,6 +282,10 @@ def check_output(report: str | os.PathLike[str], *, protect: Sequence[str | os.P
     if target.exists() and not target.is_symlink() and not force and not is_narrator_report(target):
         raise NarratorError(f"{shown} exists and is not a report narrator wrote; choose another name, or add "
                             "--force to replace it")
+    if target.exists() and not target.is_symlink() and not force and edited_since_written(target):
+        raise NarratorError(f"{shown} was edited after narrator wrote it, and a new build would lose those "
+                            "edits; choose another name, or add --force to replace it (to keep your own words "
+                            "in a document narrator updates, see `narrator fill`)")
     side = sidecar_path(target)
     if side.exists() and not side.is_symlink() and not force and not side.is_dir() \
             and not (target.exists() and not target.is_symlink()) and not looks_like_sidecar(side):

@@ -42,6 +42,7 @@ from __future__ import annotations
 
 import copy
 import datetime as dt
+import hashlib
 import io
 import os
 import zipfile
@@ -64,7 +65,8 @@ from narrator.figures.rendered import RenderedFigure
 from narrator.phrasing.narrative import Narrative, Paragraph, Section, Table
 from narrator.phrasing.numbers import language_tag, parse_locale
 from narrator.resources import template_file
-from narrator.safe_io import REPORT_MARK, check_output, commit_report_pair
+from narrator.safe_io import REPORT_MARK, REPORT_WORDS, check_output, commit_report_pair
+from narrator.wordtext import visible_words
 from narrator.xmltext import xml_safe
 
 STYLE_NAMES = {
@@ -458,19 +460,25 @@ def _text_width(document) -> Emu:
 def _column_widths(table: Table, text_width: Emu) -> tuple[Emu, ...]:
     """Column widths from the longest cell of each column, so short tables stay compact.
 
-    About 0.2 cm per character at the 8.5 pt table font, plus cell padding;
-    when the total exceeds the text width, columns shrink in proportion and
-    their text wraps.
+    About 0.2 cm per character at the 8.5 pt table font, plus cell padding. When the total
+    exceeds the text width, every column first keeps room for its longest unbroken word (a
+    number, "Median"), so no word or number is split across lines; the room left is shared in
+    proportion to what each column wanted beyond that, and the long text wraps at its spaces.
+    Only when the words alone are wider than the page do all columns shrink in proportion.
     """
-    longest = [
-        max([len(text) for text in column] or [1])
-        for column in zip(table.header, *table.rows, strict=True)
-    ]
+    columns = list(zip(table.header, *table.rows, strict=True))
+    longest = [max([len(text) for text in column] or [1]) for column in columns]
+    unbroken = [max([len(word) for text in column for word in text.split()] or [1]) for column in columns]
     wanted = [max(1.6, 0.2 * chars + 0.5) for chars in longest]
-    total = sum(wanted)
+    least = [min(want, max(1.0, 0.21 * chars + 0.5)) for want, chars in zip(wanted, unbroken, strict=True)]
     available = int(text_width) / int(Cm(1))
-    scale = min(1.0, available / total)
-    return tuple(Cm(width * scale) for width in wanted)
+    if sum(wanted) <= available:
+        return tuple(Cm(width) for width in wanted)
+    if sum(least) >= available:
+        scale = available / sum(least)
+        return tuple(Cm(width * scale) for width in least)
+    spare = (available - sum(least)) / (sum(wanted) - sum(least))
+    return tuple(Cm(low + (want - low) * spare) for low, want in zip(least, wanted, strict=True))
 
 
 def _set_widths(grid, widths: Sequence[Emu]) -> None:
@@ -590,13 +598,29 @@ _EXTENDED_PROPERTIES = (
     b'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
     b"<Application>narrator</Application></Properties>"
 )
-_CUSTOM_PROPERTIES = (
-    '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
-    '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties" '
-    'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
-    '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="2" name="' + REPORT_MARK + '">'
-    "<vt:lpwstr>1</vt:lpwstr></property></Properties>"
-).encode("utf-8")
+def _custom_properties(words: str) -> bytes:
+    """The custom properties of a report: the mark, and the fingerprint of the words it was written with
+    (:data:`narrator.safe_io.REPORT_WORDS`, compared before a later build replaces it)."""
+    return (
+        '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+        '<Properties xmlns="http://schemas.openxmlformats.org/officeDocument/2006/custom-properties" '
+        'xmlns:vt="http://schemas.openxmlformats.org/officeDocument/2006/docPropsVTypes">'
+        '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="2" name="' + REPORT_MARK + '">'
+        "<vt:lpwstr>1</vt:lpwstr></property>"
+        '<property fmtid="{D5CDD505-2E9C-101B-9397-08002B2CF9AE}" pid="3" name="' + REPORT_WORDS + '">'
+        f"<vt:lpwstr>{words}</vt:lpwstr></property></Properties>"
+    ).encode("utf-8")
+
+
+def _body_words(document) -> str:
+    """The fingerprint of the document's body as it will be saved (:func:`narrator.wordtext.visible_words`)."""
+    related = document.part.related_parts
+
+    def digest(rel_id: str) -> str:
+        part = related.get(rel_id)
+        return "missing" if part is None else hashlib.sha256(part.blob).hexdigest()[:16]
+
+    return visible_words(list(document.element.body), digest)[1]
 
 
 def _keep_only_the_template_look(document, mark: bool = True) -> None:
@@ -628,8 +652,8 @@ def _keep_only_the_template_look(document, mark: bool = True) -> None:
     package.relate_to(Part(PackURI("/docProps/app.xml"), CT.OFC_EXTENDED_PROPERTIES, _EXTENDED_PROPERTIES, package),
                       RT.EXTENDED_PROPERTIES)
     if mark:
-        package.relate_to(Part(PackURI("/docProps/custom.xml"), CT.OFC_CUSTOM_PROPERTIES, _CUSTOM_PROPERTIES,
-                               package), RT.CUSTOM_PROPERTIES)
+        package.relate_to(Part(PackURI("/docProps/custom.xml"), CT.OFC_CUSTOM_PROPERTIES,
+                               _custom_properties(_body_words(document)), package), RT.CUSTOM_PROPERTIES)
 
 
 def _edit_xml(part, edit) -> None:

@@ -16,7 +16,7 @@ import pytest
 PACKAGE = pathlib.Path(__file__).resolve().parents[1] / "narrator"
 
 RANKS = {
-    "errors": 0, "findings": 0, "xmltext": 0, "resources": 0, "progress": 0,
+    "errors": 0, "findings": 0, "xmltext": 0, "wordtext": 0, "resources": 0, "progress": 0,
     "reading": 1,
     "safe_io": 2,
     "engine": 3, "scale": 3,

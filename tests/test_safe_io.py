@@ -243,3 +243,36 @@ def test_an_unwritable_output_folder_fails_cleanly_and_writes_nothing(shop):
         assert result.returncode == 2
         assert len(result.stderr.splitlines()) == 1 and "Traceback" not in result.stderr
     assert sorted(path.name for path in shop.iterdir()) == ["turnaround.csv"]
+
+
+def test_a_report_edited_by_hand_is_kept_until_the_user_says_to_replace_it(shop):
+    import docx
+
+    assert narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "r.docx", cwd=shop).returncode == 0
+    # Rebuilt untouched: replaced, as a refresh should be.
+    assert narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "r.docx", cwd=shop).returncode == 0
+    edited = docx.Document(str(shop / "r.docx"))
+    edited.add_paragraph("Our own reading of these figures, added by hand.")
+    edited.save(str(shop / "r.docx"))
+    before = (shop / "r.docx").read_bytes(), (shop / "r.findings.json").read_bytes()
+    recipe = '[data]\npath = "turnaround.csv"\n[outputs]\nmemo = "r.docx"\n[[variables]]\ncolumn = "hours"\n'
+    (shop / "recipe.toml").write_text(recipe, encoding="utf-8")
+    for args in (("draft", "turnaround.csv", "--column", "hours", "-o", "r.docx"), ("redraft", "recipe.toml")):
+        result = narrator_cli(*args, cwd=shop)
+        assert result.returncode == 2, result.stderr
+        (line,) = result.stderr.splitlines()  # one line; the recipe names the report by its whole path
+        assert line.startswith("narrator: ") and line.endswith(
+            "r.docx was edited after narrator wrote it, and a new build would lose those edits; choose "
+            "another name, or add --force to replace it (to keep your own words in a document narrator updates, "
+            "see `narrator fill`)"), line
+        assert "Traceback" not in result.stderr
+        assert ((shop / "r.docx").read_bytes(), (shop / "r.findings.json").read_bytes()) == before
+    # A picture swapped is an edit too; formatting alone is not.
+    result = narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "r.docx", "--force", cwd=shop)
+    assert result.returncode == 0, result.stderr
+    styled = docx.Document(str(shop / "r.docx"))
+    for paragraph in styled.paragraphs:
+        for run in paragraph.runs:
+            run.bold = True
+    styled.save(str(shop / "r.docx"))
+    assert narrator_cli("draft", "turnaround.csv", "--column", "hours", "-o", "r.docx", cwd=shop).returncode == 0

@@ -434,17 +434,36 @@ def _draw_with_and_without(
         )
     # Direct labels on the upper row, pushed apart so they never overlap.
     mean_left = center.mean < center.median
+    x_low, x_high = (float(v) for v in strip.get_xlim())
     for x, word, colour, to_left in (
         (center.mean, labels["mean"], MEAN_COLOUR, mean_left),
         (center.median, labels["median"], MEDIAN_COLOUR, not mean_left),
     ):
-        rows.annotate(
-            word, (x, with_row), xytext=(-7 if to_left else 7, 6), textcoords="offset points",
-            ha="right" if to_left else "left", va="bottom", color=colour,
-            fontproperties=_font(SMALL_FONT_SIZE),
-        )
+        if x_low <= x <= x_high:
+            rows.annotate(
+                word, (x, with_row), xytext=(-7 if to_left else 7, 6), textcoords="offset points",
+                ha="right" if to_left else "left", va="bottom", color=colour,
+                fontproperties=_font(SMALL_FONT_SIZE),
+            )
+    # A centre beyond the bulk the axis shows (the mean of all values, pulled out by far values) would
+    # vanish and leave the row looking as if mean and median agreed: its word and an arrow at the edge
+    # say it lies that way (its value is in the text, the caption's words beyond the edge and the alt text).
+    for row, values_at in ((with_row, (center.mean, center.median)), (without_row, (mean_without, median_without))):
+        for x, word, colour in zip(values_at, (labels["mean"], labels["median"]), (MEAN_COLOUR, MEDIAN_COLOUR),
+                                   strict=True):
+            if x_low <= x <= x_high:
+                continue
+            beyond_high = x > x_high
+            rows.annotate(
+                f"{word} →" if beyond_high else f"← {word}",
+                (1.0 if beyond_high else 0.0, row), xycoords=blended_transform_factory(rows.transAxes, rows.transData),
+                xytext=(0, 6), textcoords="offset points", ha="right" if beyond_high else "left", va="bottom",
+                color=colour, fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
+            )
     rows.set_ylim(-0.6, 1.75)
-    rows.set_yticks([with_row, without_row], [labels["all"], labels["without"]])
+    margin_pt = (left * size.width_in - 0.12) * 72.0
+    rows.set_yticks([with_row, without_row],
+                    [_fit_lines(labels[key], margin_pt, SMALL_FONT_SIZE) for key in ("all", "without")])
     rows.tick_params(axis="y", length=0, labelsize=SMALL_FONT_SIZE, labelfontfamily=FONT_FAMILY)
     rows.grid(axis="x", color=GRID_GREY, linewidth=0.6)
     rows.set_axisbelow(True)
@@ -534,12 +553,15 @@ def _draw_bin_sensitivity(
                     ax.text(at, y0 - 3.5 * point_h, formatter(tick * unit), transform=ax.transAxes, ha="center",
                             va="top", fontproperties=tick_font, color=AXIS_GREY)
             if row == 0:
-                ax.text(x0, y0 + panel_h + 4 * point_h, labels[f"offset_{col}"], transform=ax.transAxes,
-                        ha="left", va="bottom", fontproperties=label_font)
+                ax.text(x0, y0 + panel_h + 4 * point_h,
+                        _fit_lines(labels[f"offset_{col}"], panel_w * width_in * 72.0, SMALL_FONT_SIZE - 0.5),
+                        transform=ax.transAxes, ha="left", va="bottom", fontproperties=label_font)
             if col == 0:
                 # Row titles in the left margin, level with the middle of the row.
-                ax.text(x0 - 6 * point_w, y0 + panel_h / 2, labels[f"width_{row}"], transform=ax.transAxes,
-                        ha="right", va="center", fontproperties=label_font)
+                margin_pt = (x0 - 10 * point_w) * width_in * 72.0
+                ax.text(x0 - 6 * point_w, y0 + panel_h / 2,
+                        _fit_lines(labels[f"width_{row}"], margin_pt, SMALL_FONT_SIZE - 0.5),
+                        transform=ax.transAxes, ha="right", va="center", fontproperties=label_font)
     ax.add_collection(LineCollection(segments, colors=AXIS_GREY, linewidths=0.8, transform=ax.transAxes))
     fig.supxlabel(labels["x"], fontproperties=_font(FONT_SIZE), y=0.02, x=0.5 + 0.5 / width_in)
     return fig
@@ -729,6 +751,15 @@ def _font(size: float = FONT_SIZE) -> FontProperties:
     return FontProperties(family=FONT_FAMILY, size=size)
 
 
+def _fit_lines(word: str, width_pt: float, size: float) -> str:
+    """``word`` broken at spaces into lines about ``width_pt`` wide at ``size`` (0.6 em a character, as the
+    curve's label reckons), so a long label in a margin is wrapped, not cut at the picture's edge."""
+    import textwrap
+
+    per_line = max(8, int(width_pt / (size * 0.6)))
+    return "\n".join(textwrap.wrap(word, per_line, break_long_words=False, break_on_hyphens=False)) or word
+
+
 def _single_axes(width_in: float, *, height_in: float) -> tuple[Figure, Axes]:
     """A figure with one axes at fixed margins (in inches, so sizes are predictable)."""
     fig = Figure(figsize=(width_in, height_in), dpi=DPI, facecolor="white")
@@ -779,17 +810,39 @@ def _style_x(ax: Axes, numbers: NumberFormatter, x_label: str) -> None:
 
 
 def _mark_center(ax: Axes, mean: float, median: float, labels: Mapping[str, str]) -> None:
-    """Vertical mean (solid) and median (dashed) lines with direct labels on opposite sides."""
+    """Vertical mean (solid) and median (dashed) lines with direct labels on opposite sides.
+
+    A label that would run past the axes (a median at the left edge, its word over the y-axis title) goes
+    to the other side of its line; one that would then cross the other line or its label drops one row.
+    """
     ax.axvline(mean, color=MEAN_COLOUR, linestyle=MEAN_STYLE, linewidth=1.6, zorder=4)
     ax.axvline(median, color=MEDIAN_COLOUR, linestyle=MEDIAN_STYLE, linewidth=1.4, zorder=4)
     at_top = blended_transform_factory(ax.transData, ax.transAxes)
+    x_low, x_high = (float(v) for v in ax.get_xlim())
+    axes_width_pt, _ = _axes_size_points(ax.figure, ax)
+    per_point = (x_high / 2 - x_low / 2) * 2 / axes_width_pt  # data units a point; no overflow near the largest double
     mean_left = mean < median
+    placed: list[tuple[float, float, int]] = []  # (start, end, row) of each label in data units
     for x, word, colour, to_left in (
         (mean, labels["mean"], MEAN_COLOUR, mean_left),
         (median, labels["median"], MEDIAN_COLOUR, not mean_left),
     ):
+        if not x_low <= x <= x_high:
+            continue  # its line lies outside the axes: no word floating beside them
+        span = (len(word) * SMALL_FONT_SIZE * 0.6 + 4) * per_point
+        if (x - span < x_low) if to_left else (x + span > x_high):
+            to_left = not to_left
+        start, end = (x - span, x) if to_left else (x, x + span)
+        others = [line for line in (mean, median) if line != x]
+        row = 0
+        if any(start < line < end for line in others) or any(
+            start < other_end and other_start < end and other_row == row for other_start, other_end, other_row in placed
+        ):
+            row = 1
+        placed.append((start, end, row))
         ax.annotate(
-            word, (x, 0.985), xycoords=at_top, xytext=(-4 if to_left else 4, 0),
+            word, (x, 0.985), xycoords=at_top,
+            xytext=(-4 if to_left else 4, -row * (SMALL_FONT_SIZE * 1.5)),
             textcoords="offset points", ha="right" if to_left else "left", va="top",
             color=colour, fontproperties=_font(SMALL_FONT_SIZE), zorder=5,
             bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.85},

