@@ -153,7 +153,7 @@ def test_two_groups_are_compared_by_the_hodges_lehmann_shift_with_its_interval(f
     assert sentences[1] == ("Supp VC minus supp OJ: Hodges-Lehmann shift -4.00, 95% confidence interval -8.50 to "
                             "0.10; the data cannot tell.")
     assert not any("overlap" in s for s in sentences)
-    assert sentences[-1] == "This describes the groups as they are; it does not show why they differ."
+    assert sentences[-1] == "This describes the groups as they are; it does not show what causes any difference between them."
     for sentence in sentences:  # descriptive only: no causal wording
         for word in ("because", "caused", "due to", "leads to", "effect", "results in"):
             assert word not in sentence.lower()
